@@ -1,0 +1,12 @@
+"""jtcheck: low-temperature screening of pressure letdowns.
+
+>>> from jtcheck import Fluid, letdown
+>>> gas = Fluid({"methane": 0.9, "ethane": 0.1})
+>>> r = letdown(gas, p_in=100e5, t_in=313.15, p_out=10e5)
+"""
+from jtcheck.letdown import LetdownBatch, LetdownResult, letdown
+from jtcheck.thermo.fluid import Fluid
+
+__version__ = "0.1.0"
+
+__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown"]

@@ -1,0 +1,259 @@
+"""Isenthalpic letdown across a valve, choke or pressure-reduction station.
+
+Across a throttling device with negligible heat exchange and kinetic-energy change, the steady-flow
+energy balance reduces to h_out(P_out, T_out) = h_in(P_in, T_in) (the Joule-Thomson expansion).
+The inlet state comes from a stability-tested PT flash, the outlet from a PH flash
+(:mod:`jtcheck.thermo.flash`), both with the fluid's cubic equation of state: ideal-gas enthalpy
+plus residual enthalpy.
+
+``letdown`` takes scalars (one case, :class:`LetdownResult`) or arrays (many cases of one fluid,
+:class:`LetdownBatch`, solved by a compiled parallel loop over the same scalar algorithm).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from jtcheck.errors import InputError
+from jtcheck.thermo import _kernels as _k
+from jtcheck.thermo.fluid import Fluid
+
+#: CO2 triple point: 216.592 K, 0.51795 MPa (Span and Wagner, J. Phys. Chem. Ref. Data 25 (1996) 1509).
+CO2_TRIPLE_T_K = 216.592
+CO2_TRIPLE_P_PA = 0.51795e6
+
+
+def _check_positive(name: str, value, what: str, unit: str) -> np.ndarray:
+    arr = np.asarray(value, dtype=float)
+    if arr.size == 0:
+        raise InputError(name, f"no value given; {what} is required [{unit}]")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        raise InputError(name, f"{what} must be a finite number [{unit}], got {arr[bad].flat[0]!r}")
+    if np.any(arr <= 0.0):
+        raise InputError(name, f"{what} must be greater than 0 {unit} (absolute), got {arr[arr <= 0].flat[0]:g}")
+    return arr
+
+
+def check_letdown_inputs(p_in, t_in, p_out):
+    """Validate and broadcast letdown inputs; raise InputError naming the field."""
+    p_in_a = _check_positive("p_in", p_in, "inlet pressure", "Pa")
+    t_in_a = _check_positive("t_in", t_in, "inlet temperature", "K")
+    p_out_a = _check_positive("p_out", p_out, "outlet pressure", "Pa")
+    try:
+        p_in_b, t_in_b, p_out_b = np.broadcast_arrays(p_in_a, t_in_a, p_out_a)
+    except ValueError:
+        raise InputError("p_in", f"p_in, t_in and p_out have shapes {p_in_a.shape}, {t_in_a.shape}, "
+                                 f"{p_out_a.shape} that do not broadcast together") from None
+    over = p_out_b > p_in_b
+    if over.any():
+        k = int(np.flatnonzero(over.ravel())[0])
+        raise InputError("p_out", f"outlet pressure {p_out_b.ravel()[k]:g} Pa is above the inlet pressure "
+                                  f"{p_in_b.ravel()[k]:g} Pa; a letdown needs p_out <= p_in")
+    if np.any(t_in_b > 2000.0):
+        raise InputError("t_in", "inlet temperature must be below 2000 K (the range of the heat-capacity data)")
+    return p_in_b, t_in_b, p_out_b
+
+
+@dataclass(frozen=True)
+class LetdownResult:
+    """Outcome of one isenthalpic letdown.  All values SI.
+
+    Attributes
+    ----------
+    p_in, t_in, p_out : float
+        Inlet pressure [Pa], inlet temperature [K], outlet pressure [Pa].
+    t_out : float
+        Outlet temperature [K].
+    dt : float
+        t_out - t_in [K] (negative: the fluid cools).
+    vapor_fraction : float
+        Outlet vapour mole fraction [-].
+    phase : str
+        Outlet phase: "vapour", "liquid", "two-phase" (or "unknown" if not converged).
+    inlet_phase : str
+    inlet_vapor_fraction : float
+    h : float
+        Molar enthalpy, inlet = outlet [J/mol].
+    x_out, y_out : tuple of float
+        Outlet liquid and vapour mole fractions [-] (equal to the feed in a single phase).
+    converged : bool
+        False when either flash failed; then ``t_out`` must not be used and ``message`` says why.
+    message : str
+    warnings : tuple of str
+        States outside the model's validity and model choices that need attention.
+    basis : dict
+        EOS, kij set, volume translation, data versions.
+    """
+
+    p_in: float
+    t_in: float
+    p_out: float
+    t_out: float
+    dt: float
+    vapor_fraction: float
+    phase: str
+    inlet_phase: str
+    inlet_vapor_fraction: float
+    h: float
+    x_out: tuple[float, ...]
+    y_out: tuple[float, ...]
+    converged: bool
+    message: str
+    warnings: tuple[str, ...] = field(default=())
+    basis: dict = field(default_factory=dict)
+    component_ids: tuple[str, ...] = field(default=())
+
+    def to_dict(self) -> dict:
+        """Plain-JSON representation (SI units)."""
+        d = asdict(self)
+        for k, v in d.items():
+            if isinstance(v, float) and not math.isfinite(v):
+                d[k] = None
+        d["warnings"] = list(self.warnings)
+        d["x_out"] = list(self.x_out)
+        d["y_out"] = list(self.y_out)
+        d["component_ids"] = list(self.component_ids)
+        return d
+
+
+@dataclass(frozen=True)
+class LetdownBatch:
+    """Outcome of many letdowns of one fluid; every attribute is an array of the broadcast shape.
+
+    Attributes mirror :class:`LetdownResult`; ``warnings`` is a tuple of tuples (one per case, in
+    flattened order) and ``status`` the solver status code of the outlet flash.
+    """
+
+    p_in: np.ndarray
+    t_in: np.ndarray
+    p_out: np.ndarray
+    t_out: np.ndarray
+    dt: np.ndarray
+    vapor_fraction: np.ndarray
+    phase: np.ndarray
+    inlet_vapor_fraction: np.ndarray
+    h: np.ndarray
+    converged: np.ndarray
+    status: np.ndarray
+    warnings: tuple[tuple[str, ...], ...]
+    basis: dict
+
+    def __len__(self) -> int:
+        return int(self.t_out.size)
+
+
+def _state_warnings(fluid: Fluid, p_out: float, t_out: float, t_in: float, liquid_x=None) -> list[str]:
+    notes: list[str] = []
+    if not math.isfinite(t_out):
+        return notes
+    for comp, z in zip(fluid.components, fluid.zs, strict=True):
+        if comp.id == "carbon dioxide" and z >= 0.5 and p_out < CO2_TRIPLE_P_PA and t_out < CO2_TRIPLE_T_K + 1.0:
+            notes.append(f"CO2-rich fluid let down below the CO2 triple-point pressure ({CO2_TRIPLE_P_PA / 1e5:.2f} "
+                         "bar abs): dry ice (solid CO2) can form; the fluid-only EOS reports a metastable "
+                         "vapour-liquid state that is too cold")
+        elif comp.t_triple_k and t_out < comp.t_triple_k and z >= 0.01:
+            notes.append(f"outlet {t_out:.2f} K is below the triple point of {comp.name} ({comp.t_triple_k:.2f} K): "
+                         "it can freeze; the EOS has no solid phase")
+        elif comp.id == "water" and t_out < 273.16:
+            notes.append(f"water present ({z:.3g} mol/mol) and outlet below 0 degC: ice and hydrates can form")
+        if t_out < comp.cp_tmin_k and z >= 0.01:
+            notes.append(f"outlet {t_out:.1f} K is below the range of the ideal-gas heat-capacity data of "
+                         f"{comp.name} ({comp.cp_tmin_k:.0f} K): extrapolated")
+    if t_out > t_in + 1e-6:
+        notes.append("the fluid warms on letdown (inverse Joule-Thomson effect)")
+    return notes
+
+
+def letdown(fluid: Fluid, p_in, t_in, p_out) -> LetdownResult | LetdownBatch:
+    """Outlet state of an isenthalpic letdown.
+
+    Parameters
+    ----------
+    fluid : Fluid
+        The flowing fluid.
+    p_in : float or array_like
+        Inlet pressure, absolute [Pa].
+    t_in : float or array_like
+        Inlet temperature [K].
+    p_out : float or array_like
+        Outlet pressure, absolute [Pa]; not above ``p_in``.
+
+    Returns
+    -------
+    LetdownResult or LetdownBatch
+        A single result for scalar inputs, a batch of arrays otherwise.
+
+    Raises
+    ------
+    jtcheck.errors.InputError
+        For non-finite or non-positive inputs, or p_out > p_in; the message names the field.
+    """
+    if not isinstance(fluid, Fluid):
+        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    scalar = all(np.ndim(v) == 0 for v in (p_in, t_in, p_out))
+    p_in_b, t_in_b, p_out_b = check_letdown_inputs(p_in, t_in, p_out)
+    if scalar:
+        return _letdown_one(fluid, float(p_in_b), float(t_in_b), float(p_out_b))
+    return _letdown_many(fluid, p_in_b, t_in_b, p_out_b)
+
+
+def _letdown_one(fluid: Fluid, p_in: float, t_in: float, p_out: float) -> LetdownResult:
+    inlet = fluid.flash_pt(t_in, p_in)
+    basis = fluid.basis()
+    ids = fluid.ids
+    if not inlet.converged:
+        return LetdownResult(p_in, t_in, p_out, math.nan, math.nan, math.nan, "unknown", "unknown", math.nan,
+                             math.nan, (), (), False, f"inlet flash failed: {inlet.message}",
+                             tuple(fluid.warnings), basis, ids)
+    out = fluid.flash_ph(p_out, inlet.h, t_guess_k=t_in)
+    notes = list(fluid.warnings)
+    if out.converged:
+        notes += _state_warnings(fluid, p_out, out.T, t_in)
+        msg = out.message
+    else:
+        msg = f"outlet flash failed: {out.message} (residual {out.residual:.3g} J/mol)"
+    return LetdownResult(
+        p_in=p_in, t_in=t_in, p_out=p_out, t_out=out.T if out.converged else math.nan,
+        dt=(out.T - t_in) if out.converged else math.nan,
+        vapor_fraction=out.beta if out.converged else math.nan, phase=out.phase, inlet_phase=inlet.phase,
+        inlet_vapor_fraction=inlet.beta, h=inlet.h, x_out=tuple(map(float, out.x)), y_out=tuple(map(float, out.y)),
+        converged=out.converged, message=msg, warnings=tuple(notes), basis=basis, component_ids=ids)
+
+
+def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.ndarray) -> LetdownBatch:
+    shape = p_in.shape
+    pi = np.ascontiguousarray(p_in.ravel(), dtype=float)
+    ti = np.ascontiguousarray(t_in.ravel(), dtype=float)
+    po = np.ascontiguousarray(p_out.ravel(), dtype=float)
+    offset = np.zeros_like(pi)
+    if fluid.volume_translation:
+        cz = float(fluid.zs @ fluid.vol_shifts)
+        offset = -cz * (pi - po)   # H_out(untranslated) = H_in - c (P_in - P_out)
+    (st_in, b_in, h_in, s_in, st_out, T_out, b_out, h_out, s_out, iters, resid) = _k.letdown_batch(
+        fluid.mixture.kernel_params, np.ascontiguousarray(fluid.zs), pi, ti, po, 0, offset)
+    ok_in = np.isin(st_in, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
+    ok_out = np.isin(st_out, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
+    conv = ok_in & ok_out
+    T = np.where(conv, T_out, np.nan)
+    beta = np.where(conv, b_out, np.nan)
+    two = conv & (beta > 0.0) & (beta < 1.0)
+    phase = np.where(~conv, "unknown", np.where(two, "two-phase", np.where(beta >= 0.5, "vapour", "liquid")))
+    warns = []
+    base = list(fluid.warnings)
+    for k in range(pi.size):
+        w = list(base)
+        if conv[k]:
+            w += _state_warnings(fluid, po[k], T[k], ti[k])
+        elif not ok_in[k]:
+            w.append("inlet flash failed")
+        else:
+            w.append("outlet flash failed")
+        warns.append(tuple(w))
+    return LetdownBatch(
+        p_in=p_in, t_in=t_in, p_out=p_out, t_out=T.reshape(shape), dt=(T - ti).reshape(shape),
+        vapor_fraction=beta.reshape(shape), phase=phase.reshape(shape), inlet_vapor_fraction=b_in.reshape(shape),
+        h=(h_in + fluid.enthalpy_shift(1.0) * pi).reshape(shape), converged=conv.reshape(shape),
+        status=st_out.reshape(shape), warnings=tuple(warns), basis=fluid.basis())

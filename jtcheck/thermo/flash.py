@@ -1,0 +1,156 @@
+"""Equilibrium flashes at given (T, P), (P, H) and (P, S): vapour-liquid, with stability testing.
+
+PT flash: Michelsen's tangent-plane stability test (:mod:`jtcheck.thermo.stability`), then the phase
+split by successive substitution on the K-values with the Rachford-Rice solver
+(:mod:`jtcheck.thermo.rachford_rice`), finished by Newton steps on the vapour mole numbers with the
+analytic Hessian of the Gibbs energy (Michelsen, Fluid Phase Equilib. 9 (1982) 21-40, Part II,
+doi:10.1016/0378-3812(82)85002-4).
+
+PH and PS flashes (Michelsen, Fluid Phase Equilib. 33 (1987) 13-27, doi:10.1016/0378-3812(87)87002-4):
+at fixed pressure H(T) and S(T) are monotonic, so the temperature is found by Newton steps
+safeguarded by a bracket.  A single-phase answer is accepted only after a stability test at the
+answer; otherwise the temperature is solved on the two-phase branch, each step a warm-started PT
+split, with the exact derivative dH/dT = V cp_V + L cp_L + (hbar_V - hbar_L) . dv/dT from the
+split's sensitivity (dv/dT = -H^-1 dg/dT, hbar_i = h_i^ig - R T^2 d ln phi_i/dT; dS/dT = (dH/dT)/T
+on the equilibrium path).  A pure component is solved on its EOS saturation line, with the quality
+from the lever rule.
+
+The numerical work is done by the compiled kernels in :mod:`jtcheck.thermo._kernels`; this module
+turns their status codes into :class:`FlashResult` objects.  Every result carries ``converged``;
+a failure is never returned as a plain number.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from jtcheck.thermo import _kernels as _k
+from jtcheck.thermo.cubic import CubicMixture
+
+_STATUS_TEXT = {
+    _k.ST_SINGLE: "stable single phase",
+    _k.ST_TWO: "two phases",
+    _k.ST_PURE_SAT: "pure component on its saturation line",
+    _k.ST_FAIL_SINGLE: "single-phase temperature iteration did not converge",
+    _k.ST_FAIL_TWO: "two-phase temperature iteration did not converge",
+    _k.ST_FAIL_SPLIT: "the feed is unstable but no phase split was found",
+    _k.ST_FAIL_INPUT: "non-finite input",
+}
+
+
+@dataclass(frozen=True)
+class FlashResult:
+    """Equilibrium state found by a flash.
+
+    Attributes
+    ----------
+    T : float
+        Temperature [K].
+    P : float
+        Pressure [Pa].
+    beta : float
+        Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one, by the
+        phase identification parameter of Venkatarathnam and Oellrich 2011).
+    phase : str
+        ``"vapour"``, ``"liquid"`` or ``"two-phase"``.
+    z, x, y : numpy.ndarray
+        Feed, liquid and vapour mole fractions [-] (x = y = z in a single phase).
+    h : float
+        Molar enthalpy of the feed [J/mol] (ideal gas at 298.15 K is zero).
+    s : float
+        Molar entropy of the feed [J/(mol K)] (ideal gas at 298.15 K and 101325 Pa is zero).
+    converged : bool
+        False when the solver stopped without meeting its tolerance; ``message`` says why.
+    iterations : int
+        Temperature iterations used (PH, PS) or split iterations (PT).
+    residual : float
+        Last residual of the specification (J/mol for PH, J/(mol K) for PS, 0 for PT).
+    message : str
+        What the solver found, or why it failed.
+    tpd_min : float
+        Lowest tangent-plane distance of the stability test [-].
+    """
+
+    T: float
+    P: float
+    beta: float
+    phase: str
+    z: np.ndarray
+    x: np.ndarray
+    y: np.ndarray
+    h: float
+    s: float
+    converged: bool
+    iterations: int = 0
+    residual: float = 0.0
+    message: str = ""
+    tpd_min: float = 0.0
+
+    @property
+    def two_phase(self) -> bool:
+        return self.phase == "two-phase"
+
+
+def _phase_label(status: int, beta: float) -> str:
+    if status in (_k.ST_TWO, _k.ST_PURE_SAT) and 0.0 < beta < 1.0:
+        return "two-phase"
+    if status == _k.ST_PURE_SAT:
+        return "vapour" if beta >= 1.0 else "liquid"
+    return "vapour" if beta >= 0.5 else "liquid"
+
+
+def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd) -> FlashResult:
+    converged = status in (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT)
+    if converged:
+        phase = _phase_label(status, beta)
+    else:
+        phase = "unknown"
+    if phase != "two-phase":
+        x = y = z
+    return FlashResult(T=float(T), P=float(P), beta=float(beta), phase=phase, z=z, x=x, y=y, h=float(h),
+                       s=float(s), converged=converged, iterations=int(its), residual=float(resid),
+                       message=_STATUS_TEXT[status], tpd_min=float(tpd))
+
+
+def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
+    """Isothermal flash at temperature ``T`` [K] and pressure ``P`` [Pa] of feed ``z`` [-]."""
+    z = np.ascontiguousarray(z, dtype=float)
+    x = np.empty_like(z)
+    y = np.empty_like(z)
+    st, beta, h, s, tpd, its = _k.flash_pt(mix.kernel_params, float(T), float(P), z, x, y)
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd)
+
+
+def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | None, spec: int) -> FlashResult:
+    z = np.ascontiguousarray(z, dtype=float)
+    x = np.empty_like(z)
+    y = np.empty_like(z)
+    T0 = 300.0 if T_guess is None or not math.isfinite(T_guess) else float(T_guess)
+    st, T, beta, h, s, its, resid, tpd = _k.flash_spec(mix.kernel_params, float(P), float(target), z, T0, spec,
+                                                       x, y)
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd)
+
+
+def flash_ph(mix: CubicMixture, P: float, H: float, z, T_guess: float | None = None) -> FlashResult:
+    """Isenthalpic flash: the equilibrium state at pressure ``P`` [Pa] with molar enthalpy ``H`` [J/mol].
+
+    Parameters
+    ----------
+    mix : CubicMixture
+    P : float
+        Pressure [Pa].
+    H : float
+        Molar enthalpy [J/mol] (ideal gas at 298.15 K is zero).
+    z : array_like
+        Feed mole fractions [-].
+    T_guess : float, optional
+        Starting temperature [K] (the inlet temperature for a letdown); 300 K if not given.
+    """
+    return _flash_spec(mix, P, H, z, T_guess, 0)
+
+
+def flash_ps(mix: CubicMixture, P: float, S: float, z, T_guess: float | None = None) -> FlashResult:
+    """Isentropic flash: the equilibrium state at pressure ``P`` [Pa] with molar entropy ``S`` [J/(mol K)]."""
+    return _flash_spec(mix, P, S, z, T_guess, 1)

@@ -1,0 +1,202 @@
+"""A fluid: a checked composition under one cubic equation of state, with its kij set.
+
+:class:`Fluid` holds parameters only (no solving in ``__init__``); the flashes and properties are
+functions of :mod:`jtcheck.thermo.flash` and :mod:`jtcheck.thermo.properties` that it passes them to.
+Every choice that changes an answer (EOS, kij set and which pairs defaulted to zero, volume
+translation) is recorded in :meth:`Fluid.basis` so results and records can show it.
+"""
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+import numpy as np
+
+from jtcheck.errors import InputError
+from jtcheck.thermo import flash as _flash
+from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION, find_component, kij_matrix
+from jtcheck.thermo.composition import Composition, normalise_composition
+from jtcheck.thermo.cubic import CubicMixture, make_mixture
+from jtcheck.thermo.eos import EOS, R
+
+#: Components for which a cubic EOS with the classic alpha function is poor (negative acentric factor,
+#: quantum gases): the Joule-Thomson inversion is mispredicted near room temperature.
+QUANTUM_GASES = frozenset({"hydrogen", "helium", "neon"})
+
+
+def peneloux_shift(eos: EOS, tc_k, pc_pa, zra):
+    """Peneloux volume shift c_i [m^3/mol] from the Rackett compressibility Z_RA.
+
+    SRK: c = 0.40768 (R Tc/Pc)(0.29441 - Z_RA) (Peneloux, Rauzy and Freze, Fluid Phase Equilib. 8
+    (1982) 7-23, eq. 8); PR: c = 0.50033 (R Tc/Pc)(0.25969 - Z_RA), the PR analogue given by
+    Whitson and Brule, *Phase Behavior*, SPE Monograph 20 (2000) (from memory).  RK and VDW: 0.
+    """
+    tc = np.asarray(tc_k, float)
+    pc = np.asarray(pc_pa, float)
+    zra = np.asarray(zra, float)
+    if eos is EOS.SRK:
+        return 0.40768 * R * tc / pc * (0.29441 - zra)
+    if eos is EOS.PR:
+        return 0.50033 * R * tc / pc * (0.25969 - zra)
+    return np.zeros_like(tc)
+
+
+def _kij_from_user(kij: Any, ids: tuple[str, ...], eos: EOS):
+    """(matrix, basis text, defaulted pairs, sourced pairs) for the user's kij choice."""
+    n = len(ids)
+    if kij is None:
+        ks = kij_matrix(ids, eos.value)
+        basis = (f"jtcheck {eos.value} table ({len(ks.sources)} sourced pairs, "
+                 f"{len(ks.defaulted)} pairs with no published value set to 0)")
+        return np.array(ks.matrix, float), basis, tuple(ks.defaulted), tuple(ks.sources)
+    if isinstance(kij, (int, float)) and not isinstance(kij, bool):
+        if kij != 0:
+            raise InputError("kij", "a single number may only be 0 (every kij zero); give a mapping "
+                                    "{(component, component): value} or an (n, n) matrix otherwise")
+        return np.zeros((n, n)), "all kij = 0 (chosen by the user)", (), ()
+    if isinstance(kij, Mapping):
+        ks = kij_matrix(ids, eos.value)
+        mat = np.array(ks.matrix, float)
+        defaulted = set(ks.defaulted)
+        for key, value in kij.items():
+            try:
+                a, b = key
+            except (TypeError, ValueError):
+                raise InputError("kij", f"key {key!r} must be a pair of component names") from None
+            ia = ids.index(find_component(a, "kij").id) if find_component(a, "kij").id in ids else None
+            ib = ids.index(find_component(b, "kij").id) if find_component(b, "kij").id in ids else None
+            if ia is None or ib is None or ia == ib:
+                raise InputError("kij", f"pair ({a!r}, {b!r}) is not two different components of this fluid")
+            v = float(value)
+            if not np.isfinite(v) or abs(v) >= 1.0:
+                raise InputError("kij", f"pair ({a!r}, {b!r}): {value!r} is not a number between -1 and 1")
+            mat[ia, ib] = mat[ib, ia] = v
+            defaulted.discard(tuple(sorted((ids[ia], ids[ib]))))
+        basis = f"jtcheck {eos.value} table with {len(kij)} user values"
+        return mat, basis, tuple(sorted(defaulted)), tuple(ks.sources)
+    mat = np.asarray(kij, dtype=float)
+    if mat.shape != (n, n):
+        raise InputError("kij", f"matrix must be {n} x {n} for this fluid, got shape {mat.shape}")
+    if not np.all(np.isfinite(mat)) or np.any(np.abs(mat) >= 1.0) or not np.allclose(mat, mat.T):
+        raise InputError("kij", "matrix must be symmetric with finite entries between -1 and 1")
+    if np.any(np.diag(mat) != 0.0):
+        raise InputError("kij", "matrix diagonal must be zero")
+    return mat.copy(), "user kij matrix", (), ()
+
+
+class Fluid:
+    """A mixture with an equation of state.
+
+    Parameters
+    ----------
+    composition : mapping, pairs or text
+        Component names (common name, synonym, formula or CAS number) with mole fractions or
+        mole percent; see :func:`jtcheck.thermo.composition.normalise_composition`.
+    eos : {"PR", "SRK", "RK", "VDW"}
+        Cubic equation of state.  PR uses the 1978 alpha for components with omega > 0.491.
+    kij : None, 0, mapping or array, optional
+        ``None`` takes the published values in jtcheck's table (pairs without one are 0, and are
+        listed in :attr:`kij_defaulted`); ``0`` sets every kij to zero; a mapping
+        ``{("methane", "CO2"): 0.1}`` overrides table entries; an (n, n) array replaces the table.
+    volume_translation : bool
+        Apply the Peneloux volume shift consistently: to densities and to enthalpies
+        (H - P sum z_i c_i), at inlet and outlet alike.  Off by default.
+
+    Examples
+    --------
+    >>> gas = Fluid({"methane": 0.9, "ethane": 0.1}, eos="PR")
+    """
+
+    def __init__(self, composition: Mapping[str, float] | Iterable[tuple[str, float]] | str, eos: str | EOS = "PR",
+                 kij: Any = None, volume_translation: bool = False):
+        self.composition: Composition = normalise_composition(composition)
+        self.eos: EOS = EOS.parse(eos)
+        comps = self.composition.components
+        ids = self.composition.ids
+        self.kij, self.kij_basis, self.kij_defaulted, self.kij_sources = _kij_from_user(kij, ids, self.eos)
+        self.volume_translation = bool(volume_translation)
+        self.vol_shifts = peneloux_shift(self.eos, [c.tc_k for c in comps], [c.pc_pa for c in comps],
+                                         [c.zra for c in comps])
+        self.mixture: CubicMixture = make_mixture(
+            self.eos, ids, [c.tc_k for c in comps], [c.pc_pa for c in comps], [c.omega for c in comps],
+            [c.molar_mass_g_per_mol / 1000.0 for c in comps], self.kij, self.vol_shifts,
+            ([c.cp_a for c in comps], [c.cp_b for c in comps], [c.cp_c for c in comps],
+             [c.cp_d for c in comps], [c.cp_e for c in comps]))
+        notes = list(self.composition.warnings)
+        quantum = [c.name for c, z in zip(comps, self.zs, strict=True) if c.id in QUANTUM_GASES and z >= 0.01]
+        if quantum:
+            notes.append(f"{', '.join(quantum)} present: a cubic EOS with the classic alpha function is poor for "
+                         "these gases and can predict cooling where they really warm on throttling; treat the "
+                         "outlet temperature with caution")
+        self.warnings: tuple[str, ...] = tuple(notes)
+
+    # -- data --------------------------------------------------------------------------------
+    @property
+    def components(self):
+        return self.composition.components
+
+    @property
+    def ids(self) -> tuple[str, ...]:
+        return self.composition.ids
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return tuple(c.name for c in self.components)
+
+    @property
+    def zs(self) -> np.ndarray:
+        return self.composition.zs
+
+    @property
+    def molar_mass(self) -> float:
+        """Mean molar mass [kg/mol]."""
+        return float(self.zs @ self.mixture.mws)
+
+    def enthalpy_shift(self, p_pa: float) -> float:
+        """Enthalpy shift of the volume translation, -P sum z_i c_i [J/mol] (0 when off)."""
+        if not self.volume_translation:
+            return 0.0
+        return -float(p_pa) * float(self.zs @ self.vol_shifts)
+
+    def basis(self) -> dict:
+        """Model choices that change answers, for results and records."""
+        return {
+            "eos": self.eos.value,
+            "eos_name": self.eos.long_name,
+            "eos_reference": self.eos.constants.citation,
+            "kij_basis": self.kij_basis,
+            "kij_defaulted_pairs": [list(p) for p in self.kij_defaulted],
+            "volume_translation": "Peneloux, applied to enthalpy and density" if self.volume_translation
+            else "none",
+            "component_data": COMPONENT_DATA_VERSION,
+            "kij_data": KIJ_DATA_VERSION,
+        }
+
+    def __repr__(self) -> str:
+        comp = ", ".join(f"{i}={z:.4g}" for i, z in zip(self.ids, self.zs, strict=True))
+        return f"Fluid({comp}; eos={self.eos.value})"
+
+    # -- calculations (delegated) ---------------------------------------------------------------
+    def flash_pt(self, t_k: float, p_pa: float) -> _flash.FlashResult:
+        """Equilibrium at temperature [K] and pressure [Pa] (see :func:`jtcheck.thermo.flash.flash_pt`)."""
+        res = _flash.flash_pt(self.mixture, t_k, p_pa, self.zs)
+        shift = self.enthalpy_shift(p_pa)
+        if shift:
+            from dataclasses import replace
+
+            res = replace(res, h=res.h + shift)
+        return res
+
+    def flash_ph(self, p_pa: float, h_j_per_mol: float, t_guess_k: float | None = None) -> _flash.FlashResult:
+        """Equilibrium at pressure [Pa] and molar enthalpy [J/mol] (translated when the fluid says so)."""
+        shift = self.enthalpy_shift(p_pa)
+        res = _flash.flash_ph(self.mixture, p_pa, h_j_per_mol - shift, self.zs, t_guess_k)
+        if shift:
+            from dataclasses import replace
+
+            res = replace(res, h=res.h + shift)
+        return res
+
+    def flash_ps(self, p_pa: float, s_j_per_mol_k: float, t_guess_k: float | None = None) -> _flash.FlashResult:
+        """Equilibrium at pressure [Pa] and molar entropy [J/(mol K)]."""
+        return _flash.flash_ps(self.mixture, p_pa, s_j_per_mol_k, self.zs, t_guess_k)
