@@ -24,6 +24,9 @@ from jtcheck.thermo.fluid import Fluid
 CO2_TRIPLE_T_K = 216.592
 CO2_TRIPLE_P_PA = 0.51795e6
 
+#: Batches at least this large compute the fluid's phase envelope first to skip needless stability tests.
+BATCH_ENVELOPE_MIN = 200
+
 
 def _check_positive(name: str, value, what: str, unit: str) -> np.ndarray:
     arr = np.asarray(value, dtype=float)
@@ -145,25 +148,37 @@ class LetdownBatch:
         return int(self.t_out.size)
 
 
-def _state_warnings(fluid: Fluid, p_out: float, t_out: float, t_in: float, liquid_x=None) -> list[str]:
-    notes: list[str] = []
-    if not math.isfinite(t_out):
-        return notes
+def _state_warnings(fluid: Fluid, p_out, t_out, t_in) -> list[list[str]]:
+    """Validity warnings for outlet states (arrays of equal shape, flattened); one list per case."""
+    p_out = np.atleast_1d(np.asarray(p_out, float)).ravel()
+    t_out = np.atleast_1d(np.asarray(t_out, float)).ravel()
+    t_in = np.atleast_1d(np.asarray(t_in, float)).ravel()
+    notes: list[list[str]] = [[] for _ in range(t_out.size)]
+    finite = np.isfinite(t_out)
+
+    def add(mask, text_fn):
+        for k in np.flatnonzero(mask & finite):
+            notes[k].append(text_fn(k))
+
     for comp, z in zip(fluid.components, fluid.zs, strict=True):
-        if comp.id == "carbon dioxide" and z >= 0.5 and p_out < CO2_TRIPLE_P_PA and t_out < CO2_TRIPLE_T_K + 1.0:
-            notes.append(f"CO2-rich fluid let down below the CO2 triple-point pressure ({CO2_TRIPLE_P_PA / 1e5:.2f} "
-                         "bar abs): dry ice (solid CO2) can form; the fluid-only EOS reports a metastable "
-                         "vapour-liquid state that is too cold")
-        elif comp.t_triple_k and t_out < comp.t_triple_k and z >= 0.01:
-            notes.append(f"outlet {t_out:.2f} K is below the triple point of {comp.name} ({comp.t_triple_k:.2f} K): "
-                         "it can freeze; the EOS has no solid phase")
-        elif comp.id == "water" and t_out < 273.16:
-            notes.append(f"water present ({z:.3g} mol/mol) and outlet below 0 degC: ice and hydrates can form")
-        if t_out < comp.cp_tmin_k and z >= 0.01:
-            notes.append(f"outlet {t_out:.1f} K is below the range of the ideal-gas heat-capacity data of "
-                         f"{comp.name} ({comp.cp_tmin_k:.0f} K): extrapolated")
-    if t_out > t_in + 1e-6:
-        notes.append("the fluid warms on letdown (inverse Joule-Thomson effect)")
+        if comp.id == "carbon dioxide" and z >= 0.5:
+            dry_ice = (p_out < CO2_TRIPLE_P_PA) & (t_out < CO2_TRIPLE_T_K + 1.0)
+            add(dry_ice, lambda k: (
+                f"CO2-rich fluid let down below the CO2 triple-point pressure ({CO2_TRIPLE_P_PA / 1e5:.2f} bar abs): "
+                "dry ice (solid CO2) can form; the fluid-only EOS reports a metastable vapour-liquid state that "
+                "is too cold"))
+        elif comp.t_triple_k and z >= 0.01:
+            add(t_out < comp.t_triple_k, lambda k, c=comp: (
+                f"outlet {t_out[k]:.2f} K is below the triple point of {c.name} ({c.t_triple_k:.2f} K): it can "
+                "freeze; the EOS has no solid phase"))
+        if comp.id == "water":
+            add(t_out < 273.16, lambda k, z=z: (
+                f"water present ({z:.3g} mol/mol) and outlet below 0 degC: ice and hydrates can form"))
+        if z >= 0.01:
+            add(t_out < comp.cp_tmin_k, lambda k, c=comp: (
+                f"outlet {t_out[k]:.1f} K is below the range of the ideal-gas heat-capacity data of {c.name} "
+                f"({c.cp_tmin_k:.0f} K): extrapolated"))
+    add(t_out > t_in + 1e-6, lambda k: "the fluid warms on letdown (inverse Joule-Thomson effect)")
     return notes
 
 
@@ -211,7 +226,7 @@ def _letdown_one(fluid: Fluid, p_in: float, t_in: float, p_out: float) -> Letdow
     out = fluid.flash_ph(p_out, inlet.h, t_guess_k=t_in)
     notes = list(fluid.warnings)
     if out.converged:
-        notes += _state_warnings(fluid, p_out, out.T, t_in)
+        notes += _state_warnings(fluid, p_out, out.T, t_in)[0]
         msg = out.message
     else:
         msg = f"outlet flash failed: {out.message} (residual {out.residual:.3g} J/mol)"
@@ -232,8 +247,10 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
     if fluid.volume_translation:
         cz = float(fluid.zs @ fluid.vol_shifts)
         offset = -cz * (pi - po)   # H_out(untranslated) = H_in - c (P_in - P_out)
+    # for large batches, find the fluid's cricondentherm once: above it no stability test is needed
+    t_skip = fluid.single_phase_above_k() if pi.size >= BATCH_ENVELOPE_MIN else math.inf
     (st_in, b_in, h_in, s_in, st_out, T_out, b_out, h_out, s_out, iters, resid) = _k.letdown_batch(
-        fluid.mixture.kernel_params, np.ascontiguousarray(fluid.zs), pi, ti, po, 0, offset)
+        fluid.mixture.kernel_params, np.ascontiguousarray(fluid.zs), pi, ti, po, 0, offset, t_skip)
     ok_in = np.isin(st_in, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
     ok_out = np.isin(st_out, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
     conv = ok_in & ok_out
@@ -241,17 +258,14 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
     beta = np.where(conv, b_out, np.nan)
     two = conv & (beta > 0.0) & (beta < 1.0)
     phase = np.where(~conv, "unknown", np.where(two, "two-phase", np.where(beta >= 0.5, "vapour", "liquid")))
+    base = tuple(fluid.warnings)
+    per_case = _state_warnings(fluid, po, T, ti)
     warns = []
-    base = list(fluid.warnings)
     for k in range(pi.size):
-        w = list(base)
-        if conv[k]:
-            w += _state_warnings(fluid, po[k], T[k], ti[k])
-        elif not ok_in[k]:
-            w.append("inlet flash failed")
-        else:
-            w.append("outlet flash failed")
-        warns.append(tuple(w))
+        extra = per_case[k]
+        if not conv[k]:
+            extra = extra + ["inlet flash failed" if not ok_in[k] else "outlet flash failed"]
+        warns.append(base + tuple(extra) if extra else base)
     return LetdownBatch(
         p_in=p_in, t_in=t_in, p_out=p_out, t_out=T.reshape(shape), dt=(T - ti).reshape(shape),
         vapor_fraction=beta.reshape(shape), phase=phase.reshape(shape), inlet_vapor_fraction=b_in.reshape(shape),

@@ -699,14 +699,21 @@ def stability(prm, T, P, z, W_out, max_ss=80, tol=1e-10):
             tm = 1.0
             delta = 0.0
             dz = 0.0
+            bt = 0.0
             for i in range(n):
                 tm += W[i] * (lnW[i] + lnphi_w[i] - d[i] - 1.0)
+                bt += (W[i] - z[i]) * (lnW[i] - math.log(z[i]))
                 new = d[i] - lnphi_w[i]
                 delta = max(delta, abs(new - lnW[i]))
                 lnW[i] = new
                 W[i] = math.exp(new)
                 dz += (w[i] - z[i]) ** 2
             if dz < 1e-10 and abs(tm) < 1e-6:
+                trivial = True
+                break
+            # heading for the trivial solution: tm ~ beta/2 with beta small (Michelsen and
+            # Mollerup 2007, ch. 10, the r = 2 tm / beta test)
+            if bt < 1e-4 and tm > 0.0 and abs(2.0 * tm / bt - 1.0) < 0.2:
                 trivial = True
                 break
             if delta < tol:
@@ -1005,8 +1012,11 @@ def _label(prm, T, P, z):
 
 
 @_jit
-def flash_pt(prm, T, P, z, x, y):
-    """PT flash.  Returns (status, beta, h, s, tpd_min, iterations); fills x, y."""
+def flash_pt(prm, T, P, z, x, y, t_skip):
+    """PT flash.  Returns (status, beta, h, s, tpd_min, iterations); fills x, y.
+
+    Above ``t_skip`` [K] (the fluid's cricondentherm plus a margin, or +inf) the feed is known to be
+    single-phase and the stability test is skipped."""
     n = z.size
     imax = 0
     for i in range(n):
@@ -1019,7 +1029,10 @@ def flash_pt(prm, T, P, z, x, y):
         p = props(prm, T, P, z, GIBBS)
         return ST_SINGLE, _label(prm, T, P, z), p[2], p[3], 0.0, 0
     W = np.empty(n)
-    stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
+    if T > t_skip:
+        stable, tpd, lighter = True, 0.0, False
+    else:
+        stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
     if stable:
         for i in range(n):
             x[i] = z[i]
@@ -1042,6 +1055,98 @@ def flash_pt(prm, T, P, z, x, y):
         y[i] = z[i]
     p = props(prm, T, P, z, GIBBS)
     return ST_FAIL_SPLIT, _label(prm, T, P, z), p[2], p[3], tpd, 0
+
+
+@_jit
+def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
+    """Two-phase PH/PS flash by Newton on (vapour mole numbers v, T) together (Michelsen 1987).
+
+    Equations: g_i = ln(y_i phi_i^V) - ln(x_i phi_i^L) = 0 and (spec(v, T) - target) = 0, with
+    d g/d v = the Gibbs-energy Hessian, d g_i/d T = d ln phi_i^V/dT - d ln phi_i^L/dT,
+    d h/d v_i = hbar_i^V - hbar_i^L = -R T^2 (d ln phi_i^V/dT - d ln phi_i^L/dT), d h/d T = V cp_V + L cp_L
+    (for entropy: d s/d v_i = (hbar_i^V - hbar_i^L)/T - R g_i, d s/d T = (V cp_V + L cp_L)/T).
+    Starts from a converged split at T0.  Returns (ok, T, beta, h, s, iterations, residual)."""
+    n = z.size
+    T = T0
+    st, beta, its = split(prm, T, P, z, K, x, y, False)
+    if st != 1:
+        return False, T, beta, np.nan, np.nan, its, np.inf
+    tol = spec_tol(spec, target)
+    v = np.empty(n)
+    l_ = np.empty(n)
+    for i in range(n):
+        v[i] = beta * y[i]
+    lnV = np.empty(n)
+    lnL = np.empty(n)
+    dnV = np.empty((n, n))
+    dnL = np.empty((n, n))
+    dTV = np.empty(n)
+    dTL = np.empty(n)
+    dP_ = np.empty(n)
+    vb = np.empty(n)
+    J = np.empty((n + 1, n + 1))
+    rhs = np.empty(n + 1)
+    step = np.empty(n + 1)
+    r = np.inf
+    h = np.nan
+    s = np.nan
+    for it in range(1, max_iter + 1):
+        V = v.sum()
+        for i in range(n):
+            l_[i] = z[i] - v[i]
+        L = l_.sum()
+        if not (V > 0.0 and L > 0.0):
+            return False, T, V, np.nan, np.nan, its + it, r
+        for i in range(n):
+            y[i] = v[i] / V
+            x[i] = l_[i] / L
+        fug_derivs(prm, T, P, y, GIBBS, lnV, dnV, dTV, dP_, vb)
+        fug_derivs(prm, T, P, x, GIBBS, lnL, dnL, dTL, dP_, vb)
+        pV = props(prm, T, P, y, GIBBS)
+        pL = props(prm, T, P, x, GIBBS)
+        h = V * pV[2] + L * pL[2]
+        s = V * pV[3] + L * pL[3]
+        cpf = V * pV[4] + L * pL[4]
+        gmax = 0.0
+        for i in range(n):
+            rhs[i] = -(math.log(y[i]) + lnV[i] - math.log(x[i]) - lnL[i])
+            gmax = max(gmax, abs(rhs[i]))
+        r = (h if spec == 0 else s) - target
+        if gmax < 1e-10 and abs(r) <= tol:
+            return True, T, V, h, s, its + it, r
+        RTT = R * T * T
+        for i in range(n):
+            for j in range(n):
+                J[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
+            J[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
+            dg = dTV[i] - dTL[i]
+            J[i, n] = dg
+            dh = -RTT * dg
+            if spec == 0:
+                J[n, i] = dh / (R * T)
+            else:
+                J[n, i] = (dh / T + R * rhs[i]) / R
+        J[n, n] = cpf / (R * T) if spec == 0 else cpf / (R * T)
+        rhs[n] = -r / (R * T) if spec == 0 else -r / R
+        if not lu_solve(J, rhs, step):
+            return False, T, V, h, s, its + it, r
+        dT = step[n]
+        lam = 1.0
+        if abs(dT) > 20.0:
+            lam = 20.0 / abs(dT)
+        for i in range(n):
+            if step[i] < 0.0:
+                lam = min(lam, 0.9 * v[i] / -step[i])
+            elif step[i] > 0.0:
+                lam = min(lam, 0.9 * l_[i] / step[i])
+        if lam < 1e-6:
+            return False, T, V, h, s, its + it, r
+        for i in range(n):
+            v[i] += lam * step[i]
+        T += lam * dT
+        if not (T_MIN < T < T_MAX):
+            return False, T, V, h, s, its + it, r
+    return False, T, v.sum(), h, s, its + max_iter, r
 
 
 @_jit
@@ -1118,8 +1223,11 @@ def _solve_two_phase(prm, P, target, z, T0, K, spec, x, y, max_iter=60):
 
 
 @_jit
-def flash_spec(prm, P, target, z, T0, spec, x, y):
+def flash_spec(prm, P, target, z, T0, spec, x, y, t_skip):
     """PH (spec 0) or PS (spec 1) flash.
+
+    Above ``t_skip`` [K] (the fluid's cricondentherm plus a margin, or +inf) a converged
+    single-phase answer is accepted without a stability test.
 
     Returns (status, T, beta, h, s, iterations, residual, tpd_min); fills x, y."""
     n = z.size
@@ -1156,7 +1264,10 @@ def flash_spec(prm, P, target, z, T0, spec, x, y):
         return (ST_SINGLE if ok else ST_FAIL_SINGLE), T, _label(prm, T, P, z), p[2], p[3], its, r, 0.0
     T, ok, jump, its, r = solve_single(prm, P, target, z, T0, spec, GIBBS, T_MIN, T_MAX)
     W = np.empty(n)
-    stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
+    if ok and T > t_skip:
+        stable, tpd, lighter = True, 0.0, False
+    else:
+        stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
     if ok and stable:
         p = props(prm, T, P, z, GIBBS)
         return ST_SINGLE, T, _label(prm, T, P, z), p[2], p[3], its, r, tpd
@@ -1166,6 +1277,12 @@ def flash_spec(prm, P, target, z, T0, spec, x, y):
     else:
         for i in range(n):
             K[i] = W[i] / z[i] if lighter else z[i] / W[i]
+    K0 = K.copy()
+    ok2, T2, beta, h, s, its2, r2 = _joint_newton(prm, P, target, z, T, K, spec, x, y)
+    if ok2 and 0.0 < beta < 1.0:
+        return ST_TWO, T2, beta, h, s, its + its2, r2, tpd
+    for i in range(n):
+        K[i] = K0[i]
     status, T2, beta, h, s, its2, r2 = _solve_two_phase(prm, P, target, z, T, K, spec, x, y)
     if status == ST_FAIL_TWO and ok and not jump:
         for i in range(n):
@@ -1181,11 +1298,11 @@ def flash_spec(prm, P, target, z, T0, spec, x, y):
 # ---------------------------------------------------------------------------------------------
 
 @njit(cache=True, parallel=True)
-def letdown_batch(prm, z, p_in, t_in, p_out, spec, offset):
+def letdown_batch(prm, z, p_in, t_in, p_out, spec, offset, t_skip):
     """Isenthalpic (spec 0) or isentropic (spec 1) letdowns of one feed, in parallel.
 
     The outlet target is the inlet value plus ``offset[k]`` (the volume-translation enthalpy
-    correction, or zero).
+    correction, or zero); ``t_skip`` as in :func:`flash_pt`.
 
     Returns arrays (status_in, beta_in, h_in, s_in, status_out, T_out, beta_out, h_out, s_out,
     iterations, residual)."""
@@ -1205,13 +1322,13 @@ def letdown_batch(prm, z, p_in, t_in, p_out, spec, offset):
     for k in prange(N):
         x = np.empty(n)
         y = np.empty(n)
-        st, b, h, s, tpd, its = flash_pt(prm, t_in[k], p_in[k], z, x, y)
+        st, b, h, s, tpd, its = flash_pt(prm, t_in[k], p_in[k], z, x, y, t_skip)
         st_in[k] = st
         b_in[k] = b
         h_in[k] = h
         s_in[k] = s
         target = (h if spec == 0 else s) + offset[k]
-        st2, T2, b2, h2, s2, its2, r2, tpd2 = flash_spec(prm, p_out[k], target, z, t_in[k], spec, x, y)
+        st2, T2, b2, h2, s2, its2, r2, tpd2 = flash_spec(prm, p_out[k], target, z, t_in[k], spec, x, y, t_skip)
         st_out[k] = st2
         T_out[k] = T2
         b_out[k] = b2

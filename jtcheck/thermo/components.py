@@ -202,7 +202,7 @@ class KijSet:
 @cache
 def _data_bytes(filename: str) -> bytes:
     """Raw bytes of a data file shipped in ``jtcheck/thermo/data``."""
-    return resources.files(__package__).joinpath("data", filename).read_bytes()
+    return resources.files(__package__).joinpath("data").joinpath(filename).read_bytes()
 
 
 def _version(filename: str) -> str:
@@ -219,7 +219,8 @@ KIJ_DATA_VERSION: str = _version(_KIJ_FILE)
 def _read_rows(filename: str, columns: Sequence[str]) -> list[dict[str, str]]:
     reader = csv.DictReader(io.StringIO(_data_bytes(filename).decode("utf-8")))
     if tuple(reader.fieldnames or ()) != tuple(columns):
-        raise JtcheckError(f"{filename}: columns {reader.fieldnames} differ from the expected {list(columns)}")
+        raise JtcheckError(f"{filename}: columns {reader.fieldnames} differ from the expected "
+                           f"{list(columns)}")
     return list(reader)
 
 

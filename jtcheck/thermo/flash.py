@@ -119,7 +119,7 @@ def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
     z = np.ascontiguousarray(z, dtype=float)
     x = np.empty_like(z)
     y = np.empty_like(z)
-    st, beta, h, s, tpd, its = _k.flash_pt(mix.kernel_params, float(T), float(P), z, x, y)
+    st, beta, h, s, tpd, its = _k.flash_pt(mix.kernel_params, float(T), float(P), z, x, y, math.inf)
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd)
 
 
@@ -129,7 +129,7 @@ def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | 
     y = np.empty_like(z)
     T0 = 300.0 if T_guess is None or not math.isfinite(T_guess) else float(T_guess)
     st, T, beta, h, s, its, resid, tpd = _k.flash_spec(mix.kernel_params, float(P), float(target), z, T0, spec,
-                                                       x, y)
+                                                       x, y, math.inf)
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd)
 
 

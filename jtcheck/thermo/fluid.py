@@ -176,6 +176,35 @@ class Fluid:
         comp = ", ".join(f"{i}={z:.4g}" for i, z in zip(self.ids, self.zs, strict=True))
         return f"Fluid({comp}; eos={self.eos.value})"
 
+    def phase_envelope(self):
+        """The P-T phase envelope of this fluid (computed once, then kept).
+
+        See :func:`jtcheck.thermo.envelope.phase_envelope`.
+        """
+        env = getattr(self, "_envelope", None)
+        if env is None:
+            from jtcheck.thermo.envelope import phase_envelope
+
+            env = phase_envelope(self.mixture, self.zs)
+            self._envelope = env
+        return env
+
+    def single_phase_above_k(self) -> float:
+        """Temperature [K] above which this fluid is single-phase at any pressure: its cricondentherm
+        plus 2 K, when the envelope closed and no component can form a second liquid (water, glycols,
+        alcohols, ammonia); +inf otherwise.  Lets batch screening skip stability tests safely."""
+        from jtcheck.thermo.cubic import POLAR_IDS
+
+        if len(self.ids) < 2 or any(i in POLAR_IDS for i in self.ids):
+            return float("inf")
+        try:
+            env = self.phase_envelope()
+        except Exception:  # noqa: BLE001 - any failure just means no shortcut
+            return float("inf")
+        if not env.converged or not np.isfinite(env.cricondentherm[0]):
+            return float("inf")
+        return float(env.cricondentherm[0]) + 2.0
+
     # -- calculations (delegated) ---------------------------------------------------------------
     def flash_pt(self, t_k: float, p_pa: float) -> _flash.FlashResult:
         """Equilibrium at temperature [K] and pressure [Pa] (see :func:`jtcheck.thermo.flash.flash_pt`)."""

@@ -1,12 +1,12 @@
-"""Ideal-gas heat capacity, enthalpy and entropy of pure components.
+r"""Ideal-gas heat capacity, enthalpy and entropy of pure components.
 
 The isobaric ideal-gas heat capacity is written in the form of Aly and Lee (1981), which is also
 DIPPR equation 107:
 
 .. math::
 
-    C_p^{ig}(T) = A + B\\left(\\frac{C/T}{\\sinh(C/T)}\\right)^2
-                    + D\\left(\\frac{E/T}{\\cosh(E/T)}\\right)^2
+    C_p^{ig}(T) = A + B\left(\frac{C/T}{\sinh(C/T)}\right)^2
+                    + D\left(\frac{E/T}{\cosh(E/T)}\right)^2
 
 with :math:`A, B, D` in [J/(mol K)] and :math:`C, E` in [K].  The form integrates in closed form,
 so the ideal-gas enthalpy and entropy relative to the reference temperature :data:`T_REF` are
@@ -14,11 +14,11 @@ exact integrals of the same correlation:
 
 .. math::
 
-    H^{ig}(T) - H^{ig}(T_{ref}) = \\Big[A T + B C \\coth(C/T) - D E \\tanh(E/T)\\Big]_{T_{ref}}^{T}
+    H^{ig}(T) - H^{ig}(T_{ref}) = \Big[A T + B C \coth(C/T) - D E \tanh(E/T)\Big]_{T_{ref}}^{T}
 
-    S^{ig}(T) - S^{ig}(T_{ref}) = \\Big[A \\ln T + B\\big(\\tfrac{C}{T}\\coth\\tfrac{C}{T}
-        - \\ln\\sinh\\tfrac{C}{T}\\big) - D\\big(\\tfrac{E}{T}\\tanh\\tfrac{E}{T}
-        - \\ln\\cosh\\tfrac{E}{T}\\big)\\Big]_{T_{ref}}^{T}
+    S^{ig}(T) - S^{ig}(T_{ref}) = \Big[A \ln T + B\big(\tfrac{C}{T}\coth\tfrac{C}{T}
+        - \ln\sinh\tfrac{C}{T}\big) - D\big(\tfrac{E}{T}\tanh\tfrac{E}{T}
+        - \ln\cosh\tfrac{E}{T}\big)\Big]_{T_{ref}}^{T}
 
 The entropy is the temperature part only (at fixed pressure); the pressure and mixing terms
 belong to the caller.
@@ -77,7 +77,8 @@ def _check_temperature(T: Any) -> tuple[np.ndarray | float, bool]:
     if arr.ndim == 0:
         return _check_temperature(float(arr))
     if arr.ndim != 1:
-        raise InputError("T", f"temperature must be a scalar or a one-dimensional array, got shape {arr.shape}")
+        raise InputError("T", f"temperature must be a scalar or a one-dimensional array, got shape "
+                              f"{arr.shape}")
     if not np.all((arr > 0.0) & np.isfinite(arr)):
         raise InputError("T", "every temperature must be a finite positive number of kelvin")
     return arr[:, None], False
@@ -157,7 +158,7 @@ def cp_ig(T, A, B, C, D, E) -> np.ndarray:
 
 
 def h_ig(T, A, B, C, D, E) -> np.ndarray:
-    """Ideal-gas enthalpy of each component relative to :data:`T_REF`, closed-form integral of :func:`cp_ig`.
+    r"""Ideal-gas enthalpy of each component relative to :data:`T_REF`, closed-form integral of :func:`cp_ig`.
 
     Parameters
     ----------
@@ -175,7 +176,7 @@ def h_ig(T, A, B, C, D, E) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        :math:`\\int_{T_{ref}}^{T} C_p^{ig}\\,dT`, shape ``(n,)`` or ``(N, n)``, [J/mol].
+        :math:`\int_{T_{ref}}^{T} C_p^{ig}\,dT`, shape ``(n,)`` or ``(N, n)``, [J/mol].
 
     References
     ----------
@@ -186,10 +187,10 @@ def h_ig(T, A, B, C, D, E) -> np.ndarray:
 
 
 def s_ig(T, A, B, C, D, E) -> np.ndarray:
-    """Ideal-gas entropy of each component relative to :data:`T_REF` at constant pressure.
+    r"""Ideal-gas entropy of each component relative to :data:`T_REF` at constant pressure.
 
     Closed-form integral of :math:`C_p^{ig}/T` in the Aly and Lee (1981) form; the pressure term
-    :math:`-R \\ln(p/p_{ref})` and the mixing term are not included.
+    :math:`-R \ln(p/p_{ref})` and the mixing term are not included.
 
     Parameters
     ----------
@@ -207,7 +208,7 @@ def s_ig(T, A, B, C, D, E) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        :math:`\\int_{T_{ref}}^{T} C_p^{ig}/T\\,dT`, shape ``(n,)`` or ``(N, n)``, [J/(mol K)].
+        :math:`\int_{T_{ref}}^{T} C_p^{ig}/T\,dT`, shape ``(n,)`` or ``(N, n)``, [J/(mol K)].
 
     References
     ----------
@@ -258,7 +259,7 @@ class IdealGasCoefficients:
     s_ref: np.ndarray
 
     def cp(self, T) -> np.ndarray:
-        """Ideal-gas heat capacity, shape ``(n,)`` or ``(N, n)``, [J/(mol K)]; see :func:`cp_ig`.
+        """Ideal-gas heat capacity, [J/(mol K)]; see :func:`cp_ig`.
 
         Parameters
         ----------
@@ -269,7 +270,7 @@ class IdealGasCoefficients:
         return _cp_terms(t, self.A, self.B, self.C, self.D, self.E)
 
     def h(self, T) -> np.ndarray:
-        """Ideal-gas enthalpy relative to :data:`T_REF`, shape ``(n,)`` or ``(N, n)``, [J/mol]; see :func:`h_ig`.
+        """Ideal-gas enthalpy relative to :data:`T_REF`, [J/mol]; see :func:`h_ig`.
 
         Parameters
         ----------
@@ -280,7 +281,7 @@ class IdealGasCoefficients:
         return _h_antiderivative(t, self.A, self.B, self.C, self.D, self.E) - self.h_ref
 
     def s(self, T) -> np.ndarray:
-        """Ideal-gas entropy relative to :data:`T_REF`, shape ``(n,)`` or ``(N, n)``, [J/(mol K)]; see :func:`s_ig`.
+        """Ideal-gas entropy relative to :data:`T_REF`, [J/(mol K)]; see :func:`s_ig`.
 
         Parameters
         ----------

@@ -33,7 +33,7 @@ REQUIRED_IDS = (
 
 
 def _kij_rows() -> list[dict[str, str]]:
-    text = resources.files("jtcheck.thermo").joinpath("data", "kij.csv").read_text(encoding="utf-8")
+    text = resources.files("jtcheck.thermo").joinpath("data").joinpath("kij.csv").read_text(encoding="utf-8")
     return list(csv.DictReader(text.splitlines()))
 
 
@@ -96,9 +96,14 @@ def test_unknown_component_is_an_input_error_and_a_value_error():
         find_component("unobtainium")
 
 
-@pytest.mark.parametrize(("formula", "choices"), [("C4H10", {"n-butane", "isobutane"}),
-                                                  ("c5h12", {"n-pentane", "isopentane", "neopentane"}),
-                                                  ("C8H10", {"ethylbenzene", "o-xylene", "m-xylene", "p-xylene"})])
+@pytest.mark.parametrize(
+    ("formula", "choices"),
+    [
+        ("C4H10", {"n-butane", "isobutane"}),
+        ("c5h12", {"n-pentane", "isopentane", "neopentane"}),
+        ("C8H10", {"ethylbenzene", "o-xylene", "m-xylene", "p-xylene"}),
+    ],
+)
 def test_formula_shared_by_isomers_is_refused_naming_the_choices(formula, choices):
     with pytest.raises(InputError) as info:
         find_component(formula)
@@ -267,10 +272,14 @@ def test_every_pr_row_is_used_when_all_components_are_present():
     assert len(kset.sources) + len(kset.defaulted) == len(everything) * (len(everything) - 1) // 2
 
 
-@pytest.mark.parametrize(("id_1", "id_2"), [("carbon dioxide", "methane"), ("methane", "nitrogen"),
-                                            ("carbon dioxide", "nitrogen"), ("carbon dioxide", "hydrogen sulfide"),
-                                            ("hydrogen sulfide", "nitrogen"), ("carbon dioxide", "water"),
-                                            ("hydrogen", "methane"), ("carbon dioxide", "propane")])
+@pytest.mark.parametrize(
+    ("id_1", "id_2"),
+    [
+        ("carbon dioxide", "methane"), ("methane", "nitrogen"), ("carbon dioxide", "nitrogen"),
+        ("carbon dioxide", "hydrogen sulfide"), ("hydrogen sulfide", "nitrogen"), ("carbon dioxide", "water"),
+        ("hydrogen", "methane"), ("carbon dioxide", "propane"),
+    ],
+)
 def test_pr_table_covers_the_pairs_that_matter_most(id_1, id_2):
     kset = kij_matrix([id_1, id_2], "PR")
     assert kset.defaulted == ()
