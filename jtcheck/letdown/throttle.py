@@ -18,6 +18,7 @@ import numpy as np
 
 from jtcheck.errors import InputError
 from jtcheck.thermo import _kernels as _k
+from jtcheck.thermo.flash import pure_supercritical
 from jtcheck.thermo.fluid import Fluid
 
 #: CO2 triple point: 216.592 K, 0.51795 MPa (Span and Wagner, J. Phys. Chem. Ref. Data 25 (1996) 1509).
@@ -75,7 +76,8 @@ class LetdownResult:
     vapor_fraction : float
         Outlet vapour mole fraction [-].
     phase : str
-        Outlet phase: "vapour", "liquid", "two-phase" (or "unknown" if not converged).
+        Outlet phase: "vapour", "liquid", "two-phase", "supercritical" (a pure component above its
+        critical pressure, counted as vapour), or "unknown" if not converged.
     inlet_phase : str
     inlet_vapor_fraction : float
     h : float
@@ -258,6 +260,11 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
     beta = np.where(conv, b_out, np.nan)
     two = conv & (beta > 0.0) & (beta < 1.0)
     phase = np.where(~conv, "unknown", np.where(two, "two-phase", np.where(beta >= 0.5, "vapour", "liquid")))
+    sc = conv & ~two & pure_supercritical(fluid.mixture, fluid.zs, po)
+    single_in = (b_in <= 0.0) | (b_in >= 1.0)
+    b_in = np.where(ok_in & single_in & pure_supercritical(fluid.mixture, fluid.zs, pi), 1.0, b_in)
+    phase = np.where(sc, "supercritical", phase)
+    beta = np.where(sc, 1.0, beta)
     base = tuple(fluid.warnings)
     per_case = _state_warnings(fluid, po, T, ti)
     warns = []

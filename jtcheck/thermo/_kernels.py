@@ -1132,8 +1132,8 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
             return False, T, V, h, s, its + it, r
         dT = step[n]
         lam = 1.0
-        if abs(dT) > 20.0:
-            lam = 20.0 / abs(dT)
+        if abs(dT) > 10.0:
+            lam = 10.0 / abs(dT)
         for i in range(n):
             if step[i] < 0.0:
                 lam = min(lam, 0.9 * v[i] / -step[i])
@@ -1188,7 +1188,10 @@ def _solve_two_phase(prm, P, target, z, T0, K, spec, x, y, max_iter=60):
             val, dval = spec_value(prm, T, P, z, spec, GIBBS)
             two = False
         r = val - target
-        if abs(r) <= tol:
+        # converged on the tolerance, or (narrow-boiling fluids, where dh/dT is huge) on the
+        # temperature resolution: the Newton step left is below 1e-10 T
+        t_resolved = two and dval > 0.0 and abs(r) / dval < 1e-10 * T
+        if abs(r) <= tol or t_resolved:
             if two:
                 return ST_TWO, T, beta, h, s, it, r
             stable, tpd, lighter, sconv = stability(prm, T, P, z, W)

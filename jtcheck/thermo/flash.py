@@ -54,7 +54,8 @@ class FlashResult:
         Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one, by the
         phase identification parameter of Venkatarathnam and Oellrich 2011).
     phase : str
-        ``"vapour"``, ``"liquid"`` or ``"two-phase"``.
+        ``"vapour"``, ``"liquid"``, ``"two-phase"``, or ``"supercritical"`` for a pure component
+        above its critical pressure (vapour fraction 1: no liquid can separate from it).
     z, x, y : numpy.ndarray
         Feed, liquid and vapour mole fractions [-] (x = y = z in a single phase).
     h : float
@@ -101,10 +102,25 @@ def _phase_label(status: int, beta: float) -> str:
     return "vapour" if beta >= 0.5 else "liquid"
 
 
-def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd) -> FlashResult:
+def pure_supercritical(mix: CubicMixture, z, P) -> bool | np.ndarray:
+    """Whether a pure component is above its critical pressure (no vapour-liquid distinction).
+
+    Broadcasts over ``P`` [Pa]."""
+    z = np.asarray(z, float)
+    i = int(np.argmax(z))
+    if z[i] < 1.0 - 1e-12:
+        return np.zeros(np.shape(P), bool) if np.ndim(P) else False
+    return np.asarray(P) >= mix.pcs[i] if np.ndim(P) else bool(P >= mix.pcs[i])
+
+
+def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd, mix=None) -> FlashResult:
     converged = status in (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT)
     if converged:
         phase = _phase_label(status, beta)
+        if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P):
+            # above the critical pressure a pure fluid cannot split into vapour and liquid: it is
+            # counted as one vapour-like phase (vapour fraction 1), labelled "supercritical"
+            phase, beta = "supercritical", 1.0
     else:
         phase = "unknown"
     if phase != "two-phase":
@@ -120,7 +136,7 @@ def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
     x = np.empty_like(z)
     y = np.empty_like(z)
     st, beta, h, s, tpd, its = _k.flash_pt(mix.kernel_params, float(T), float(P), z, x, y, math.inf)
-    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd)
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd, mix)
 
 
 def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | None, spec: int) -> FlashResult:
@@ -130,7 +146,7 @@ def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | 
     T0 = 300.0 if T_guess is None or not math.isfinite(T_guess) else float(T_guess)
     st, T, beta, h, s, its, resid, tpd = _k.flash_spec(mix.kernel_params, float(P), float(target), z, T0, spec,
                                                        x, y, math.inf)
-    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd)
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)
 
 
 def flash_ph(mix: CubicMixture, P: float, H: float, z, T_guess: float | None = None) -> FlashResult:
