@@ -801,9 +801,24 @@ def split(prm, T, P, z, K, x, y, warm=False, max_ss=300, tol=1e-10):
 
 
 @_jit
-def _split_newton(prm, T, P, z, K, x, y, beta, tol):
-    """Newton on vapour mole numbers from (beta, x, y).
+def _apply_step(z, v, l_, dv, lam):
+    """v += lam dv, l = z - v, updating each component through its smaller share (no cancellation)."""
+    for i in range(z.size):
+        if v[i] <= l_[i]:
+            v[i] += lam * dv[i]
+            l_[i] = z[i] - v[i]
+        else:
+            l_[i] -= lam * dv[i]
+            v[i] = z[i] - l_[i]
 
+
+@_jit
+def _split_newton(prm, T, P, z, K, x, y, beta, tol):
+    """Newton on the vapour mole numbers from (beta, x, y) (Michelsen 1982, Part II).
+
+    Each component's smaller share (in vapour or in liquid) is the one updated, the other follows as
+    z_i minus it (:func:`_apply_step`), so that a phase of a millionth of the feed just inside a dew
+    or bubble line, and a trace component in either phase, keep their precision.
     Returns (status, beta, iterations), status 1 converged, 0 trivial or beta outside (0, 1),
     -1 failed; K, x, y updated."""
     n = z.size
@@ -812,6 +827,7 @@ def _split_newton(prm, T, P, z, K, x, y, beta, tol):
     l_ = np.empty(n)
     for i in range(n):
         v[i] = beta * y[i]
+        l_[i] = (1.0 - beta) * x[i]
     fdV_ln = np.empty(n)
     fdL_ln = np.empty(n)
     dnV = np.empty((n, n))
@@ -821,12 +837,12 @@ def _split_newton(prm, T, P, z, K, x, y, beta, tol):
     vb = np.empty(n)
     g = np.empty(n)
     H = np.empty((n, n))
+    dv = np.empty(n)
     converged = False
+    V = beta
     for _k in range(40):
         it += 1
         V = v.sum()
-        for i in range(n):
-            l_[i] = z[i] - v[i]
         L = l_.sum()
         for i in range(n):
             y[i] = v[i] / V
@@ -844,7 +860,6 @@ def _split_newton(prm, T, P, z, K, x, y, beta, tol):
             for j in range(n):
                 H[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
             H[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
-        dv = np.empty(n)
         if not lu_solve(H, -g, dv):
             break
         lam = 1.0
@@ -853,13 +868,12 @@ def _split_newton(prm, T, P, z, K, x, y, beta, tol):
                 lam = min(lam, 0.9 * v[i] / -dv[i])
             elif dv[i] > 0.0:
                 lam = min(lam, 0.9 * l_[i] / dv[i])
-        for i in range(n):
-            v[i] += lam * dv[i]
+        _apply_step(z, v, l_, dv, lam)
     triv = 0.0
     for i in range(n):
         K[i] = y[i] / x[i]
         triv += math.log(K[i]) ** 2
-    beta = v.sum()
+    beta = V
     if triv < 1e-8 * n:
         return 0, beta, it
     if not converged:
@@ -1076,6 +1090,7 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
     l_ = np.empty(n)
     for i in range(n):
         v[i] = beta * y[i]
+        l_[i] = (1.0 - beta) * x[i]
     lnV = np.empty(n)
     lnL = np.empty(n)
     dnV = np.empty((n, n))
@@ -1092,8 +1107,6 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
     s = np.nan
     for it in range(1, max_iter + 1):
         V = v.sum()
-        for i in range(n):
-            l_[i] = z[i] - v[i]
         L = l_.sum()
         if not (V > 0.0 and L > 0.0):
             return False, T, V, np.nan, np.nan, its + it, r
@@ -1141,8 +1154,7 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
                 lam = min(lam, 0.9 * l_[i] / step[i])
         if lam < 1e-6:
             return False, T, V, h, s, its + it, r
-        for i in range(n):
-            v[i] += lam * step[i]
+        _apply_step(z, v, l_, step[:n], lam)
         T += lam * dT
         if not (T_MIN < T < T_MAX):
             return False, T, V, h, s, its + it, r
