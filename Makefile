@@ -20,9 +20,14 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 run: $(VENV)/.installed
 	$(BIN)/jtcheck demo
 
+# The whole suite runs twice: on SQLite (the embedded default) and on PostgreSQL.
 test: $(VENV)/.installed-test
 	$(BIN)/ruff check jtcheck tests benchmarks
-	$(BIN)/python -m pytest -q
+	tests/tools/ensure_chromium.sh
+	@echo "== test suite on SQLite =="
+	env -u DATABASE_URL $(BIN)/python -m pytest -q
+	@echo "== test suite on PostgreSQL =="
+	DATABASE_URL=$$(tests/tools/ensure_postgres.sh jtcheck_test) $(BIN)/python -m pytest -q
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python benchmarks/bench_flash.py

@@ -1,0 +1,59 @@
+"""The typical materials and the invented Kestrel Ridge demo."""
+from __future__ import annotations
+
+from sqlalchemy import select
+
+from jtcheck.records import service
+from jtcheck.records.demo import CASES, SITE_NAME, load_demo
+from jtcheck.records.models import Case, CaseKind, FluidRecord, Material, PlantUnit, Role, Site
+
+from .register_helpers import count
+
+
+def test_seed_materials_adds_typical_values_with_the_caution_once(session):
+    service.seed_materials(session)
+    seeded = session.scalars(select(Material).where(Material.seeded.is_(True))).all()
+    assert len(seeded) == len(service.SEED_MATERIALS) == 5
+    for m in seeded:
+        assert m.seeded and m.editable
+        assert "verify against the applicable code edition" in m.notes
+        assert "common practice" in m.source.lower()
+    names = {m.name: m.min_metal_temperature_k for m in seeded}
+    assert names["Carbon steel, not impact tested (typical -29 degC)"] == 244.15
+    assert names["Austenitic stainless steel 304/316 (typical -196 degC)"] == 77.15
+    assert service.seed_materials(session) == []
+
+
+def test_demo_loads_the_invented_terminal_with_computed_cases(session, users):
+    site = load_demo(session)
+    assert site.name == SITE_NAME
+    assert {u.name for u in site.units} == {"Inlet separation", "Town main PRS", "Fuel gas", "LPG storage",
+                                            "CO2 export"}
+    cases = service.list_cases(session, users[Role.CHECKER], site_id=site.id)
+    assert len(cases) == len(CASES) == 5
+    assert {c.kind for c in cases} == {CaseKind.CONTROL_VALVE, CaseKind.RELIEF_VALVE}
+    assert "PCV-1101" in {c.tag for c in cases}
+    latest = service.latest_results(session, [c.id for c in cases])
+    for case in cases:
+        result = latest[case.id]
+        assert result.converged, (case.tag, result.message)
+        assert result.t_out_min_k is not None and result.t_out_min_k < case.inlet_temperature_k
+        assert case.mdmt_source.startswith("material: ")
+        assert "invented" in case.basis.lower()
+        assert case.display_units["inlet_pressure"] == "barg"
+    demo_fluids = session.scalars(select(FluidRecord).where(FluidRecord.name.like("Kestrel%"))).all()
+    assert len(demo_fluids) == 5
+
+
+def test_demo_is_loaded_only_once(session):
+    load_demo(session)
+    before = [count(session, m) for m in (Site, PlantUnit, FluidRecord, Case, Material)]
+    load_demo(session)
+    assert [count(session, m) for m in (Site, PlantUnit, FluidRecord, Case, Material)] == before
+
+
+def test_demo_owner_cannot_sign_in(session):
+    site = load_demo(session)
+    case = session.scalars(select(Case).join(PlantUnit).where(PlantUnit.site_id == site.id)).first()
+    assert case.created_by.active is False
+    assert case.created_by.email.endswith(".invalid")
