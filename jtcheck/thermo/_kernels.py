@@ -801,6 +801,17 @@ def split(prm, T, P, z, K, x, y, warm=False, max_ss=300, tol=1e-10):
 
 
 @_jit
+def gibbs_hessian(dnV, dnL, x, y, V, L, H):
+    """Fill H[:n, :n] with the Hessian of the Gibbs energy in the vapour mole numbers,
+    (delta_ij / y_i - 1 + n d ln phi_i/d n_j)^V / V + (same)^L / L (Michelsen 1982, Part II)."""
+    n = x.size
+    for i in range(n):
+        for j in range(n):
+            H[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
+        H[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
+
+
+@_jit
 def _apply_step(z, v, l_, dv, lam):
     """v += lam dv, l = z - v, updating each component through its smaller share (no cancellation)."""
     for i in range(z.size):
@@ -856,10 +867,7 @@ def _split_newton(prm, T, P, z, K, x, y, beta, tol):
         if gmax < tol:
             converged = True
             break
-        for i in range(n):
-            for j in range(n):
-                H[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
-            H[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
+        gibbs_hessian(dnV, dnL, x, y, V, L, H)
         if not lu_solve(H, -g, dv):
             break
         lam = 1.0
@@ -905,10 +913,8 @@ def two_phase_state(prm, T, P, beta, x, y):
     fug_derivs(prm, T, P, x, GIBBS, lnL, dnL, dTL, dP_, vb)
     H = np.empty((n, n))
     dg = np.empty(n)
+    gibbs_hessian(dnV, dnL, x, y, V, L, H)
     for i in range(n):
-        for j in range(n):
-            H[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
-        H[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
         dg[i] = dTV[i] - dTL[i]
     dv = np.zeros(n)
     if not lu_solve(H, -dg, dv):
@@ -1128,10 +1134,8 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
         if gmax < 1e-10 and abs(r) <= tol:
             return True, T, V, h, s, its + it, r
         RTT = R * T * T
+        gibbs_hessian(dnV, dnL, x, y, V, L, J)
         for i in range(n):
-            for j in range(n):
-                J[i, j] = (dnV[i, j] - 1.0) / V + (dnL[i, j] - 1.0) / L
-            J[i, i] += 1.0 / (y[i] * V) + 1.0 / (x[i] * L)
             dg = dTV[i] - dTL[i]
             J[i, n] = dg
             dh = -RTT * dg
