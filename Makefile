@@ -17,8 +17,10 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 	$(BIN)/pip install -e '.[test]'
 	touch $(VENV)/.installed $@
 
+# Serves the case register on http://127.0.0.1:$${PORT:-8000} with the invented demo site; on the first
+# start it prints a one-time admin password.  Cookies over plain http on loopback only (SESSION_COOKIE_SECURE=0).
 run: $(VENV)/.installed
-	$(BIN)/jtcheck demo
+	SESSION_COOKIE_SECURE=0 $(BIN)/python -m jtcheck.web --host 127.0.0.1 --port $${PORT:-8000}
 
 # The whole suite runs twice: on SQLite (the embedded default) and on PostgreSQL.
 test: $(VENV)/.installed-test

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import json
 import sys
+from contextlib import contextmanager
 
 import click
 
@@ -158,6 +159,85 @@ def demo_cmd():
         code = max(code, _run_letdown(fluid_text, case.p_in, case.t_in, case.p_out, "PR", "table", None, False,
                                       title))
     sys.exit(code)
+
+
+# ---------------------------------------------------------------------------------------------
+# set-up and automation of the case register (no web import: the records layer directly)
+# ---------------------------------------------------------------------------------------------
+
+@contextmanager
+def _register_session():
+    """A session on the case register named by DATABASE_URL (else ./instance), schema brought up to date;
+    closed (and its connections released) on exit."""
+    import os
+
+    from jtcheck.records.db import database_url, make_engine, make_session_factory, upgrade_database
+
+    url = database_url(os.environ.get("JTCHECK_INSTANCE", "instance"))
+    upgrade_database(url)
+    engine = make_engine(url)
+    session = make_session_factory(engine)()
+    try:
+        yield session
+    finally:
+        session.close()
+        engine.dispose()
+
+
+def _acting_admin(session):
+    from sqlalchemy import select
+
+    from jtcheck.records.models import Role, User
+
+    return session.scalar(select(User).where(User.role == Role.ADMIN, User.active.is_(True)).order_by(User.id))
+
+
+@main.group("user")
+def user_group():
+    """Accounts of the case register (for set-up and automation; run by whoever runs the server)."""
+
+
+@user_group.command("add")
+@click.argument("email")
+@click.option("--role", required=True, type=click.Choice(["engineer", "checker", "approver", "admin"]),
+              help="engineer prepares cases; checker and approver review; admin manages users and materials.")
+@click.option("--name", default=None, help="Display name (default: the part of EMAIL before @).")
+def user_add(email, role, name):
+    """Add an account; the password is read from standard input (one line)."""
+    from jtcheck.records import service
+    from jtcheck.records.errors import PermissionDenied
+    from jtcheck.records.passwords import check_password_length, hash_password
+
+    password = sys.stdin.readline().rstrip("\r\n")
+    try:
+        check_password_length(password)
+        with _register_session() as session:
+            actor = _acting_admin(session)
+            if actor is None and role != "admin":
+                raise InputError("role", "the first account must be an admin (add one with --role admin)")
+            user = service.create_user(session, actor, email=email, name=name or email.split("@")[0], role=role,
+                                       password_hash=hash_password(password))
+            click.echo(f"added {user.email} ({user.role})")
+    except InputError as err:
+        _fail_input(err)
+    except PermissionDenied as err:
+        click.echo(f"error: {err}", err=True)
+        sys.exit(EXIT_INPUT)
+
+
+@user_group.command("token")
+@click.argument("email")
+def user_token(email):
+    """Print a new API token for EMAIL (replacing any earlier one); only its hash is stored."""
+    from jtcheck.records import service
+    from jtcheck.records.tokens import create_token
+
+    with _register_session() as session:
+        user = service.get_user_by_email(session, email)
+        if user is None or not user.active:
+            click.echo(f"error: email: no active account {email!r}", err=True)
+            sys.exit(EXIT_INPUT)
+        click.echo(create_token(session, user))
 
 
 def run() -> None:  # pragma: no cover - console entry

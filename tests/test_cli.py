@@ -78,3 +78,61 @@ def test_demo_runs_the_invented_site():
     res = run("demo")
     assert res.exit_code == 0
     assert "Kestrel Ridge" in res.output and "invented" in res.output
+
+
+@pytest.fixture()
+def empty_register(tmp_path, monkeypatch):
+    """An empty register: a SQLite file in tmp_path, or a throwaway database on the PostgreSQL server
+    that DATABASE_URL names (the suite's PostgreSQL run)."""
+    import os
+    import uuid
+
+    from sqlalchemy import create_engine, text
+    from sqlalchemy.engine import make_url
+
+    from jtcheck.records.db import normalise_database_url
+
+    monkeypatch.setenv("JTCHECK_INSTANCE", str(tmp_path))
+    url = os.environ.get("DATABASE_URL")
+    if not url:
+        yield
+        return
+    base = make_url(normalise_database_url(url))
+    name = f"jtcheck_cli_test_{uuid.uuid4().hex[:8]}"
+    admin = create_engine(base.set(database="postgres"), isolation_level="AUTOCOMMIT")
+    with admin.connect() as conn:
+        conn.execute(text(f'CREATE DATABASE "{name}"'))
+    monkeypatch.setenv("DATABASE_URL", base.set(database=name).render_as_string(hide_password=False))
+    try:
+        yield
+    finally:
+        with admin.connect() as conn:
+            conn.execute(text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+        admin.dispose()
+
+
+def test_user_add_and_token_work_on_the_register(empty_register, tmp_path):
+    """`jtcheck user add EMAIL --role ROLE` reads the password from stdin; `jtcheck user token` prints a token
+    that the register accepts."""
+    runner = CliRunner()
+    res = runner.invoke(main, ["user", "add", "ops@example.test", "--role", "engineer"], input="long-password-1\n")
+    assert res.exit_code == EXIT_INPUT and "first account must be an admin" in res.output
+    res = runner.invoke(main, ["user", "add", "boss@example.test", "--role", "admin"], input="short\n")
+    assert res.exit_code == EXIT_INPUT and "password" in res.output
+    res = runner.invoke(main, ["user", "add", "boss@example.test", "--role", "admin"], input="long-password-1\n")
+    assert res.exit_code == 0, res.output
+    res = runner.invoke(main, ["user", "add", "eng@example.test", "--role", "engineer"], input="long-password-2\n")
+    assert res.exit_code == 0, res.output
+    res = runner.invoke(main, ["user", "token", "eng@example.test"])
+    token = res.output.strip()
+    assert res.exit_code == 0 and token.startswith("jtc_")
+    from jtcheck.records.db import database_url, make_engine, make_session_factory
+    from jtcheck.records.tokens import user_for_token
+
+    engine = make_engine(database_url(str(tmp_path)))
+    session = make_session_factory(engine)()
+    assert user_for_token(session, token).email == "eng@example.test"
+    session.close()
+    engine.dispose()
+    res = runner.invoke(main, ["user", "token", "nobody@example.test"])
+    assert res.exit_code == EXIT_INPUT and "email" in res.output

@@ -1,0 +1,96 @@
+"""The web service of jtcheck: pages for the case register and a JSON API.
+
+>>> from jtcheck.web import create_app
+>>> app = create_app({"DATABASE_URL": "sqlite:////tmp/jtcheck-example.sqlite3"})   # doctest: +SKIP
+
+Only this package imports Flask.  Blueprints: ``auth`` (sign-in, account, users), ``cases`` (case register
+pages, sites), ``fluids``, ``materials``, ``api`` (``/api/v1``) and ``health`` (``/healthz``).
+Configuration comes from environment variables (see :mod:`jtcheck.web.config`); the ``config`` argument
+of :func:`create_app` overrides them (tests).
+"""
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from flask import Flask, current_app
+from flask_limiter import Limiter
+from flask_limiter.util import get_remote_address
+from flask_wtf.csrf import CSRFProtect
+from werkzeug.middleware.proxy_fix import ProxyFix
+
+from jtcheck import __version__
+from jtcheck.notices import CAUTION, DEMO_NOTICE
+from jtcheck.records.models import CaseKind, Role
+from jtcheck.web import database, errors, security
+from jtcheck.web.config import DEFAULTS, from_environment, instance_path, instance_secret_key
+from jtcheck.web.diagram import DiagramCache
+from jtcheck.web.quantities import fmt_number
+from jtcheck.web.results import units_of
+
+
+def templates_path() -> Path:
+    """The folder of the page templates: ``jtcheck._templates/web`` in a wheel, else ``templates/web`` of the
+    source tree."""
+    here = Path(__file__).resolve()
+    candidates = [here.parents[1] / "_templates" / "web",      # installed: the package jtcheck._templates
+                  here.parents[2] / "templates" / "web"]       # source checkout (and editable install)
+    for path in candidates:
+        if (path / "base.html").is_file():
+            return path
+    raise FileNotFoundError("page templates not found; looked in: " + ", ".join(map(str, candidates)))
+
+
+def _login_limit() -> str:
+    return current_app.config["LOGIN_RATE_LIMIT"]
+
+
+def create_app(config: dict[str, Any] | None = None) -> Flask:
+    """Make the web application.
+
+    Parameters
+    ----------
+    config : dict, optional
+        Settings that override the defaults and the environment, e.g. ``{"TESTING": True,
+        "DATABASE_URL": ..., "WTF_CSRF_ENABLED": False}``; ``JTCHECK_INSTANCE`` sets the instance folder.
+
+    Notes
+    -----
+    On start the database schema is brought to the newest migration (unless ``DB_UPGRADE_ON_START`` is
+    false) and, without ``SECRET_KEY``, a secret key is made once and kept in the instance folder (mode 0600).
+    """
+    overrides = dict(config or {})
+    folder = instance_path(overrides)
+    folder.mkdir(mode=0o700, parents=True, exist_ok=True)   # database and secret key: owner only
+    app = Flask(__name__, instance_path=str(folder), template_folder=str(templates_path()), static_folder="static")
+    app.config.from_mapping(DEFAULTS)
+    app.config.update(from_environment())
+    app.config.update(overrides)
+    if not app.config.get("SECRET_KEY"):
+        app.config["SECRET_KEY"] = instance_secret_key(folder)
+    proxies = int(app.config.get("PROXY_COUNT") or 0)
+    if proxies > 0:
+        app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies, x_host=proxies)  # type: ignore[method-assign]
+
+    database.init_app(app)
+    security.init_app(app)          # first: an anonymous request goes to sign-in before anything else
+    csrf = CSRFProtect(app)
+    limiter = Limiter(get_remote_address, app=app, headers_enabled=False)
+    errors.register(app)
+
+    from jtcheck.web import api, auth, cases, fluids, health, materials
+
+    for bp in (auth.bp, cases.bp, fluids.bp, materials.bp, api.bp, health.bp):
+        app.register_blueprint(bp)
+    csrf.exempt(api.bp)             # token-authenticated only: no cookie, so no cross-site forgery
+    app.view_functions["auth.login"] = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])
+    app.extensions["jtcheck_limiter"] = limiter
+    app.extensions["jtcheck_diagrams"] = DiagramCache(app.config["DIAGRAM_CACHE_SIZE"])
+
+    app.jinja_env.filters["num"] = fmt_number
+    app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
+                                 CaseKind=CaseKind, current_user=security.current_user, result_units=units_of)
+    return app
+
+
+__all__ = ["create_app"]

@@ -1,0 +1,154 @@
+"""Case inputs from a form or an API body, converted to the SI fields of the case register.
+
+Both the HTML form and the JSON API hand over a mapping with the quantity fields as text with units
+(``{"inlet_pressure": "72 barg", ...}``); this module converts them with :mod:`jtcheck.units`, keeps
+the units typed in ``display_units``, and collects every conversion error at once, named by field.
+The records service then checks ranges and relations (and raises the first InputError it finds).
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from typing import Any
+
+from jtcheck.errors import InputError
+from jtcheck.records.models import Case
+from jtcheck.web.quantities import (
+    CASE_QUANTITIES,
+    QUANTITY_BY_KEY,
+    parse_p_atm,
+    parse_quantity,
+    quantity_text,
+)
+
+TEXT_FIELDS = ("tag", "service", "basis", "references")
+ID_FIELDS = ("unit_id", "fluid_id", "material_id")
+#: Every key a case body may hold (API and form alike).
+INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm", "basis",
+                "references")
+_EXAMPLES = {"pressure": "72 barg", "temperature": "9 degC", "difference": "5 K", "mass_flow": "12 kg/s"}
+
+
+def api_field(exc: InputError) -> InputError:
+    """The same error, naming the field as the form and the API call it (``inlet_pressure``, not ``..._pa``)."""
+    field = form_field(exc.field)
+    return exc if field == exc.field else InputError(field, exc.message)
+
+
+class FieldInputError(Exception):
+    """Several input errors at once: field -> message (the first error of each field)."""
+
+    def __init__(self, errors: dict[str, str]):
+        self.errors = errors
+        super().__init__("; ".join(f"{k}: {v}" for k, v in errors.items()))
+
+    def first(self) -> tuple[str, str]:
+        return next(iter(self.errors.items()))
+
+
+def form_field(key: str) -> str:
+    """The form/API field of a case-register key (``inlet_pressure_pa`` -> ``inlet_pressure``)."""
+    if key in QUANTITY_BY_KEY:
+        return QUANTITY_BY_KEY[key].name
+    if key == "p_atm_pa":
+        return "p_atm"
+    return key
+
+
+def _id_value(value: Any) -> Any:
+    """Form text ids to int (``"3"`` -> 3, ``""`` -> None); anything else is left for the service to refuse."""
+    if isinstance(value, str):
+        text = value.strip()
+        if not text:
+            return None
+        if text.isdigit():
+            return int(text)
+    return value
+
+
+def convert(raw: Mapping[str, Any], *, current: Case | None = None, form: bool = False) -> dict[str, Any]:
+    """The case-register fields for the keys present in ``raw``.
+
+    Parameters
+    ----------
+    raw : mapping
+        Keys of :data:`INPUT_FIELDS`; quantities as text with units or ``{"value", "unit"}`` objects,
+        None or ``""`` to leave an optional one empty.
+    current : Case, optional
+        The stored case when editing: its atmospheric pressure applies unless ``p_atm`` is given, and
+        its display units are kept for fields not given.
+    form : bool
+        True for an HTML form, whose ids arrive as text (``"3"``); JSON ids must be integers already.
+
+    Raises
+    ------
+    FieldInputError
+        Every field that could not be converted, with the reason.
+    """
+    errors: dict[str, str] = {}
+    out: dict[str, Any] = {}
+    for key in raw:
+        if key not in INPUT_FIELDS:
+            errors[str(key)] = ("the status is set by the review workflow, not by editing the case" if key == "status"
+                                else f"unknown case field; allowed: {', '.join(INPUT_FIELDS)}")
+    p_atm_pa = current.p_atm_pa if current is not None else None
+    if "p_atm" in raw:
+        try:
+            text = quantity_text(raw["p_atm"], "p_atm", "1.01325 bar")
+            p_atm_pa = parse_p_atm(text)
+            out["p_atm_pa"] = p_atm_pa
+        except InputError as exc:
+            errors["p_atm"] = exc.message
+    if p_atm_pa is None:
+        p_atm_pa = parse_p_atm(None)
+    units = dict(current.display_units or {}) if current is not None else {}
+    for q in CASE_QUANTITIES:
+        if q.name not in raw:
+            continue
+        try:
+            text = quantity_text(raw[q.name], q.name, _EXAMPLES[q.kind])
+            if text is None:
+                out[q.key] = None
+                units.pop(q.name, None)
+                continue
+            out[q.key], units[q.name] = parse_quantity(q, text, p_atm_pa)
+        except InputError as exc:
+            errors[q.name] = exc.message
+    for key in TEXT_FIELDS:
+        if key in raw:
+            out[key] = raw[key]
+    if "kind" in raw:
+        out["kind"] = raw["kind"]
+    for key in ID_FIELDS:
+        if key in raw:
+            out[key] = _id_value(raw[key]) if form else raw[key]
+    if errors:
+        raise FieldInputError(errors)
+    if any(q.name in raw for q in CASE_QUANTITIES) or current is None:
+        out["display_units"] = units
+    return out
+
+
+def _same(old: Any, new: Any) -> bool:
+    if isinstance(old, float) and isinstance(new, float):
+        return math.isclose(old, new, rel_tol=1e-10, abs_tol=1e-12)
+    if hasattr(old, "value") and isinstance(new, str):   # enums stored, text given
+        return old.value == new
+    return old == new
+
+
+def changed_only(case: Case, values: Mapping[str, Any]) -> dict[str, Any]:
+    """The entries of ``values`` that differ from what ``case`` holds.
+
+    Numbers equal within 1e-10 (relative) count as unchanged, so that a form sent back as shown changes
+    nothing (and an MDMT copied from the material stays "copied").
+    """
+    out: dict[str, Any] = {}
+    for key, value in values.items():
+        old = getattr(case, key) if hasattr(case, key) else None
+        if key == "display_units":
+            if dict(old or {}) != dict(value):
+                out[key] = value
+        elif not _same(old, value):
+            out[key] = value
+    return out

@@ -1,0 +1,324 @@
+"""Pages of the case register: case list, case form, case and result views, audit history, sites and units."""
+from __future__ import annotations
+
+from typing import Any
+
+from flask import Blueprint, current_app, flash, redirect, render_template, request, url_for
+from sqlalchemy import select
+
+from jtcheck.errors import InputError
+from jtcheck.notices import CAUTION, DEMO_NOTICE
+from jtcheck.records import service
+from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
+from jtcheck.records.errors import ConcurrentEditError, NotFound
+from jtcheck.records.models import Case, CaseKind, CaseResult
+from jtcheck.units import pressure_from_pa
+from jtcheck.web import removal
+from jtcheck.web.caseinput import FieldInputError, changed_only, convert, form_field
+from jtcheck.web.database import db_session
+from jtcheck.web.diagram import DiagramCache
+from jtcheck.web.forms import FormState
+from jtcheck.web.quantities import (
+    CASE_QUANTITIES,
+    P_ATM_CHOICES,
+    display_unit,
+    input_number,
+    p_atm_unit_for,
+    to_display,
+)
+from jtcheck.web.results import basis_of, conditions_of, limits_of, units_of
+from jtcheck.web.security import current_user, require_editor, require_viewer
+
+bp = Blueprint("cases", __name__)
+
+_TEXT_FIELDS = ("tag", "service", "kind", "unit_id", "fluid_id", "material_id", "basis", "references")
+CASE_FORM_FIELDS = (*_TEXT_FIELDS, *(q.name for q in CASE_QUANTITIES), *(f"{q.name}_unit" for q in CASE_QUANTITIES),
+                    "p_atm", "p_atm_unit", "version")
+
+
+# -- helpers -------------------------------------------------------------------------------------
+def _choices(user) -> dict[str, Any]:
+    session = db_session()
+    return {"sites": service.list_sites(session, user), "fluids": service.list_fluids(session, user),
+            "materials": service.list_materials(session, user), "kinds": list(CaseKind)}
+
+
+def _allowed_units(case: Case | None) -> dict[str, list[str]]:
+    """The unit choices of each quantity field: the usual ones, plus any unit the stored case was entered in."""
+    out = {q.name: list(q.choices) for q in CASE_QUANTITIES}
+    out["p_atm"] = list(P_ATM_CHOICES)
+    if case is not None:
+        for q in CASE_QUANTITIES:
+            unit = (case.display_units or {}).get(q.name)
+            if unit and unit not in out[q.name]:
+                out[q.name].append(unit)
+    return out
+
+
+def _render_form(form: FormState, user, case: Case | None, status: int = 200):
+    return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
+                           unit_options=_allowed_units(case), **_choices(user)), status
+
+
+def _new_form() -> FormState:
+    values = {"kind": CaseKind.CONTROL_VALVE.value, "p_atm": "1.01325", "p_atm_unit": "bar"}
+    for q in CASE_QUANTITIES:
+        values[f"{q.name}_unit"] = q.default_unit
+    return FormState.of(values)
+
+
+def _form_of(case: Case) -> FormState:
+    shown = dict(case.display_units or {})
+    values = {"tag": case.tag, "service": case.service, "kind": CaseKind(case.kind).value,
+              "unit_id": str(case.unit_id), "fluid_id": str(case.fluid_id),
+              "material_id": "" if case.material_id is None else str(case.material_id),
+              "basis": case.basis, "references": case.references, "version": str(case.version)}
+    for q in CASE_QUANTITIES:
+        unit = display_unit(q, shown)
+        values[q.name] = input_number(to_display(q, getattr(case, q.key), unit, case.p_atm_pa))
+        values[f"{q.name}_unit"] = unit
+    p_unit = p_atm_unit_for(shown)
+    values["p_atm"] = input_number(pressure_from_pa(case.p_atm_pa, p_unit))
+    values["p_atm_unit"] = p_unit
+    return FormState.of(values)
+
+
+def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict[str, Any]:
+    """The posted case as the mapping :func:`jtcheck.web.caseinput.convert` takes (quantities as "72 barg")."""
+    raw: dict[str, Any] = {k: form.get(k) for k in _TEXT_FIELDS}
+    for name in (*(q.name for q in CASE_QUANTITIES), "p_atm"):
+        value, unit = form.get(name).strip(), form.get(f"{name}_unit").strip()
+        if unit not in allowed_units[name]:
+            form.add(name, f"{unit!r} is not offered; choose a unit from the list ({', '.join(allowed_units[name])})")
+            continue
+        raw[name] = f"{value} {unit}" if value else None
+    return raw
+
+
+def _apply_input_error(form: FormState, exc: InputError) -> None:
+    field = form_field(exc.field)
+    if field in CASE_FORM_FIELDS:
+        form.add(field, exc.message)
+    else:
+        form.general.append(f"{field}: {exc.message}")
+
+
+def _case(case_id: int) -> Case:
+    return service.get_case(db_session(), require_viewer("view cases"), case_id)
+
+
+def _diagrams() -> DiagramCache:
+    return current_app.extensions["jtcheck_diagrams"]
+
+
+def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
+    if result is None:
+        return {"result": None}
+    units = units_of(result)
+    return {"result": result, "conditions": conditions_of(result), "limits": limits_of(result), "units": units,
+            "basis": basis_of(result), "current": service.result_is_current(case, result),
+            "diagram": _diagrams().get(result)}
+
+
+def _case_context(case: Case) -> dict[str, Any]:
+    shown = dict(case.display_units or {})
+    inputs = []
+    for q in CASE_QUANTITIES:
+        value = getattr(case, q.key)
+        if value is None:
+            continue
+        unit = display_unit(q, shown)
+        inputs.append((q, to_display(q, value, unit, case.p_atm_pa), unit, value))
+    user = current_user()
+    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown),
+            "can_edit": service.can_edit_cases(user), "can_delete": removal.may_delete_case(user, case),
+            "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION}
+
+
+# -- list ------------------------------------------------------------------------------------------
+_FILTERS = ("q", "site_id", "unit_id", "kind", "status", "outcome")
+
+
+def _int_filter(name: str, form: FormState) -> int | None:
+    raw = form.get(name).strip()
+    if not raw:
+        return None
+    if not raw.isdigit():
+        form.add(name, "choose one from the list")
+        return None
+    return int(raw)
+
+
+@bp.route("/")
+def home():
+    return redirect(url_for("cases.index"))
+
+
+@bp.route("/cases")
+def index():
+    user = require_viewer("view cases")
+    session = db_session()
+    form = FormState(values={k: request.args.get(k, "") for k in _FILTERS})
+    kind = form.get("kind") or None
+    if kind is not None and kind not in {k.value for k in CaseKind}:
+        form.add("kind", "choose one from the list")
+        kind = None
+    filters = {"site_id": _int_filter("site_id", form), "unit_id": _int_filter("unit_id", form), "kind": kind,
+               "status": form.get("status") or None, "outcome": form.get("outcome") or None,
+               "text": form.get("q") or None}
+    try:
+        cases = service.list_cases(session, user, **filters)
+    except InputError as exc:
+        form.add({"text": "q"}.get(exc.field, exc.field), exc.message)
+        cases = []
+    latest = service.latest_results(session, [c.id for c in cases])
+    rows = []
+    for c in cases:
+        r = latest.get(c.id)
+        conds = conditions_of(r) if r is not None else []
+        margins = [x.margin_to_cold_limit_k for x in conds if x.margin_to_cold_limit_k is not None]
+        rows.append({"case": c, "result": r, "units": units_of(r) if r is not None else None,
+                     "min_margin": min(margins) if margins else None,
+                     "not_screened": any(not x.converged for x in conds)})
+    statuses = sorted(set(session.scalars(select(Case.status).distinct())))
+    outcomes = sorted({o for o in session.scalars(select(CaseResult.outcome).distinct()) if o})
+    return render_template("cases/list.html", rows=rows, form=form, sites=service.list_sites(session, user),
+                           kinds=list(CaseKind), statuses=statuses, outcomes=[*outcomes, service.NOT_COMPUTED],
+                           can_edit=service.can_edit_cases(user))
+
+
+# -- create and edit -------------------------------------------------------------------------------
+@bp.route("/cases/new", methods=["GET", "POST"])
+def new():
+    user = require_editor("create cases")
+    if request.method == "GET":
+        return _render_form(_new_form(), user, None)
+    form = FormState.from_request(CASE_FORM_FIELDS)
+    raw = _raw_from_form(form, _allowed_units(None))
+    if form.ok:
+        try:
+            case = service.create_case(db_session(), user, convert(raw, form=True))
+        except FieldInputError as exc:
+            for k, v in exc.errors.items():
+                form.add(k, v)
+        except InputError as exc:
+            _apply_input_error(form, exc)
+        else:
+            flash(f"Case {case.tag} saved (draft). Compute it to see the outlet state.")
+            return redirect(url_for("cases.view", case_id=case.id))
+    return _render_form(form, user, None, 422)
+
+
+@bp.route("/cases/<int:case_id>/edit", methods=["GET", "POST"])
+def edit(case_id: int):
+    user = require_editor("edit case inputs")
+    session = db_session()
+    case = service.get_case(session, user, case_id)
+    if request.method == "GET":
+        return _render_form(_form_of(case), user, case)
+    form = FormState.from_request(CASE_FORM_FIELDS)
+    raw = _raw_from_form(form, _allowed_units(case))
+    version_text = form.get("version").strip()
+    if not version_text.isdigit():
+        form.general.append("the form lost its version number; reload the case and edit again")
+    if form.ok:
+        try:
+            values = convert(raw, current=case, form=True)
+            changes = changed_only(case, values)
+            if not changes:
+                flash("Nothing changed.")
+                return redirect(url_for("cases.view", case_id=case.id))
+            case = service.update_case(session, user, case_id, changes, expected_version=int(version_text))
+        except FieldInputError as exc:
+            for k, v in exc.errors.items():
+                form.add(k, v)
+        except ConcurrentEditError as exc:
+            form.general.append(str(exc))
+            return _render_form(form, user, service.get_case(session, user, case_id), 409)
+        except InputError as exc:
+            _apply_input_error(form, exc)
+        else:
+            flash(f"Case {case.tag} saved (version {case.version}).")
+            return redirect(url_for("cases.view", case_id=case.id))
+    return _render_form(form, user, case, 422)
+
+
+@bp.route("/cases/<int:case_id>/delete", methods=["POST"])
+def delete(case_id: int):
+    user = require_editor("delete cases")
+    case = service.get_case(db_session(), user, case_id)
+    tag = case.tag
+    removal.delete_case(db_session(), user, case_id)
+    flash(f"Case {tag} deleted.")
+    return redirect(url_for("cases.index"))
+
+
+# -- view, compute, results, history ---------------------------------------------------------------
+@bp.route("/cases/<int:case_id>")
+def view(case_id: int):
+    case = _case(case_id)
+    return render_template("cases/view.html", **_case_context(case), **_result_context(case, case.latest_result),
+                           results=list(reversed(case.results)))
+
+
+@bp.route("/cases/<int:case_id>/compute", methods=["POST"])
+def compute(case_id: int):
+    user = require_viewer("compute cases")
+    result = service.compute_case(db_session(), user, case_id)
+    flash("Computed." if result.converged else "Computed, but not every condition converged: see below.")
+    return redirect(url_for("cases.result", case_id=case_id, result_id=result.id))
+
+
+@bp.route("/cases/<int:case_id>/results/<int:result_id>")
+def result(case_id: int, result_id: int):
+    case = _case(case_id)
+    res = service.get_result(db_session(), current_user(), result_id)
+    if res.case_id != case.id:
+        raise NotFound("result", result_id)
+    return render_template("cases/view.html", **_case_context(case), **_result_context(case, res),
+                           results=list(reversed(case.results)))
+
+
+@bp.route("/cases/<int:case_id>/history")
+def history(case_id: int):
+    case = _case(case_id)
+    entries = service.audit_trail(db_session(), current_user(), "case", case.id)
+    return render_template("cases/history.html", case=case, entries=entries)
+
+
+# -- sites and units -------------------------------------------------------------------------------
+@bp.route("/sites")
+def sites():
+    user = require_viewer("view sites")
+    return render_template("cases/sites.html", sites=service.list_sites(db_session(), user), form=FormState(),
+                           unit_form=FormState(), can_edit=service.can_edit_cases(user))
+
+
+@bp.route("/sites/new", methods=["POST"])
+def new_site():
+    user = require_editor("create sites")
+    form = FormState.from_request(("name", "description"))
+    try:
+        site = service.create_site(db_session(), user, form.get("name"), form.get("description"))
+    except InputError as exc:
+        form.add(exc.field, exc.message)
+        return render_template("cases/sites.html", sites=service.list_sites(db_session(), user), form=form,
+                               unit_form=FormState(), can_edit=True), 409 if "already exists" in exc.message else 422
+    flash(f"Site {site.name} added.")
+    return redirect(url_for("cases.sites"))
+
+
+@bp.route("/sites/units/new", methods=["POST"])
+def new_unit():
+    user = require_editor("create units")
+    form = FormState.from_request(("site_id", "unit_name", "unit_description"))
+    site_id = form.get("site_id")
+    try:
+        unit = service.create_unit(db_session(), user, int(site_id) if site_id.isdigit() else site_id,
+                                   form.get("unit_name"), form.get("unit_description"))
+    except InputError as exc:
+        form.add({"name": "unit_name", "description": "unit_description"}.get(exc.field, exc.field), exc.message)
+        return render_template("cases/sites.html", sites=service.list_sites(db_session(), user), form=FormState(),
+                               unit_form=form, can_edit=True), 409 if "already" in exc.message else 422
+    flash(f"Unit {unit.name} added.")
+    return redirect(url_for("cases.sites"))

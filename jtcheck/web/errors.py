@@ -1,0 +1,121 @@
+"""Errors as answers a person can act on: an HTML page or a JSON body ``{"error": {"field", "message"}}``.
+
+Never a stack trace: unexpected exceptions are logged with their traceback and answered with a plain
+500 message.
+"""
+from __future__ import annotations
+
+from flask import Flask, Response, current_app, jsonify, make_response, render_template, request
+from flask_wtf.csrf import CSRFError
+from sqlalchemy.exc import IntegrityError, OperationalError
+from werkzeug.exceptions import HTTPException, MethodNotAllowed
+
+from jtcheck.errors import InputError
+from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
+from jtcheck.web.removal import InUseError
+
+
+class ApiError(Exception):
+    """An error answered with ``status`` and ``{"error": {"field": field, "message": message}}``."""
+
+    def __init__(self, status: int, message: str, field: str | None = None):
+        super().__init__(message)
+        self.status = status
+        self.message = message
+        self.field = field
+
+
+def is_conflict(exc: InputError) -> bool:
+    """True for the records layer's "a ... named X already exists" input errors (answered with 409)."""
+    return "already exists" in exc.message
+
+
+def wants_json() -> bool:
+    return request.blueprint == "api" or request.path.startswith("/api/")
+
+
+def json_error(status: int, message: str, field: str | None = None, headers: dict[str, str] | None = None
+               ) -> Response:
+    resp = jsonify({"error": {"field": field, "message": message}})
+    resp.status_code = status
+    if status == 401:
+        resp.headers["WWW-Authenticate"] = 'Bearer realm="jtcheck API"'
+    for k, v in (headers or {}).items():
+        resp.headers[k] = v
+    return resp
+
+
+_TITLES = {400: "Bad request", 401: "Sign-in needed", 403: "Not allowed", 404: "Not found", 405: "Method not allowed",
+           409: "Conflict", 413: "Too large", 422: "Input not accepted", 429: "Too many attempts",
+           500: "Internal error", 503: "Service unavailable"}
+
+
+def _answer(status: int, message: str, field: str | None = None) -> Response:
+    if wants_json():
+        return json_error(status, message, field)
+    title = _TITLES.get(status, "Error")
+    return make_response(render_template("error.html", status=status, title=title, message=message, field=field),
+                         status)
+
+
+def register(app: Flask) -> None:
+    """Install the error handlers on ``app``."""
+
+    @app.errorhandler(ApiError)
+    def _api_error(exc: ApiError):
+        return _answer(exc.status, exc.message, exc.field)
+
+    @app.errorhandler(InputError)
+    def _input_error(exc: InputError):
+        return _answer(409 if is_conflict(exc) else 422, exc.message, exc.field)
+
+    @app.errorhandler(PermissionDenied)
+    def _denied(exc: PermissionDenied):
+        return _answer(403, str(exc))
+
+    @app.errorhandler(NotFound)
+    def _not_found(exc: NotFound):
+        return _answer(404, str(exc), exc.field)
+
+    @app.errorhandler(InUseError)
+    def _in_use(exc: InUseError):
+        return _answer(409, exc.message, exc.field)
+
+    @app.errorhandler(ConcurrentEditError)
+    def _stale(exc: ConcurrentEditError):
+        return _answer(409, str(exc), "version")
+
+    @app.errorhandler(IntegrityError)
+    def _integrity(exc: IntegrityError):
+        current_app.logger.warning("integrity error: %s", exc.orig)
+        return _answer(409, "the change conflicts with a stored record (for example a name that is already "
+                            "taken); reload and try again")
+
+    @app.errorhandler(OperationalError)
+    def _db_down(exc: OperationalError):
+        current_app.logger.error("database error: %s", exc.orig)
+        return _answer(503, "the database is not answering; try again in a moment")
+
+    @app.errorhandler(CSRFError)
+    def _csrf(exc: CSRFError):
+        return _answer(400, "the form was missing its security token or it has expired; reload the page and "
+                            "send the form again", "csrf_token")
+
+    @app.errorhandler(HTTPException)
+    def _http(exc: HTTPException):
+        status = exc.code or 500
+        message = exc.description or _TITLES.get(status, "error")
+        if status == 429:
+            message = "too many attempts; wait a minute and try again"
+        resp = _answer(status, message)
+        if isinstance(exc, MethodNotAllowed) and exc.valid_methods:
+            resp.headers["Allow"] = ", ".join(exc.valid_methods)
+        return resp
+
+    @app.errorhandler(Exception)
+    def _unexpected(exc: Exception):
+        if isinstance(exc, HTTPException):   # pragma: no cover - routed above
+            return _http(exc)
+        current_app.logger.exception("unhandled error on %s %s", request.method, request.path)
+        return _answer(500, "an internal error occurred; it has been logged. Try again, and tell the "
+                            "administrator if it happens again")

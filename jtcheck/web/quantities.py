@@ -1,0 +1,215 @@
+"""Quantities at the web edge: what a person types (``"72 barg"``) to SI and back, through :mod:`jtcheck.units`.
+
+The web and the API accept a quantity as text with its unit, ``"72 barg"``, or as an object
+``{"value": 72, "unit": "barg"}``; the forms send the number and the unit in two fields.  The unit typed
+is kept (``Case.display_units``) so that pages show the numbers the way they were entered.
+"""
+from __future__ import annotations
+
+import math
+import numbers
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from jtcheck.errors import InputError
+from jtcheck.units import (
+    P_ATM_DEFAULT_PA,
+    parse_pressure,
+    parse_temperature,
+    parse_temperature_difference,
+    pressure_from_pa,
+    pressure_unit_names,
+    temperature_difference_from_k,
+    temperature_from_k,
+)
+
+#: Unit choices offered in the forms.
+PRESSURE_CHOICES = ("bara", "barg", "psia", "psig", "kPa", "MPa")
+TEMPERATURE_CHOICES = ("degC", "degF", "K")
+DIFFERENCE_CHOICES = ("K", "degC", "degF")
+P_ATM_CHOICES = ("bar", "kPa", "psia")
+#: The only mass-flow unit (jtcheck.units has no mass-flow conversions).
+MASS_FLOW_UNIT = "kg/s"
+
+_UNIT_OF = re.compile(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*(\S+?)\s*$")
+_NUMBER = re.compile(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*$")
+_TEMPERATURE_NAMES = {"k": "K", "degc": "degC", "c": "degC", "°c": "degC", "degf": "degF", "f": "degF",
+                      "°f": "degF", "degr": "degR", "r": "degR"}
+_DIFFERENCE_NAMES = {"k": "K", "degc": "degC", "c": "degC", "degf": "degF", "f": "degF", "delta_degc": "degC",
+                     "delta_degf": "degF"}
+_PRESSURE_NAMES = {name.lower(): name for name in (*pressure_unit_names(), "psi", "kPaa", "MPaa")}
+
+
+@dataclass(frozen=True)
+class QuantityField:
+    """A case input that carries a unit.
+
+    Attributes
+    ----------
+    name : str
+        Name in forms, API bodies and ``display_units`` (``inlet_pressure``).
+    key : str
+        The SI field of the case register (``inlet_pressure_pa``).
+    kind : str
+        ``"pressure"`` (absolute or gauge), ``"temperature"``, ``"difference"`` (temperature difference)
+        or ``"mass_flow"``.
+    label : str
+        Words for a person.
+    required : bool
+        Whether a new case needs it.
+    """
+
+    name: str
+    key: str
+    kind: str
+    label: str
+    required: bool = False
+
+    @property
+    def si_unit(self) -> str:
+        return {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s"}[self.kind]
+
+    @property
+    def choices(self) -> tuple[str, ...]:
+        return {"pressure": PRESSURE_CHOICES, "temperature": TEMPERATURE_CHOICES, "difference": DIFFERENCE_CHOICES,
+                "mass_flow": (MASS_FLOW_UNIT,)}[self.kind]
+
+    @property
+    def default_unit(self) -> str:
+        return {"pressure": "barg", "temperature": "degC", "difference": "K", "mass_flow": MASS_FLOW_UNIT}[self.kind]
+
+
+CASE_QUANTITIES: tuple[QuantityField, ...] = (
+    QuantityField("inlet_pressure", "inlet_pressure_pa", "pressure", "Inlet pressure", True),
+    QuantityField("inlet_temperature", "inlet_temperature_k", "temperature", "Inlet temperature", True),
+    QuantityField("outlet_pressure", "outlet_pressure_pa", "pressure", "Outlet pressure", True),
+    QuantityField("inlet_temperature_min", "inlet_temperature_min_k", "temperature",
+                  "Minimum credible inlet temperature"),
+    QuantityField("inlet_pressure_max", "inlet_pressure_max_pa", "pressure", "Maximum credible inlet pressure"),
+    QuantityField("mass_flow", "mass_flow_kg_per_s", "mass_flow", "Mass flow"),
+    QuantityField("mdmt", "mdmt_k", "temperature", "MDMT"),
+    QuantityField("cold_limit", "cold_limit_k", "temperature", "Cold limit"),
+    QuantityField("margin", "margin_k", "difference", "Required margin"),
+)
+QUANTITY_BY_NAME = {q.name: q for q in CASE_QUANTITIES}
+QUANTITY_BY_KEY = {q.key: q for q in CASE_QUANTITIES}
+
+
+def unit_word(text: str) -> str:
+    """The unit part of ``"72 barg"`` (``"barg"``); empty if there is none."""
+    m = _UNIT_OF.match(text)
+    return m.group(1) if m else ""
+
+
+def canonical_unit(unit: str, kind: str) -> str:
+    """The usual spelling of a unit word (``"BARG"`` -> ``"barg"``, ``"C"`` -> ``"degC"``)."""
+    table = {"pressure": _PRESSURE_NAMES, "temperature": _TEMPERATURE_NAMES,
+             "difference": _DIFFERENCE_NAMES}.get(kind, {})
+    return table.get(unit.lower(), unit)
+
+
+def quantity_text(value: Any, field: str, example: str) -> str | None:
+    """A quantity from JSON as text: ``"72 barg"``, ``{"value": 72, "unit": "barg"}``; None for null or ``""``.
+
+    Raises InputError naming ``field`` for anything else (a bare number has no unit).
+    """
+    if value is None:
+        return None
+    if isinstance(value, str):
+        return value.strip() or None
+    if isinstance(value, Mapping):
+        extra = set(value) - {"value", "unit"}
+        if extra:
+            raise InputError(field, f"unknown key(s) {', '.join(sorted(map(str, extra)))}; give "
+                                    f"{{\"value\": number, \"unit\": text}}, e.g. {example!r}")
+        number, unit = value.get("value"), value.get("unit")
+        if isinstance(number, bool) or not isinstance(number, numbers.Real) or not math.isfinite(float(number)):
+            raise InputError(field, f"'value' must be a finite number, got {number!r}")
+        if not isinstance(unit, str) or not unit.strip():
+            raise InputError(field, f"'unit' must be a unit word, e.g. {example.split()[-1]!r}")
+        return f"{float(number)!r} {unit.strip()}"
+    if isinstance(value, numbers.Real) and not isinstance(value, bool):
+        raise InputError(field, f"{value!r} has no unit; write e.g. {example!r} or {{\"value\": {value!r}, "
+                                f"\"unit\": {example.split()[-1]!r}}}")
+    raise InputError(field, f"must be text with a unit, e.g. {example!r}, got {type(value).__name__}")
+
+
+def parse_quantity(q: QuantityField, text: str, p_atm_pa: float) -> tuple[float, str]:
+    """``(value in SI, unit word)`` of ``text`` for the case field ``q``; raise InputError naming ``q.name``."""
+    if q.kind == "pressure":
+        p = parse_pressure(text, q.name, p_atm_pa)
+        return p.pa, canonical_unit(p.unit, "pressure")
+    if q.kind == "temperature":
+        return parse_temperature(text, q.name), canonical_unit(unit_word(text), "temperature")
+    if q.kind == "difference":
+        return parse_temperature_difference(text, q.name), canonical_unit(unit_word(text), "difference")
+    # mass flow: kg/s only
+    stripped = text.strip()
+    if stripped.endswith(MASS_FLOW_UNIT):
+        stripped = stripped[: -len(MASS_FLOW_UNIT)]
+    if not _NUMBER.match(stripped):
+        raise InputError(q.name, f"{text!r} is not a mass flow in kg/s (e.g. '12 kg/s'); kg/s is the only unit")
+    value = float(stripped)
+    if not math.isfinite(value):
+        raise InputError(q.name, f"{text!r} is not a finite number")
+    return value, MASS_FLOW_UNIT
+
+
+def parse_p_atm(text: str | None, field: str = "p_atm") -> float:
+    """Atmospheric pressure [Pa abs] for gauge units; the standard atmosphere when ``text`` is empty."""
+    if text is None or not str(text).strip():
+        return P_ATM_DEFAULT_PA
+    p = parse_pressure(str(text), field)
+    if p.gauge:
+        raise InputError(field, "give the atmospheric pressure in an absolute unit (bar, kPa, psia)")
+    return p.pa
+
+
+def p_atm_unit_for(display_units: Mapping[str, str]) -> str:
+    """The unit to show the atmospheric pressure in, matching the case's pressure units."""
+    unit = (display_units.get("inlet_pressure") or "").lower()
+    if unit.startswith("psi"):
+        return "psia"
+    if unit.startswith("kpa") or unit.startswith("mpa") or unit == "pa":
+        return "kPa"
+    return "bar"
+
+
+def to_display(q: QuantityField, si_value: float | None, unit: str, p_atm_pa: float) -> float | None:
+    """``si_value`` of field ``q`` in ``unit`` (None stays None)."""
+    if si_value is None:
+        return None
+    if q.kind == "pressure":
+        return pressure_from_pa(si_value, unit, p_atm_pa)
+    if q.kind == "temperature":
+        return temperature_from_k(si_value, unit)
+    if q.kind == "difference":
+        return temperature_difference_from_k(si_value, unit)
+    return si_value
+
+
+def display_unit(q: QuantityField, display_units: Mapping[str, str]) -> str:
+    """The unit the user typed for ``q`` (or the field's default)."""
+    return display_units.get(q.name) or q.default_unit
+
+
+def input_number(value: float | None) -> str:
+    """A number for an edit field: enough digits to give the same SI value back, no float noise."""
+    if value is None:
+        return ""
+    text = f"{value:.12g}"
+    return "0" if text == "-0" else text
+
+
+def fmt_number(value: float | None, kind: str = "pressure") -> str:
+    """A number for a page: temperatures to 0.01, pressures to 6 significant digits."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "–"
+    if kind in ("temperature", "difference"):
+        text = f"{value:.2f}"
+        return "0.00" if text == "-0.00" else text
+    if abs(value) >= 1e6:
+        return f"{value:.0f}"
+    return f"{value:.6g}"

@@ -1,0 +1,190 @@
+"""Signing in and out, rate limit, CSRF, session cookie, secret key, passwords and API tokens."""
+from __future__ import annotations
+
+import stat
+
+import pytest
+from sqlalchemy import select
+from web_helpers import PASSWORD, app_config, sign_in
+
+from jtcheck.records.models import Role, User
+from jtcheck.web import create_app
+from jtcheck.web.config import SECRET_KEY_FILENAME
+from jtcheck.web.database import db_session
+
+
+def test_sign_in_then_pages_then_sign_out(client, world):
+    resp = sign_in(client, world.emails[Role.ENGINEER])
+    assert resp.status_code == 302 and resp.headers["Location"].endswith("/cases")
+    page = client.get("/cases")
+    assert page.status_code == 200 and b"Engineer User" in page.data
+    out = client.post("/logout")
+    assert out.status_code == 302 and "/login" in out.headers["Location"]
+    assert client.get("/cases").status_code == 302
+
+
+def test_sign_in_is_case_insensitive_in_the_email(client, world):
+    assert sign_in(client, world.emails[Role.CHECKER].upper()).status_code == 302
+
+
+@pytest.mark.parametrize("email, password", [("engineer@example.org", "wrong password!"),
+                                             ("nobody@example.org", PASSWORD),
+                                             ("gone@example.org", PASSWORD),       # deactivated account
+                                             ("", "")])
+def test_wrong_credentials_are_refused_with_one_message(client, world, email, password):
+    resp = sign_in(client, email, password)
+    assert resp.status_code == 401
+    assert b"e-mail address or password not recognised" in resp.data
+    assert client.get("/cases").status_code == 302
+
+
+def test_sign_in_follows_next_only_within_the_site(client, world):
+    resp = client.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD,
+                                       "next": "/fluids"})
+    assert resp.headers["Location"].endswith("/fluids")
+    client.post("/logout")
+    resp = client.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD,
+                                       "next": "https://evil.example/steal"})
+    assert resp.headers["Location"].endswith("/cases")
+    client.post("/logout")
+    resp = client.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD,
+                                       "next": "//evil.example/"})
+    assert resp.headers["Location"].endswith("/cases")
+
+
+def test_anonymous_page_request_is_sent_to_sign_in_with_next(client):
+    resp = client.get("/fluids?x=1")
+    assert resp.status_code == 302
+    assert "/login?next=/fluids?x%3D1" in resp.headers["Location"] or "/login?next=" in resp.headers["Location"]
+
+
+def test_login_is_rate_limited_per_address(app, world, monkeypatch):
+    monkeypatch.setitem(app.config, "LOGIN_RATE_LIMIT", "10 per minute")
+    c = app.test_client()
+    env = {"REMOTE_ADDR": "192.0.2.77"}
+    codes = [c.post("/login", data={"email": "x@example.org", "password": "nope"}, environ_base=env).status_code
+             for _ in range(11)]
+    assert codes[:10] == [401] * 10
+    assert codes[10] == 429
+    blocked = c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD}, environ_base=env)
+    assert blocked.status_code == 429 and b"too many attempts" in blocked.data
+    # another address is not affected, and the sign-in page itself still shows
+    other = c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD},
+                   environ_base={"REMOTE_ADDR": "192.0.2.78"})
+    assert other.status_code == 302
+    assert c.get("/login", environ_base=env).status_code in (200, 302)
+
+
+def test_form_post_without_csrf_token_is_refused(app, engineer, world, monkeypatch):
+    monkeypatch.setitem(app.config, "WTF_CSRF_ENABLED", True)
+    with app.app_context():
+        before = db_session().scalar(select(User.api_token_hash).where(User.email == world.emails[Role.ENGINEER]))
+    resp = engineer.post("/account/token")
+    assert resp.status_code == 400
+    assert b"security token" in resp.data
+    resp = engineer.post("/sites/new", data={"name": "CSRF site"})
+    assert resp.status_code == 400
+    with app.app_context():
+        after = db_session().scalar(select(User.api_token_hash).where(User.email == world.emails[Role.ENGINEER]))
+    assert after == before
+    assert b"CSRF site" not in engineer.get("/sites").data
+
+
+def test_form_post_with_csrf_token_is_accepted(app, world, monkeypatch):
+    monkeypatch.setitem(app.config, "WTF_CSRF_ENABLED", True)
+    c = app.test_client()
+    page = c.get("/login").data.decode()
+    token = page.split('name="csrf_token" value="', 1)[1].split('"', 1)[0]
+    resp = c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD, "csrf_token": token})
+    assert resp.status_code == 302
+    assert c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD}).status_code == 400
+
+
+def test_session_cookie_is_httponly_lax_and_secure_by_default(db_url, tmp_path, world):
+    cfg = app_config(db_url, str(tmp_path))
+    del cfg["SESSION_COOKIE_SECURE"]
+    secure_app = create_app(cfg)
+    try:
+        c = secure_app.test_client()
+        resp = c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": PASSWORD},
+                      base_url="https://localhost")
+        cookie = resp.headers["Set-Cookie"]
+        assert "HttpOnly" in cookie and "SameSite=Lax" in cookie and "Secure" in cookie
+    finally:
+        secure_app.extensions["jtcheck_db"].engine.dispose()
+
+
+def test_session_cookie_secure_can_be_turned_off_by_environment(db_url, tmp_path, monkeypatch):
+    monkeypatch.setenv("SESSION_COOKIE_SECURE", "0")
+    cfg = app_config(db_url, str(tmp_path))
+    del cfg["SESSION_COOKIE_SECURE"]
+    local_app = create_app(cfg)
+    try:
+        assert local_app.config["SESSION_COOKIE_SECURE"] is False
+    finally:
+        local_app.extensions["jtcheck_db"].engine.dispose()
+
+
+def test_secret_key_is_made_once_and_kept_private(db_url, tmp_path):
+    cfg = app_config(db_url, str(tmp_path))
+    del cfg["SECRET_KEY"]
+    first = create_app(cfg)
+    second = create_app(cfg)
+    try:
+        path = tmp_path / SECRET_KEY_FILENAME
+        assert stat.S_IMODE(path.stat().st_mode) == 0o600
+        assert first.config["SECRET_KEY"] == second.config["SECRET_KEY"] == path.read_text().strip()
+        assert len(first.config["SECRET_KEY"]) >= 32
+    finally:
+        for a in (first, second):
+            a.extensions["jtcheck_db"].engine.dispose()
+
+
+def test_passwords_are_stored_as_argon2_hashes(app, world):
+    with app.app_context():
+        hashes = db_session().scalars(select(User.password_hash)).all()
+    assert hashes and all(h.startswith("$argon2id$") for h in hashes)
+    assert not any(PASSWORD in h for h in hashes)
+
+
+def test_password_change_checks_input_and_ends_other_sessions(app, world):
+    email = "changer@example.org"
+    with app.app_context():
+        from jtcheck.records import service
+        from jtcheck.web.passwords import hash_password
+
+        s = db_session()
+        admin = service.get_user_by_email(s, world.emails[Role.ADMIN])
+        service.create_user(s, admin, email=email, name="Pat Changer", role="engineer",
+                            password_hash=hash_password(PASSWORD))
+    one, two = app.test_client(), app.test_client()
+    sign_in(one, email)
+    sign_in(two, email)
+    bad = one.post("/account/password", data={"current_password": "wrong", "new_password": "short",
+                                              "repeat_password": "other"})
+    assert bad.status_code == 422
+    html = bad.data.decode()
+    for field in ("current_password", "new_password", "repeat_password"):
+        assert f'id="err-{field}"' in html
+    ok = one.post("/account/password", data={"current_password": PASSWORD, "new_password": "a new long password",
+                                             "repeat_password": "a new long password"})
+    assert ok.status_code == 302
+    assert one.get("/account").status_code == 200          # this session goes on
+    assert two.get("/account").status_code == 302          # the other one ends
+    assert sign_in(app.test_client(), email).status_code == 401
+    assert sign_in(app.test_client(), email, "a new long password").status_code == 302
+
+
+def test_api_token_is_shown_once_and_stored_as_a_hash(app, world):
+    c = app.test_client()
+    sign_in(c, world.emails[Role.APPROVER])
+    page = c.post("/account/token").data.decode()
+    token = page.split('<p class="secret">', 1)[1].split("</p>", 1)[0].strip()
+    assert token.startswith("jtc_")
+    with app.app_context():
+        stored = db_session().scalar(select(User.api_token_hash).where(User.email == world.emails[Role.APPROVER]))
+    assert stored and token not in stored
+    assert token not in c.get("/account").data.decode()
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 200
+    c.post("/account/token/revoke")
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 401

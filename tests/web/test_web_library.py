@@ -1,0 +1,188 @@
+"""The fluid library and the material table: forms, bad input, who may change what."""
+from __future__ import annotations
+
+import html
+import math
+
+import pytest
+from sqlalchemy import select
+from web_helpers import case_form, count, field_error, unique
+
+from jtcheck.records.models import AuditEntry, Case, FluidRecord, Material
+from jtcheck.web.database import db_session
+from jtcheck.web.fluids import parse_composition_lines
+
+
+def _fluid(app, name):
+    with app.app_context():
+        return db_session().scalar(select(FluidRecord).where(FluidRecord.name == name))
+
+
+# -- fluids ---------------------------------------------------------------------------------------------
+def test_fluid_from_lines_with_eos_and_kij(app, engineer):
+    name = unique("Rich gas")
+    resp = engineer.post("/fluids/new", data={"name": name, "composition": "methane = 70\nethane: 20\nCO2 10\n",
+                                              "eos": "SRK", "kij_mode": "zero", "notes": "sample 2026-01"})
+    assert resp.status_code == 302, resp.data
+    record = _fluid(app, name)
+    assert record.eos == "SRK" and record.kij_mode.value == "zero"
+    assert [c for c, _ in record.composition_pairs()] == ["methane", "ethane", "carbon dioxide"]
+    assert math.isclose(record.composition_pairs()[0][1], 0.7)
+    page = engineer.get(f"/fluids/{record.id}").data.decode()
+    assert "Soave" in page and "Cricondentherm" in page
+
+
+def test_fluid_from_the_table(app, engineer):
+    name = unique("Table gas")
+    data = {"name": name, "composition": "", "eos": "PR", "kij_mode": "table", "component_1": "methane",
+            "amount_1": "0.95", "component_2": "propane", "amount_2": "0.05"}
+    assert engineer.post("/fluids/new", data=data).status_code == 302
+    assert [c for c, _ in _fluid(app, name).composition_pairs()] == ["methane", "propane"]
+
+
+def test_composition_lines_parser():
+    assert parse_composition_lines("methane=0.9, ethane=0.1") == [("methane", 0.9), ("ethane", 0.1)]
+    assert parse_composition_lines("# a comment\n2,2-dimethylpropane=1\n") == [("2,2-dimethylpropane", 1.0)]
+
+
+BAD_FLUIDS = [
+    ("name", {"name": ""}, "required"),
+    ("name", {"name": "Lean gas"}, "already exists"),
+    ("composition", {"composition": ""}, "required"),
+    ("composition", {"composition": "methane=lots"}, "not a number"),
+    ("composition", {"composition": "unobtainium=1"}, "unknown component"),
+    ("composition", {"composition": "methane=0.5\nethane=0.2"}, "sum"),
+    ("composition", {"composition": "methane=1", "component_1": "ethane", "amount_1": "1"}, "not both"),
+    ("composition", {"composition": "", "component_1": "ethane", "amount_1": ""}, "row 1"),
+    ("eos", {"eos": "BWRS"}, "unknown equation of state"),
+    ("kij_mode", {"kij_mode": "guess"}, "unknown kij mode"),
+    ("notes", {"notes": "n" * 50_001}, "at most 50000"),
+]
+
+
+@pytest.mark.parametrize("field, overrides, words", BAD_FLUIDS, ids=[f"{f}-{i}" for i, (f, _, _) in
+                                                                    enumerate(BAD_FLUIDS)])
+def test_bad_fluid_input_is_shown_at_the_field_and_nothing_is_stored(app, engineer, field, overrides, words):
+    data = {"name": unique("Bad gas"), "composition": "methane=0.9\nethane=0.1", "eos": "PR", "kij_mode": "table",
+            "notes": "", **overrides}
+    fluids, audit = count(app, FluidRecord), count(app, AuditEntry)
+    resp = engineer.post("/fluids/new", data=data)
+    assert resp.status_code in (409, 422)
+    page = resp.data.decode()
+    message = field_error(page, field)
+    assert message is not None and words in html.unescape(message), page[:2000]
+    if field == "composition" and overrides.get("composition"):
+        assert html.escape(overrides["composition"]) in page
+    assert count(app, FluidRecord) == fluids and count(app, AuditEntry) == audit
+
+
+def test_fluid_edit_sent_back_unchanged_changes_nothing(app, engineer):
+    name = unique("Stable gas")
+    engineer.post("/fluids/new", data={"name": name, "composition": "methane=0.3333\nethane=0.6667", "eos": "PR",
+                                       "kij_mode": "table"})
+    record = _fluid(app, name)
+    page = engineer.get(f"/fluids/{record.id}/edit").data.decode()
+    lines = html.unescape(page.split('name="composition"', 1)[1].split(">", 1)[1].split("</textarea>", 1)[0])
+    audit = count(app, AuditEntry)
+    resp = engineer.post(f"/fluids/{record.id}/edit", data={"name": name, "composition": lines, "eos": "PR",
+                                                            "kij_mode": "table", "notes": ""})
+    assert resp.status_code == 302
+    assert count(app, AuditEntry) == audit
+    assert engineer.post(f"/fluids/{record.id}/edit", data={"name": name, "composition": "methane=1", "eos": "PR",
+                                                            "kij_mode": "table"}).status_code == 302
+    assert _fluid(app, name).composition_pairs() == [("methane", 1.0)]
+
+
+def test_checker_cannot_change_fluids(app, checker, world):
+    assert checker.get("/fluids/new").status_code == 403
+    assert checker.post("/fluids/new", data={"name": "x", "composition": "methane=1"}).status_code == 403
+    assert checker.post(f"/fluids/{world.fluid_id}/edit", data={"name": "x", "composition": "methane=1"}
+                        ).status_code == 403
+    assert checker.post(f"/fluids/{world.fluid_id}/delete").status_code == 403
+    assert _fluid(app, "Lean gas") is not None
+
+
+def test_fluid_in_use_cannot_be_deleted(app, engineer, world):
+    name = unique("Used gas")
+    engineer.post("/fluids/new", data={"name": name, "composition": "methane=1", "eos": "PR", "kij_mode": "table"})
+    fluid_id = _fluid(app, name).id
+    engineer.post("/cases/new", data=case_form(world, fluid_id=str(fluid_id)))
+    resp = engineer.post(f"/fluids/{fluid_id}/delete")
+    assert resp.status_code == 409 and b"used by 1 case" in resp.data
+    assert _fluid(app, name) is not None
+    with app.app_context():
+        assert db_session().scalar(select(Case.id).where(Case.fluid_id == fluid_id)) is not None
+
+
+# -- materials -------------------------------------------------------------------------------------------
+def test_everyone_sees_the_materials_admin_adds_and_edits(app, checker, admin):
+    assert "Test carbon steel" in checker.get("/materials").data.decode()
+    assert "Add material" not in checker.get("/materials").data.decode()
+    name = unique("Impact-tested steel")
+    resp = admin.post("/materials/new", data={"name": name, "min_metal_temperature": "-58",
+                                              "min_metal_temperature_unit": "degF", "specification": "spec",
+                                              "notes": "n", "source": "s", "editable": "1"})
+    assert resp.status_code == 302
+    with app.app_context():
+        m = db_session().scalar(select(Material).where(Material.name == name))
+        assert math.isclose(m.min_metal_temperature_k, 223.15)
+        material_id = m.id
+    page = admin.get(f"/materials/{material_id}/edit").data.decode()
+    assert 'value="-50"' in page
+    resp = admin.post(f"/materials/{material_id}/edit", data={"name": name, "min_metal_temperature": "-52",
+                                                              "min_metal_temperature_unit": "degC",
+                                                              "specification": "spec", "notes": "n", "source": "s",
+                                                              "editable": ""})
+    assert resp.status_code == 302
+    with app.app_context():
+        m = db_session().get(Material, material_id)
+        assert math.isclose(m.min_metal_temperature_k, 221.15) and m.editable is False
+    assert admin.post(f"/materials/{material_id}/edit", data={"name": name, "min_metal_temperature": "-60",
+                                                              "min_metal_temperature_unit": "degC"}).status_code == 403
+
+
+BAD_MATERIALS = [
+    ("name", {"name": ""}, "required"),
+    ("name", {"name": "Test carbon steel"}, "already exists"),
+    ("min_metal_temperature", {"min_metal_temperature": ""}, "required"),
+    ("min_metal_temperature", {"min_metal_temperature": "chilly"}, "not a number"),
+    ("min_metal_temperature", {"min_metal_temperature": "-500"}, "absolute zero"),
+    ("min_metal_temperature", {"min_metal_temperature_unit": "Rankine"}, "choose a unit"),
+    ("specification", {"specification": "s" * 50_001}, "at most 50000"),
+]
+
+
+@pytest.mark.parametrize("field, overrides, words", BAD_MATERIALS, ids=[f"{f}-{i}" for i, (f, _, _) in
+                                                                        enumerate(BAD_MATERIALS)])
+def test_bad_material_input_is_shown_at_the_field(app, admin, field, overrides, words):
+    data = {"name": unique("Steel"), "min_metal_temperature": "-29", "min_metal_temperature_unit": "degC",
+            "specification": "", "notes": "", "source": "", "editable": "1", **overrides}
+    materials = count(app, Material)
+    resp = admin.post("/materials/new", data=data)
+    assert resp.status_code in (409, 422)
+    message = field_error(resp.data.decode(), field)
+    assert message is not None and words in html.unescape(message)
+    assert count(app, Material) == materials
+
+
+# -- users ------------------------------------------------------------------------------------------------
+@pytest.mark.parametrize("field, data", [("email", {"email": "not-an-email", "name": "N", "role": "checker"}),
+                                         ("email", {"email": "admin@example.org", "name": "N", "role": "checker"}),
+                                         ("name", {"email": "n1@example.org", "name": "", "role": "checker"}),
+                                         ("role", {"email": "n2@example.org", "name": "N", "role": "boss"})])
+def test_bad_user_input_is_shown_at_the_field(app, admin, field, data):
+    from jtcheck.records.models import User
+
+    users = count(app, User)
+    resp = admin.post("/users/new", data=data)
+    assert resp.status_code in (409, 422)
+    assert field_error(resp.data.decode(), field) is not None
+    assert count(app, User) == users
+
+
+def test_admin_makes_a_user_who_can_sign_in_with_the_one_time_password(app, admin):
+    resp = admin.post("/users/new", data={"email": "newbie@example.org", "name": "New Engineer", "role": "engineer"})
+    page = resp.data.decode()
+    password = page.split('<p class="secret">', 1)[1].split("</p>", 1)[0].strip()
+    c = app.test_client()
+    assert c.post("/login", data={"email": "newbie@example.org", "password": password}).status_code == 302
