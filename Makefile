@@ -24,7 +24,7 @@ run: $(VENV)/.installed
 
 # The whole suite runs twice: on SQLite (the embedded default) and on PostgreSQL.
 test: $(VENV)/.installed-test
-	$(BIN)/ruff check jtcheck tests benchmarks
+	$(BIN)/ruff check jtcheck tests benchmarks deploy
 	tests/tools/ensure_chromium.sh
 	@echo "== test suite on SQLite =="
 	env -u DATABASE_URL $(BIN)/python -m pytest -q
