@@ -29,7 +29,9 @@ test: $(VENV)/.installed-test
 	@echo "== test suite on SQLite =="
 	env -u DATABASE_URL $(BIN)/python -m pytest -q
 	@echo "== test suite on PostgreSQL =="
-	DATABASE_URL=$$(tests/tools/ensure_postgres.sh jtcheck_test) $(BIN)/python -m pytest -q
+	@# a database of its own per run, so that concurrent runs on one server cannot interfere
+	db=jtcheck_test_$$$$; url=$$(tests/tools/ensure_postgres.sh $$db) || exit 1; \
+	DATABASE_URL=$$url $(BIN)/python -m pytest -q; rc=$$?; tests/tools/drop_postgres_db.sh $$db; exit $$rc
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python benchmarks/bench_flash.py
