@@ -45,6 +45,12 @@ def _ureg():
     return pint.UnitRegistry()
 
 
+@lru_cache(maxsize=64)   # the names come from the fixed tables above
+def _unit(name: str):
+    """The pint Unit called ``name`` (made once: parsing a unit name costs more than converting)."""
+    return _ureg().Unit(name)
+
+
 def _split(text: str, field: str, example: str) -> tuple[float, str]:
     if isinstance(text, (int, float)):
         raise InputError(field, f"give a number with its unit, e.g. {example!r}")
@@ -99,7 +105,7 @@ def parse_pressure(text: str, field: str, p_atm_pa: float = P_ATM_DEFAULT_PA) ->
     if key not in PRESSURE_UNITS:
         raise InputError(field, f"unknown pressure unit {unit!r}; allowed: {', '.join(pressure_unit_names())}")
     pint_unit, gauge = PRESSURE_UNITS[key]
-    pa = float(_ureg().Quantity(value, pint_unit).to("pascal").magnitude)
+    pa = float(_ureg().Quantity(value, _unit(pint_unit)).to(_unit("pascal")).magnitude)
     if gauge:
         pa += p_atm_pa
     if not pa > 0.0:
@@ -116,8 +122,8 @@ def parse_temperature(text: str, field: str) -> float:
     key = unit.lower()
     if key not in TEMPERATURE_UNITS:
         raise InputError(field, f"unknown temperature unit {unit!r}; allowed: K, degC, degF, degR")
-    q = _ureg().Quantity(value, _ureg().Unit(TEMPERATURE_UNITS[key]))
-    k = float(q.to("kelvin").magnitude)
+    q = _ureg().Quantity(value, _unit(TEMPERATURE_UNITS[key]))
+    k = float(q.to(_unit("kelvin")).magnitude)
     if not k > 0.0:
         raise InputError(field, f"{text!r} is {k:g} K; temperatures must be above absolute zero")
     return k
@@ -129,7 +135,7 @@ def parse_temperature_difference(text: str, field: str) -> float:
     key = unit.lower()
     if key not in TEMPERATURE_DIFFERENCE_UNITS:
         raise InputError(field, f"unknown temperature-difference unit {unit!r}; allowed: K, degC, degF")
-    return float(_ureg().Quantity(value, TEMPERATURE_DIFFERENCE_UNITS[key]).to("kelvin").magnitude)
+    return float(_ureg().Quantity(value, _unit(TEMPERATURE_DIFFERENCE_UNITS[key])).to(_unit("kelvin")).magnitude)
 
 
 def pressure_from_pa(pa: float, unit: str, p_atm_pa: float = P_ATM_DEFAULT_PA) -> float:
@@ -139,7 +145,7 @@ def pressure_from_pa(pa: float, unit: str, p_atm_pa: float = P_ATM_DEFAULT_PA) -
         raise InputError("unit", f"unknown pressure unit {unit!r}; allowed: {', '.join(pressure_unit_names())}")
     pint_unit, gauge = PRESSURE_UNITS[key]
     value = pa - p_atm_pa if gauge else pa
-    return float(_ureg().Quantity(value, "pascal").to(pint_unit).magnitude)
+    return float(_ureg().Quantity(value, _unit("pascal")).to(_unit(pint_unit)).magnitude)
 
 
 def temperature_from_k(k: float, unit: str) -> float:
@@ -147,7 +153,7 @@ def temperature_from_k(k: float, unit: str) -> float:
     key = unit.lower()
     if key not in TEMPERATURE_UNITS:
         raise InputError("unit", f"unknown temperature unit {unit!r}; allowed: K, degC, degF, degR")
-    return float(_ureg().Quantity(k, "kelvin").to(_ureg().Unit(TEMPERATURE_UNITS[key])).magnitude)
+    return float(_ureg().Quantity(k, _unit("kelvin")).to(_unit(TEMPERATURE_UNITS[key])).magnitude)
 
 
 def temperature_difference_from_k(dk: float, unit: str) -> float:

@@ -34,7 +34,7 @@ from contextlib import contextmanager
 from typing import Any
 
 from sqlalchemy import func, or_, select
-from sqlalchemy.orm import Session, selectinload
+from sqlalchemy.orm import Session, joinedload, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck import __version__ as jtcheck_version
@@ -247,8 +247,8 @@ def _id(key: str, value: Any, label: str) -> int:
     return int(value)
 
 
-def _lookup(session: Session, model: type, key: str, value: Any, label: str) -> Any:
-    obj = session.get(model, _id(key, value, label))
+def _lookup(session: Session, model: type, key: str, value: Any, label: str, options: Sequence[Any] = ()) -> Any:
+    obj = session.get(model, _id(key, value, label), options=options)
     if obj is None:
         raise InputError(key, f"there is no {label} with id {value!r}; choose an existing one")
     return obj
@@ -288,18 +288,22 @@ def _unknown_keys(data: Mapping[str, Any], allowed: Sequence[str], what: str) ->
 
 
 def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case | None = None,
-                   given: frozenset[str] = frozenset()) -> dict[str, Any]:
+                   given: frozenset[str] = frozenset(), loaded: dict[str, Any] | None = None) -> dict[str, Any]:
     """Check every case field of ``data`` (a complete set of values); return column -> value.
 
     ``current`` is the stored case when updating, ``given`` the keys the user supplied in this edit.
+    ``loaded``, if given, receives the unit, fluid and material records looked up (so that the caller
+    can attach them to the case instead of loading them again).
     """
     values: dict[str, Any] = {}
-    unit = _lookup(session, PlantUnit, "unit_id", data.get("unit_id"), "unit")
+    unit = _lookup(session, PlantUnit, "unit_id", data.get("unit_id"), "unit",
+                   options=(joinedload(PlantUnit.site),))
     values["unit_id"] = unit.id
     values["tag"] = _string("tag", data.get("tag"), "tag", MAX_TAG, required=True, single_line=True)
     values["service"] = _string("service", data.get("service"), "service description", MAX_SHORT_TEXT)
     values["kind"] = _kind(data.get("kind"))
-    values["fluid_id"] = _lookup(session, FluidRecord, "fluid_id", data.get("fluid_id"), "fluid").id
+    fluid = _lookup(session, FluidRecord, "fluid_id", data.get("fluid_id"), "fluid")
+    values["fluid_id"] = fluid.id
     for key, (label, unit_text, rng, required) in _CASE_NUMBERS.items():
         values[key] = _number(key, data.get(key), label, unit_text, rng, required)
     values["basis"] = _string("basis", data.get("basis"), "basis", MAX_LONG_TEXT)
@@ -326,6 +330,8 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
     if data.get("material_id") is not None:
         material = _lookup(session, Material, "material_id", data.get("material_id"), "material")
     values["material_id"] = material.id if material is not None else None
+    if loaded is not None:
+        loaded.update(unit=unit, fluid=fluid, material=material)
     if current is None:
         if values["mdmt_k"] is not None:
             values["mdmt_source"] = "entered"
@@ -757,8 +763,10 @@ def create_case(session: Session, user: User, data: Mapping[str, Any]) -> Case:
 
 def _create_case(session: Session, user: User | None, data: Mapping[str, Any]) -> Case:
     _unknown_keys(data, CASE_FIELDS, "case")
-    values = _validate_case(session, {**_CASE_DEFAULTS, **_none_to_default(data)})
-    case = Case(**values, status="draft", created_by=user, updated_by=user)
+    loaded: dict[str, Any] = {}
+    values = _validate_case(session, {**_CASE_DEFAULTS, **_none_to_default(data)}, loaded=loaded)
+    # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
+    case = Case(**values, **loaded, status="draft", created_by=user, updated_by=user)
     session.add(case)
     session.flush()
     _audit(session, user, "case", case.id, "create", new=case.tag)
@@ -820,10 +828,15 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
     return case
 
 
+def _case_loads() -> tuple[Any, ...]:
+    """Loader options for a case with the records shown with it (unit and site, fluid, material): one query."""
+    return (joinedload(Case.unit).joinedload(PlantUnit.site), joinedload(Case.fluid), joinedload(Case.material))
+
+
 def get_case(session: Session, user: User, case_id: int) -> Case:
-    """One case (any active user); raise NotFound if there is none."""
+    """One case (any active user), with its unit, site, fluid and material; raise NotFound if there is none."""
     _require(user, ALL_ROLES, "view cases")
-    case = session.get(Case, case_id)
+    case = session.get(Case, case_id, options=_case_loads())
     if case is None:
         raise NotFound("case", case_id)
     return case
@@ -908,6 +921,17 @@ def case_conditions(case: Case) -> list[tuple[str, float, float]]:
 
 def _plain(value: Any) -> Any:
     """JSON-safe copy: numpy scalars to Python, NaN and infinity to None, tuples to lists."""
+    # fast paths for the exact built-in types (most values); subclasses such as numpy.float64 or enums
+    # take the general path below, which gives the same answers for the built-in types
+    kind = type(value)
+    if kind is float:
+        return value if math.isfinite(value) else None
+    if kind is str or kind is bool or kind is int or value is None:
+        return value
+    if kind is dict:
+        return {str(k): _plain(v) for k, v in value.items()}
+    if kind is list or kind is tuple:
+        return [_plain(v) for v in value]
     if isinstance(value, Mapping):
         return {str(k): _plain(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
@@ -946,6 +970,12 @@ def _merged_warnings(entries: list[dict[str, Any]]) -> list[str]:
     return [text if len(conds) == n else f"{text} ({', '.join(conds)})" for text, conds in seen.items()]
 
 
+def _fluid_record_inputs(record: FluidRecord) -> dict[str, Any]:
+    """The stored fluid's part of ``CaseResult.inputs["fluid"]`` (everything but what the built Fluid adds)."""
+    return {"id": record.id, "name": record.name, "composition": record.composition, "eos": record.eos,
+            "kij_mode": KijMode(record.kij_mode).value, "kij": KijMode(record.kij_mode).fluid_kij()}
+
+
 def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
     """Everything needed to reproduce a computation of ``case``, in SI units (stored as ``CaseResult.inputs``)."""
     record = case.fluid
@@ -956,8 +986,7 @@ def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
         "software_version": jtcheck_version,
         "case": {"id": case.id, "version": case.version, "tag": case.tag, "kind": CaseKind(case.kind).value,
                  "unit": case.unit.name, "site": case.unit.site.name},
-        "fluid": {"id": record.id, "name": record.name, "composition": record.composition, "eos": record.eos,
-                  "kij_mode": KijMode(record.kij_mode).value, "kij": KijMode(record.kij_mode).fluid_kij(),
+        "fluid": {**_fluid_record_inputs(record),
                   "component_ids": list(fluid.ids), "zs": [float(z) for z in fluid.zs]},
         "basis": fluid.basis(),
         "conditions": [{"condition": n, "p_in_pa": p, "t_in_k": t, "p_out_pa": case.outlet_pressure_pa}
@@ -999,7 +1028,7 @@ def compute_case(session: Session, user: User, case_id: int) -> CaseResult:
     """
     _require(user, ALL_ROLES, "compute cases")
     try:   # the letdowns run before the write transaction, so no lock is held while they do
-        case = session.get(Case, case_id, populate_existing=True)
+        case = session.get(Case, case_id, populate_existing=True, options=_case_loads())
         if case is None:
             raise NotFound("case", case_id)
         prepared = _prepare_computation(case)
@@ -1013,26 +1042,29 @@ def compute_case(session: Session, user: User, case_id: int) -> CaseResult:
 
 def _compute_case(session: Session, user: User, case_id: int) -> CaseResult:
     """Compute and store within the caller's transaction."""
-    case = session.get(Case, case_id)
+    case = session.get(Case, case_id, options=_case_loads())
     if case is None:
         raise NotFound("case", case_id)
     return _store_computation(session, user, case_id, _prepare_computation(case))
 
 
 def _prepare_computation(case: Case) -> dict[str, Any]:
-    fluid = case.fluid.to_fluid()
+    fluid = case.fluid.to_fluid()   # built once: the letdowns, the stored inputs and the basis share it
     entries = [_condition_entry(name, p_in, t_in, case.outlet_pressure_pa, fluid)
                for name, p_in, t_in in case_conditions(case)]
-    return {"version": case.version, "inputs": result_inputs(case, fluid), "basis": fluid.basis(),
-            "entries": entries}
+    inputs = result_inputs(case, fluid)
+    return {"version": case.version, "inputs": inputs, "basis": fluid.basis(), "entries": entries}
 
 
 def _store_computation(session: Session, user: User, case_id: int, prepared: dict[str, Any]) -> CaseResult:
-    case = session.get(Case, case_id, populate_existing=True)
+    case = session.get(Case, case_id, populate_existing=True, options=(joinedload(Case.fluid),))
     if case is None:
         raise NotFound("case", case_id)
     inputs = prepared["inputs"]
-    if case.version != prepared["version"] or result_inputs(case)["fluid"] != inputs["fluid"]:
+    # the fluid as stored now must be the one computed with; the rest of inputs["fluid"] (component ids and
+    # normalised mole fractions) is a function of these stored fields, so no Fluid is built to compare them
+    stored_fluid = _plain(_fluid_record_inputs(case.fluid))
+    if case.version != prepared["version"] or any(inputs["fluid"].get(k) != v for k, v in stored_fluid.items()):
         raise ConcurrentEditError("case", case_id, prepared["version"], case.version)
     entries = prepared["entries"]
     converged = all(e["converged"] for e in entries)

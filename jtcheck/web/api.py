@@ -246,7 +246,8 @@ def create_case():
 def get_case(case_id: int):
     """A case with its inputs in SI and in the units entered, and a summary of its latest result."""
     _, case = _case_or_404(case_id)
-    latest = case.latest_result
+    # only the latest result (one row), not every stored result of the case
+    latest = service.latest_results(db_session(), [case.id]).get(case.id)
     return jsonify(case_json(case, latest, service.result_is_current(case, latest) if latest else None))
 
 
