@@ -265,7 +265,20 @@ class Case(Base):
     # credible extremes (optional)
     inlet_temperature_min_k: Mapped[float | None] = mapped_column(Float)
     inlet_pressure_max_pa: Mapped[float | None] = mapped_column(Float)
+    #: lowest credible outlet pressure [Pa] (the operating sweep runs down to it).
+    outlet_pressure_min_pa: Mapped[float | None] = mapped_column(Float)
     mass_flow_kg_per_s: Mapped[float | None] = mapped_column(Float)
+    # hydrates: the user can declare the gas water-saturated (water in the composition always counts)
+    water_saturated: Mapped[bool] = mapped_column(Boolean, default=False)
+    hydrate_inhibitor: Mapped[str] = mapped_column(String(32), default="methanol")
+    # relief valves (optional): set pressure [Pa abs], allowable overpressure [fraction of the set gauge
+    # pressure], superimposed back pressure [Pa abs], built-up back pressure [Pa, a difference],
+    # and the flare header's cold limit [K]
+    set_pressure_pa: Mapped[float | None] = mapped_column(Float)
+    overpressure_fraction: Mapped[float | None] = mapped_column(Float)
+    superimposed_back_pressure_pa: Mapped[float | None] = mapped_column(Float)
+    built_up_back_pressure_pa: Mapped[float | None] = mapped_column(Float)
+    header_limit_k: Mapped[float | None] = mapped_column(Float)
     # limits
     material_id: Mapped[int | None] = mapped_column(ForeignKey("materials.id"))
     mdmt_k: Mapped[float | None] = mapped_column(Float)
@@ -339,6 +352,8 @@ class CaseResult(Base):
     results: Mapped[list[Any]] = mapped_column(JSON)
     t_out_min_k: Mapped[float | None] = mapped_column(Float)
     outcome: Mapped[str | None] = mapped_column(String(32), index=True)
+    #: the screening (``jtcheck.screening.Screening.to_dict()``): outcome, findings, answers; SI.
+    screening: Mapped[dict[str, Any] | None] = mapped_column(JSON)
 
     case: Mapped[Case] = relationship(back_populates="results")
     computed_by: Mapped[User] = relationship()

@@ -38,8 +38,7 @@ from sqlalchemy.orm import Session, joinedload, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck import __version__ as jtcheck_version
-from jtcheck.errors import InputError, JtcheckError
-from jtcheck.letdown import letdown
+from jtcheck.errors import InputError
 from jtcheck.records.db import SQLITE_BEGIN_OPTION
 from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
 from jtcheck.records.models import (
@@ -55,6 +54,16 @@ from jtcheck.records.models import (
     Role,
     Site,
     User,
+)
+from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.screening.screen import (
+    Condition,
+    ConditionScreen,
+    OperatingRanges,
+    ReliefInputs,
+    Screening,
+    ScreeningOptions,
+    screen_letdown,
 )
 from jtcheck.thermo.fluid import Fluid
 
@@ -79,6 +88,10 @@ LIMIT_TEMPERATURE_RANGE_K = (0.0, 1000.0, False)  # MDMT and cold limits
 MARGIN_RANGE_K = (0.0, 100.0, True)
 MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)
 P_ATM_RANGE_PA = (5.0e4, 1.1e5, True)             # sea level to about 5500 m
+OVERPRESSURE_RANGE = (0.0, 1.0, True)             # fraction of the set gauge pressure (0.10 = 10 %)
+BUILT_UP_RANGE_PA = (0.0, 1.0e9, True)            # a pressure difference
+#: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
+HYDRATE_INHIBITORS = ("methanol", "MEG")
 
 MAX_TAG = 64
 MAX_NAME = 200
@@ -94,20 +107,30 @@ _CASE_NUMBERS: dict[str, tuple[str, str, tuple[float, float, bool], bool]] = {
     "outlet_pressure_pa": ("outlet pressure", "Pa", PRESSURE_RANGE_PA, True),
     "inlet_temperature_min_k": ("minimum credible inlet temperature", "K", INLET_TEMPERATURE_RANGE_K, False),
     "inlet_pressure_max_pa": ("maximum credible inlet pressure", "Pa", PRESSURE_RANGE_PA, False),
+    "outlet_pressure_min_pa": ("minimum credible outlet pressure", "Pa", PRESSURE_RANGE_PA, False),
     "mass_flow_kg_per_s": ("mass flow", "kg/s", MASS_FLOW_RANGE_KG_PER_S, False),
     "mdmt_k": ("MDMT", "K", LIMIT_TEMPERATURE_RANGE_K, False),
     "cold_limit_k": ("cold limit", "K", LIMIT_TEMPERATURE_RANGE_K, False),
     "margin_k": ("margin", "K", MARGIN_RANGE_K, True),
     "p_atm_pa": ("atmospheric pressure for gauge units", "Pa", P_ATM_RANGE_PA, True),
+    "set_pressure_pa": ("relief valve set pressure", "Pa", PRESSURE_RANGE_PA, False),
+    "overpressure_fraction": ("allowable overpressure (fraction of the set gauge pressure)", "-",
+                              OVERPRESSURE_RANGE, False),
+    "superimposed_back_pressure_pa": ("superimposed back pressure", "Pa", PRESSURE_RANGE_PA, False),
+    "built_up_back_pressure_pa": ("built-up back pressure", "Pa (difference)", BUILT_UP_RANGE_PA, False),
+    "header_limit_k": ("flare header cold limit", "K", LIMIT_TEMPERATURE_RANGE_K, False),
 }
 #: Every field of a case that create_case/update_case accept.
 CASE_FIELDS = ("unit_id", "tag", "service", "kind", "fluid_id", *_CASE_NUMBERS, "material_id", "basis",
-               "references", "display_units")
+               "references", "display_units", "water_saturated", "hydrate_inhibitor")
 #: Keys allowed in ``display_units``: the quantity fields without their SI suffix.
 DISPLAY_UNIT_FIELDS = ("inlet_pressure", "inlet_temperature", "outlet_pressure", "inlet_temperature_min",
-                       "inlet_pressure_max", "mass_flow", "mdmt", "cold_limit", "margin")
+                       "inlet_pressure_max", "outlet_pressure_min", "mass_flow", "mdmt", "cold_limit", "margin",
+                       "set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
+                       "header_limit")
 _CASE_DEFAULTS: dict[str, Any] = {"service": "", "margin_k": 0.0, "p_atm_pa": P_ATM_STANDARD_PA, "basis": "",
-                                  "references": "", "display_units": {}}
+                                  "references": "", "display_units": {}, "water_saturated": False,
+                                  "hydrate_inhibitor": "methanol"}
 
 
 # -- permissions ----------------------------------------------------------------------------------
@@ -279,6 +302,41 @@ def _display_units(value: Any) -> dict[str, str]:
     return out
 
 
+def _flag(key: str, value: Any, label: str) -> bool:
+    if isinstance(value, bool):
+        return value
+    raise InputError(key, f"{label} must be true or false, got {value!r}")
+
+
+def _validate_relief(values: dict[str, Any]) -> None:
+    """Relief-valve fields: all-or-nothing for the set pressure and its companions; pressures consistent."""
+    p_set = values["set_pressure_pa"]
+    given = [k for k in ("overpressure_fraction", "superimposed_back_pressure_pa", "built_up_back_pressure_pa",
+                         "header_limit_k") if values[k] is not None]
+    if p_set is None:
+        if given:
+            raise InputError(given[0], "relief-valve data need the set pressure (set_pressure_pa) as well")
+        return
+    if values["kind"] is not CaseKind.RELIEF_VALVE:
+        raise InputError("set_pressure_pa", "a set pressure is only for relief-valve cases (kind relief_valve)")
+    if values["overpressure_fraction"] is None:
+        raise InputError("overpressure_fraction", "the allowable overpressure is required with a set pressure "
+                                                  "(fraction of the set gauge pressure, e.g. 0.10 for 10 %)")
+    p_atm = values["p_atm_pa"]
+    if p_set <= p_atm:
+        raise InputError("set_pressure_pa", f"set pressure {p_set:g} Pa abs is not above the atmospheric pressure "
+                                            f"{p_atm:g} Pa; allowed: above atmospheric")
+    p_relieving = p_set + values["overpressure_fraction"] * (p_set - p_atm)
+    p_super = values["superimposed_back_pressure_pa"]
+    p_super = p_atm if p_super is None else p_super
+    p_back = p_super + (values["built_up_back_pressure_pa"] or 0.0)
+    if p_back >= p_relieving:
+        raise InputError("built_up_back_pressure_pa" if values["built_up_back_pressure_pa"] else
+                         "superimposed_back_pressure_pa",
+                         f"total back pressure {p_back:g} Pa abs is not below the relieving pressure "
+                         f"{p_relieving:g} Pa abs; allowed: below the relieving pressure")
+
+
 def _unknown_keys(data: Mapping[str, Any], allowed: Sequence[str], what: str) -> None:
     for key in data:
         if key not in allowed:
@@ -324,6 +382,18 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
         raise InputError("inlet_pressure_max_pa",
                          f"maximum credible inlet pressure {p_max:g} Pa is below the normal inlet pressure "
                          f"{p_in:g} Pa; allowed: >= the normal inlet pressure")
+    p_out_min = values["outlet_pressure_min_pa"]
+    if p_out_min is not None and p_out_min > p_out:
+        raise InputError("outlet_pressure_min_pa",
+                         f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
+                         f"{p_out:g} Pa; allowed: <= the normal outlet pressure")
+    values["water_saturated"] = _flag("water_saturated", data.get("water_saturated"), "water-saturated gas")
+    inhibitor = data.get("hydrate_inhibitor")
+    if inhibitor not in HYDRATE_INHIBITORS:
+        raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
+                                              f"{', '.join(HYDRATE_INHIBITORS)}")
+    values["hydrate_inhibitor"] = inhibitor
+    _validate_relief(values)
 
     # material and MDMT: an entered MDMT wins; without one the material's limit is copied
     material = None
@@ -946,17 +1016,44 @@ def _plain(value: Any) -> Any:
     return str(value)
 
 
-def _condition_entry(name: str, p_in: float, t_in: float, p_out: float, fluid: Fluid) -> dict[str, Any]:
-    try:
-        result = letdown(fluid, p_in=p_in, t_in=t_in, p_out=p_out)
-    except JtcheckError as exc:   # refused or failed: stored as not converged, with the reason
-        return {"condition": name, "p_in": p_in, "t_in": t_in, "p_out": p_out, "t_out": None, "dt": None,
-                "vapor_fraction": None, "phase": "unknown", "converged": False, "message": str(exc),
-                "warnings": []}
-    entry = {"condition": name, **_plain(result.to_dict())}
+def _condition_entry(cs: ConditionScreen, eos: str) -> dict[str, Any]:
+    """The stored entry of one screened condition: the case model's letdown plus what the screening made of it."""
+    c = cs.condition
+    result = cs.results.get(eos)
+    extra = {"t_screen_k": cs.t_screen_k, "governing_model": cs.governing_model, "screen_message": cs.message,
+             "solids": cs.solids,
+             "t_out_by_model": {m: (r.t_out if r is not None and r.converged else None) for m, r in cs.results.items()}}
+    if result is None:   # refused: stored as not converged, with the reason
+        return _plain({"condition": c.name, "p_in": c.p_in_pa, "t_in": c.t_in_k, "p_out": c.p_out_pa, "t_out": None,
+                       "dt": None, "vapor_fraction": None, "phase": "unknown", "converged": False,
+                       "message": cs.message, "warnings": [], **extra})
+    entry = {"condition": c.name, **_plain(result.to_dict()), **_plain(extra)}
     if not result.converged:   # never a number for a state that was not found
         entry.update(t_out=None, dt=None, vapor_fraction=None, converged=False)
+    elif not cs.converged:      # the case model converged, another did not: not screened
+        entry.update(converged=False, message=cs.message)
     return entry
+
+
+def screening_options(case: Case) -> ScreeningOptions:
+    """The screening a case asks for: its limits, hydrate data, operating ranges and relief-valve data."""
+    limits = ColdLimits(mdmt_k=case.mdmt_k, user_limit_k=case.cold_limit_k, margin_k=case.margin_k or 0.0,
+                        mdmt_source=case.mdmt_source or "")
+    ranges = OperatingRanges(
+        p_in_pa=(case.inlet_pressure_pa, case.inlet_pressure_max_pa or case.inlet_pressure_pa),
+        t_in_k=(case.inlet_temperature_min_k or case.inlet_temperature_k, case.inlet_temperature_k),
+        p_out_pa=(case.outlet_pressure_min_pa or case.outlet_pressure_pa, case.outlet_pressure_pa))
+    relief = None
+    if case.set_pressure_pa is not None and case.overpressure_fraction is not None:
+        relief = ReliefInputs(
+            set_pressure_pa=case.set_pressure_pa, overpressure_fraction=case.overpressure_fraction,
+            t_relieving_k=case.inlet_temperature_k,
+            superimposed_back_pressure_pa=case.superimposed_back_pressure_pa or case.p_atm_pa,
+            built_up_back_pressure_pa=case.built_up_back_pressure_pa or 0.0, p_atm_pa=case.p_atm_pa,
+            header_limit_k=case.header_limit_k)
+    return ScreeningOptions(limits=limits, water_saturated=True if case.water_saturated else None,
+                            inhibitor=case.hydrate_inhibitor or "methanol", mass_flow_kg_per_s=case.mass_flow_kg_per_s,
+                            ranges=ranges if ranges.varies else None, relief=relief)
 
 
 def _merged_warnings(entries: list[dict[str, Any]]) -> list[str]:
@@ -982,7 +1079,8 @@ def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
     fluid = fluid if fluid is not None else record.to_fluid()
     material = case.material
     return _plain({
-        "method": "isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown)",
+        "method": ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
+                   "with the case EOS and the other of PR and SRK; screening by jtcheck.screening"),
         "software_version": jtcheck_version,
         "case": {"id": case.id, "version": case.version, "tag": case.tag, "kind": CaseKind(case.kind).value,
                  "unit": case.unit.name, "site": case.unit.site.name},
@@ -1050,10 +1148,12 @@ def _compute_case(session: Session, user: User, case_id: int) -> CaseResult:
 
 def _prepare_computation(case: Case) -> dict[str, Any]:
     fluid = case.fluid.to_fluid()   # built once: the letdowns, the stored inputs and the basis share it
-    entries = [_condition_entry(name, p_in, t_in, case.outlet_pressure_pa, fluid)
-               for name, p_in, t_in in case_conditions(case)]
+    conditions = [Condition(name, p_in, t_in, case.outlet_pressure_pa) for name, p_in, t_in in case_conditions(case)]
+    screening = screen_letdown(fluid, conditions, screening_options(case))
+    entries = [_condition_entry(cs, fluid.eos.value) for cs in screening.conditions]
     inputs = result_inputs(case, fluid)
-    return {"version": case.version, "inputs": inputs, "basis": fluid.basis(), "entries": entries}
+    return {"version": case.version, "inputs": inputs, "basis": fluid.basis(), "entries": entries,
+            "screening": screening}
 
 
 def _store_computation(session: Session, user: User, case_id: int, prepared: dict[str, Any]) -> CaseResult:
@@ -1068,21 +1168,21 @@ def _store_computation(session: Session, user: User, case_id: int, prepared: dic
         raise ConcurrentEditError("case", case_id, prepared["version"], case.version)
     entries = prepared["entries"]
     converged = all(e["converged"] for e in entries)
-    t_outs = [e["t_out"] for e in entries if e["converged"] and e["t_out"] is not None]
     failed = [f"{e['condition']}: {e['message']}" for e in entries if not e["converged"]]
     message = (f"all {len(entries)} conditions converged" if converged
                else "not converged: " + "; ".join(failed))
     basis = prepared["basis"]
+    screening: Screening = prepared["screening"]
     result = CaseResult(
         case=case, case_version=case.version, computed_by=user, inputs=inputs,
         eos=basis["eos"], kij_basis=basis["kij_basis"], component_data_version=basis["component_data"],
         kij_data_version=basis["kij_data"], software_version=jtcheck_version, converged=converged,
         message=message, warnings=_merged_warnings(entries), results=entries,
-        t_out_min_k=min(t_outs) if t_outs else None, outcome=None)
+        t_out_min_k=screening.t_out_min_k, outcome=screening.outcome.value, screening=screening.to_dict())
     session.add(result)
     session.flush()
     _audit(session, user, "case", case.id, "compute",
-           new=f"result {result.id}: {message}; coldest converged outlet "
+           new=f"result {result.id}: {message}; outcome {result.outcome}; coldest screened outlet "
                + (f"{result.t_out_min_k:.2f} K" if result.t_out_min_k is not None else "none"))
     return result
 

@@ -113,6 +113,7 @@ class Fluid:
         self.eos: EOS = EOS.parse(eos)
         comps = self.composition.components
         ids = self.composition.ids
+        self._kij_choice = kij
         self.kij, self.kij_basis, self.kij_defaulted, self.kij_sources = _kij_from_user(kij, ids, self.eos)
         self.volume_translation = bool(volume_translation)
         self.vol_shifts = peneloux_shift(self.eos, [c.tc_k for c in comps], [c.pc_pa for c in comps],
@@ -171,6 +172,14 @@ class Fluid:
             "component_data": COMPONENT_DATA_VERSION,
             "kij_data": KIJ_DATA_VERSION,
         }
+
+    def with_eos(self, eos: str | EOS) -> Fluid:
+        """The same fluid (composition, kij choice, volume translation) under another equation of state.
+
+        A kij table choice takes the other EOS's table; a user mapping or matrix is kept as given.
+        """
+        return Fluid(list(zip(self.ids, self.zs, strict=True)), eos=eos, kij=self._kij_choice,
+                     volume_translation=self.volume_translation)
 
     def __repr__(self) -> str:
         comp = ", ".join(f"{i}={z:.4g}" for i, z in zip(self.ids, self.zs, strict=True))

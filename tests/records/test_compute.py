@@ -11,6 +11,9 @@ from jtcheck.errors import InputError
 from jtcheck.letdown import LetdownResult
 from jtcheck.records import service
 from jtcheck.records.models import AuditEntry, Case, CaseResult, Role
+from jtcheck.screening import screen as screen_module
+from jtcheck.screening.findings import Outcome
+from jtcheck.screening.screen import SWEEP_CONDITION
 from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION
 
 from .register_helpers import BAR, T0, count
@@ -21,22 +24,47 @@ def case(session, engineer, case_data):
     return service.create_case(session, engineer, case_data())
 
 
-def test_all_four_conditions_are_computed_and_converge(session, engineer, case):
+def test_all_four_conditions_and_the_sweep_are_computed_and_converge(session, engineer, case):
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == list(service.CONDITIONS)
+    assert [e["condition"] for e in result.results] == [*service.CONDITIONS, SWEEP_CONDITION]
     assert result.converged is True
     assert all(e["converged"] and e["t_out"] < e["t_in"] for e in result.results)
-    assert result.t_out_min_k == min(e["t_out"] for e in result.results)
-    coldest = result.condition("min temperature + max pressure")
-    assert coldest["t_out"] == result.t_out_min_k
-    assert (coldest["p_in"], coldest["t_in"], coldest["p_out"]) == (80 * BAR, T0 + 5.0, 10 * BAR)
-    assert result.outcome is None     # set by the screening, later
+    # the screened temperature is the colder of the two models, never warmer than the case model's
+    assert all(e["t_screen_k"] <= e["t_out"] + 1e-9 for e in result.results)
+    assert result.t_out_min_k == min(e["t_screen_k"] for e in result.results)
+    corner = result.condition("min temperature + max pressure")
+    assert (corner["p_in"], corner["t_in"], corner["p_out"]) == (80 * BAR, T0 + 5.0, 10 * BAR)
+    swept = result.condition(SWEEP_CONDITION)
+    assert swept["t_screen_k"] <= corner["t_screen_k"] + 1e-6   # the sweep finds the coldest point of the ranges
+    assert result.outcome in {o.value for o in Outcome}
+    assert result.screening["outcome"] == result.outcome
+    assert result.screening["t_out_min_k"] == result.t_out_min_k
 
 
 def test_only_the_given_extremes_are_computed(session, engineer, case_data):
     case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None))
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature"]
+    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature", SWEEP_CONDITION]
+
+
+def test_without_ranges_there_is_no_sweep(session, engineer, case_data):
+    case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None, inlet_temperature_min_k=None))
+    result = service.compute_case(session, engineer, case.id)
+    assert [e["condition"] for e in result.results] == ["normal"]
+    assert "sweep" not in result.screening["answers"]
+
+
+def test_outcome_follows_the_limits(session, engineer, case_data):
+    """A warm limit fails the case and brings the answers; a cold one passes it (fail closed both ways)."""
+    hot = service.create_case(session, engineer, case_data(tag="HOT", mdmt_k=T0 + 20.0, material_id=None))
+    cold = service.create_case(session, engineer, case_data(tag="COLD", mdmt_k=T0 - 150.0, material_id=None))
+    failing = service.compute_case(session, engineer, hot.id)
+    passing = service.compute_case(session, engineer, cold.id)
+    assert failing.outcome == "fail" and passing.outcome == "pass"
+    preheat = failing.screening["answers"]["preheat"]["governing"]
+    assert preheat["needed"] and preheat["t_in_required_k"] > preheat["t_in_k"]
+    assert failing.screening["answers"]["outlet_pressure_limit"]["target_k"] == pytest.approx(T0 + 25.0)
+    assert passing.screening["answers"].get("preheat") is None
 
 
 def test_result_stores_model_basis_and_versions(session, engineer, case):
@@ -59,7 +87,8 @@ def test_stored_inputs_reproduce_the_result(session_factory, engineer, case):
         fluid = Fluid([tuple(p) for p in inputs["fluid"]["composition"]], eos=inputs["fluid"]["eos"],
                       kij=inputs["fluid"]["kij"])
         assert fluid.basis() == inputs["basis"]
-        for cond, entry in zip(inputs["conditions"], stored.results, strict=True):
+        for cond in inputs["conditions"]:
+            entry = stored.condition(cond["condition"])
             again = letdown(fluid, p_in=cond["p_in_pa"], t_in=cond["t_in_k"], p_out=cond["p_out_pa"])
             assert again.t_out == entry["t_out"]
         assert inputs["case_values"]["margin_k"] == 5.0
@@ -96,31 +125,35 @@ def test_a_condition_that_does_not_converge_is_stored_as_such(session, engineer,
             return _not_converged(p_in, t_in, p_out)
         return letdown(fluid, p_in=p_in, t_in=t_in, p_out=p_out)
 
-    monkeypatch.setattr(service, "letdown", fake_letdown)
+    monkeypatch.setattr(screen_module, "letdown", fake_letdown)
     result = service.compute_case(session, engineer, case.id)
     session.expire_all()
     result = session.get(CaseResult, result.id)
     assert result.converged is False
+    assert result.outcome == "not screened"     # never pass with a condition missing
     failed = [e for e in result.results if not e["converged"]]
-    assert [e["condition"] for e in failed] == ["min inlet temperature", "min temperature + max pressure"]
+    assert [e["condition"] for e in failed] == ["min inlet temperature", "min temperature + max pressure",
+                                                SWEEP_CONDITION]
     assert all(e["t_out"] is None and e["dt"] is None for e in failed)
     assert "not converged" in result.message and "min inlet temperature" in result.message
-    converged = [e["t_out"] for e in result.results if e["converged"]]
+    converged = [e["t_screen_k"] for e in result.results if e["converged"]]
     assert result.t_out_min_k == min(converged)
 
 
 def test_no_condition_converging_leaves_no_temperature(session, engineer, case, monkeypatch):
-    monkeypatch.setattr(service, "letdown", lambda fluid, p_in, t_in, p_out: _not_converged(p_in, t_in, p_out))
+    monkeypatch.setattr(screen_module, "letdown",
+                        lambda fluid, p_in, t_in, p_out: _not_converged(p_in, t_in, p_out))
     result = service.compute_case(session, engineer, case.id)
     assert result.converged is False
     assert result.t_out_min_k is None
+    assert result.outcome == "not screened"
 
 
 def test_a_refused_condition_is_stored_as_not_converged_with_the_reason(session, engineer, case, monkeypatch):
     def refusing(fluid, p_in, t_in, p_out):
         raise InputError("t_in", "inlet temperature must be below 2000 K")
 
-    monkeypatch.setattr(service, "letdown", refusing)
+    monkeypatch.setattr(screen_module, "letdown", refusing)
     result = service.compute_case(session, engineer, case.id)
     assert not result.converged
     assert all(e["t_out"] is None and "2000 K" in e["message"] for e in result.results)
@@ -132,7 +165,7 @@ def test_an_unexpected_error_stores_nothing(session, engineer, case, monkeypatch
     def broken(fluid, p_in, t_in, p_out):
         raise RuntimeError("boom")
 
-    monkeypatch.setattr(service, "letdown", broken)
+    monkeypatch.setattr(screen_module, "letdown", broken)
     with pytest.raises(RuntimeError):
         service.compute_case(session, engineer, case.id)
     assert (count(session, CaseResult), count(session, AuditEntry)) == (results, audit)

@@ -1,0 +1,159 @@
+"""Cold metal: the coldest credible outlet temperature against the downstream steel's limits.
+
+The cold limit that governs is the warmer of the two limits a case can carry: the minimum design
+metal temperature (MDMT) of the downstream material and a cold limit the user enters (for example a
+company rule, or a lower limit justified by ASME B31.3 para. 323.2.2 or ASME BPVC VIII Div. 1
+UCS-66.1 stress-ratio relief: the user then enters that limit as the MDMT).  The outcome:
+
+* fail            coldest outlet < governing limit
+* margin eroded   governing limit <= coldest outlet < governing limit + margin
+* pass            coldest outlet >= governing limit + margin
+* not screened    any credible condition did not converge, or no limit was given
+
+Fail closed: a missing number never screens as pass.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from jtcheck.errors import InputError
+from jtcheck.screening.findings import Finding, Outcome, Severity, Topic
+
+#: Allowed margin [K].
+MARGIN_RANGE_K = (0.0, 100.0)
+#: Allowed limits [K] (about -273 to +200 degC).
+LIMIT_RANGE_K = (0.0, 473.15)
+
+
+def _check_limit(name: str, value: float | None) -> float | None:
+    if value is None:
+        return None
+    v = float(value)
+    lo, hi = LIMIT_RANGE_K
+    if not math.isfinite(v) or not lo < v <= hi:
+        raise InputError(name, f"a temperature limit must lie above {lo:g} K and at most {hi:g} K, got {value!r}")
+    return v
+
+
+@dataclass(frozen=True)
+class ColdLimits:
+    """The temperature limits a case is screened against [K].
+
+    Attributes
+    ----------
+    mdmt_k : float or None
+        Minimum design metal temperature of the downstream material [K].
+    user_limit_k : float or None
+        A cold limit entered by the user [K].
+    margin_k : float
+        Required margin above the governing limit [K].
+    mdmt_source : str
+        Where the MDMT came from ("entered", "material: ...").
+    """
+
+    mdmt_k: float | None = None
+    user_limit_k: float | None = None
+    margin_k: float = 0.0
+    mdmt_source: str = ""
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "mdmt_k", _check_limit("mdmt", self.mdmt_k))
+        object.__setattr__(self, "user_limit_k", _check_limit("limit", self.user_limit_k))
+        m = float(self.margin_k)
+        lo, hi = MARGIN_RANGE_K
+        if not math.isfinite(m) or not lo <= m <= hi:
+            raise InputError("margin", f"the margin must lie between {lo:g} and {hi:g} K, got {self.margin_k!r}")
+        object.__setattr__(self, "margin_k", m)
+
+    @property
+    def governing_k(self) -> float | None:
+        """The warmer of the MDMT and the user's limit [K]; None when neither is given."""
+        given = [v for v in (self.mdmt_k, self.user_limit_k) if v is not None]
+        return max(given) if given else None
+
+    @property
+    def target_k(self) -> float | None:
+        """Governing limit plus margin: the outlet temperature an answer (preheat, pressure limit) aims at [K]."""
+        g = self.governing_k
+        return None if g is None else g + self.margin_k
+
+    @property
+    def basis(self) -> str:
+        """Which limit governs, in words."""
+        if self.mdmt_k is None and self.user_limit_k is None:
+            return "no limit given: neither an MDMT nor a cold limit"
+        if self.user_limit_k is None:
+            return "MDMT" + (f" ({self.mdmt_source})" if self.mdmt_source else "")
+        if self.mdmt_k is None:
+            return "cold limit entered by the user"
+        if self.user_limit_k >= self.mdmt_k:
+            return "cold limit entered by the user (warmer than the MDMT)"
+        return "MDMT" + (f" ({self.mdmt_source})" if self.mdmt_source else "") + " (warmer than the user's limit)"
+
+    def to_dict(self) -> dict:
+        return {"mdmt_k": self.mdmt_k, "mdmt_source": self.mdmt_source, "user_limit_k": self.user_limit_k,
+                "margin_k": self.margin_k, "governing_k": self.governing_k, "target_k": self.target_k,
+                "basis": self.basis}
+
+
+def classify(t_out_min_k: float | None, limits: ColdLimits, all_converged: bool = True) -> Outcome:
+    """The outcome for the coldest credible outlet temperature [K] (see the module text)."""
+    limit = limits.governing_k
+    if not all_converged or t_out_min_k is None or limit is None or not math.isfinite(t_out_min_k):
+        return Outcome.NOT_SCREENED
+    if t_out_min_k < limit:
+        return Outcome.FAIL
+    if t_out_min_k < limit + limits.margin_k:
+        return Outcome.MARGIN_ERODED
+    return Outcome.PASS
+
+
+def _c(t_k: float) -> str:
+    return f"{t_k - 273.15:.1f} degC ({t_k:.2f} K)"
+
+
+def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: ColdLimits) -> tuple[Outcome, Finding]:
+    """Outcome and finding for the outlet temperatures of a case's credible conditions.
+
+    Parameters
+    ----------
+    t_outs_k : sequence of (condition name, outlet temperature [K] or None)
+        None marks a condition that did not converge.
+    limits : ColdLimits
+
+    Returns
+    -------
+    (Outcome, Finding)
+    """
+    failed = [name for name, t in t_outs_k if t is None or not math.isfinite(t)]
+    done = [(name, float(t)) for name, t in t_outs_k if t is not None and math.isfinite(t)]
+    coldest_name, coldest = min(done, key=lambda nt: nt[1]) if done else ("", None)
+    outcome = classify(coldest, limits, all_converged=not failed and bool(done))
+    limit = limits.governing_k
+    numbers = {"t_out_min_k": coldest, "governing_limit_k": limit, "margin_k": limits.margin_k,
+               "mdmt_k": limits.mdmt_k, "user_limit_k": limits.user_limit_k,
+               "margin_to_limit_k": None if coldest is None or limit is None else coldest - limit}
+    basis = (f"governing limit: {limits.basis}; outcome bands: fail below the limit, margin eroded within "
+             f"{limits.margin_k:g} K above it, pass above limit + margin")
+    if outcome is Outcome.NOT_SCREENED:
+        if failed:
+            msg = f"Not screened: the calculation did not converge for {', '.join(failed)}."
+        elif limit is None:
+            msg = "Not screened: no MDMT and no cold limit are given."
+        else:
+            msg = "Not screened: no outlet temperature was computed."
+        return outcome, Finding(Topic.COLD_METAL, Severity.HAZARD, msg, numbers, basis, coldest_name)
+    assert coldest is not None and limit is not None
+    text = f"coldest outlet {_c(coldest)} ({coldest_name}) against the cold limit {_c(limit)}"
+    if outcome is Outcome.FAIL:
+        return outcome, Finding(Topic.COLD_METAL, Severity.HAZARD,
+                                f"Below the cold limit by {limit - coldest:.1f} K: {text}.", numbers, basis,
+                                coldest_name)
+    if outcome is Outcome.MARGIN_ERODED:
+        return outcome, Finding(Topic.COLD_METAL, Severity.CAUTION,
+                                f"Inside the {limits.margin_k:g} K margin ({coldest - limit:.1f} K above the "
+                                f"limit): {text}.", numbers, basis, coldest_name)
+    return outcome, Finding(Topic.COLD_METAL, Severity.INFORMATION,
+                            f"{coldest - limit:.1f} K above the cold limit: {text}.", numbers, basis, coldest_name)

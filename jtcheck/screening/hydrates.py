@@ -1,0 +1,836 @@
+"""Hydrate screening of a gas letdown outlet: the gas-gravity method and Hammerschmidt inhibitor dosing.
+
+Method
+------
+* Hydrate formation temperature: the gas-gravity method of Katz (D. L. Katz, "Prediction of conditions
+  for hydrate formation in natural gases", Trans. AIME 160 (1945) 140-149), evaluated with the curve
+  fit of the Katz chart by Motiee (M. Motiee, "Estimate possibility of hydrates", Hydrocarbon
+  Processing 70(7) (1991) 98-99)::
+
+      T [degF] = -238.24469 + 78.99667 x - 5.352544 x**2 + 349.473877 g - 150.854675 g**2 - 27.604065 g x
+
+  with ``x = log10(P [psia])`` and ``g`` the gas gravity relative to air.
+* Inhibitor: Hammerschmidt (E. G. Hammerschmidt, "Formation of gas hydrates in natural gas
+  transmission lines", Ind. Eng. Chem. 26 (1934) 851-855)::
+
+      dT [degF] = K W / (M (100 - W)),        W = 100 M dT / (K + M dT)
+
+  with W the inhibitor mass percent in the free-water phase, M its molar mass [g/mol] and K the
+  Hammerschmidt constant [degF].
+
+Both are screening methods for sweet natural gas with free water.  They are not a phase-equilibrium
+hydrate model: the gas-gravity method ignores composition beyond the gravity (CO2, H2S, nitrogen and
+heavy ends move the real curve), and Hammerschmidt ignores the inhibitor lost to the gas and to any
+hydrocarbon liquid.  Every limit of validity is carried into the result so that the page can show it.
+
+Sources and checks of the numbers
+---------------------------------
+* Motiee's coefficients (:data:`MOTIEE_COEFFICIENTS`): Motiee's paper itself could not be read.
+  The six numbers are those of the docstring of ``Motiee_hydrate_formation_T`` in the open-source
+  ``thermo`` library (C. Bell, Chemical Engineering Design Library, MIT licence; stored public copy
+  read with the search tool), which cites Motiee (1991), states that Chavoshi, Safamirzaei and
+  Pajoum Shariati, Gas Processing Journal 6 (2018) 15-36 show this form, and that Abdel Fattah, Oil
+  and Gas Business (2004) gives sample points confirming it; the same six numbers appear in several
+  independent stored implementations.  That docstring also records that Carroll, Natural Gas Hydrates (2014) prints a
+  constant of -283.24469 with K and kPa, taken there as a misprint; a 0.6-gravity gas at 1000 psia
+  gives 56 degF with -238.24469 but 11 degF with -283.24469, far from the chart's ~60 degF, which
+  supports that.  The
+  docstring's worked example (600 psi, gravity 0.555 -> 280.2819 K) is reproduced to 1e-9 by
+  the tests here.
+* Checked against (tests/screening/test_hydrates.py): methane hydrate at 0 degC and 26 bar
+  (Handbook of Multiphase Flow Assurance, 2019 (T. Y. Makogon; author and publisher from memory),
+  p. 130: "as a check point, methane hydrate stability at 0 degC is 26 bar"; the fit gives +3.1 K); a 0.7-gravity
+  gas at 900 psia forming hydrate at 64 degF as read from the Katz chart in a published methanol
+  injection worked example (the fit gives -1.1 K); a 0.6-gravity gas at 1000 psia near 60-62 degF
+  (Katz chart, from memory; the fit gives 56.3 degF, -2.6 K against 61 degF); methane hydrate near
+  283 K at 7.1 MPa (Sloan and Koh, Clathrate Hydrates of Natural Gases, 3rd ed. 2008, methane table,
+  from memory; the fit gives +1.3 K).  The largest deviation found, 3.1 K, is the basis of
+  :data:`MOTIEE_CHECKED_DEVIATION_K`; it is measured here, not a figure Motiee states.
+* Fit shape: in gravity the fit is a parabola with its maximum at
+  ``g* = (349.473877 - 27.604065 x) / (2 * 150.854675)``, 0.83 at 4000 psia and 0.88 at 1000 psia.
+  Above g* the fitted temperature falls slightly (by about 2 degF from g* to gravity 1.0 at 1000 psia),
+  which the chart does not show; hydrate temperature rises with gravity only below g*.  In pressure
+  the fit rises over the whole range of validity.
+
+Units: SI in and out (Pa, K); the fits are evaluated in their field units (psia, degF) inside.
+"""
+from __future__ import annotations
+
+import enum
+from dataclasses import dataclass
+
+import numpy as np
+
+from jtcheck.errors import InputError
+from jtcheck.thermo.components import find_component
+from jtcheck.thermo.fluid import Fluid
+
+__all__ = [
+    "ACID_GAS_NOTE_FRACTION",
+    "AIR_MOLAR_MASS_G_PER_MOL",
+    "INERT_NOTE_FRACTION",
+    "KATZ_GRAVITY_RANGE",
+    "KATZ_PRESSURE_RANGE_PA",
+    "KATZ_TEMPERATURE_RANGE_K",
+    "METHOD",
+    "MOTIEE_CHECKED_DEVIATION_K",
+    "MOTIEE_COEFFICIENTS",
+    "PSI_PA",
+    "HydrateAssessment",
+    "Inhibitor",
+    "InhibitorDose",
+    "KatzRangeCheck",
+    "assess_hydrates",
+    "gas_specific_gravity",
+    "hammerschmidt_depression_degf",
+    "hammerschmidt_depression_k",
+    "hammerschmidt_dose",
+    "hammerschmidt_weight_percent",
+    "hammerschmidt_weight_percent_degf",
+    "hydrate_temperature_k",
+    "in_katz_range",
+    "inhibitor_mass_ratio",
+    "katz_range_check",
+]
+
+# --------------------------------------------------------------------------------------------------
+# Constants
+
+#: One pound-force per square inch [Pa] (exact: 0.45359237 kg * 9.80665 m/s^2 / (0.0254 m)^2).
+PSI_PA = 0.45359237 * 9.80665 / 0.0254**2
+
+#: Molar mass of dry air used for the gas gravity [g/mol].  Published values lie between 28.9586 and
+#: 28.9647 g/mol; the spread moves the gravity by less than 0.03 %.
+AIR_MOLAR_MASS_G_PER_MOL = 28.9647
+
+#: Motiee (1991) fit of the Katz chart, T [degF] = b0 + b1 x + b2 x^2 + b3 g + b4 g^2 + b5 g x with
+#: x = log10(P [psia]); see the module docstring for where the numbers were checked.
+MOTIEE_COEFFICIENTS = (-238.24469, 78.99667, -5.352544, 349.473877, -150.854675, -27.604065)
+
+#: Largest deviation of the fit from the check points in the module docstring [K], rounded up.
+MOTIEE_CHECKED_DEVIATION_K = 3.5
+
+#: Gas gravity span of the Katz chart's curves, from pure methane (0.554) to 1.0 [-].  From memory of
+#: the chart (Katz 1945; GPSA Engineering Data Book, section 20); the same 0.55-1.0 band accompanies
+#: the Motiee fit in the stored implementations read, which are not the paper.
+KATZ_GRAVITY_RANGE = (0.55, 1.0)
+
+#: Pressure span used as the chart's range, 100 to 4000 psia [Pa].  From memory of the chart's
+#: pressure axis, not checked against a stored copy of the chart.
+KATZ_PRESSURE_RANGE_PA = (100.0 * PSI_PA, 4000.0 * PSI_PA)
+
+#: Hydrate-temperature span used as the chart's range, 32 to 80 degF [K].  Below 0 degC the chart's
+#: curves (drawn for liquid water) are extrapolations into the ice region; the upper end is from
+#: memory of the chart's temperature axis.
+KATZ_TEMPERATURE_RANGE_K = (273.15, (80.0 - 32.0) / 1.8 + 273.15)
+
+#: Mole fraction of CO2 plus H2S (dry basis) above which a note says the sweet-gas chart is off [-].
+#: A screening choice of jtcheck ("a few percent"), not a published limit.
+ACID_GAS_NOTE_FRACTION = 0.03
+
+#: Mole fraction of inert, non-hydrocarbon gases (nitrogen, argon, ...; dry basis) above which a
+#: note is given [-].  A screening choice of jtcheck, not a published limit.
+INERT_NOTE_FRACTION = 0.05
+
+#: Text naming the method, for results and records.
+METHOD = ("Katz gas-gravity method (Katz, Trans. AIME 160 (1945) 140) via the curve fit of Motiee, "
+          "Hydrocarbon Processing 70(7) (1991) 98; inhibitor by Hammerschmidt, Ind. Eng. Chem. 26 (1934) 851")
+
+_T0_K = 273.15
+_P_MAX_PA = 1.0e9
+_T_MAX_K = 1000.0
+_DEPRESSION_MAX_K = 150.0
+_MARGIN_MAX_K = 50.0
+
+
+def _degf_to_k(t_degf):
+    return (t_degf - 32.0) / 1.8 + _T0_K
+
+
+def _k(t_k: float) -> str:
+    return f"{t_k:.1f} K ({t_k - _T0_K:.1f} degC)"
+
+
+# --------------------------------------------------------------------------------------------------
+# Input checks
+
+
+def _finite_array(field: str, value, what: str, unit: str) -> np.ndarray:
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(field, f"{what} must be a number [{unit}], got {value!r}") from None
+    if arr.size == 0:
+        raise InputError(field, f"no value given; {what} is required [{unit}]")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        raise InputError(field, f"{what} must be a finite number [{unit}], got {arr[bad].flat[0]!r}")
+    return arr
+
+
+def _check_range(field: str, value, what: str, unit: str, lo: float, hi: float, lo_open: bool = False) -> np.ndarray:
+    arr = _finite_array(field, value, what, unit)
+    below = arr <= lo if lo_open else arr < lo
+    if below.any() or (arr > hi).any():
+        bad = arr[below | (arr > hi)].flat[0]
+        left = "above" if lo_open else "from"
+        raise InputError(field, f"{what} must lie {left} {lo:g} and at most {hi:g} {unit}, got {bad:g}")
+    return arr
+
+
+def _as_output(arr: np.ndarray, scalar: bool):
+    return float(arr) if scalar else arr
+
+
+# --------------------------------------------------------------------------------------------------
+# Gas gravity
+
+
+def gas_specific_gravity(fluid: Fluid) -> float:
+    """Gas gravity relative to air, on the water-free (dry) basis.
+
+    The ideal-gas ratio of molar masses, ``M_gas / M_air`` with M_air = 28.9647 g/mol
+    (:data:`AIR_MOLAR_MASS_G_PER_MOL`), as used by the gas-gravity method of Katz (1945).  Water
+    is left out and the other mole fractions renormalised, because the chart is read with the
+    gravity of the gas, not of the gas-water mixture.
+
+    Parameters
+    ----------
+    fluid : jtcheck.thermo.fluid.Fluid
+        The gas, possibly with water.
+
+    Returns
+    -------
+    float
+        Gas gravity, [-].
+
+    Raises
+    ------
+    InputError
+        ``fluid`` is not a Fluid, or it holds nothing but water.
+    """
+    if not isinstance(fluid, Fluid):
+        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    zs, mws = _dry_basis(fluid)
+    if zs.size == 0:
+        raise InputError("composition", "the fluid is pure water; the gas-gravity method needs a gas "
+                                        "(give at least one component other than water)")
+    return float(zs @ mws) / AIR_MOLAR_MASS_G_PER_MOL
+
+
+def _dry_basis(fluid: Fluid) -> tuple[np.ndarray, np.ndarray]:
+    """Mole fractions (renormalised) and molar masses [g/mol] of the non-water components."""
+    keep = [i for i, cid in enumerate(fluid.ids) if cid != "water"]
+    zs = np.asarray(fluid.zs, dtype=float)[keep]
+    mws = np.array([fluid.components[i].molar_mass_g_per_mol for i in keep], dtype=float)
+    total = float(zs.sum()) if zs.size else 0.0
+    if total <= 0.0:
+        return np.empty(0), np.empty(0)
+    return zs / total, mws
+
+
+# --------------------------------------------------------------------------------------------------
+# Hydrate formation temperature
+
+
+def hydrate_temperature_k(p_pa, gas_gravity: float):
+    """Hydrate formation temperature of a sweet natural gas with free water.
+
+    The gas-gravity method of Katz (Trans. AIME 160 (1945) 140), by the curve fit of Motiee
+    (Hydrocarbon Processing 70(7) (1991) 98)::
+
+        T [degF] = -238.24469 + 78.99667 x - 5.352544 x^2 + 349.473877 g - 150.854675 g^2 - 27.604065 g x
+
+    with x = log10(P [psia]).  Coefficients as shown by Chavoshi et al., Gas Processing J. 6
+    (2018) 15, taken from a stored copy of the thermo library's docstring; checked against the Katz
+    chart and methane hydrate data to within 3.1 K (see the module docstring).  The value is
+    computed outside the chart's range too; use :func:`katz_range_check` or :func:`in_katz_range`
+    to know whether a point is inside it.
+
+    Parameters
+    ----------
+    p_pa : float or array_like
+        Pressure, [Pa] (absolute).  Vectorised.
+    gas_gravity : float
+        Gas gravity relative to air, dry basis, [-].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Hydrate formation temperature, [K]; an array of the shape of ``p_pa`` when it is one.
+
+    Raises
+    ------
+    InputError
+        ``p_pa`` not finite or outside (0, 1e9] Pa; ``gas_gravity`` not finite or outside (0, 10].
+    """
+    scalar = np.ndim(p_pa) == 0
+    p = _check_range("p", p_pa, "pressure", "Pa", 0.0, _P_MAX_PA, lo_open=True)
+    g = float(_check_range("gas_gravity", gas_gravity, "gas gravity", "(air = 1)", 0.0, 10.0, lo_open=True))
+    b0, b1, b2, b3, b4, b5 = MOTIEE_COEFFICIENTS
+    x = np.log10(p / PSI_PA)
+    t_degf = b0 + b1 * x + b2 * x * x + b3 * g + b4 * g * g + b5 * g * x
+    return _as_output(_degf_to_k(t_degf), scalar)
+
+
+@dataclass(frozen=True)
+class KatzRangeCheck:
+    """Whether a point lies inside the range of the Katz chart.
+
+    Attributes
+    ----------
+    within : bool
+        All three checks pass.
+    gravity_ok, pressure_ok, temperature_ok : bool
+        Gas gravity within :data:`KATZ_GRAVITY_RANGE`, pressure within :data:`KATZ_PRESSURE_RANGE_PA`,
+        hydrate temperature within :data:`KATZ_TEMPERATURE_RANGE_K`.
+    reasons : tuple of str
+        One sentence for each failed check (empty when ``within``).
+    """
+
+    within: bool
+    gravity_ok: bool
+    pressure_ok: bool
+    temperature_ok: bool
+    reasons: tuple[str, ...]
+
+    @property
+    def note(self) -> str:
+        """One line for the page."""
+        if self.within:
+            return "inside the range of the Katz gas-gravity chart"
+        return "outside the range of the Katz gas-gravity chart: " + "; ".join(self.reasons)
+
+
+def in_katz_range(p_pa, gas_gravity: float):
+    """Vectorised range test of the Katz chart (gravity, pressure and fitted hydrate temperature).
+
+    The range is :data:`KATZ_GRAVITY_RANGE`, :data:`KATZ_PRESSURE_RANGE_PA` and
+    :data:`KATZ_TEMPERATURE_RANGE_K` of the gas-gravity method (Katz 1945; Motiee 1991 fit).
+
+    Parameters
+    ----------
+    p_pa : float or array_like
+        Pressure, [Pa].
+    gas_gravity : float
+        Gas gravity relative to air, [-].
+
+    Returns
+    -------
+    bool or numpy.ndarray of bool
+        True where the point is inside all three ranges.
+    """
+    scalar = np.ndim(p_pa) == 0
+    t = np.asarray(hydrate_temperature_k(p_pa, gas_gravity), dtype=float)
+    p = np.asarray(p_pa, dtype=float)
+    g_lo, g_hi = KATZ_GRAVITY_RANGE
+    p_lo, p_hi = KATZ_PRESSURE_RANGE_PA
+    t_lo, t_hi = KATZ_TEMPERATURE_RANGE_K
+    ok = (g_lo <= gas_gravity <= g_hi) & (p >= p_lo) & (p <= p_hi) & (t >= t_lo) & (t <= t_hi)
+    return bool(ok) if scalar else ok
+
+
+def katz_range_check(p_pa: float, gas_gravity: float) -> KatzRangeCheck:
+    """Range check of one point of the gas-gravity method (Katz 1945; Motiee 1991 fit), with reasons.
+
+    Parameters
+    ----------
+    p_pa : float
+        Pressure, [Pa].
+    gas_gravity : float
+        Gas gravity relative to air, [-].
+
+    Returns
+    -------
+    KatzRangeCheck
+    """
+    if np.ndim(p_pa) != 0:
+        raise InputError("p", "katz_range_check takes one pressure; use in_katz_range for arrays")
+    t = float(hydrate_temperature_k(p_pa, gas_gravity))
+    p = float(p_pa)
+    g_lo, g_hi = KATZ_GRAVITY_RANGE
+    p_lo, p_hi = KATZ_PRESSURE_RANGE_PA
+    t_lo, t_hi = KATZ_TEMPERATURE_RANGE_K
+    gravity_ok = g_lo <= gas_gravity <= g_hi
+    pressure_ok = p_lo <= p <= p_hi
+    temperature_ok = t_lo <= t <= t_hi
+    reasons = []
+    if not gravity_ok:
+        reasons.append(f"gas gravity {gas_gravity:.3f} outside the chart's range {g_lo:g}-{g_hi:g}")
+    if not pressure_ok:
+        reasons.append(f"pressure {p / 1e5:.2f} bar outside the chart's range {p_lo / 1e5:.1f}-{p_hi / 1e5:.0f} bar "
+                       f"(100-4000 psia)")
+    if not temperature_ok:
+        reasons.append(f"hydrate temperature {_k(t)} outside the chart's range {_k(t_lo)} to {_k(t_hi)}"
+                       + (": below 0 degC the curve is extrapolated into the ice region" if t < t_lo else ""))
+    return KatzRangeCheck(gravity_ok and pressure_ok and temperature_ok, gravity_ok, pressure_ok, temperature_ok,
+                          tuple(reasons))
+
+
+# --------------------------------------------------------------------------------------------------
+# Inhibitors (Hammerschmidt 1934)
+
+
+class Inhibitor(enum.Enum):
+    """Thermodynamic hydrate inhibitors with their Hammerschmidt constants.
+
+    ``value`` is the name shown to users.  The molar mass is read from jtcheck's component library.
+    """
+
+    METHANOL = "methanol"
+    MONOETHYLENE_GLYCOL = "MEG"
+
+    @property
+    def component_id(self) -> str:
+        """Id in the component library."""
+        return _INHIBITOR_DATA[self][0]
+
+    @property
+    def molar_mass_g_per_mol(self) -> float:
+        """Molar mass, [g/mol], from the component library."""
+        return find_component(self.component_id).molar_mass_g_per_mol
+
+    @property
+    def hammerschmidt_k_degf(self) -> float:
+        """Hammerschmidt constant K, [degF] (per mass percent, times g/mol)."""
+        return _INHIBITOR_DATA[self][1]
+
+    @property
+    def max_weight_percent(self) -> float:
+        """Upper end of the concentration range in which Hammerschmidt's equation is used, [wt%]."""
+        return _INHIBITOR_DATA[self][2]
+
+    @property
+    def source(self) -> str:
+        """Where K and the concentration limit come from."""
+        return _INHIBITOR_DATA[self][3]
+
+    @classmethod
+    def parse(cls, value: str | Inhibitor, field: str = "inhibitor") -> Inhibitor:
+        """Return the inhibitor named by ``value`` (case-insensitive name, member name or synonym).
+
+        Raises
+        ------
+        InputError
+            Unknown name; the message lists the valid ones.
+        """
+        if isinstance(value, Inhibitor):
+            return value
+        key = str(value).strip().lower().replace("_", " ").replace("-", " ")
+        for member in cls:
+            names = {member.value.lower(), member.name.lower().replace("_", " "), member.component_id}
+            names.update(s.replace("-", " ") for s in find_component(member.component_id).synonyms)
+            if key in names:
+                return member
+        raise InputError(field, f"unknown inhibitor {value!r}; allowed: " + ", ".join(m.value for m in cls))
+
+
+# (component id, K [degF], upper wt% of use, source)
+_INHIBITOR_DATA = {
+    # K = 2335 degF: Hammerschmidt's constant (Ind. Eng. Chem. 26 (1934) 851), as carried in the GPSA
+    # Engineering Data Book section 20 for methanol; the same value is used in the published methanol
+    # injection worked example checked in the tests (24 degF -> 24.75 wt%).  The 20-25 wt% limit of
+    # use: GPSA Engineering Data Book section 20, from memory, and common practice.
+    Inhibitor.METHANOL: ("methanol", 2335.0, 25.0,
+                         "K = 2335 degF (Hammerschmidt 1934, as in GPSA Engineering Data Book sec. 20); "
+                         "used up to about 20-25 wt% (GPSA sec. 20, from memory; common practice)"),
+    # K = 2700 degF for the glycols: GPSA Engineering Data Book section 20 (12th ed., Hammerschmidt
+    # equation), FROM MEMORY - not verified against the book.  A stored public page (Midstream
+    # Calculator, "Hydrate inhibition - engineering fundamentals") lists the same 2700 for MEG; other
+    # stored sources use 2200, 2222 or 4000, so the constant is uncertain.  Limit of use 60-70 wt% for
+    # the glycols: GPSA sec. 20, from memory.
+    Inhibitor.MONOETHYLENE_GLYCOL: ("monoethylene glycol", 2700.0, 70.0,
+                                    "K = 2700 degF for glycols (GPSA Engineering Data Book sec. 20, from memory, "
+                                    "not verified; stored sources use values from 2200 to 4000); used up to about "
+                                    "60-70 wt% (GPSA sec. 20, from memory)"),
+}
+
+
+def hammerschmidt_depression_degf(weight_percent, k_degf: float, molar_mass_g_per_mol: float):
+    """Hydrate temperature depression in field units, Hammerschmidt (Ind. Eng. Chem. 26 (1934) 851).
+
+    ``dT = K W / (M (100 - W))``.
+
+    Parameters
+    ----------
+    weight_percent : float or array_like
+        Inhibitor in the free-water phase, [wt%], 0 <= W < 100.
+    k_degf : float
+        Hammerschmidt constant, [degF].
+    molar_mass_g_per_mol : float
+        Molar mass of the inhibitor, [g/mol].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Depression of the hydrate temperature, [degF] (a temperature difference).
+    """
+    scalar = np.ndim(weight_percent) == 0
+    w = _check_range("weight_percent", weight_percent, "inhibitor concentration", "wt%", 0.0, 99.999)
+    k = float(_check_range("k", k_degf, "Hammerschmidt constant", "degF", 0.0, 1e5, lo_open=True))
+    m = float(_check_range("molar_mass", molar_mass_g_per_mol, "molar mass", "g/mol", 0.0, 1e4, lo_open=True))
+    return _as_output(k * w / (m * (100.0 - w)), scalar)
+
+
+def hammerschmidt_weight_percent_degf(depression_degf, k_degf: float, molar_mass_g_per_mol: float):
+    """Inhibitor concentration for a depression in field units, Hammerschmidt (1934) inverted.
+
+    ``W = 100 M dT / (K + M dT)``.
+
+    Parameters
+    ----------
+    depression_degf : float or array_like
+        Required depression of the hydrate temperature, [degF], >= 0.
+    k_degf : float
+        Hammerschmidt constant, [degF].
+    molar_mass_g_per_mol : float
+        Molar mass of the inhibitor, [g/mol].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Inhibitor in the free-water phase, [wt%].
+    """
+    scalar = np.ndim(depression_degf) == 0
+    d = _check_range("depression", depression_degf, "hydrate temperature depression", "degF",
+                     0.0, 1.8 * _DEPRESSION_MAX_K)
+    k = float(_check_range("k", k_degf, "Hammerschmidt constant", "degF", 0.0, 1e5, lo_open=True))
+    m = float(_check_range("molar_mass", molar_mass_g_per_mol, "molar mass", "g/mol", 0.0, 1e4, lo_open=True))
+    return _as_output(100.0 * m * d / (k + m * d), scalar)
+
+
+def hammerschmidt_depression_k(weight_percent, inhibitor: Inhibitor | str = Inhibitor.METHANOL):
+    """Hydrate temperature depression by an inhibitor, Hammerschmidt (Ind. Eng. Chem. 26 (1934) 851).
+
+    ``dT [degF] = K W / (M (100 - W))``, returned as a kelvin difference (dT [degF] / 1.8).
+
+    Parameters
+    ----------
+    weight_percent : float or array_like
+        Inhibitor in the free-water phase, [wt%], 0 <= W < 100.  Vectorised.
+    inhibitor : Inhibitor or str
+        ``Inhibitor.METHANOL`` ("methanol") or ``Inhibitor.MONOETHYLENE_GLYCOL`` ("MEG").
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Depression of the hydrate temperature, [K] (a temperature difference).
+
+    Raises
+    ------
+    InputError
+        Concentration outside [0, 100) wt%, or an unknown inhibitor (the message lists the valid ones).
+    """
+    inh = Inhibitor.parse(inhibitor)
+    d = hammerschmidt_depression_degf(weight_percent, inh.hammerschmidt_k_degf, inh.molar_mass_g_per_mol)
+    return d / 1.8
+
+
+def hammerschmidt_weight_percent(depression_k, inhibitor: Inhibitor | str = Inhibitor.METHANOL):
+    """Inhibitor concentration that depresses the hydrate temperature by ``depression_k``.
+
+    Hammerschmidt (Ind. Eng. Chem. 26 (1934) 851) solved for W: ``W = 100 M dT / (K + M dT)``, dT
+    in degF (= 1.8 x the kelvin difference).
+
+    Parameters
+    ----------
+    depression_k : float or array_like
+        Required depression of the hydrate temperature, [K] (a difference), 0 to 150 K.  Vectorised.
+    inhibitor : Inhibitor or str
+        ``Inhibitor.METHANOL`` ("methanol") or ``Inhibitor.MONOETHYLENE_GLYCOL`` ("MEG").
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Inhibitor in the free-water phase, [wt%].
+
+    Raises
+    ------
+    InputError
+        Depression outside [0, 150] K, or an unknown inhibitor (the message lists the valid ones).
+    """
+    inh = Inhibitor.parse(inhibitor)
+    scalar = np.ndim(depression_k) == 0
+    d = _check_range("depression", depression_k, "hydrate temperature depression", "K", 0.0, _DEPRESSION_MAX_K)
+    w = hammerschmidt_weight_percent_degf(1.8 * d, inh.hammerschmidt_k_degf, inh.molar_mass_g_per_mol)
+    return _as_output(np.asarray(w), scalar)
+
+
+def inhibitor_mass_ratio(weight_percent):
+    """Mass of inhibitor per mass of water in the aqueous phase, ``W / (100 - W)``.
+
+    The mass balance that goes with Hammerschmidt's concentration W (Ind. Eng. Chem. 26 (1934) 851):
+    it counts the inhibitor dissolved in the free water only, not the part lost to the gas or to a
+    hydrocarbon liquid (large for methanol).
+
+    Parameters
+    ----------
+    weight_percent : float or array_like
+        Inhibitor in the free-water phase, [wt%], 0 <= W < 100.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Inhibitor per water, [kg/kg].
+    """
+    scalar = np.ndim(weight_percent) == 0
+    w = _check_range("weight_percent", weight_percent, "inhibitor concentration", "wt%", 0.0, 99.999)
+    return _as_output(w / (100.0 - w), scalar)
+
+
+@dataclass(frozen=True)
+class InhibitorDose:
+    """Hammerschmidt dose for one required depression.
+
+    Attributes
+    ----------
+    inhibitor : str
+        Inhibitor name ("methanol", "MEG").
+    depression_k : float
+        Required depression of the hydrate temperature, [K].
+    weight_percent : float
+        Inhibitor in the free-water phase, [wt%].
+    kg_per_kg_water : float
+        Inhibitor per water in the aqueous phase, [kg/kg] (losses to gas and condensate excluded).
+    within_validity : bool
+        The concentration is within the range in which Hammerschmidt's equation is used.
+    note : str
+        The validity statement, with its source.
+    """
+
+    inhibitor: str
+    depression_k: float
+    weight_percent: float
+    kg_per_kg_water: float
+    within_validity: bool
+    note: str
+
+
+def hammerschmidt_dose(depression_k: float, inhibitor: Inhibitor | str = Inhibitor.METHANOL) -> InhibitorDose:
+    """Inhibitor dose for a required depression by Hammerschmidt (Ind. Eng. Chem. 26 (1934) 851), with its validity.
+
+    Parameters
+    ----------
+    depression_k : float
+        Required depression of the hydrate temperature, [K] (a difference), 0 to 150 K.
+    inhibitor : Inhibitor or str
+        ``Inhibitor.METHANOL`` ("methanol") or ``Inhibitor.MONOETHYLENE_GLYCOL`` ("MEG").
+
+    Returns
+    -------
+    InhibitorDose
+    """
+    inh = Inhibitor.parse(inhibitor)
+    if np.ndim(depression_k) != 0:
+        raise InputError("depression", "hammerschmidt_dose takes one depression; use hammerschmidt_weight_percent "
+                                       "for arrays")
+    w = float(hammerschmidt_weight_percent(depression_k, inh))
+    ratio = float(inhibitor_mass_ratio(w))
+    ok = w <= inh.max_weight_percent
+    if ok:
+        note = (f"{w:.1f} wt% {inh.value} is within the range of Hammerschmidt's equation "
+                f"(up to about {inh.max_weight_percent:g} wt%; {inh.source})")
+    else:
+        note = (f"{w:.1f} wt% {inh.value} is beyond the range of Hammerschmidt's equation "
+                f"(up to about {inh.max_weight_percent:g} wt%; {inh.source}); the dose is indicative only: "
+                f"the equation's error grows with concentration; confirm with a method valid there")
+    return InhibitorDose(inh.value, float(depression_k), w, ratio, ok, note)
+
+
+# --------------------------------------------------------------------------------------------------
+# Assessment
+
+
+@dataclass(frozen=True)
+class HydrateAssessment:
+    """Hydrate screening of one letdown outlet.
+
+    Attributes
+    ----------
+    applies : bool
+        Water is in the composition or the user declared the gas water-saturated; when False the
+        hydrate numbers are shown for information only and no dose is given.
+    method : str
+        The methods used (Katz gas-gravity chart via Motiee's fit; Hammerschmidt).
+    gas_gravity : float
+        Gas gravity relative to air, dry basis, [-].
+    p_pa : float
+        Outlet pressure, [Pa].
+    t_out_k : float
+        Outlet temperature, [K].
+    t_hydrate_k : float
+        Hydrate formation temperature at ``p_pa`` without inhibitor, [K].
+    subcooling_k : float
+        ``t_hydrate_k - t_out_k``, [K]; positive inside the hydrate region.
+    in_hydrate_region : bool
+        The outlet point lies inside the hydrate curve (``subcooling_k > 0``), whether or not water is present.
+    design_margin_k : float
+        Margin by which the inhibited hydrate temperature is to stay below the outlet temperature, [K].
+    required_depression_k : float
+        ``max(0, subcooling_k + design_margin_k)`` when ``applies``, else 0, [K].
+    inhibitor : str
+        Inhibitor name ("methanol", "MEG").
+    inhibitor_weight_percent : float
+        Hammerschmidt concentration in the free water that depresses the hydrate temperature to
+        ``t_out_k - design_margin_k``, [wt%]; 0 when none is required.
+    inhibitor_kg_per_kg_water : float
+        Inhibitor per water in the aqueous phase, [kg/kg]; losses to gas and condensate excluded.
+    within_validity : bool
+        The point is inside the Katz chart's range and any dose inside Hammerschmidt's range.
+    validity_note : str
+        What is inside or outside the range, in words.
+    notes : tuple of str
+        Further cautions (composition, ice, declared water).
+    """
+
+    applies: bool
+    method: str
+    gas_gravity: float
+    p_pa: float
+    t_out_k: float
+    t_hydrate_k: float
+    subcooling_k: float
+    in_hydrate_region: bool
+    design_margin_k: float
+    required_depression_k: float
+    inhibitor: str
+    inhibitor_weight_percent: float
+    inhibitor_kg_per_kg_water: float
+    within_validity: bool
+    validity_note: str
+    notes: tuple[str, ...]
+
+    @property
+    def hydrate_risk(self) -> bool:
+        """Water is (or is declared) present and the outlet lies inside the hydrate region."""
+        return self.applies and self.in_hydrate_region
+
+
+def _composition_notes(fluid: Fluid) -> list[str]:
+    notes = []
+    keep = [i for i, cid in enumerate(fluid.ids) if cid != "water"]
+    zs = np.asarray(fluid.zs, dtype=float)[keep]
+    zs = zs / zs.sum()
+    comps = [fluid.components[i] for i in keep]
+    acid = sum(z for c, z in zip(comps, zs, strict=True) if c.id in ("carbon dioxide", "hydrogen sulfide"))
+    if acid > ACID_GAS_NOTE_FRACTION:
+        notes.append(f"CO2 and H2S are {100 * acid:.1f} mol% of the dry gas: the gas-gravity method is for sweet "
+                     "natural gas; CO2 and H2S shift the hydrate curve (H2S raises the hydrate temperature), so "
+                     "the screening result is approximate")
+    inert = sum(z for c, z in zip(comps, zs, strict=True) if c.family == "inert")
+    if inert > INERT_NOTE_FRACTION:
+        notes.append(f"inert gases (nitrogen, argon, ...) are {100 * inert:.1f} mol% of the dry gas: they raise the "
+                     "gravity without forming hydrate as readily, so the gas-gravity method is approximate")
+    other = sum(z for c, z in zip(comps, zs, strict=True) if c.family not in ("hydrocarbon", "inert", "acid gas"))
+    if other > 0.01:
+        notes.append(f"components other than hydrocarbons, inerts and acid gases are {100 * other:.1f} mol% of the "
+                     "dry gas: the gas-gravity method is for natural gas and may not apply")
+    return notes
+
+
+def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_present: bool | None = None,
+                    inhibitor: Inhibitor | str = Inhibitor.METHANOL, design_margin_k: float = 0.0) -> HydrateAssessment:
+    """Screen a letdown outlet for gas hydrates and size a thermodynamic inhibitor.
+
+    Hydrate temperature by the gas-gravity method of Katz (Trans. AIME 160 (1945) 140) through the fit
+    of Motiee (Hydrocarbon Processing 70(7) (1991) 98); inhibitor by Hammerschmidt (Ind. Eng. Chem. 26
+    (1934) 851), dosed so that the inhibited hydrate temperature is ``t_out_k - design_margin_k``.
+
+    Parameters
+    ----------
+    fluid : jtcheck.thermo.fluid.Fluid
+        The gas (with water if it carries water).
+    p_out_pa : float
+        Outlet pressure, [Pa], above 0 and at most 1e9 Pa.
+    t_out_k : float
+        Outlet temperature, [K], above 0 and at most 1000 K.
+    water_present : bool or None
+        None: decide from the composition (water among the components).  True: the user states the
+        gas is water-saturated or carries free water.  False: the user states there is no water.
+    inhibitor : Inhibitor or str
+        ``Inhibitor.METHANOL`` ("methanol", default) or ``Inhibitor.MONOETHYLENE_GLYCOL`` ("MEG").
+    design_margin_k : float
+        Margin between the outlet temperature and the inhibited hydrate temperature, [K], 0 to 50 K.
+
+    Returns
+    -------
+    HydrateAssessment
+
+    Raises
+    ------
+    InputError
+        Bad fluid, pressure, temperature, margin, ``water_present`` or inhibitor; the field is named.
+    """
+    if not isinstance(fluid, Fluid):
+        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    if np.ndim(p_out_pa) != 0:
+        raise InputError("p_out", "assess_hydrates takes one outlet pressure [Pa]")
+    if np.ndim(t_out_k) != 0:
+        raise InputError("t_out", "assess_hydrates takes one outlet temperature [K]")
+    p = float(_check_range("p_out", p_out_pa, "outlet pressure", "Pa", 0.0, _P_MAX_PA, lo_open=True))
+    t = float(_check_range("t_out", t_out_k, "outlet temperature", "K", 0.0, _T_MAX_K, lo_open=True))
+    margin = float(_check_range("design_margin", design_margin_k, "design margin", "K", 0.0, _MARGIN_MAX_K))
+    if water_present is not None and not isinstance(water_present, bool | np.bool_):
+        raise InputError("water_present", f"must be True, False or None (decide from the composition), "
+                                          f"got {water_present!r}")
+    inh = Inhibitor.parse(inhibitor, field="inhibitor")
+
+    has_water = "water" in fluid.ids
+    applies = has_water if water_present is None else bool(water_present)
+    gravity = gas_specific_gravity(fluid)
+    t_hyd = float(hydrate_temperature_k(p, gravity))
+    subcooling = t_hyd - t
+    in_region = subcooling > 0.0
+    check = katz_range_check(p, gravity)
+
+    notes: list[str] = []
+    if water_present is None:
+        notes.append("water is among the components: screened for hydrates" if has_water else
+                     "no water in the composition: not screened for hydrates (declare the gas water-saturated "
+                     "to screen it)")
+    elif water_present and not has_water:
+        notes.append("no water in the composition, but the gas is declared water-saturated: screened for hydrates")
+    elif not water_present and has_water:
+        notes.append("water is among the components, but the gas is declared free of water: not screened for "
+                     "hydrates")
+    elif not water_present:
+        notes.append("the gas is declared free of water: not screened for hydrates")
+    else:
+        notes.append("the gas is declared water-saturated: screened for hydrates")
+    if not applies and in_region:
+        notes.append(f"the outlet lies {subcooling:.1f} K inside the hydrate curve of this gas: hydrates would form "
+                     "if water were present")
+    if not check.gravity_ok:
+        notes.append(f"gas gravity {gravity:.3f} is outside the chart's range {KATZ_GRAVITY_RANGE[0]:g}-"
+                     f"{KATZ_GRAVITY_RANGE[1]:g}: the hydrate temperature is an extrapolation of the fit")
+    notes.extend(_composition_notes(fluid))
+    if applies and t < _T0_K:
+        notes.append(f"outlet below 0 degC ({_k(t)}): free water would freeze to ice unless inhibited, and the "
+                     "chart's curves, drawn for liquid water, are extrapolated there")
+
+    required = max(0.0, subcooling + margin) if applies else 0.0
+    if applies and not in_region and required > 0.0:
+        notes.append(f"the outlet is {-subcooling:.1f} K outside the hydrate region, within the design margin of "
+                     f"{margin:g} K: inhibitor is dosed to restore the margin")
+    if required > 0.0:
+        dose = hammerschmidt_dose(min(required, _DEPRESSION_MAX_K), inh)
+        weight, ratio, dose_ok = dose.weight_percent, dose.kg_per_kg_water, dose.within_validity
+        if required > _DEPRESSION_MAX_K:
+            notes.append(f"the required depression {required:.0f} K exceeds {_DEPRESSION_MAX_K:g} K; the dose "
+                         f"shown is for {_DEPRESSION_MAX_K:g} K")
+            dose_ok = False
+        notes.append("the dose is the inhibitor in the free-water phase only; the part lost to the gas and to any "
+                     "hydrocarbon liquid (large for methanol) comes on top")
+    else:
+        dose = None
+        weight, ratio, dose_ok = 0.0, 0.0, True
+
+    validity = [check.note]
+    if dose is not None:
+        validity.append(dose.note)
+    return HydrateAssessment(
+        applies=applies, method=METHOD, gas_gravity=gravity, p_pa=p, t_out_k=t, t_hydrate_k=t_hyd,
+        subcooling_k=subcooling, in_hydrate_region=in_region, design_margin_k=margin, required_depression_k=required,
+        inhibitor=inh.value, inhibitor_weight_percent=weight, inhibitor_kg_per_kg_water=ratio,
+        within_validity=bool(check.within and dose_ok), validity_note="; ".join(validity),
+        notes=tuple(notes))

@@ -1,0 +1,498 @@
+"""Screen a letdown case: every credible condition, with PR and SRK side by side, against every cold hazard.
+
+:func:`screen_letdown` is the one entry point that the register, the API and the CLI share:
+
+1. each credible condition (name, inlet pressure, inlet temperature, outlet pressure) is let down
+   isenthalpically with the case's equation of state and with the other of Peng-Robinson and SRK;
+   the colder outlet governs (model spread);
+2. a CO2-rich outlet below the CO2 triple-point pressure is recomputed against the sublimation line
+   (the fluid-only EOS has no solid phase, see :mod:`jtcheck.screening.co2_solids`);
+3. when operating ranges are given, a sweep finds the coldest combination inside them, which joins
+   the conditions as "coldest in the operating ranges";
+4. the coldest screened outlet is classified against the cold limits (:mod:`.cold_metal`), and
+   liquid dropout, hydrates, CO2 solids, icing and inverse Joule-Thomson are reported as findings;
+5. when the outcome is fail or margin eroded, the answers: the preheat that brings every condition
+   to the limit plus margin, and the lowest outlet pressure that keeps it there;
+6. a relief-valve case adds the nozzle throat and the downstream state after expansion to the back
+   pressure, against the outlet piping's and the flare header's limits.
+
+Everything here is SI; units are converted at the edges (web, API, CLI).
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from jtcheck.errors import InputError, JtcheckError
+from jtcheck.letdown.outlet_limit import outlet_pressure_limit
+from jtcheck.letdown.preheat import required_preheat
+from jtcheck.letdown.relief import relief_valve_case
+from jtcheck.letdown.sweep import operating_sweep
+from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, LetdownResult, letdown
+from jtcheck.screening.co2_solids import screen_co2_solids
+from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
+from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, plain, sort_findings
+from jtcheck.screening.hydrates import Inhibitor, assess_hydrates
+from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
+from jtcheck.thermo.eos import EOS
+from jtcheck.thermo.fluid import Fluid
+
+#: Name of the condition the operating sweep adds.
+SWEEP_CONDITION = "coldest in the operating ranges"
+#: Spread between models above which the finding becomes a caution [K].
+MODEL_SPREAD_CAUTION_K = 3.0
+#: Letdown warnings that a finding already covers (not repeated as model-validity notes).
+_COVERED_WARNINGS = ("the fluid warms on letdown", "CO2-rich fluid let down below")
+
+
+@dataclass(frozen=True)
+class Condition:
+    """One credible operating condition of a case (SI)."""
+
+    name: str
+    p_in_pa: float
+    t_in_k: float
+    p_out_pa: float
+
+
+@dataclass(frozen=True)
+class OperatingRanges:
+    """Ranges of the operating sweep: (low, high) each, equal ends for a fixed value [Pa, K, Pa]."""
+
+    p_in_pa: tuple[float, float]
+    t_in_k: tuple[float, float]
+    p_out_pa: tuple[float, float]
+
+    @property
+    def varies(self) -> bool:
+        return any(hi > lo for lo, hi in (self.p_in_pa, self.t_in_k, self.p_out_pa))
+
+
+@dataclass(frozen=True)
+class ReliefInputs:
+    """Relief-valve data of a case (SI; pressures absolute except the built-up back pressure, a difference)."""
+
+    set_pressure_pa: float
+    overpressure_fraction: float
+    t_relieving_k: float
+    superimposed_back_pressure_pa: float
+    built_up_back_pressure_pa: float
+    p_atm_pa: float = 101325.0
+    header_limit_k: float | None = None
+
+
+@dataclass(frozen=True)
+class ScreeningOptions:
+    """What to screen against and which answers to find."""
+
+    limits: ColdLimits
+    compare_models: bool = True
+    water_saturated: bool | None = None
+    inhibitor: str = "methanol"
+    mass_flow_kg_per_s: float | None = None
+    ranges: OperatingRanges | None = None
+    relief: ReliefInputs | None = None
+    answers: bool = True
+
+
+@dataclass(frozen=True)
+class ConditionScreen:
+    """One condition screened with every model.
+
+    Attributes
+    ----------
+    condition : Condition
+    results : dict
+        EOS value -> :class:`LetdownResult` (or None when the letdown refused its inputs).
+    t_screen_k : float or None
+        The outlet temperature screened [K]: the colder model, corrected for CO2 solids; None if any
+        model did not converge (the condition is then not screened).
+    governing_model : str
+    solids : dict or None
+        The CO2-solids outlet (``SolidCO2Outlet.to_dict()``) of the governing model when it applies.
+    message : str
+    """
+
+    condition: Condition
+    results: dict[str, LetdownResult | None]
+    t_screen_k: float | None
+    governing_model: str
+    solids: dict[str, Any] | None
+    message: str
+
+    @property
+    def converged(self) -> bool:
+        return self.t_screen_k is not None
+
+    def to_dict(self) -> dict[str, Any]:
+        return plain({
+            "condition": self.condition.name, "p_in_pa": self.condition.p_in_pa, "t_in_k": self.condition.t_in_k,
+            "p_out_pa": self.condition.p_out_pa, "t_screen_k": self.t_screen_k, "converged": self.converged,
+            "governing_model": self.governing_model, "message": self.message, "solids": self.solids,
+            "models": {eos: (None if r is None else {
+                "t_out_k": r.t_out if r.converged else None, "phase": r.phase, "converged": r.converged,
+                "vapor_fraction": r.vapor_fraction if r.converged else None, "message": r.message})
+                for eos, r in self.results.items()}})
+
+
+@dataclass(frozen=True)
+class Screening:
+    """Everything the screening of one case found (SI)."""
+
+    outcome: Outcome
+    limits: ColdLimits
+    t_out_min_k: float | None
+    coldest_condition: str
+    models: tuple[str, ...]
+    conditions: tuple[ConditionScreen, ...]
+    findings: tuple[Finding, ...]
+    answers: dict[str, Any] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        return plain({
+            "outcome": self.outcome.value, "outcome_sentence": self.outcome.sentence,
+            "limits": self.limits.to_dict(), "t_out_min_k": self.t_out_min_k,
+            "coldest_condition": self.coldest_condition, "models": list(self.models),
+            "conditions": [c.to_dict() for c in self.conditions],
+            "findings": [f.to_dict() for f in self.findings], "answers": self.answers})
+
+
+def model_fluids(fluid: Fluid, compare: bool = True) -> list[Fluid]:
+    """The case's fluid, then the same fluid under the other of PR and SRK (when ``compare``)."""
+    out = [fluid]
+    if compare:
+        out += [fluid.with_eos(e) for e in (EOS.PR, EOS.SRK) if e is not fluid.eos]
+    return out
+
+
+def _co2_rich(fluid: Fluid) -> bool:
+    return "carbon dioxide" in fluid.ids and float(fluid.zs[fluid.ids.index("carbon dioxide")]) > 0.0
+
+
+def _screen_condition(models: list[Fluid], cond: Condition) -> ConditionScreen:
+    results: dict[str, LetdownResult | None] = {}
+    temps: dict[str, float] = {}
+    solids_by_model: dict[str, dict[str, Any]] = {}
+    problems = []
+    for fl in models:
+        eos = fl.eos.value
+        try:
+            r = letdown(fl, cond.p_in_pa, cond.t_in_k, cond.p_out_pa)
+        except InputError as exc:
+            results[eos] = None
+            problems.append(f"{eos}: {exc}")
+            continue
+        results[eos] = r
+        if not r.converged:
+            problems.append(f"{eos}: {r.message}")
+            continue
+        t = r.t_out
+        if _co2_rich(fl) and cond.p_out_pa < CO2_TRIPLE_P_PA:
+            solid = screen_co2_solids(fl, r)
+            if solid.applies and not solid.converged:
+                problems.append(f"{eos}: CO2 solids calculation failed: {solid.message}")
+                continue
+            if solid.applies and solid.forms_solid:
+                t = solid.t_out_k
+                solids_by_model[eos] = solid.to_dict()
+        temps[eos] = t
+    if problems:
+        return ConditionScreen(cond, results, None, "", None, "not converged: " + "; ".join(problems))
+    gov = min(temps, key=temps.__getitem__)
+    return ConditionScreen(cond, results, temps[gov], gov, solids_by_model.get(gov),
+                           f"screened on {gov} (the colder of {', '.join(temps)})")
+
+
+def _sweep(models: list[Fluid], ranges: OperatingRanges) -> tuple[Condition | None, dict[str, Any]]:
+    """Coldest combination over the ranges with every model; the condition it adds and the sweep data."""
+    per_model: dict[str, Any] = {}
+    worst: tuple[float, Condition] | None = None
+    complete = True
+    for fl in models:
+        try:
+            sw = operating_sweep(fl, ranges.p_in_pa, ranges.t_in_k, ranges.p_out_pa)
+        except JtcheckError as exc:
+            per_model[fl.eos.value] = {"converged": False, "message": str(exc)}
+            complete = False
+            continue
+        d = sw.to_dict()
+        per_model[fl.eos.value] = d
+        if not sw.complete:
+            complete = False
+        t = sw.worst_t_out_k
+        if t is not None and math.isfinite(t) and (worst is None or t < worst[0]):
+            worst = (t, Condition(SWEEP_CONDITION, sw.worst_p_in_pa, sw.worst_t_in_k, sw.worst_p_out_pa))
+    data = {"ranges": {"p_in_pa": list(ranges.p_in_pa), "t_in_k": list(ranges.t_in_k),
+                       "p_out_pa": list(ranges.p_out_pa)},
+            "complete": complete, "models": per_model,
+            "worst": None if worst is None else {"t_out_k": worst[0], "p_in_pa": worst[1].p_in_pa,
+                                                 "t_in_k": worst[1].t_in_k, "p_out_pa": worst[1].p_out_pa}}
+    return (None if worst is None else worst[1]), data
+
+
+def _worst_of(findings: list[tuple[Finding, float]], total: int) -> Finding | None:
+    """The finding with the highest score; its message notes the other conditions that share the topic."""
+    if not findings:
+        return None
+    findings.sort(key=lambda fs: -fs[1])
+    top = findings[0][0]
+    others = sorted({f.condition for f, _ in findings[1:] if f.condition and f.condition != top.condition})
+    if not others:
+        return top
+    note = f" Worst of {len(findings)} of {total} conditions ({top.condition}); also: {', '.join(others)}."
+    return Finding(top.topic, top.severity, top.message + note, top.numbers, top.basis, top.condition)
+
+
+def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: ScreeningOptions) -> list[Finding]:
+    out: list[Finding] = []
+    dropout: list[tuple[Finding, float]] = []
+    ice: list[tuple[Finding, float]] = []
+    warm: list[tuple[Finding, float]] = []
+    hyd: list[tuple[Any, str]] = []
+    solids: list[tuple[Finding, float]] = []
+    validity: dict[str, list[str]] = {}
+    for cs in screens:
+        name = cs.condition.name
+        r = cs.results.get(fluid.eos.value)
+        if r is None or not r.converged:
+            continue
+        if cs.solids is None:   # with dry ice, the fluid-only phase split is not the outlet state
+            f = liquid_dropout(fluid, r, name)
+            if f is not None:
+                dropout.append((f, f.numbers.get("outlet_liquid_fraction") or f.numbers.get("path_max_liquid_fraction")
+                                or 0.0))
+        t_eff = cs.t_screen_k if cs.t_screen_k is not None else r.t_out
+        f = icing(_with_t(r, t_eff), name)
+        if f is not None:
+            ice.append((f, -t_eff))
+        f = inverse_joule_thomson(r, name)
+        if f is not None:
+            warm.append((f, r.t_out - r.t_in))
+        if cs.solids is not None:
+            s = cs.solids
+            solids.append((Finding(
+                Topic.CO2_SOLIDS, Severity.HAZARD,
+                f"Dry ice forms: the outlet settles on the CO2 sublimation line at {s['t_out_k'] - 273.15:.1f} degC "
+                f"({s['t_out_k']:.2f} K) with {100 * (s['solid_fraction'] or 0):.1f} mol% solid CO2 "
+                f"(the fluid-only EOS would report {r.t_out - 273.15:.1f} degC). Solid CO2 can block the outlet "
+                "piping and relief or vent lines.",
+                {"t_out_k": s["t_out_k"], "solid_fraction": s["solid_fraction"], "t_eos_k": r.t_out,
+                 "p_out_pa": r.p_out}, str(s.get("method") or "energy balance on the CO2 sublimation line"),
+                name), s["solid_fraction"] or 0.0))
+        try:
+            h = assess_hydrates(fluid, r.p_out, t_eff, water_present=options.water_saturated,
+                                inhibitor=Inhibitor(options.inhibitor))
+        except InputError as exc:
+            validity.setdefault(f"hydrate screen not possible: {exc}", []).append(name)
+        else:
+            hyd.append((h, name))
+        for w in r.warnings:
+            if not w.startswith(_COVERED_WARNINGS):
+                validity.setdefault(w, []).append(name)
+    n = len(screens)
+    for group in (solids, dropout, ice, warm):
+        f = _worst_of(group, n)
+        if f is not None:
+            out.append(f)
+    out += _hydrate_findings(hyd, options)
+    for text, names in validity.items():
+        where = "" if len(names) == n else f" ({', '.join(names)})"
+        out.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + where, {}, "model validity"))
+    return out
+
+
+def _with_t(r: LetdownResult, t: float) -> LetdownResult:
+    from dataclasses import replace
+
+    return r if t == r.t_out else replace(r, t_out=t)
+
+
+def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions) -> list[Finding]:
+    if not assessed:
+        return []
+    applying = [(h, n) for h, n in assessed if h.applies]
+    if not applying:
+        h = assessed[0][0]
+        return [Finding(Topic.HYDRATES, Severity.INFORMATION,
+                        "Not screened for hydrates: the fluid holds no water and the gas is not declared "
+                        "water-saturated.", {}, h.method)]
+    h, name = max(applying, key=lambda hn: hn[0].subcooling_k if math.isfinite(hn[0].subcooling_k) else -1e9)
+    numbers = {"t_hydrate_k": h.t_hydrate_k, "t_out_k": h.t_out_k, "subcooling_k": h.subcooling_k,
+               "p_pa": h.p_pa, "gas_gravity": h.gas_gravity, "inhibitor": h.inhibitor,
+               "inhibitor_weight_percent": h.inhibitor_weight_percent,
+               "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water, "within_validity": h.within_validity}
+    notes = "".join(f" {n}." for n in h.notes)
+    validity = "" if h.within_validity else f" Outside the method's range: {h.validity_note}."
+    if h.in_hydrate_region:
+        msg = (f"Hydrates can form: the outlet ({h.t_out_k - 273.15:.1f} degC) is {h.subcooling_k:.1f} K inside the "
+               f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at "
+               f"{h.p_pa / 1e5:.1f} bar abs). {h.inhibitor} at {h.inhibitor_weight_percent:.1f} wt% in the free "
+               f"water ({h.inhibitor_kg_per_kg_water:.2f} kg per kg of water, Hammerschmidt) would suppress it; "
+               f"or preheat.{validity}{notes}")
+        sev = Severity.HAZARD
+    else:
+        msg = (f"Outside the hydrate region: the outlet ({h.t_out_k - 273.15:.1f} degC) is {-h.subcooling_k:.1f} K "
+               f"warmer than the hydrate temperature ({h.t_hydrate_k - 273.15:.1f} degC).{validity}{notes}")
+        sev = Severity.INFORMATION if h.within_validity else Severity.CAUTION
+    return [Finding(Topic.HYDRATES, sev, msg, numbers, h.method + f"; {h.validity_note}", name)]
+
+
+def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Finding | None:
+    if len(models) < 2:
+        return None
+    done = [cs for cs in screens if cs.converged]
+    if not done:
+        return None
+    cs = min(done, key=lambda c: c.t_screen_k)
+    temps = {eos: r.t_out for eos, r in cs.results.items() if r is not None and r.converged}
+    spread = max(temps.values()) - min(temps.values())
+    listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
+    sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
+    return Finding(Topic.MODEL_SPREAD, sev,
+                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on the "
+                   f"colder ({cs.governing_model}).",
+                   {"t_out_k_by_model": temps, "spread_k": spread}, "PR and SRK side by side", cs.condition.name)
+
+
+def _answers(models: list[Fluid], screens: list[ConditionScreen], options: ScreeningOptions,
+             outcome: Outcome) -> dict[str, Any]:
+    target = options.limits.target_k
+    if target is None or outcome not in (Outcome.FAIL, Outcome.MARGIN_ERODED):
+        return {}
+    preheats, limits = [], []
+    for cs in screens:
+        c = cs.condition
+        for fl in models:
+            try:
+                ph = required_preheat(fl, c.p_in_pa, c.t_in_k, c.p_out_pa, target, options.mass_flow_kg_per_s)
+                ol = outlet_pressure_limit(fl, c.p_in_pa, c.t_in_k, target)
+            except JtcheckError as exc:
+                preheats.append({"condition": c.name, "model": fl.eos.value, "converged": False,
+                                 "message": str(exc)})
+                limits.append({"condition": c.name, "model": fl.eos.value, "converged": False,
+                               "message": str(exc)})
+                continue
+            preheats.append({"condition": c.name, "model": fl.eos.value, **ph.to_dict()})
+            limits.append({"condition": c.name, "model": fl.eos.value, **ol.to_dict()})
+    ok_ph = [p for p in preheats if p.get("converged")]
+    ok_ol = [o for o in limits if o.get("converged")]
+    preheat = {"target_k": target, "all_converged": len(ok_ph) == len(preheats), "cases": preheats,
+               "governing": max(ok_ph, key=lambda p: p.get("temperature_rise_k") or 0.0) if ok_ph else None}
+    bound = [o for o in ok_ol if o.get("p_out_min_pa") is not None]
+    pressure = {"target_k": target, "all_converged": len(ok_ol) == len(limits), "cases": limits,
+                "governing": max(bound, key=lambda o: o["p_out_min_pa"]) if bound else None}
+    return {"preheat": preheat, "outlet_pressure_limit": pressure}
+
+
+def _relief(models: list[Fluid], relief: ReliefInputs, limits: ColdLimits) -> tuple[dict[str, Any], list[Finding]]:
+    per_model: dict[str, Any] = {}
+    coldest: tuple[float, str] | None = None
+    findings: list[Finding] = []
+    for fl in models:
+        try:
+            rv = relief_valve_case(fl, relief.set_pressure_pa, relief.overpressure_fraction, relief.t_relieving_k,
+                                   relief.superimposed_back_pressure_pa, relief.built_up_back_pressure_pa,
+                                   p_atm_pa=relief.p_atm_pa, outlet_limit_k=limits.governing_k,
+                                   header_limit_k=relief.header_limit_k)
+        except JtcheckError as exc:
+            per_model[fl.eos.value] = {"converged": False, "message": str(exc)}
+            continue
+        d = rv.to_dict()
+        per_model[fl.eos.value] = d
+        t = d.get("t_downstream_k")
+        if rv.converged and t is not None and (coldest is None or t < coldest[0]):
+            coldest = (t, fl.eos.value)
+    data = {"models": per_model, "governing_model": None if coldest is None else coldest[1]}
+    if coldest is None:
+        findings.append(Finding(Topic.RELIEF, Severity.HAZARD, "Relief-valve calculation did not converge: "
+                                "the relieving case is not screened.", {}, "API 520 Part I"))
+        return data, findings
+    rv = per_model[coldest[1]]
+    nz = rv.get("nozzle") or {}
+    choke = "choked" if nz.get("choked") else "not choked"
+    findings.append(Finding(
+        Topic.RELIEF, Severity.INFORMATION,
+        f"Relieving at {rv['p_relieving_pa'] / 1e5:.2f} bar abs: flow {choke}; nozzle throat "
+        f"{rv['t_throat_k'] - 273.15:.1f} degC at {nz['p_throat_pa'] / 1e5:.2f} bar abs; after expansion to the "
+        f"back pressure {rv['p_back_pa'] / 1e5:.2f} bar abs the flow reaches the outlet piping at "
+        f"{coldest[0] - 273.15:.1f} degC ({coldest[1]}).",
+        {"p_relieving_pa": rv["p_relieving_pa"], "p_back_pa": rv["p_back_pa"], "p_throat_pa": nz.get("p_throat_pa"),
+         "t_throat_k": rv["t_throat_k"], "t_downstream_k": coldest[0], "choked": nz.get("choked"),
+         "critical_pressure_ratio": nz.get("critical_pressure_ratio"),
+         "ideal_critical_pressure_ratio": nz.get("ideal_critical_pressure_ratio")},
+        "API 520 Part I: isentropic nozzle (direct integration), isenthalpic expansion downstream"))
+    if relief.header_limit_k is not None and coldest[0] < relief.header_limit_k:
+        findings.append(Finding(
+            Topic.RELIEF, Severity.HAZARD,
+            f"The relieving flow reaches the flare header at {coldest[0] - 273.15:.1f} degC, "
+            f"{relief.header_limit_k - coldest[0]:.1f} K below the header's limit "
+            f"({relief.header_limit_k - 273.15:.1f} degC).",
+            {"t_downstream_k": coldest[0], "header_limit_k": relief.header_limit_k}, "flare header limit"))
+    data["t_downstream_k"] = coldest[0]
+    return data, findings
+
+
+def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: ScreeningOptions) -> Screening:
+    """Screen a case's credible conditions; see the module text for the steps.
+
+    Parameters
+    ----------
+    fluid : Fluid
+        The case's fluid with its chosen EOS.
+    conditions : sequence of Condition
+        At least one credible condition (pressures [Pa] absolute, temperatures [K]).
+    options : ScreeningOptions
+
+    Returns
+    -------
+    Screening
+        Outcome, findings and answers.  A condition that did not converge makes the outcome
+        "not screened" (never "pass").
+    """
+    if not isinstance(fluid, Fluid):
+        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    if not conditions:
+        raise InputError("conditions", "at least one credible condition is needed")
+    models = model_fluids(fluid, options.compare_models)
+    conds = list(conditions)
+    sweep_data: dict[str, Any] | None = None
+    if options.ranges is not None and options.ranges.varies:
+        worst, sweep_data = _sweep(models, options.ranges)
+        if worst is not None:
+            conds.append(worst)
+    screens = [_screen_condition(models, c) for c in conds]
+    outcome, cold = screen_cold_metal([(cs.condition.name, cs.t_screen_k) for cs in screens], options.limits)
+    if sweep_data is not None and not sweep_data["complete"] and outcome is not Outcome.FAIL:
+        outcome = Outcome.NOT_SCREENED
+        cold = Finding(cold.topic, Severity.HAZARD, cold.message + " The operating sweep is incomplete (points "
+                       "did not converge): not screened.", cold.numbers, cold.basis, cold.condition)
+    findings = [cold]
+    for cs in screens:
+        if not cs.converged:
+            findings.append(Finding(Topic.CONVERGENCE, Severity.HAZARD, f"{cs.condition.name}: {cs.message}",
+                                    {}, "flash convergence", cs.condition.name))
+    findings += _hazard_findings(fluid, screens, options)
+    spread = _model_spread(screens, models)
+    if spread is not None:
+        findings.append(spread)
+    answers = _answers(models, screens, options, outcome) if options.answers else {}
+    if sweep_data is not None:
+        answers["sweep"] = sweep_data
+    if options.relief is not None:
+        answers["relief_valve"], rf = _relief(models, options.relief, options.limits)
+        findings += rf
+        t_header = answers["relief_valve"].get("t_downstream_k")
+        header = options.relief.header_limit_k
+        if t_header is None and outcome is not Outcome.FAIL:
+            outcome = Outcome.NOT_SCREENED      # the relieving case did not converge
+        elif header is not None and t_header is not None and t_header < header:
+            outcome = Outcome.FAIL              # the flare header is too cold
+    done = [cs for cs in screens if cs.converged]
+    coldest = min(done, key=lambda c: c.t_screen_k) if done else None
+    return Screening(outcome=outcome, limits=options.limits,
+                     t_out_min_k=None if coldest is None else coldest.t_screen_k,
+                     coldest_condition="" if coldest is None else coldest.condition.name,
+                     models=tuple(f.eos.value for f in models), conditions=tuple(screens),
+                     findings=tuple(sort_findings(findings)), answers=plain(answers))

@@ -1,0 +1,367 @@
+"""Hydrate screening: Katz gas-gravity method (Motiee fit), Hammerschmidt dosing, outlet assessment.
+
+Every check value names its source beside it; "from memory" marks a value recalled without a source
+that could be read here.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from jtcheck.errors import InputError
+from jtcheck.screening.hydrates import (
+    KATZ_GRAVITY_RANGE,
+    KATZ_PRESSURE_RANGE_PA,
+    MOTIEE_CHECKED_DEVIATION_K,
+    PSI_PA,
+    HydrateAssessment,
+    Inhibitor,
+    assess_hydrates,
+    gas_specific_gravity,
+    hammerschmidt_depression_k,
+    hammerschmidt_dose,
+    hammerschmidt_weight_percent,
+    hammerschmidt_weight_percent_degf,
+    hydrate_temperature_k,
+    in_katz_range,
+    inhibitor_mass_ratio,
+    katz_range_check,
+)
+from jtcheck.thermo.components import find_component
+from jtcheck.thermo.fluid import Fluid
+
+WET_LEAN = {"methane": 0.9, "ethane": 0.06, "propane": 0.03, "water": 0.01}
+DRY_LEAN = {"methane": 0.9, "ethane": 0.06, "propane": 0.03, "carbon dioxide": 0.01}
+METHANE_GRAVITY = 16.0428 / 28.9647  # molar masses: components.csv (methane) and the module's air value
+
+
+def degf_to_k(t_degf: float) -> float:
+    return (t_degf - 32.0) / 1.8 + 273.15
+
+
+@pytest.fixture(scope="module")
+def wet_gas():
+    return Fluid(WET_LEAN, eos="PR")
+
+
+@pytest.fixture(scope="module")
+def dry_gas():
+    return Fluid(DRY_LEAN, eos="PR")
+
+
+# --------------------------------------------------------------------------------------------------
+# Component ids used here exist
+
+
+@pytest.mark.parametrize("name", ["methane", "ethane", "propane", "water", "carbon dioxide", "hydrogen sulfide",
+                                  "nitrogen", "methanol", "monoethylene glycol"])
+def test_component_ids_exist(name):
+    assert find_component(name).id == name
+
+
+# --------------------------------------------------------------------------------------------------
+# Gas gravity
+
+
+def test_gas_gravity_dry_basis(wet_gas):
+    # Hand computation from the molar masses in components.csv: (0.9*16.0428 + 0.06*30.06904 +
+    # 0.03*44.09562) / 0.99 / 28.9647.
+    expected = (0.9 * 16.0428 + 0.06 * 30.06904 + 0.03 * 44.09562) / 0.99 / 28.9647
+    assert gas_specific_gravity(wet_gas) == pytest.approx(expected, rel=1e-12)
+    # Removing the water does not change the dry-basis gravity.
+    same_dry = Fluid({"methane": 0.9 / 0.99, "ethane": 0.06 / 0.99, "propane": 0.03 / 0.99}, eos="PR")
+    assert gas_specific_gravity(same_dry) == pytest.approx(expected, rel=1e-12)
+
+
+def test_gas_gravity_of_methane():
+    assert gas_specific_gravity(Fluid({"methane": 1.0})) == pytest.approx(METHANE_GRAVITY, rel=1e-12)
+
+
+def test_gas_gravity_rejects_pure_water_and_non_fluids():
+    with pytest.raises(InputError) as err:
+        gas_specific_gravity(Fluid({"water": 1.0}))
+    assert err.value.field == "composition"
+    with pytest.raises(InputError) as err:
+        gas_specific_gravity({"methane": 1.0})
+    assert err.value.field == "fluid"
+
+
+# --------------------------------------------------------------------------------------------------
+# Hydrate temperature: transcription of the fit and published check points
+
+
+def test_motiee_transcription_matches_published_example():
+    # Docstring example of Motiee_hydrate_formation_T in C. Bell's open-source thermo library (stored
+    # public copy; coefficients as in Chavoshi et al., Gas Processing J. 6 (2018) 15):
+    # Motiee_hydrate_formation_T(600.0*psi, 0.555) = 280.28189396992724 K.
+    assert hydrate_temperature_k(600.0 * PSI_PA, 0.555) == pytest.approx(280.28189396992724, rel=1e-9)
+
+
+@pytest.mark.parametrize(("p_pa", "gravity", "t_ref_k", "source"), [
+    # Handbook of Multiphase Flow Assurance (2019; T. Y. Makogon, author from memory) p. 130: "methane
+    # hydrate stability at 0 degC is 26 bar" (the fit gives 276.3 K, +3.1 K).
+    (26e5, METHANE_GRAVITY, 273.15, "Makogon 2019 p. 130"),
+    # Sloan and Koh, Clathrate Hydrates of Natural Gases, 3rd ed. (2008), methane hydrate table:
+    # about 283.2 K at 7.1 MPa -- from memory (the fit gives 284.5 K).
+    (7.1e6, METHANE_GRAVITY, 283.2, "Sloan and Koh 2008, from memory"),
+    # Katz chart read in a published methanol-injection worked example (MethanolInjection.xls,
+    # stored public copy): 0.7-gravity gas at 900 psia forms hydrate at 64 degF (fit: 62.0 degF).
+    (900.0 * PSI_PA, 0.7, degf_to_k(64.0), "Katz chart via worked example"),
+    # Katz chart (GPSA Engineering Data Book Fig. 20-19): 0.6-gravity gas at 1000 psia near 60-62 degF --
+    # from memory; 61 degF taken (fit: 56.3 degF).
+    (1000.0 * PSI_PA, 0.6, degf_to_k(61.0), "Katz chart, from memory"),
+])
+def test_fit_against_published_points(p_pa, gravity, t_ref_k, source):
+    t = hydrate_temperature_k(p_pa, gravity)
+    assert abs(t - t_ref_k) <= MOTIEE_CHECKED_DEVIATION_K, f"{source}: fit {t:.2f} K vs {t_ref_k:.2f} K"
+
+
+def test_hydrate_temperature_vectorised():
+    ps = np.array([[10e5, 20e5], [50e5, 100e5]])
+    ts = hydrate_temperature_k(ps, 0.65)
+    assert isinstance(ts, np.ndarray) and ts.shape == ps.shape
+    for p, t in zip(ps.ravel(), ts.ravel(), strict=True):
+        assert t == pytest.approx(hydrate_temperature_k(float(p), 0.65), rel=1e-14)
+    assert isinstance(hydrate_temperature_k(20e5, 0.65), float)
+
+
+# Pressures over the chart's range and gravities over the range in which the fit rises with gravity
+# (the fit's maximum in gravity lies at 0.83 or more up to 4000 psia; see the module docstring).
+_p_range = st.floats(KATZ_PRESSURE_RANGE_PA[0], KATZ_PRESSURE_RANGE_PA[1])
+_g_rising = st.floats(KATZ_GRAVITY_RANGE[0], 0.8)
+
+
+@settings(max_examples=200, deadline=None)
+@given(p1=_p_range, p2=_p_range, g=st.floats(*KATZ_GRAVITY_RANGE))
+def test_hydrate_temperature_rises_with_pressure(p1, p2, g):
+    lo, hi = sorted((p1, p2))
+    if hi - lo < 1.0:
+        return
+    assert hydrate_temperature_k(hi, g) > hydrate_temperature_k(lo, g)
+
+
+@settings(max_examples=200, deadline=None)
+@given(p=_p_range, g1=_g_rising, g2=_g_rising)
+def test_hydrate_temperature_rises_with_gravity(p, g1, g2):
+    lo, hi = sorted((g1, g2))
+    if hi - lo < 1e-6:
+        return
+    assert hydrate_temperature_k(p, hi) > hydrate_temperature_k(p, lo)
+
+
+def test_katz_range_checks():
+    inside = katz_range_check(1000.0 * PSI_PA, 0.7)
+    assert inside.within and inside.reasons == () and "inside" in inside.note
+    low_g = katz_range_check(1000.0 * PSI_PA, 0.5)
+    assert not low_g.within and not low_g.gravity_ok and low_g.pressure_ok
+    assert "gravity" in low_g.note
+    low_p = katz_range_check(2e5, 0.6)
+    assert not low_p.pressure_ok and not low_p.temperature_ok  # 2 bar: below 100 psia and below 0 degC
+    mask = in_katz_range(np.array([2e5, 50e5, 400e5]), 0.65)
+    assert mask.tolist() == [False, True, False]
+    assert in_katz_range(50e5, 0.65) is True
+
+
+# --------------------------------------------------------------------------------------------------
+# Hammerschmidt
+
+
+def test_hammerschmidt_methanol_worked_example():
+    # Published methanol-injection worked example (MethanolInjection.xls, stored public copy): depression
+    # 24 degF, M = 32, K_H = 2335 -> 24.75 wt% methanol in the water.
+    assert hammerschmidt_weight_percent_degf(24.0, 2335.0, 32.0) == pytest.approx(24.75, abs=0.005)
+    # Same through the SI interface with M = 32.04216 g/mol from components.csv: 24.77 wt%.
+    assert hammerschmidt_weight_percent(24.0 / 1.8, Inhibitor.METHANOL) == pytest.approx(24.75, abs=0.05)
+
+
+def test_hammerschmidt_glycol_worked_example_formula():
+    # Published glycol-injection worked example (Glycol Injection spreadsheet, stored public copy):
+    # EG, depression 24 degF, M = 62, K_H = 4000 -> 27.11 wt%.  Checks the formula; jtcheck's MEG
+    # constant is 2700, not the 4000 used there.
+    assert hammerschmidt_weight_percent_degf(24.0, 4000.0, 62.0) == pytest.approx(27.11, abs=0.005)
+
+
+def test_hammerschmidt_meg_hand_computed():
+    # Hand computation: W = 20 wt% MEG, K = 2700 degF, M = 62.06784 g/mol (components.csv):
+    # dT = 2700*20 / (62.06784*80) = 10.8752 degF = 6.0418 K.
+    assert hammerschmidt_depression_k(20.0, "MEG") == pytest.approx(2700 * 20 / (62.06784 * 80) / 1.8, rel=1e-12)
+    assert hammerschmidt_depression_k(20.0, "MEG") == pytest.approx(6.0418, abs=1e-4)
+    # and 0 wt% gives no depression
+    assert hammerschmidt_depression_k(0.0) == 0.0
+
+
+def test_inhibitor_constants():
+    assert Inhibitor.METHANOL.value == "methanol" and Inhibitor.MONOETHYLENE_GLYCOL.value == "MEG"
+    assert Inhibitor.METHANOL.hammerschmidt_k_degf == 2335.0  # Hammerschmidt 1934 / GPSA sec. 20
+    assert Inhibitor.METHANOL.molar_mass_g_per_mol == pytest.approx(32.04216)  # components.csv
+    assert Inhibitor.MONOETHYLENE_GLYCOL.molar_mass_g_per_mol == pytest.approx(62.06784)  # components.csv
+    for alias in ("methanol", "MeOH", "METHANOL"):
+        assert Inhibitor.parse(alias) is Inhibitor.METHANOL
+    for alias in ("MEG", "meg", "ethylene glycol", "monoethylene glycol", "MONOETHYLENE_GLYCOL"):
+        assert Inhibitor.parse(alias) is Inhibitor.MONOETHYLENE_GLYCOL
+
+
+def test_inhibitor_mass_ratio():
+    assert inhibitor_mass_ratio(20.0) == pytest.approx(0.25)  # 20/(100-20)
+    assert inhibitor_mass_ratio(50.0) == pytest.approx(1.0)
+    assert inhibitor_mass_ratio(np.array([0.0, 20.0])).tolist() == pytest.approx([0.0, 0.25])
+
+
+@settings(max_examples=200, deadline=None)
+@given(w=st.floats(0.0, 95.0), inh=st.sampled_from(list(Inhibitor)))
+def test_hammerschmidt_round_trip_from_weight(w, inh):
+    d = hammerschmidt_depression_k(w, inh)
+    if d > 150.0:
+        return
+    assert hammerschmidt_weight_percent(d, inh) == pytest.approx(w, rel=1e-9, abs=1e-9)
+
+
+@settings(max_examples=200, deadline=None)
+@given(d=st.floats(0.0, 150.0), inh=st.sampled_from(list(Inhibitor)))
+def test_hammerschmidt_round_trip_from_depression(d, inh):
+    w = hammerschmidt_weight_percent(d, inh)
+    assert 0.0 <= w < 100.0
+    assert hammerschmidt_depression_k(w, inh) == pytest.approx(d, rel=1e-9, abs=1e-9)
+
+
+@settings(max_examples=100, deadline=None)
+@given(d1=st.floats(0.0, 150.0), d2=st.floats(0.0, 150.0))
+def test_hammerschmidt_dose_rises_with_depression(d1, d2):
+    lo, hi = sorted((d1, d2))
+    if hi - lo < 1e-6:
+        return
+    assert hammerschmidt_weight_percent(hi) > hammerschmidt_weight_percent(lo)
+
+
+def test_hammerschmidt_dose_validity_flag():
+    small = hammerschmidt_dose(5.0, Inhibitor.METHANOL)
+    assert small.within_validity and "within" in small.note
+    assert small.kg_per_kg_water == pytest.approx(small.weight_percent / (100 - small.weight_percent))
+    big = hammerschmidt_dose(30.0, Inhibitor.METHANOL)  # about 41 wt%: beyond the 20-25 wt% of use
+    assert big.weight_percent > 25.0 and not big.within_validity and "beyond" in big.note
+    meg = hammerschmidt_dose(30.0, "MEG")
+    assert meg.inhibitor == "MEG" and meg.weight_percent > big.weight_percent
+
+
+# --------------------------------------------------------------------------------------------------
+# Input errors name the field
+
+
+@pytest.mark.parametrize(("call", "field"), [
+    (lambda: hydrate_temperature_k(0.0, 0.6), "p"),
+    (lambda: hydrate_temperature_k(-1e5, 0.6), "p"),
+    (lambda: hydrate_temperature_k(float("nan"), 0.6), "p"),
+    (lambda: hydrate_temperature_k(np.array([1e6, np.inf]), 0.6), "p"),
+    (lambda: hydrate_temperature_k(1e6, 0.0), "gas_gravity"),
+    (lambda: hydrate_temperature_k(1e6, float("nan")), "gas_gravity"),
+    (lambda: hammerschmidt_depression_k(100.0), "weight_percent"),
+    (lambda: hammerschmidt_depression_k(-1.0), "weight_percent"),
+    (lambda: hammerschmidt_weight_percent(-0.5), "depression"),
+    (lambda: hammerschmidt_weight_percent(1000.0), "depression"),
+    (lambda: hammerschmidt_weight_percent(5.0, "glycerol"), "inhibitor"),
+    (lambda: inhibitor_mass_ratio(100.0), "weight_percent"),
+])
+def test_input_errors_name_the_field(call, field):
+    with pytest.raises(InputError) as err:
+        call()
+    assert err.value.field == field
+
+
+def test_unknown_inhibitor_lists_valid_ones():
+    with pytest.raises(InputError) as err:
+        Inhibitor.parse("TEG")
+    assert "methanol" in err.value.message and "MEG" in err.value.message
+
+
+@pytest.mark.parametrize(("kwargs", "field"), [
+    ({"p_out_pa": 0.0}, "p_out"),
+    ({"p_out_pa": float("nan")}, "p_out"),
+    ({"t_out_k": -5.0}, "t_out"),
+    ({"t_out_k": 0.0}, "t_out"),
+    ({"design_margin_k": -1.0}, "design_margin"),
+    ({"design_margin_k": 500.0}, "design_margin"),
+    ({"water_present": "yes"}, "water_present"),
+    ({"inhibitor": "ethanol"}, "inhibitor"),
+])
+def test_assess_input_errors_name_the_field(wet_gas, kwargs, field):
+    args = {"p_out_pa": 20e5, "t_out_k": 260.0} | kwargs
+    p, t = args.pop("p_out_pa"), args.pop("t_out_k")
+    with pytest.raises(InputError) as err:
+        assess_hydrates(wet_gas, p, t, **args)
+    assert err.value.field == field
+    assert err.value.message
+
+
+def test_assess_rejects_non_fluid():
+    with pytest.raises(InputError) as err:
+        assess_hydrates(WET_LEAN, 20e5, 260.0)
+    assert err.value.field == "fluid"
+
+
+# --------------------------------------------------------------------------------------------------
+# Outlet assessment
+
+
+def test_wet_gas_cold_outlet_in_hydrate_region(wet_gas):
+    a = assess_hydrates(wet_gas, 20e5, 260.0)
+    assert isinstance(a, HydrateAssessment)
+    assert a.applies and a.in_hydrate_region and a.hydrate_risk
+    assert "Katz" in a.method and "Motiee" in a.method and "Hammerschmidt" in a.method
+    assert a.t_hydrate_k == pytest.approx(hydrate_temperature_k(20e5, a.gas_gravity))
+    assert a.subcooling_k == pytest.approx(a.t_hydrate_k - 260.0) and a.subcooling_k > 0
+    assert a.inhibitor == "methanol" and a.inhibitor_weight_percent > 0.0
+    # The dose depresses the hydrate temperature exactly to the outlet temperature (no margin).
+    assert hammerschmidt_depression_k(a.inhibitor_weight_percent, "methanol") == pytest.approx(a.subcooling_k)
+    assert a.inhibitor_kg_per_kg_water == pytest.approx(a.inhibitor_weight_percent / (100 - a.inhibitor_weight_percent))
+    # About 17 K of subcooling needs about 30 wt% methanol: beyond Hammerschmidt's range, flagged.
+    assert not a.within_validity and "beyond" in a.validity_note
+    assert any("0 degC" in n for n in a.notes)
+    with pytest.raises(AttributeError):
+        a.applies = False  # frozen
+
+
+def test_design_margin_raises_the_dose(wet_gas):
+    base = assess_hydrates(wet_gas, 20e5, 270.0)
+    margin = assess_hydrates(wet_gas, 20e5, 270.0, design_margin_k=3.0)
+    assert margin.required_depression_k == pytest.approx(base.subcooling_k + 3.0)
+    assert margin.inhibitor_weight_percent > base.inhibitor_weight_percent
+    meg = assess_hydrates(wet_gas, 20e5, 270.0, inhibitor="MEG")
+    assert meg.inhibitor == "MEG" and meg.inhibitor_weight_percent > base.inhibitor_weight_percent
+
+
+def test_wet_gas_warm_outlet_not_in_region(wet_gas):
+    a = assess_hydrates(wet_gas, 20e5, 300.0)
+    assert a.applies and not a.in_hydrate_region and not a.hydrate_risk
+    assert a.subcooling_k < 0
+    assert a.inhibitor_weight_percent == 0.0 and a.inhibitor_kg_per_kg_water == 0.0
+    assert a.within_validity
+
+
+def test_dry_gas_not_screened(dry_gas):
+    a = assess_hydrates(dry_gas, 20e5, 260.0)
+    assert not a.applies and not a.hydrate_risk
+    assert math.isfinite(a.t_hydrate_k) and math.isfinite(a.gas_gravity)  # numbers still shown
+    assert a.in_hydrate_region  # geometrically inside the curve, but no water
+    assert a.inhibitor_weight_percent == 0.0
+    assert any("not screened" in n for n in a.notes)
+
+
+def test_declared_water_overrides_composition(dry_gas, wet_gas):
+    a = assess_hydrates(dry_gas, 20e5, 260.0, water_present=True)
+    assert a.applies and a.hydrate_risk and a.inhibitor_weight_percent > 0.0
+    b = assess_hydrates(wet_gas, 20e5, 260.0, water_present=False)
+    assert not b.applies and b.inhibitor_weight_percent == 0.0
+
+
+def test_sour_gas_and_gravity_notes():
+    sour = Fluid({"methane": 0.85, "carbon dioxide": 0.10, "water": 0.05}, eos="PR")
+    a = assess_hydrates(sour, 50e5, 275.0)
+    assert any("CO2" in n and "sweet" in n for n in a.notes)
+    heavy = Fluid({"propane": 0.7, "n-butane": 0.3}, eos="PR")  # gravity about 1.67
+    b = assess_hydrates(heavy, 5e5, 290.0, water_present=True)
+    assert not b.within_validity
+    assert any("gravity" in n for n in b.notes)
