@@ -129,7 +129,8 @@ def test_inverse_joule_thomson_is_reported_not_hidden():
 
 def test_sweep_condition_joins_and_governs(lean_gas):
     ranges = OperatingRanges((70 * BAR, 90 * BAR), (T0 + 5, T0 + 15), (10 * BAR, 20 * BAR))
-    s = screen_letdown(lean_gas, [Condition("normal", 70 * BAR, T0 + 15, 20 * BAR)], ScreeningOptions(CS, ranges=ranges))
+    s = screen_letdown(lean_gas, [Condition("normal", 70 * BAR, T0 + 15, 20 * BAR)],
+                       ScreeningOptions(CS, ranges=ranges))
     names = [c.condition.name for c in s.conditions]
     assert names[-1] == screen_module.SWEEP_CONDITION
     assert s.coldest_condition == screen_module.SWEEP_CONDITION
