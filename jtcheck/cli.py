@@ -79,6 +79,7 @@ def _run_letdown(fluid_text: str, p_in: str, t_in: str, p_out: str, eos: str, ki
                  p_out_min: str | None = None, water_saturated: bool = False, inhibitor: str = "methanol",
                  mass_flow: str | None = None, compare_models: bool = True) -> int:
     from jtcheck import Fluid
+    from jtcheck.letdown.throttle import check_letdown_inputs
     from jtcheck.screening.screen import OperatingRanges, ScreeningOptions, screen_letdown
 
     try:
@@ -111,6 +112,7 @@ def _run_letdown(fluid_text: str, p_in: str, t_in: str, p_out: str, eos: str, ki
             if not 0 < flow < 1e5:
                 raise InputError("mass_flow", "mass flow must lie between 0 and 100000 kg/s")
         fluid = Fluid(fluid_text, eos=eos, kij=None if kij == "table" else 0)
+        check_letdown_inputs(pin.pa, tin_k, pout.pa)
         ranges = OperatingRanges((pin.pa, p_in_max_pa or pin.pa), (t_in_min_k or tin_k, tin_k),
                                  (p_out_min_pa or pout.pa, pout.pa))
         options = ScreeningOptions(limits=limits, compare_models=compare_models,

@@ -136,3 +136,54 @@ def test_user_add_and_token_work_on_the_register(empty_register, tmp_path):
     engine.dispose()
     res = runner.invoke(main, ["user", "token", "nobody@example.test"])
     assert res.exit_code == EXIT_INPUT and "email" in res.output
+
+
+# -- screening from the command line --------------------------------------------------------------
+def test_failing_letdown_prints_outcome_findings_and_what_keeps_it_safe():
+    from jtcheck.cli import EXIT_FAIL
+
+    res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "100 barg", "--t-in", "10 degC",
+                                    "--p-out", "10 barg", "--limit", "-29 degC", "--margin", "5 K",
+                                    "--mass-flow", "5"])
+    assert res.exit_code == EXIT_FAIL, res.output
+    assert "OUTCOME: FAIL" in res.output
+    assert "[hazard] cold metal" in res.output
+    assert "preheat: heat the inlet to" in res.output and "kW" in res.output
+    assert "outlet pressure: keep it at or above" in res.output and "barg" in res.output
+    assert "licensed engineer" in res.output
+
+
+def test_exit_codes_tell_pass_margin_eroded_and_not_screened_apart():
+    from jtcheck.cli import EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED
+
+    base = ["letdown", "--fluid", FLUID, "--p-in", "50 bara", "--t-in", "10 degC", "--p-out", "10 bara", "--json"]
+    data = json.loads(CliRunner().invoke(main, base).output)
+    assert data["screening"]["outcome"] == "not screened" and data["exit_code"] == 0   # no limit: only computed
+    t_screen = data["screening"]["t_out_min_k"] - 273.15
+    passing = CliRunner().invoke(main, [*base, "--limit", f"{t_screen - 10:.3f} degC", "--margin", "5 K"])
+    assert passing.exit_code == 0 and json.loads(passing.output)["screening"]["outcome"] == "pass"
+    eroded = CliRunner().invoke(main, [*base, "--limit", f"{t_screen - 2:.3f} degC", "--margin", "5 K"])
+    assert eroded.exit_code == EXIT_MARGIN_ERODED
+    assert json.loads(eroded.output)["screening"]["outcome"] == "margin eroded"
+    assert EXIT_NOT_SCREENED not in (0, EXIT_INPUT, EXIT_MARGIN_ERODED)
+
+
+def test_ranges_add_conditions_and_a_sweep():
+    data = json.loads(run("letdown", "--fluid", FLUID, "--p-in", "70 barg", "--t-in", "10 degC", "--p-out", "20 barg",
+                          "--p-in-max", "85 barg", "--t-in-min", "2 degC", "--p-out-min", "15 barg",
+                          "--mdmt", "-46 degC", "--json").output)
+    names = [c["condition"] for c in data["screening"]["conditions"]]
+    assert names[:4] == ["normal", "min inlet temperature", "max inlet pressure", "min temperature + max pressure"]
+    assert names[-1] == "coldest in the operating ranges"
+    worst = data["screening"]["answers"]["sweep"]["worst"]
+    assert worst["p_out_pa"] == pytest.approx(16.01325e5)
+
+
+@pytest.mark.parametrize("extra, field", [(["--limit", "cold"], "limit"), (["--margin", "-3 K"], "margin"),
+                                          (["--p-in-max", "50 barg"], "p_in_max"),
+                                          (["--mass-flow", "lots"], "mass_flow")])
+def test_bad_screening_input_exits_2_naming_the_field(extra, field):
+    res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "100 barg", "--t-in", "10 degC",
+                                    "--p-out", "10 barg", *extra])
+    assert res.exit_code == EXIT_INPUT
+    assert field in res.output

@@ -323,8 +323,8 @@ def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions
                "p_pa": h.p_pa, "gas_gravity": h.gas_gravity, "inhibitor": h.inhibitor,
                "inhibitor_weight_percent": h.inhibitor_weight_percent,
                "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water, "within_validity": h.within_validity}
-    notes = "".join(f" {n}." for n in h.notes)
-    validity = "" if h.within_validity else f" Outside the method's range: {h.validity_note}."
+    notes = "".join(f" {n[:1].upper()}{n[1:]}{'' if n.endswith('.') else '.'}" for n in h.notes)
+    validity = "" if h.within_validity else f" Validity: {h.validity_note.rstrip('.')}."
     if h.in_hydrate_region:
         msg = (f"Hydrates can form: the outlet ({h.t_out_k - 273.15:.1f} degC) is {h.subcooling_k:.1f} K inside the "
                f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at "
