@@ -54,10 +54,15 @@ _CS = "Carbon steel, not impact tested (typical -29 degC)"
 _LTCS = "Low-temperature carbon steel (typical -46 degC)"
 #: The units a user of the demo typed, and the SI field each belongs to.
 _DISPLAY = {"inlet_pressure": "barg", "inlet_pressure_max": "barg", "outlet_pressure": "barg",
-            "inlet_temperature": "degC", "inlet_temperature_min": "degC", "margin": "K", "mass_flow": "kg/s"}
+            "inlet_temperature": "degC", "inlet_temperature_min": "degC", "margin": "K", "mass_flow": "kg/s",
+            "outlet_pressure_min": "barg", "set_pressure": "barg", "overpressure": "%",
+            "superimposed_back_pressure": "barg", "built_up_back_pressure": "bar", "header_limit": "degC"}
 _SI_KEYS = {"inlet_pressure": "inlet_pressure_pa", "inlet_pressure_max": "inlet_pressure_max_pa",
             "outlet_pressure": "outlet_pressure_pa", "inlet_temperature": "inlet_temperature_k",
-            "inlet_temperature_min": "inlet_temperature_min_k", "margin": "margin_k", "mass_flow": "mass_flow_kg_per_s"}
+            "inlet_temperature_min": "inlet_temperature_min_k", "margin": "margin_k", "mass_flow": "mass_flow_kg_per_s",
+            "outlet_pressure_min": "outlet_pressure_min_pa", "set_pressure": "set_pressure_pa",
+            "overpressure": "overpressure_fraction", "superimposed_back_pressure": "superimposed_back_pressure_pa",
+            "built_up_back_pressure": "built_up_back_pressure_pa", "header_limit": "header_limit_k"}
 
 #: Invented cases: (unit, fluid, material, fields).
 CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
@@ -69,6 +74,7 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_temperature_min_k": T0 + 2.0,          # 2 degC, winter ground temperature
         "inlet_pressure_max_pa": 85 * BAR + P_ATM,    # 85 barg, pipeline maximum
         "outlet_pressure_pa": 19 * BAR + P_ATM,       # 19 barg
+        "outlet_pressure_min_pa": 16 * BAR + P_ATM,   # 16 barg, regulator droop at low demand
         "mass_flow_kg_per_s": 12.0, "margin_k": 5.0}),
     ("Inlet separation", "Kestrel separator gas", _LTCS, {
         "tag": "PSV-2101", "kind": CaseKind.RELIEF_VALVE,
@@ -76,7 +82,13 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_pressure_pa": 104.5 * BAR + P_ATM,     # 104.5 barg: set pressure 95 barg + 10 % overpressure
         "inlet_temperature_k": T0 + 30.0,             # 30 degC
         "inlet_temperature_min_k": T0 + 5.0,          # 5 degC
-        "outlet_pressure_pa": 3 * BAR + P_ATM,        # 3 barg built-up back pressure in the flare header
+        "outlet_pressure_pa": 3 * BAR + P_ATM,        # 3 barg total back pressure in the flare header
+        "set_pressure_pa": 95 * BAR + P_ATM,          # 95 barg
+        "overpressure_fraction": 0.10,                # 10 %
+        "superimposed_back_pressure_pa": 0.5 * BAR + P_ATM,   # 0.5 barg
+        "built_up_back_pressure_pa": 2.5 * BAR,       # 2.5 bar
+        "header_limit_k": T0 - 46.0,                  # -46 degC, low-temperature carbon steel header
+        "water_saturated": True,                      # separator gas leaves the separator water-saturated
         "mass_flow_kg_per_s": 25.0, "margin_k": 5.0}),
     ("LPG storage", "Kestrel LPG (propane/butane)", _CS, {
         "tag": "PSV-4101", "kind": CaseKind.RELIEF_VALVE,
@@ -85,6 +97,11 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_temperature_k": T0 + 20.0,             # 20 degC
         "inlet_temperature_min_k": T0 - 5.0,          # -5 degC, winter
         "outlet_pressure_pa": 1.5 * BAR + P_ATM,      # 1.5 barg flare header
+        "set_pressure_pa": 16 * BAR + P_ATM,          # 16 barg
+        "overpressure_fraction": 0.10,                # 10 %
+        "superimposed_back_pressure_pa": 0.5 * BAR + P_ATM,   # 0.5 barg
+        "built_up_back_pressure_pa": 1.0 * BAR,       # 1 bar
+        "header_limit_k": T0 - 46.0,                  # -46 degC
         "mass_flow_kg_per_s": 8.0, "margin_k": 5.0}),
     ("CO2 export", "Kestrel CO2 export", _LTCS, {
         "tag": "PCV-5101", "kind": CaseKind.CONTROL_VALVE,
@@ -94,6 +111,13 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_temperature_min_k": T0 + 10.0,         # 10 degC, aftercooler at maximum duty
         "outlet_pressure_pa": 40 * BAR + P_ATM,       # 40 barg
         "mass_flow_kg_per_s": 30.0, "margin_k": 10.0}),
+    ("CO2 export", "Kestrel CO2 export", _LTCS, {
+        "tag": "BDV-5102", "kind": CaseKind.BLOWDOWN_VALVE,
+        "service": "CO2 export pig launcher blowdown to atmospheric vent (dry ice case)",
+        "inlet_pressure_pa": 110 * BAR + P_ATM,       # 110 barg, dense phase
+        "inlet_temperature_k": T0 + 10.0,             # 10 degC
+        "outlet_pressure_pa": 0.2 * BAR + P_ATM,      # 0.2 barg at the vent
+        "margin_k": 5.0}),
     ("Fuel gas", "Kestrel fuel gas", _CS, {
         "tag": "PCV-3101", "kind": CaseKind.CONTROL_VALVE,
         "service": "Fuel gas letdown downstream of heater E-3100",
@@ -118,7 +142,7 @@ def _demo_user(session: Session) -> User:
 
 
 def load_demo(session: Session, user: User | None = None) -> Site:
-    """Load the invented Kestrel Ridge gas terminal: site, units, fluids, five cases, computed.
+    """Load the invented Kestrel Ridge gas terminal: site, units, fluids, six cases, computed and screened.
 
     All of it is one transaction; if the site already exists, nothing is changed and it is returned.
     The typical materials are seeded first if missing.  Every number is invented (see module docstring).

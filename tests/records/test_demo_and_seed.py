@@ -30,17 +30,23 @@ def test_demo_loads_the_invented_terminal_with_computed_cases(session, users):
     assert {u.name for u in site.units} == {"Inlet separation", "Town main PRS", "Fuel gas", "LPG storage",
                                             "CO2 export"}
     cases = service.list_cases(session, users[Role.CHECKER], site_id=site.id)
-    assert len(cases) == len(CASES) == 5
-    assert {c.kind for c in cases} == {CaseKind.CONTROL_VALVE, CaseKind.RELIEF_VALVE}
+    assert len(cases) == len(CASES) == 6
+    assert {c.kind for c in cases} == {CaseKind.CONTROL_VALVE, CaseKind.RELIEF_VALVE, CaseKind.BLOWDOWN_VALVE}
     assert "PCV-1101" in {c.tag for c in cases}
     latest = service.latest_results(session, [c.id for c in cases])
     for case in cases:
         result = latest[case.id]
         assert result.converged, (case.tag, result.message)
         assert result.t_out_min_k is not None and result.t_out_min_k < case.inlet_temperature_k
+        assert result.outcome in ("pass", "margin eroded", "fail"), (case.tag, result.outcome)
         assert case.mdmt_source.startswith("material: ")
         assert "invented" in case.basis.lower()
         assert case.display_units["inlet_pressure"] == "barg"
+    by_tag = {c.tag: latest[c.id] for c in cases}
+    # the demo shows the screening's range: a relief valve with its nozzle and header, and dry ice at a CO2 vent
+    assert by_tag["PSV-2101"].screening["answers"]["relief_valve"]["t_downstream_k"] is not None
+    assert any(f["topic"] == "CO2 solids" for f in by_tag["BDV-5102"].screening["findings"])
+    assert by_tag["BDV-5102"].outcome == "fail"
     demo_fluids = session.scalars(select(FluidRecord).where(FluidRecord.name.like("Kestrel%"))).all()
     assert len(demo_fluids) == 5
 
