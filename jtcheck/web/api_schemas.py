@@ -3,7 +3,11 @@ from __future__ import annotations
 
 from typing import Any
 
+from jtcheck.records import service
 from jtcheck.records.models import CaseKind
+from jtcheck.screening.findings import Outcome, Severity, Topic
+from jtcheck.screening.hydrates import Inhibitor
+from jtcheck.web import caseinput
 from jtcheck.web.openapi import ApiRegistry
 from jtcheck.web.quantities import CASE_QUANTITIES
 
@@ -21,6 +25,31 @@ STR_OR_NULL = {"type": ["string", "null"]}
 EOS_ENUM = {"type": "string", "enum": ["PR", "SRK", "RK", "VDW"]}
 KIJ_ENUM = {"type": "string", "enum": ["table", "zero"],
             "description": "table: jtcheck's table of published kij (missing pairs 0, and listed); zero: every kij 0"}
+OUTCOME_ENUM = {"type": "string", "enum": [o.value for o in Outcome],
+                "description": "pass: coldest screened outlet >= limit + margin; margin eroded: limit <= outlet < "
+                               "limit + margin; fail: outlet < limit; not screened: no limit given or a calculation "
+                               "did not converge (never a pass)."}
+INHIBITOR_ENUM = {"type": "string", "enum": [i.value for i in Inhibitor]}
+#: The key numbers of a screening in display units (``screening.display`` of a letdown answer and of a stored
+#: result), with the SI value each one shows.
+SCREENING_DISPLAY = {
+    "t_out_min": "Coldest screened outlet over every condition and model (t_out_min_k).",
+    "governing_limit": "The cold limit that governs: the warmer of the MDMT and the user's limit (limits.governing_k).",
+    "target": "Governing limit plus margin: the outlet temperature the answers aim at (limits.target_k).",
+    "margin": "Required margin above the governing limit (limits.margin_k).",
+    "mdmt": "MDMT (limits.mdmt_k).",
+    "preheat_t_in_required": "Inlet temperature that brings the governing condition to the target "
+                             "(answers.preheat.governing.t_in_required_k).",
+    "preheat_temperature_rise": "Preheat over that condition's inlet temperature "
+                                "(answers.preheat.governing.temperature_rise_k).",
+    "preheat_duty": "Heater duty in kW at the mass flow given (answers.preheat.governing.duty_w).",
+    "outlet_pressure_limit": "Lowest outlet pressure that keeps every condition at or above the target "
+                             "(answers.outlet_pressure_limit.governing.p_out_min_pa).",
+    "sweep_worst": "Coldest combination in the operating ranges: t_out, p_in, t_in, p_out (answers.sweep.worst); "
+                   "null without a sweep.",
+    "relief_t_downstream": "Relief valve: outlet piping temperature after expansion to the back pressure "
+                           "(answers.relief_valve.t_downstream_k).",
+}
 
 
 def register(api: ApiRegistry) -> None:
@@ -44,9 +73,11 @@ def register(api: ApiRegistry) -> None:
                                       {"type": "string"}, {"type": "number"}], "minItems": 2, "maxItems": 2}},
                                   {"type": "string"}]},
         "eos": {**EOS_ENUM, "default": "PR"}, "kij": {**KIJ_ENUM, "default": "table"}}})
+    _screening_schemas(api)
     s("LetdownRequest", {
         "type": "object", "required": ["p_in", "t_in", "p_out"], "additionalProperties": False,
-        "description": "Give either fluid or fluid_id.",
+        "description": "Give either fluid or fluid_id.  Every screening input is optional; without 'limit' or "
+                       "'mdmt' the outcome is 'not screened' and the findings are still given.",
         "properties": {
             "fluid": _ref("FluidSpec"), "fluid_id": {"type": "integer", "description": "A stored fluid."},
             "p_in": _ref("Quantity"), "t_in": _ref("Quantity"), "p_out": _ref("Quantity"),
@@ -54,26 +85,53 @@ def register(api: ApiRegistry) -> None:
                                                          "(default 1.01325 bar, stated in the answer)."},
             "units": {"type": "object", "additionalProperties": False,
                       "description": "Units of the display values (default: those of p_in and t_in).",
-                      "properties": {"pressure": {"type": "string"}, "temperature": {"type": "string"}}}}})
+                      "properties": {"pressure": {"type": "string"}, "temperature": {"type": "string"}}},
+            "limit": {**_nullable(_ref("Quantity")),
+                      "description": "Cold limit of the downstream steel (a temperature, e.g. \"-29 degC\")."},
+            "mdmt": {**_nullable(_ref("Quantity")),
+                     "description": "Minimum design metal temperature of the downstream material; the warmer of "
+                                    "limit and mdmt governs."},
+            "margin": {**_nullable(_ref("Quantity")), "default": "0 K",
+                       "description": "Required margin above the governing limit (a temperature difference, "
+                                      "e.g. \"5 K\"; 0 to 100 K)."},
+            "p_in_max": {**_nullable(_ref("Quantity")),
+                         "description": "Maximum credible inlet pressure (>= p_in): adds conditions and a sweep."},
+            "t_in_min": {**_nullable(_ref("Quantity")),
+                         "description": "Minimum credible inlet temperature (<= t_in): adds conditions and a sweep."},
+            "p_out_min": {**_nullable(_ref("Quantity")),
+                          "description": "Minimum credible outlet pressure (<= p_out): the sweep runs down to it."},
+            "water_saturated": {"type": ["boolean", "null"], "default": False,
+                                "description": "Screen for hydrates as if the gas were water-saturated "
+                                               "(water in the composition always counts)."},
+            "inhibitor": {**INHIBITOR_ENUM, "default": "methanol",
+                          "description": "Hydrate inhibitor for the Hammerschmidt dose."},
+            "mass_flow": {"oneOf": [{"type": "number", "exclusiveMinimum": 0, "description": "kg/s"},
+                                    {"type": "string", "examples": ["12 kg/s"]},
+                                    {"type": "object", "required": ["value", "unit"], "additionalProperties": False,
+                                     "properties": {"value": {"type": "number"},
+                                                    "unit": {"type": "string", "enum": ["kg/s"]}}},
+                                    {"type": "null"}],
+                          "description": "Mass flow in kg/s (the only unit), for the heater duty."},
+            "compare_models": {"type": ["boolean", "null"], "default": True,
+                               "description": "Let down with the other of PR and SRK as well and screen the colder "
+                                              "outlet."}}})
     s("LetdownResponse", {"type": "object", "properties": {
-        "converged": {"type": "boolean"}, "message": {"type": "string"}, "phase": {"type": "string"},
+        "converged": {"type": "boolean", "description": "The normal condition with the chosen EOS converged."},
+        "message": {"type": "string"}, "phase": {"type": "string"},
         "inlet_phase": {"type": "string"}, "vapor_fraction": NUM_OR_NULL, "inlet_vapor_fraction": NUM_OR_NULL,
         "warnings": {"type": "array", "items": {"type": "string"}},
+        "outcome": OUTCOME_ENUM, "outcome_sentence": {"type": "string"},
         "si": {"type": "object", "properties": {k: NUM_OR_NULL for k in (
-            "p_in_pa", "t_in_k", "p_out_pa", "t_out_k", "dt_k", "h_j_per_mol", "p_atm_pa")}},
-        "display": {"type": "object", "additionalProperties": _ref("DisplayValue")},
-        "fluid": {"type": "object"}, "basis": {"type": "object"},
+            "p_in_pa", "t_in_k", "p_out_pa", "t_out_k", "dt_k", "h_j_per_mol", "p_atm_pa", "p_in_max_pa",
+            "t_in_min_k", "p_out_min_pa")}},
+        "display": {"type": "object", "additionalProperties": _ref("DisplayValue"),
+                    "description": "The si values in the request's units (temperature differences in K, or degF "
+                                   "when temperatures are in degF); the screening's own numbers are in "
+                                   "screening.display."},
+        "fluid": {"type": "object"}, "screening": _ref("Screening"), "basis": {"type": "object"},
         "notes": {"type": "array", "items": {"type": "string"}}, "caution": {"type": "string"}}})
 
-    quantity_props = {q.name: {**_nullable(_ref("Quantity")), "description": f"{q.label} [{q.kind}]"}
-                      for q in CASE_QUANTITIES}
-    case_props: dict[str, Any] = {
-        "tag": {"type": "string", "maxLength": 64}, "service": {"type": "string"},
-        "kind": {"type": "string", "enum": [k.value for k in CaseKind]},
-        "unit_id": {"type": "integer"}, "fluid_id": {"type": "integer"}, "material_id": {"type": ["integer", "null"]},
-        **quantity_props,
-        "p_atm": {**_nullable(_ref("Quantity")), "description": "Atmospheric pressure for gauge units"},
-        "basis": {"type": "string"}, "references": {"type": "string"}}
+    case_props = {key: _case_property(key) for key in caseinput.INPUT_FIELDS}
     s("CaseInput", {"type": "object", "additionalProperties": False, "properties": case_props,
                     "required": ["unit_id", "tag", "kind", "fluid_id", "inlet_pressure", "inlet_temperature",
                                  "outlet_pressure"]})
@@ -87,14 +145,21 @@ def register(api: ApiRegistry) -> None:
         "si": {"type": "object", "additionalProperties": NUM_OR_NULL},
         "display": {"type": "object", "additionalProperties": _nullable(_ref("DisplayValue"))},
         "display_units": {"type": "object", "additionalProperties": {"type": "string"}},
+        "water_saturated": {"type": "boolean"}, "hydrate_inhibitor": {"type": "string"},
         "basis": {"type": "string"}, "references": {"type": "string"},
-        "latest_result": {"type": ["object", "null"]}}})
+        "latest_result": {"type": ["object", "null"], "properties": {
+            "id": {"type": "integer"}, "computed_at": STR_OR_NULL, "converged": {"type": "boolean"},
+            "t_out_min_k": NUM_OR_NULL, "outcome": _nullable(OUTCOME_ENUM), "outcome_sentence": STR_OR_NULL,
+            "current": {"type": ["boolean", "null"]}}}}})
     s("CaseList", {"type": "object", "properties": {"count": {"type": "integer"},
                                                     "cases": {"type": "array", "items": _ref("Case")}}})
     s("Result", {"type": "object", "properties": {
         "id": {"type": "integer"}, "case_id": {"type": "integer"}, "case_version": {"type": "integer"},
         "computed_at": {"type": "string"}, "converged": {"type": "boolean"}, "message": {"type": "string"},
-        "warnings": {"type": "array", "items": {"type": "string"}}, "outcome": STR_OR_NULL,
+        "warnings": {"type": "array", "items": {"type": "string"}},
+        "outcome": {**_nullable(OUTCOME_ENUM), "description": "The screening outcome (null: stored before screening)."},
+        "outcome_sentence": STR_OR_NULL,
+        "screening": {**_nullable(_ref("Screening")), "description": "The screening as computed and stored (SI)."},
         "t_out_min_k": NUM_OR_NULL, "limits": {"type": "object"}, "p_atm_pa": {"type": "number"},
         "conditions": {"type": "array", "items": {"type": "object"}}, "basis": {"type": "object"},
         "current": {"type": "boolean"}, "caution": {"type": "string"}}})
@@ -119,3 +184,85 @@ def register(api: ApiRegistry) -> None:
     s("SiteList", {"type": "object", "properties": {"sites": {"type": "array", "items": {"type": "object"}}}})
     s("AuditList", {"type": "object", "properties": {"entries": {"type": "array", "items": {"type": "object"}}}})
     s("OpenAPI", {"type": "object", "description": "This document."})
+
+
+_CASE_TEXT = {
+    "tag": {"type": "string", "maxLength": 64}, "service": {"type": "string"},
+    "kind": {"type": "string", "enum": [k.value for k in CaseKind]},
+    "unit_id": {"type": "integer"}, "fluid_id": {"type": "integer"}, "material_id": {"type": ["integer", "null"]},
+    "p_atm": {**_nullable(_ref("Quantity")), "description": "Atmospheric pressure for gauge units"},
+    "basis": {"type": "string"}, "references": {"type": "string"},
+    "water_saturated": {"type": "boolean", "default": False,
+                        "description": "Screen for hydrates as if the gas were water-saturated."},
+    "hydrate_inhibitor": {"type": "string", "enum": list(service.HYDRATE_INHIBITORS), "default": "methanol",
+                          "description": "Hydrate inhibitor for the Hammerschmidt dose."},
+}
+
+
+def _case_property(key: str) -> dict[str, Any]:
+    """The schema of one case-body field (every key :data:`caseinput.INPUT_FIELDS` accepts)."""
+    if key in _CASE_TEXT:
+        return _CASE_TEXT[key]
+    q = next((q for q in CASE_QUANTITIES if q.name == key), None)
+    if q is None:   # a field the case input accepts but this module does not know yet
+        return {"description": key.replace("_", " ")}
+    return {**_nullable(_ref("Quantity")),
+            "description": f"{q.label} [{q.kind.replace('_', ' ')}; units: {', '.join(q.choices)}; stored in "
+                           f"{q.si_unit}]"}
+
+
+def _screening_schemas(api: ApiRegistry) -> None:
+    """Schemas of ``Screening.to_dict()`` (jtcheck.screening.screen), shared by letdown answers and results."""
+    s = api.schema
+    s("ColdLimits", {"type": "object", "description": "Limits the outcome was judged against [K].", "properties": {
+        "mdmt_k": NUM_OR_NULL, "mdmt_source": {"type": "string"}, "user_limit_k": NUM_OR_NULL,
+        "margin_k": {"type": "number"}, "governing_k": NUM_OR_NULL, "target_k": NUM_OR_NULL,
+        "basis": {"type": "string"}}})
+    s("Finding", {"type": "object", "required": ["topic", "severity", "message"], "properties": {
+        "topic": {"type": "string", "enum": [t.value for t in Topic]},
+        "severity": {"type": "string", "enum": [v.value for v in Severity]},
+        "message": {"type": "string"},
+        "numbers": {"type": "object", "description": "The values behind the message, SI (unit in the key)."},
+        "basis": {"type": "string"}, "condition": {"type": "string"}}})
+    s("ScreenedCondition", {"type": "object", "properties": {
+        "condition": {"type": "string"}, "p_in_pa": {"type": "number"}, "t_in_k": {"type": "number"},
+        "p_out_pa": {"type": "number"},
+        "t_screen_k": {**NUM_OR_NULL, "description": "The outlet screened: the colder model, CO2 solids corrected; "
+                                                     "null when any model did not converge."},
+        "converged": {"type": "boolean"}, "governing_model": {"type": "string"}, "message": {"type": "string"},
+        "solids": {"type": ["object", "null"]},
+        "models": {"type": "object", "description": "EOS -> outlet by that model (null: inputs refused).",
+                   "additionalProperties": {"type": ["object", "null"], "properties": {
+                       "t_out_k": NUM_OR_NULL, "phase": {"type": "string"}, "converged": {"type": "boolean"},
+                       "vapor_fraction": NUM_OR_NULL, "message": {"type": "string"}}}}}})
+    answer_part = {"type": "object", "properties": {
+        "target_k": {"type": "number"}, "all_converged": {"type": "boolean"},
+        "cases": {"type": "array", "items": {"type": "object"}, "description": "One entry per condition and model."},
+        "governing": {"type": ["object", "null"], "description": "The entry that asks the most."}}}
+    s("ScreeningAnswers", {"type": "object", "description": "What keeps it safe (only on fail or margin eroded), "
+                                                            "the operating sweep and the relief-valve case.",
+                           "properties": {
+                               "preheat": {**answer_part, "description": "Required preheat per condition and model; "
+                                                                         "governing: the largest temperature rise "
+                                                                         "(t_in_required_k, temperature_rise_k, "
+                                                                         "duty_w)."},
+                               "outlet_pressure_limit": {**answer_part,
+                                                         "description": "Lowest outlet pressure per condition and "
+                                                                        "model; governing: the highest "
+                                                                        "(p_out_min_pa)."},
+                               "sweep": {"type": "object", "description": "Ranges swept, whether complete, and the "
+                                                                          "coldest combination (worst)."},
+                               "relief_valve": {"type": "object"}}})
+    s("ScreeningDisplay", {"type": "object", "properties": {
+        **{k: {**_nullable(_ref("DisplayValue")), "description": text} for k, text in SCREENING_DISPLAY.items()},
+        "sweep_worst": {"type": ["object", "null"], "additionalProperties": _ref("DisplayValue"),
+                        "description": SCREENING_DISPLAY["sweep_worst"]}}})
+    s("Screening", {"type": "object", "required": ["outcome", "conditions", "findings"], "properties": {
+        "outcome": OUTCOME_ENUM, "outcome_sentence": {"type": "string"}, "limits": _ref("ColdLimits"),
+        "t_out_min_k": NUM_OR_NULL, "coldest_condition": {"type": "string"},
+        "models": {"type": "array", "items": {"type": "string"}},
+        "conditions": {"type": "array", "items": _ref("ScreenedCondition")},
+        "findings": {"type": "array", "items": _ref("Finding"), "description": "Hazards first."},
+        "answers": _ref("ScreeningAnswers"),
+        "display": {**_ref("ScreeningDisplay"), "description": "The key numbers in display units: the request's "
+                                                               "(letdown) or the case's (stored result)."}}})

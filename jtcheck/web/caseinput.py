@@ -4,6 +4,13 @@ Both the HTML form and the JSON API hand over a mapping with the quantity fields
 (``{"inlet_pressure": "72 barg", ...}``); this module converts them with :mod:`jtcheck.units`, keeps
 the units typed in ``display_units``, and collects every conversion error at once, named by field.
 The records service then checks ranges and relations (and raises the first InputError it finds).
+
+Fields beyond the quantities: ``water_saturated`` (true/false; a form checkbox) and ``hydrate_inhibitor``
+("methanol" or "MEG", any letter case).  Relief-valve fields are quantities like the others:
+``set_pressure``, ``superimposed_back_pressure`` (pressures, gauge or absolute), ``overpressure`` in
+percent with its unit (``"10 %"`` or ``{"value": 10, "unit": "%"}``; a bare number is refused because a
+fraction and a percentage would both look plausible), ``built_up_back_pressure`` (a pressure difference:
+``"3 bar"``; barg and bara mean the same, no atmospheric offset) and ``header_limit`` (a temperature).
 """
 from __future__ import annotations
 
@@ -23,16 +30,32 @@ from jtcheck.web.quantities import (
 
 TEXT_FIELDS = ("tag", "service", "basis", "references")
 ID_FIELDS = ("unit_id", "fluid_id", "material_id")
+#: Screening choices that are not quantities: a flag and a choice of inhibitor.
+SCREENING_FIELDS = ("water_saturated", "hydrate_inhibitor")
+#: Hydrate inhibitors, as the records service spells them.
+HYDRATE_INHIBITORS = ("methanol", "MEG")
 #: Every key a case body may hold (API and form alike).
-INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm", "basis",
-                "references")
-_EXAMPLES = {"pressure": "72 barg", "temperature": "9 degC", "difference": "5 K", "mass_flow": "12 kg/s"}
+INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm",
+                *SCREENING_FIELDS, "basis", "references")
+_EXAMPLES = {"pressure": "72 barg", "temperature": "9 degC", "difference": "5 K", "mass_flow": "12 kg/s",
+             "percent": "10 %", "pressure_difference": "3 bar"}
+_TRUE_WORDS = ("on", "true", "yes", "1")
+_FALSE_WORDS = ("", "off", "false", "no", "0")
+
+
+def field_message(key: str, message: str) -> str:
+    """A service message for a person: SI keys named as the form and the API name them, percent explained."""
+    for q in CASE_QUANTITIES:
+        message = message.replace(f"({q.key})", f"({q.name})")
+    if key == "overpressure_fraction" and "out of range" in message:
+        message += " (entered in percent: 0 to 100 % of the set gauge pressure)"
+    return message
 
 
 def api_field(exc: InputError) -> InputError:
     """The same error, naming the field as the form and the API call it (``inlet_pressure``, not ``..._pa``)."""
-    field = form_field(exc.field)
-    return exc if field == exc.field else InputError(field, exc.message)
+    field, message = form_field(exc.field), field_message(exc.field, exc.message)
+    return exc if field == exc.field and message == exc.message else InputError(field, message)
 
 
 class FieldInputError(Exception):
@@ -63,6 +86,31 @@ def _id_value(value: Any) -> Any:
             return None
         if text.isdigit():
             return int(text)
+    return value
+
+
+def _flag(value: Any, form: bool) -> Any:
+    """A form checkbox ("on" or absent) to True/False; JSON values are left for the service to check."""
+    if not form:
+        return value
+    text = str(value or "").strip().lower()
+    if text in _TRUE_WORDS:
+        return True
+    if text in _FALSE_WORDS:
+        return False
+    raise InputError("water_saturated", f"{value!r} is not a yes/no value; tick the box or leave it empty")
+
+
+def _inhibitor(value: Any) -> Any:
+    """The inhibitor in the service's spelling ("meg" -> "MEG"); "" -> None (the default); others unchanged."""
+    if isinstance(value, str):
+        text = value.strip()
+        if not text:
+            return None
+        for name in HYDRATE_INHIBITORS:
+            if text.lower() == name.lower():
+                return name
+        return text
     return value
 
 
@@ -117,6 +165,15 @@ def convert(raw: Mapping[str, Any], *, current: Case | None = None, form: bool =
     for key in TEXT_FIELDS:
         if key in raw:
             out[key] = raw[key]
+    if "water_saturated" in raw:
+        try:
+            out["water_saturated"] = _flag(raw["water_saturated"], form)
+        except InputError as exc:
+            errors["water_saturated"] = exc.message
+    if "hydrate_inhibitor" in raw:
+        inhibitor = _inhibitor(raw["hydrate_inhibitor"])
+        if not (form and inhibitor is None and current is not None):   # an empty form field keeps what is stored
+            out["hydrate_inhibitor"] = inhibitor
     if "kind" in raw:
         out["kind"] = raw["kind"]
     for key in ID_FIELDS:

@@ -14,26 +14,46 @@ from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Case, CaseKind, CaseResult
 from jtcheck.units import pressure_from_pa
 from jtcheck.web import removal
-from jtcheck.web.caseinput import FieldInputError, changed_only, convert, form_field
+from jtcheck.web.caseinput import (
+    HYDRATE_INHIBITORS,
+    SCREENING_FIELDS,
+    FieldInputError,
+    changed_only,
+    convert,
+    field_message,
+    form_field,
+)
 from jtcheck.web.database import db_session
 from jtcheck.web.diagram import DiagramCache
 from jtcheck.web.forms import FormState
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
     P_ATM_CHOICES,
+    RELIEF_QUANTITIES,
     display_unit,
     input_number,
     p_atm_unit_for,
     to_display,
 )
-from jtcheck.web.results import basis_of, conditions_of, limits_of, units_of
+from jtcheck.web.results import (
+    NOT_COMPUTED,
+    OUTCOMES,
+    basis_of,
+    conditions_of,
+    limits_of,
+    outcome_of,
+    screening_view,
+    units_of,
+)
 from jtcheck.web.security import current_user, require_editor, require_viewer
 
 bp = Blueprint("cases", __name__)
 
 _TEXT_FIELDS = ("tag", "service", "kind", "unit_id", "fluid_id", "material_id", "basis", "references")
 CASE_FORM_FIELDS = (*_TEXT_FIELDS, *(q.name for q in CASE_QUANTITIES), *(f"{q.name}_unit" for q in CASE_QUANTITIES),
-                    "p_atm", "p_atm_unit", "version")
+                    "p_atm", "p_atm_unit", *SCREENING_FIELDS, "version")
+#: Values of the outcome filter of the case list.
+OUTCOME_FILTERS = (*OUTCOMES, NOT_COMPUTED)
 
 
 # -- helpers -------------------------------------------------------------------------------------
@@ -57,11 +77,13 @@ def _allowed_units(case: Case | None) -> dict[str, list[str]]:
 
 def _render_form(form: FormState, user, case: Case | None, status: int = 200):
     return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
+                           relief_quantities=RELIEF_QUANTITIES,
                            unit_options=_allowed_units(case), **_choices(user)), status
 
 
 def _new_form() -> FormState:
-    values = {"kind": CaseKind.CONTROL_VALVE.value, "p_atm": "1.01325", "p_atm_unit": "bar"}
+    values = {"kind": CaseKind.CONTROL_VALVE.value, "p_atm": "1.01325", "p_atm_unit": "bar", "water_saturated": "",
+              "hydrate_inhibitor": HYDRATE_INHIBITORS[0]}
     for q in CASE_QUANTITIES:
         values[f"{q.name}_unit"] = q.default_unit
     return FormState.of(values)
@@ -72,7 +94,9 @@ def _form_of(case: Case) -> FormState:
     values = {"tag": case.tag, "service": case.service, "kind": CaseKind(case.kind).value,
               "unit_id": str(case.unit_id), "fluid_id": str(case.fluid_id),
               "material_id": "" if case.material_id is None else str(case.material_id),
-              "basis": case.basis, "references": case.references, "version": str(case.version)}
+              "basis": case.basis, "references": case.references, "version": str(case.version),
+              "water_saturated": "on" if case.water_saturated else "",
+              "hydrate_inhibitor": case.hydrate_inhibitor or HYDRATE_INHIBITORS[0]}
     for q in CASE_QUANTITIES:
         unit = display_unit(q, shown)
         values[q.name] = input_number(to_display(q, getattr(case, q.key), unit, case.p_atm_pa))
@@ -85,9 +109,12 @@ def _form_of(case: Case) -> FormState:
 
 def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict[str, Any]:
     """The posted case as the mapping :func:`jtcheck.web.caseinput.convert` takes (quantities as "72 barg")."""
-    raw: dict[str, Any] = {k: form.get(k) for k in _TEXT_FIELDS}
+    raw: dict[str, Any] = {k: form.get(k) for k in (*_TEXT_FIELDS, *SCREENING_FIELDS)}
     for name in (*(q.name for q in CASE_QUANTITIES), "p_atm"):
         value, unit = form.get(name).strip(), form.get(f"{name}_unit").strip()
+        if not value and not unit:     # an optional field the form did not send
+            raw[name] = None
+            continue
         if unit not in allowed_units[name]:
             form.add(name, f"{unit!r} is not offered; choose a unit from the list ({', '.join(allowed_units[name])})")
             continue
@@ -96,11 +123,11 @@ def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict
 
 
 def _apply_input_error(form: FormState, exc: InputError) -> None:
-    field = form_field(exc.field)
+    field, message = form_field(exc.field), field_message(exc.field, exc.message)
     if field in CASE_FORM_FIELDS:
-        form.add(field, exc.message)
+        form.add(field, message)
     else:
-        form.general.append(f"{field}: {exc.message}")
+        form.general.append(f"{field}: {message}")
 
 
 def _case(case_id: int) -> Case:
@@ -115,9 +142,11 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
     if result is None:
         return {"result": None}
     units = units_of(result)
+    screening = screening_view(result)
     return {"result": result, "conditions": conditions_of(result), "limits": limits_of(result), "units": units,
             "basis": basis_of(result), "current": service.result_is_current(case, result),
-            "diagram": _diagrams().get(result)}
+            "screening": screening, "diagram": _diagrams().get(result),
+            "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 
 
 def _case_context(case: Case) -> dict[str, Any]:
@@ -132,7 +161,8 @@ def _case_context(case: Case) -> dict[str, Any]:
     user = current_user()
     return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown),
             "can_edit": service.can_edit_cases(user), "can_delete": removal.may_delete_case(user, case),
-            "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION}
+            "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,
+            "result_outcome": outcome_of}
 
 
 # -- list ------------------------------------------------------------------------------------------
@@ -177,13 +207,13 @@ def index():
         r = latest.get(c.id)
         conds = conditions_of(r) if r is not None else []
         margins = [x.margin_to_cold_limit_k for x in conds if x.margin_to_cold_limit_k is not None]
+        outcome = outcome_of(r)
         rows.append({"case": c, "result": r, "units": units_of(r) if r is not None else None,
                      "min_margin": min(margins) if margins else None,
-                     "not_screened": any(not x.converged for x in conds)})
+                     "not_screened": any(not x.converged for x in conds), "outcome": outcome})
     statuses = sorted(set(session.scalars(select(Case.status).distinct())))
-    outcomes = sorted({o for o in session.scalars(select(CaseResult.outcome).distinct()) if o})
     return render_template("cases/list.html", rows=rows, form=form, sites=service.list_sites(session, user),
-                           kinds=list(CaseKind), statuses=statuses, outcomes=[*outcomes, service.NOT_COMPUTED],
+                           kinds=list(CaseKind), statuses=statuses, outcomes=OUTCOME_FILTERS,
                            can_edit=service.can_edit_cases(user))
 
 

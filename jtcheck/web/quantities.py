@@ -3,6 +3,15 @@
 The web and the API accept a quantity as text with its unit, ``"72 barg"``, or as an object
 ``{"value": 72, "unit": "barg"}``; the forms send the number and the unit in two fields.  The unit typed
 is kept (``Case.display_units``) so that pages show the numbers the way they were entered.
+
+Two kinds need a word:
+
+* ``percent`` (the allowable overpressure of a relief valve) is entered in percent, ``"10 %"`` or
+  ``{"value": 10, "unit": "%"}``, and stored as a fraction (0.10).  A bare number is refused, as for every
+  other quantity: 0.1 and 10 would both be plausible, and a silent factor of 100 is not.
+* ``pressure_difference`` (the built-up back pressure) is a difference: gauge and absolute make no
+  difference, so ``"3 barg"``, ``"3 bara"`` and ``"3 bar"`` are all 3e5 Pa, converted without the
+  atmospheric offset; units bar, kPa, MPa, psi (and Pa, mbar).
 """
 from __future__ import annotations
 
@@ -30,11 +39,24 @@ PRESSURE_CHOICES = ("bara", "barg", "psia", "psig", "kPa", "MPa")
 TEMPERATURE_CHOICES = ("degC", "degF", "K")
 DIFFERENCE_CHOICES = ("K", "degC", "degF")
 P_ATM_CHOICES = ("bar", "kPa", "psia")
+#: Units of a pressure difference (gauge and absolute are the same for a difference).
+PRESSURE_DIFFERENCE_CHOICES = ("bar", "kPa", "MPa", "psi")
 #: The only mass-flow unit (jtcheck.units has no mass-flow conversions).
 MASS_FLOW_UNIT = "kg/s"
+#: The unit of fractions entered in percent.
+PERCENT_UNIT = "%"
+#: Pascal per unit of a pressure difference; the gauge and absolute spellings mean the same.
+_DIFFERENCE_PA: dict[str, tuple[str, float]] = {}
+for _names, _canon, _factor in ((("bar", "bara", "barg"), "bar", 1.0e5), (("kpa", "kpaa", "kpag"), "kPa", 1.0e3),
+                                (("mpa", "mpaa", "mpag"), "MPa", 1.0e6), (("psi", "psia", "psig"), "psi",
+                                                                           6894.757293168361),
+                                (("pa",), "Pa", 1.0), (("mbar",), "mbar", 100.0)):
+    for _n in _names:
+        _DIFFERENCE_PA[_n] = (_canon, _factor)
 
 _UNIT_OF = re.compile(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*(\S+?)\s*$")
 _NUMBER = re.compile(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*$")
+_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S*)\s*$")
 _TEMPERATURE_NAMES = {"k": "K", "degc": "degC", "c": "degC", "°c": "degC", "degf": "degF", "f": "degF",
                       "°f": "degF", "degr": "degR", "r": "degR"}
 _DIFFERENCE_NAMES = {"k": "K", "degc": "degC", "c": "degC", "degf": "degF", "f": "degF", "delta_degc": "degC",
@@ -53,8 +75,9 @@ class QuantityField:
     key : str
         The SI field of the case register (``inlet_pressure_pa``).
     kind : str
-        ``"pressure"`` (absolute or gauge), ``"temperature"``, ``"difference"`` (temperature difference)
-        or ``"mass_flow"``.
+        ``"pressure"`` (absolute or gauge), ``"temperature"``, ``"difference"`` (temperature difference),
+        ``"mass_flow"``, ``"percent"`` (entered in %, stored as a fraction) or ``"pressure_difference"``
+        (a pressure difference: no atmospheric offset).
     label : str
         Words for a person.
     required : bool
@@ -69,16 +92,19 @@ class QuantityField:
 
     @property
     def si_unit(self) -> str:
-        return {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s"}[self.kind]
+        return {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s", "percent": "fraction",
+                "pressure_difference": "Pa"}[self.kind]
 
     @property
     def choices(self) -> tuple[str, ...]:
         return {"pressure": PRESSURE_CHOICES, "temperature": TEMPERATURE_CHOICES, "difference": DIFFERENCE_CHOICES,
-                "mass_flow": (MASS_FLOW_UNIT,)}[self.kind]
+                "mass_flow": (MASS_FLOW_UNIT,), "percent": (PERCENT_UNIT,),
+                "pressure_difference": PRESSURE_DIFFERENCE_CHOICES}[self.kind]
 
     @property
     def default_unit(self) -> str:
-        return {"pressure": "barg", "temperature": "degC", "difference": "K", "mass_flow": MASS_FLOW_UNIT}[self.kind]
+        return {"pressure": "barg", "temperature": "degC", "difference": "K", "mass_flow": MASS_FLOW_UNIT,
+                "percent": PERCENT_UNIT, "pressure_difference": "bar"}[self.kind]
 
 
 CASE_QUANTITIES: tuple[QuantityField, ...] = (
@@ -88,11 +114,22 @@ CASE_QUANTITIES: tuple[QuantityField, ...] = (
     QuantityField("inlet_temperature_min", "inlet_temperature_min_k", "temperature",
                   "Minimum credible inlet temperature"),
     QuantityField("inlet_pressure_max", "inlet_pressure_max_pa", "pressure", "Maximum credible inlet pressure"),
+    QuantityField("outlet_pressure_min", "outlet_pressure_min_pa", "pressure", "Minimum credible outlet pressure"),
     QuantityField("mass_flow", "mass_flow_kg_per_s", "mass_flow", "Mass flow"),
     QuantityField("mdmt", "mdmt_k", "temperature", "MDMT"),
     QuantityField("cold_limit", "cold_limit_k", "temperature", "Cold limit"),
     QuantityField("margin", "margin_k", "difference", "Required margin"),
+    QuantityField("set_pressure", "set_pressure_pa", "pressure", "Set pressure"),
+    QuantityField("overpressure", "overpressure_fraction", "percent", "Allowable overpressure"),
+    QuantityField("superimposed_back_pressure", "superimposed_back_pressure_pa", "pressure",
+                  "Superimposed back pressure"),
+    QuantityField("built_up_back_pressure", "built_up_back_pressure_pa", "pressure_difference",
+                  "Built-up back pressure"),
+    QuantityField("header_limit", "header_limit_k", "temperature", "Flare header cold limit"),
 )
+#: The relief-valve inputs (used only for cases of kind relief_valve).
+RELIEF_QUANTITIES = ("set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
+                     "header_limit")
 QUANTITY_BY_NAME = {q.name: q for q in CASE_QUANTITIES}
 QUANTITY_BY_KEY = {q.key: q for q in CASE_QUANTITIES}
 
@@ -105,6 +142,10 @@ def unit_word(text: str) -> str:
 
 def canonical_unit(unit: str, kind: str) -> str:
     """The usual spelling of a unit word (``"BARG"`` -> ``"barg"``, ``"C"`` -> ``"degC"``)."""
+    if kind == "pressure_difference":
+        return _DIFFERENCE_PA.get(unit.lower(), (unit, 0.0))[0]
+    if kind == "percent":
+        return PERCENT_UNIT if unit.lower() in ("%", "percent") else unit
     table = {"pressure": _PRESSURE_NAMES, "temperature": _TEMPERATURE_NAMES,
              "difference": _DIFFERENCE_NAMES}.get(kind, {})
     return table.get(unit.lower(), unit)
@@ -145,6 +186,10 @@ def parse_quantity(q: QuantityField, text: str, p_atm_pa: float) -> tuple[float,
         return parse_temperature(text, q.name), canonical_unit(unit_word(text), "temperature")
     if q.kind == "difference":
         return parse_temperature_difference(text, q.name), canonical_unit(unit_word(text), "difference")
+    if q.kind == "percent":
+        return parse_percent(text, q.name), PERCENT_UNIT
+    if q.kind == "pressure_difference":
+        return parse_pressure_difference(text, q.name)
     # mass flow: kg/s only
     stripped = text.strip()
     if stripped.endswith(MASS_FLOW_UNIT):
@@ -155,6 +200,48 @@ def parse_quantity(q: QuantityField, text: str, p_atm_pa: float) -> tuple[float,
     if not math.isfinite(value):
         raise InputError(q.name, f"{text!r} is not a finite number")
     return value, MASS_FLOW_UNIT
+
+
+def _split_number(text: str, field: str, example: str) -> tuple[float, str]:
+    m = _NUMBER_UNIT.match(text)
+    if not m:
+        raise InputError(field, f"{text!r} is not a number followed by a unit, e.g. {example!r}")
+    value = float(m.group(1))
+    if not math.isfinite(value):
+        raise InputError(field, f"{text!r} is not a finite number")
+    return value, m.group(2).strip()
+
+
+def parse_percent(text: str, field: str) -> float:
+    """A fraction from text in percent (``"10 %"`` -> 0.10); the unit is required."""
+    value, unit = _split_number(text, field, "10 %")
+    if not unit:
+        raise InputError(field, f"{text!r} has no unit; write it in percent, e.g. '10 %'")
+    if unit.lower() not in ("%", "percent"):
+        raise InputError(field, f"unknown unit {unit!r}; give it in percent, e.g. '10 %'")
+    return value / 100.0
+
+
+def parse_pressure_difference(text: str, field: str) -> tuple[float, str]:
+    """``(difference [Pa], unit)`` from text such as ``"3 bar"``: no atmospheric offset (barg = bara = bar)."""
+    value, unit = _split_number(text, field, "3 bar")
+    if not unit:
+        raise InputError(field, f"{text!r} has no unit; write e.g. '3 bar'")
+    known = _DIFFERENCE_PA.get(unit.lower())
+    if known is None:
+        raise InputError(field, f"unknown unit {unit!r} for a pressure difference; allowed: "
+                                f"{', '.join(PRESSURE_DIFFERENCE_CHOICES)} (gauge or absolute makes no difference)")
+    canon, factor = known
+    return value * factor, canon
+
+
+def pressure_difference_from_pa(dp_pa: float, unit: str) -> float:
+    """A pressure difference [Pa] in ``unit`` (no atmospheric offset)."""
+    known = _DIFFERENCE_PA.get(unit.lower())
+    if known is None:
+        raise InputError("unit", f"unknown unit {unit!r} for a pressure difference; allowed: "
+                                 f"{', '.join(PRESSURE_DIFFERENCE_CHOICES)}")
+    return dp_pa / known[1]
 
 
 def parse_p_atm(text: str | None, field: str = "p_atm") -> float:
@@ -187,6 +274,10 @@ def to_display(q: QuantityField, si_value: float | None, unit: str, p_atm_pa: fl
         return temperature_from_k(si_value, unit)
     if q.kind == "difference":
         return temperature_difference_from_k(si_value, unit)
+    if q.kind == "percent":
+        return si_value * 100.0
+    if q.kind == "pressure_difference":
+        return pressure_difference_from_pa(si_value, unit)
     return si_value
 
 

@@ -1,12 +1,13 @@
 """Stored records as JSON for the API: SI values with their unit in the key, and the same values in the
-units the user typed."""
+units the user typed.  A stored result carries its screening (outcome, findings, answers; SI) as computed."""
 from __future__ import annotations
 
 from typing import Any
 
 from jtcheck.records.models import AuditEntry, Case, CaseKind, CaseResult, FluidRecord, KijMode, Material, Site
+from jtcheck.screening.findings import Outcome
+from jtcheck.web import results
 from jtcheck.web.quantities import CASE_QUANTITIES, display_unit, to_display
-from jtcheck.web.results import result_json
 
 
 def _iso(value) -> str | None:
@@ -31,6 +32,8 @@ def case_json(case: Case, latest: CaseResult | None = None, current: bool | None
         "fluid": {"id": case.fluid.id, "name": case.fluid.name},
         "material": None if case.material is None else {"id": case.material.id, "name": case.material.name},
         "mdmt_source": case.mdmt_source, "si": si, "display": display, "display_units": shown,
+        "water_saturated": bool(getattr(case, "water_saturated", False)),
+        "hydrate_inhibitor": getattr(case, "hydrate_inhibitor", None) or "methanol",
         "basis": case.basis, "references": case.references,
         "created_at": _iso(case.created_at), "updated_at": _iso(case.updated_at),
         "created_by": case.created_by.name if case.created_by else None,
@@ -39,9 +42,31 @@ def case_json(case: Case, latest: CaseResult | None = None, current: bool | None
     if latest is not None:
         out["latest_result"] = {"id": latest.id, "computed_at": _iso(latest.computed_at),
                                 "converged": latest.converged, "t_out_min_k": latest.t_out_min_k,
-                                "outcome": latest.outcome, "current": current}
+                                "outcome": latest.outcome, "outcome_sentence": outcome_sentence(latest.outcome),
+                                "current": current}
     else:
         out["latest_result"] = None
+    return out
+
+
+def outcome_sentence(outcome: str | None) -> str | None:
+    """The plain sentence of a stored outcome (None for a result stored before screening existed)."""
+    try:
+        return Outcome(outcome).sentence if outcome else None
+    except ValueError:
+        return None
+
+
+def result_json(result: CaseResult, current: bool | None = None) -> dict[str, Any]:
+    """A stored result for the API (:func:`jtcheck.web.results.result_json`), with its outcome and screening.
+
+    The screening is passed through as stored (``Screening.to_dict()``, SI); results stored before
+    screening existed have ``"screening": null`` and the outcome they were stored with.
+    """
+    out = results.result_json(result, current)
+    out.setdefault("outcome", result.outcome)
+    out.setdefault("outcome_sentence", outcome_sentence(result.outcome))
+    out.setdefault("screening", getattr(result, "screening", None))
     return out
 
 

@@ -2,8 +2,9 @@
 of their choice, compute it, read the result; and a checker who may look but not edit.
 
 The check value of the outlet temperature is computed here with :func:`jtcheck.letdown` from the inputs as
-typed (gauge pressure converted with the standard atmosphere), so the test follows the numbers from the form
-through unit conversion, storage and computation to the page.
+typed (gauge pressure converted with the standard atmosphere), with Peng-Robinson and SRK as the screening
+does (the colder governs), so the test follows the numbers from the form through unit conversion, storage
+and computation to the page; the outcome badge must say, in words, the outcome those numbers give.
 """
 from __future__ import annotations
 
@@ -74,13 +75,27 @@ def test_engineer_enters_a_fluid_and_a_case_in_chosen_units_computes_it_and_read
     expect(page.get_by_role("heading", name=re.compile(r"^Result of"))).to_be_visible()
 
     # the outlet temperature, in the unit the inlet temperature was typed in, against jtcheck.letdown
-    gas = Fluid(live_app.gas, eos="PR")   # kij from jtcheck's table, as the form's default
     p_in_pa, p_out_pa = 70e5 + P_ATM, 8e5
-    expected_k = min(letdown(gas, p_in=p_in_pa, t_in=T0 + t_c, p_out=p_out_pa).t_out for t_c in (15.0, 2.0))
-    coldest = page.locator("dl.facts dt:text-is('Coldest converged outlet') + dd")
+    expected_k = min(letdown(Fluid(live_app.gas, eos=eos), p_in=p_in_pa, t_in=T0 + t_c, p_out=p_out_pa).t_out
+                     for t_c in (15.0, 2.0) for eos in ("PR", "SRK"))   # kij from jtcheck's table (form default)
+    coldest = page.locator("dl.facts dt:text-is('Coldest screened outlet') + dd")
     expect(coldest).to_contain_text("degC")
     shown_c = _number(coldest.inner_text())
     assert shown_c == pytest.approx(expected_k - T0, abs=0.02)
+
+    # the outcome badge: its own shape (an SVG icon) and its outcome in words, beside the outcome sentence
+    limit_k, target_k = T0 - 29.0, T0 - 29.0 + 5.0
+    outcome = "fail" if expected_k < limit_k else ("margin eroded" if expected_k < target_k else "pass")
+    badge = page.locator("#outcome .outcome-badge")
+    expect(badge).to_be_visible()
+    expect(badge.locator(".outcome-label")).to_have_text(outcome.upper())
+    expect(badge).to_have_attribute("data-outcome", outcome)
+    icon = badge.locator("svg.outcome-icon")
+    expect(icon).to_be_visible()
+    icon_box = icon.bounding_box()
+    assert icon_box is not None and icon_box["width"] >= 20 and icon_box["height"] >= 20
+    expect(page.locator("#outcome .outcome-sentence")).to_contain_text(f"Outcome: {outcome}.")
+    expect(page.get_by_role("heading", name="Findings")).to_be_visible()
     for condition in ("Normal", "Min inlet temperature"):
         expect(page.get_by_role("heading", name=condition, exact=True)).to_be_visible()
 
@@ -90,15 +105,24 @@ def test_engineer_enters_a_fluid_and_a_case_in_chosen_units_computes_it_and_read
     assert _squash(CAUTION) in _squash(caution.inner_text())
 
     # the P-T diagram: an inline SVG, drawn and visible
-    diagram = page.locator("figure.diagram svg")
+    diagram = page.locator("figure.diagram svg.pt-diagram")
     expect(diagram).to_be_visible()
     expect(diagram.locator("title")).to_contain_text("Pressure-temperature diagram")
     box = diagram.bounding_box()
     assert box is not None and box["width"] > 300 and box["height"] > 150
     assert diagram.locator("path").count() > 20
     expect(page.get_by_role("heading", name="Pressure-temperature diagram")).to_be_visible()
+    # the minimum inlet temperature makes an operating sweep: its chart is drawn too
+    expect(page.get_by_role("heading", name="Operating sweep")).to_be_visible()
+    expect(page.get_by_role("img", name=re.compile(r"^Operating sweep"))).to_be_visible()
 
     page.screenshot(path=SCREENSHOT, full_page=True)
+
+    # the case list shows the same badge, small, in the case's row
+    page.get_by_role("navigation", name="Main").get_by_role("link", name="Cases").click()
+    row = page.locator("tr", has=page.get_by_role("link", name="PCV-E2E-101", exact=True))
+    expect(row.locator(".outcome-badge .outcome-label")).to_have_text(outcome.upper())
+    expect(row.locator(".outcome-badge svg.outcome-icon")).to_be_visible()
 
 
 def test_checker_can_view_and_compute_but_not_edit_a_case(page, live_app, sign_in):

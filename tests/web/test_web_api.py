@@ -146,6 +146,11 @@ BAD_CASE_API = [
     ("mdmt", {"mdmt": "-1000 degC"}), ("cold_limit", {"cold_limit": "abc"}), ("margin", {"margin": "500 K"}),
     ("p_atm", {"p_atm": "3 bar"}), ("service", {"service": ["a"]}), ("basis", {"basis": 1}),
     ("references", {"references": {"a": 1}}), ("status", {"status": "approved"}), ("colour", {"colour": "red"}),
+    # screening fields of a case
+    ("outlet_pressure_min", {"outlet_pressure_min": "20 barg"}), ("water_saturated", {"water_saturated": "yes"}),
+    ("hydrate_inhibitor", {"hydrate_inhibitor": "glycerol"}), ("overpressure", {"overpressure": 10}),
+    ("set_pressure", {"set_pressure": "80 barg", "overpressure": "10 %"}),
+    ("header_limit", {"header_limit": "cold"}),
 ]
 
 

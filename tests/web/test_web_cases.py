@@ -37,15 +37,19 @@ def test_create_compute_and_result_view_shows_outlet_temperature_and_diagram(app
         result = db_session().get(CaseResult, int(m.group(1)))
         normal = result.condition("normal")
         conditions = [e["condition"] for e in result.results]
-    assert conditions == ["normal", "min inlet temperature", "max inlet pressure", "min temperature + max pressure"]
+    assert conditions == ["normal", "min inlet temperature", "max inlet pressure", "min temperature + max pressure",
+                          "coldest in the operating ranges"]
     assert normal["converged"] and normal["t_out"] < normal["t_in"]
     t_out_text = f"{temperature_from_k(normal['t_out'], 'degC'):.2f} degC"
     assert t_out_text in page
     assert html.escape(CAUTION) in page
     for words in ("Margin to cold limit", "Margin to MDMT", "Temperature drop", "Vapour fraction",
-                  "Peng-Robinson", "kij basis", "Component data", "Min temperature + max pressure"):
+                  "Peng-Robinson", "kij basis", "Component data", "Min temperature + max pressure",
+                  "Coldest in the operating ranges", "Outlet, PR", "Outlet, SRK", "Model spread", "Screened outlet",
+                  "Operating sweep", "Findings"):
         assert words in page, words
-    svg = page[page.index("<svg"):page.index("</svg>") + 6]
+    start = page.index('<svg class="pt-diagram"')
+    svg = page[start:page.index("</svg>", start) + 6]
     assert 'class="pt-diagram"' in svg and "<path" in svg
     assert " style=" not in svg and "<script" not in svg.lower() and "<style" not in svg
     # the diagram is drawn once per result, then taken from the cache
@@ -54,17 +58,17 @@ def test_create_compute_and_result_view_shows_outlet_temperature_and_diagram(app
     assert app.extensions["jtcheck_diagrams"].renders == renders
 
 
-def test_margins_use_the_cold_limit_or_mdmt_plus_margin(app, engineer, world):
+def test_margins_are_to_the_governing_limit_and_the_target_is_limit_plus_margin(app, engineer, world):
     resp = engineer.post("/cases/new", data=case_form(world, mdmt="-100", margin="10", inlet_temperature_min=""))
     case_id = created_id(resp)
     page = engineer.get(engineer.post(f"/cases/{case_id}/compute").headers["Location"]).data.decode()
-    assert "MDMT + required margin (10 K)" in page
-    assert "-90.00 degC" in page        # the cold limit, MDMT + margin
+    assert "-100.00 degC" in page       # the governing limit: the MDMT (no cold limit entered)
+    assert "-90.00 degC" in page        # the target, limit + margin
     with app.app_context():
         t_out = db_session().scalars(select(CaseResult).where(CaseResult.case_id == case_id)).one().t_out_min_k
-    expected = t_out - (173.15 + 10.0)
+    expected = t_out - 173.15
     assert f"{expected:+.2f} K" in page
-    assert "at or above the cold limit" in page
+    assert "pass: at or above the cold limit plus the required margin" in page
 
 
 # -- units ------------------------------------------------------------------------------------------
@@ -257,4 +261,5 @@ def test_result_page_survives_a_diagram_that_cannot_be_drawn(app, engineer, worl
     resp = engineer.get(engineer.post(f"/cases/{case_id}/compute").headers["Location"])
     assert resp.status_code == 200
     page = resp.data.decode()
-    assert "The diagram could not be drawn" in page and "Margin to cold limit" in page and "<svg" not in page
+    assert "The diagram could not be drawn" in page and "Margin to cold limit" in page
+    assert 'class="pt-diagram"' not in page
