@@ -323,8 +323,8 @@ def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions
                "p_pa": h.p_pa, "gas_gravity": h.gas_gravity, "inhibitor": h.inhibitor,
                "inhibitor_weight_percent": h.inhibitor_weight_percent,
                "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water, "within_validity": h.within_validity}
-    notes = "".join(f" {n[:1].upper()}{n[1:]}{'' if n.endswith('.') else '.'}" for n in h.notes)
-    validity = "" if h.within_validity else f" Validity: {h.validity_note.rstrip('.')}."
+    notes = ""   # the method's range and notes travel in the basis, so the message stays readable
+    validity = "" if h.within_validity else " Outside the method's stated range: indicative only (see the basis)."
     if h.in_hydrate_region:
         msg = (f"Hydrates can form: the outlet ({h.t_out_k - 273.15:.1f} degC) is {h.subcooling_k:.1f} K inside the "
                f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at "
@@ -336,7 +336,8 @@ def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions
         msg = (f"Outside the hydrate region: the outlet ({h.t_out_k - 273.15:.1f} degC) is {-h.subcooling_k:.1f} K "
                f"warmer than the hydrate temperature ({h.t_hydrate_k - 273.15:.1f} degC).{validity}{notes}")
         sev = Severity.INFORMATION if h.within_validity else Severity.CAUTION
-    return [Finding(Topic.HYDRATES, sev, msg, numbers, h.method + f"; {h.validity_note}", name)]
+    basis = "; ".join([h.method, h.validity_note, *h.notes])
+    return [Finding(Topic.HYDRATES, sev, msg, numbers, basis, name)]
 
 
 def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Finding | None:

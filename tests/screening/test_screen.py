@@ -4,7 +4,6 @@ from __future__ import annotations
 import math
 
 import pytest
-from conftest import LEAN_GAS, RICH_GAS
 
 from jtcheck import Fluid, letdown
 from jtcheck.errors import InputError
@@ -168,7 +167,6 @@ def test_inputs_are_checked(lean_gas):
 def test_to_dict_is_plain_json(lean_gas):
     import json
 
-    s = screen_letdown(Fluid(LEAN_GAS), [Condition("normal", 100 * BAR, T0 + 10, 10 * BAR)], ScreeningOptions(CS))
+    s = screen_letdown(lean_gas, [Condition("normal", 100 * BAR, T0 + 10, 10 * BAR)], ScreeningOptions(CS))
     d = json.loads(json.dumps(s.to_dict(), allow_nan=False))
     assert d["outcome"] == "fail" and d["findings"][0]["topic"] == "cold metal"
-    assert RICH_GAS   # the shared fixtures module is importable here
