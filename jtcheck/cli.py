@@ -51,19 +51,6 @@ def _limit_options(limit: str | None, mdmt: str | None, margin: str):
                       mdmt_source="entered" if mdmt is not None else "")
 
 
-def _conditions(pin_pa: float, tin_k: float, pout_pa: float, p_in_max_pa: float | None, t_in_min_k: float | None):
-    from jtcheck.screening.screen import Condition
-
-    out = [Condition("normal", pin_pa, tin_k, pout_pa)]
-    if t_in_min_k is not None:
-        out.append(Condition("min inlet temperature", pin_pa, t_in_min_k, pout_pa))
-    if p_in_max_pa is not None:
-        out.append(Condition("max inlet pressure", p_in_max_pa, tin_k, pout_pa))
-    if t_in_min_k is not None and p_in_max_pa is not None:
-        out.append(Condition("min temperature + max pressure", p_in_max_pa, t_in_min_k, pout_pa))
-    return out
-
-
 def _exit_code(screening, limits_given: bool) -> int:
     from jtcheck.screening.findings import Outcome
 
@@ -80,7 +67,7 @@ def _run_letdown(fluid_text: str, p_in: str, t_in: str, p_out: str, eos: str, ki
                  mass_flow: str | None = None, compare_models: bool = True) -> int:
     from jtcheck import Fluid
     from jtcheck.letdown.throttle import check_letdown_inputs
-    from jtcheck.screening.screen import OperatingRanges, ScreeningOptions, screen_letdown
+    from jtcheck.screening.screen import OperatingRanges, ScreeningOptions, credible_conditions, screen_letdown
 
     try:
         p_atm_pa = P_ATM_DEFAULT_PA
@@ -118,7 +105,8 @@ def _run_letdown(fluid_text: str, p_in: str, t_in: str, p_out: str, eos: str, ki
         options = ScreeningOptions(limits=limits, compare_models=compare_models,
                                    water_saturated=True if water_saturated else None, inhibitor=inhibitor,
                                    mass_flow_kg_per_s=flow, ranges=ranges if ranges.varies else None)
-        screening = screen_letdown(fluid, _conditions(pin.pa, tin_k, pout.pa, p_in_max_pa, t_in_min_k), options)
+        screening = screen_letdown(fluid, credible_conditions(pin.pa, tin_k, pout.pa, p_in_max_pa, t_in_min_k),
+                                   options)
     except InputError as err:
         _fail_input(err)
         return EXIT_INPUT

@@ -57,12 +57,17 @@ from jtcheck.records.models import (
 )
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.screen import (
+    CONDITION_MAX_P,
+    CONDITION_MIN_T,
+    CONDITION_MIN_T_MAX_P,
+    CONDITION_NORMAL,
     Condition,
     ConditionScreen,
     OperatingRanges,
     ReliefInputs,
     Screening,
     ScreeningOptions,
+    credible_conditions,
     screen_letdown,
 )
 from jtcheck.thermo.fluid import Fluid
@@ -71,11 +76,7 @@ ALL_ROLES = frozenset(Role)
 EDIT_ROLES = frozenset({Role.ENGINEER, Role.ADMIN})
 ADMIN_ROLES = frozenset({Role.ADMIN})
 
-#: Names of the conditions a case is computed at, in order.
-CONDITION_NORMAL = "normal"
-CONDITION_MIN_T = "min inlet temperature"
-CONDITION_MAX_P = "max inlet pressure"
-CONDITION_MIN_T_MAX_P = "min temperature + max pressure"
+#: Names of the conditions a case is computed at, in order (the sweep may add SWEEP_CONDITION).
 CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_T_MAX_P)
 
 #: ``list_cases(outcome=NOT_COMPUTED)`` lists cases that have no stored result.
@@ -976,17 +977,11 @@ def case_conditions(case: Case) -> list[tuple[str, float, float]]:
     """The credible conditions to compute: ``(name, inlet pressure [Pa], inlet temperature [K])``.
 
     Always "normal"; "min inlet temperature" and "max inlet pressure" when those extremes are given,
-    and "min temperature + max pressure" when both are.
+    and "min temperature + max pressure" when both are (:func:`jtcheck.screening.screen.credible_conditions`).
     """
-    out = [(CONDITION_NORMAL, case.inlet_pressure_pa, case.inlet_temperature_k)]
-    t_min, p_max = case.inlet_temperature_min_k, case.inlet_pressure_max_pa
-    if t_min is not None:
-        out.append((CONDITION_MIN_T, case.inlet_pressure_pa, t_min))
-    if p_max is not None:
-        out.append((CONDITION_MAX_P, p_max, case.inlet_temperature_k))
-    if t_min is not None and p_max is not None:
-        out.append((CONDITION_MIN_T_MAX_P, p_max, t_min))
-    return out
+    return [(c.name, c.p_in_pa, c.t_in_k) for c in credible_conditions(
+        case.inlet_pressure_pa, case.inlet_temperature_k, case.outlet_pressure_pa, case.inlet_pressure_max_pa,
+        case.inlet_temperature_min_k)]
 
 
 def _plain(value: Any) -> Any:

@@ -39,7 +39,11 @@ from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid
 from jtcheck.thermo.eos import EOS
 from jtcheck.thermo.fluid import Fluid
 
-#: Name of the condition the operating sweep adds.
+#: Names of the credible conditions, in order, and of the one the operating sweep adds.
+CONDITION_NORMAL = "normal"
+CONDITION_MIN_T = "min inlet temperature"
+CONDITION_MAX_P = "max inlet pressure"
+CONDITION_MIN_T_MAX_P = "min temperature + max pressure"
 SWEEP_CONDITION = "coldest in the operating ranges"
 #: Spread between models above which the finding becomes a caution [K].
 MODEL_SPREAD_CAUTION_K = 3.0
@@ -55,6 +59,23 @@ class Condition:
     p_in_pa: float
     t_in_k: float
     p_out_pa: float
+
+
+def credible_conditions(p_in_pa: float, t_in_k: float, p_out_pa: float, p_in_max_pa: float | None = None,
+                        t_in_min_k: float | None = None) -> list[Condition]:
+    """The credible conditions of a letdown: always "normal"; "min inlet temperature" and "max inlet
+    pressure" when those extremes are given, and "min temperature + max pressure" when both are.
+
+    Pressures [Pa] absolute, temperatures [K]; every condition lets down to ``p_out_pa``.
+    """
+    out = [Condition(CONDITION_NORMAL, p_in_pa, t_in_k, p_out_pa)]
+    if t_in_min_k is not None:
+        out.append(Condition(CONDITION_MIN_T, p_in_pa, t_in_min_k, p_out_pa))
+    if p_in_max_pa is not None:
+        out.append(Condition(CONDITION_MAX_P, p_in_max_pa, t_in_k, p_out_pa))
+    if t_in_min_k is not None and p_in_max_pa is not None:
+        out.append(Condition(CONDITION_MIN_T_MAX_P, p_in_max_pa, t_in_min_k, p_out_pa))
+    return out
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ from jtcheck.records.errors import NotFound
 from jtcheck.records.models import FluidRecord, KijMode
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.hydrates import Inhibitor
-from jtcheck.screening.screen import Condition, OperatingRanges, Screening, ScreeningOptions, screen_letdown
+from jtcheck.screening.screen import OperatingRanges, Screening, ScreeningOptions, credible_conditions, screen_letdown
 from jtcheck.units import (
     parse_pressure,
     parse_temperature,
@@ -204,19 +204,6 @@ def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
                       mdmt_source="entered" if mdmt is not None else "")
 
 
-def letdown_conditions(p_in_pa: float, t_in_k: float, p_out_pa: float, p_in_max_pa: float | None,
-                       t_in_min_k: float | None) -> list[Condition]:
-    """The credible conditions of a one-off letdown: normal, min inlet temperature, max inlet pressure, both."""
-    out = [Condition("normal", p_in_pa, t_in_k, p_out_pa)]
-    if t_in_min_k is not None:
-        out.append(Condition("min inlet temperature", p_in_pa, t_in_min_k, p_out_pa))
-    if p_in_max_pa is not None:
-        out.append(Condition("max inlet pressure", p_in_max_pa, t_in_k, p_out_pa))
-    if t_in_min_k is not None and p_in_max_pa is not None:
-        out.append(Condition("min temperature + max pressure", p_in_max_pa, t_in_min_k, p_out_pa))
-    return out
-
-
 def _ranges(data: Mapping[str, Any], p_in_pa: float, t_in_k: float, p_out_pa: float, p_atm_pa: float
             ) -> tuple[float | None, float | None, float | None]:
     """The credible extremes (p_in_max, t_in_min, p_out_min) [Pa, K, Pa], each None when not given."""
@@ -349,7 +336,7 @@ def compute_letdown():
                                water_saturated=True if _flag(data, "water_saturated", False) else None,
                                inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
                                    data.get("mass_flow")), ranges=ranges if ranges.varies else None)
-    screening = screen_letdown(fluid, letdown_conditions(p_in.pa, t_in_k, p_out.pa, p_in_max, t_in_min), options)
+    screening = screen_letdown(fluid, credible_conditions(p_in.pa, t_in_k, p_out.pa, p_in_max, t_in_min), options)
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
         result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
