@@ -17,11 +17,12 @@ The fluid's own options (equation of state, kij, volume translation) apply to ev
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from jtcheck.errors import InputError
+from jtcheck.letdown.plain import plain as _plain
 from jtcheck.letdown.throttle import letdown
 from jtcheck.thermo.fluid import Fluid
 
@@ -30,24 +31,6 @@ T_MAX_K = 2000.0
 
 #: The re-check letdown from the required inlet must land on the target within this [K].
 CHECK_TOL_K = 0.01
-
-
-def _plain(value):
-    """Plain JSON value: dataclasses to dicts, tuples to lists, numpy scalars to Python, NaN/inf to None."""
-    if hasattr(value, "__dataclass_fields__"):
-        return {f.name: _plain(getattr(value, f.name)) for f in fields(value)}
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple, np.ndarray)):
-        return [_plain(v) for v in value]
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    return value
 
 
 def _positive(name: str, value, what: str, unit: str, upper: float | None = None) -> float:

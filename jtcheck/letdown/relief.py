@@ -31,14 +31,14 @@ All states come from the fluid's cubic equation of state through the PT and PS f
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
-from dataclasses import dataclass, field, fields, is_dataclass
+from dataclasses import dataclass, field, fields
 from typing import Any
 
 import numpy as np
 from scipy.optimize import minimize_scalar
 
 from jtcheck.errors import InputError
+from jtcheck.letdown.plain import plain as _plain
 from jtcheck.letdown.throttle import LetdownResult, letdown
 from jtcheck.thermo.flash import FlashResult
 from jtcheck.thermo.fluid import Fluid
@@ -97,30 +97,6 @@ def _check_fluid(fluid: Any) -> Fluid:
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
     return fluid
-
-
-def _plain(value: Any) -> Any:
-    """Plain-JSON copy: NaN and inf become None, tuples and arrays lists, numpy scalars Python ones."""
-    if value is None or isinstance(value, (str, bool)):
-        return value
-    if isinstance(value, np.bool_):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    if isinstance(value, np.ndarray):
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, Mapping):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if is_dataclass(value) and not isinstance(value, type):
-        if hasattr(value, "to_dict"):
-            return _plain(value.to_dict())
-        return {f.name: _plain(getattr(value, f.name)) for f in fields(value)}
-    return value
 
 
 # ---------------------------------------------------------------------------------------------

@@ -30,12 +30,13 @@ from __future__ import annotations
 
 import functools
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import brentq
 
 from jtcheck.errors import InputError
+from jtcheck.letdown.plain import plain
 from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, CO2_TRIPLE_T_K, LetdownResult
 from jtcheck.thermo import flash as _flash
 from jtcheck.thermo.components import find_component
@@ -415,15 +416,7 @@ class SolidCO2Outlet:
 
     def to_dict(self) -> dict:
         """Plain-JSON representation (SI units; NaN becomes None)."""
-        out = {}
-        for f in fields(self):
-            v = getattr(self, f.name)
-            if isinstance(v, float) and not math.isfinite(v):
-                v = None
-            elif isinstance(v, tuple):
-                v = [float(x) if isinstance(x, (float, np.floating)) else x for x in v]
-            out[f.name] = v
-        return out
+        return plain(self)
 
 
 class _Problem:

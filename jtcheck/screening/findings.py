@@ -8,9 +8,10 @@ with a severity, a plain message, the numbers behind it (SI) and its basis.
 from __future__ import annotations
 
 import enum
-import math
 from dataclasses import dataclass, field
 from typing import Any
+
+from jtcheck.letdown.plain import plain
 
 
 class Outcome(enum.StrEnum):
@@ -68,20 +69,6 @@ class Topic(enum.StrEnum):
     RELIEF = "relief valve"
 
 
-def _plain(value: Any) -> Any:
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, enum.Enum):
-        return value.value
-    if hasattr(value, "item") and not isinstance(value, (str, bytes)):   # numpy scalars
-        return _plain(value.item())
-    return value
-
-
 @dataclass(frozen=True)
 class Finding:
     """One thing the screening found.
@@ -109,14 +96,9 @@ class Finding:
 
     def to_dict(self) -> dict[str, Any]:
         return {"topic": self.topic.value, "severity": self.severity.value, "message": self.message,
-                "numbers": _plain(self.numbers), "basis": self.basis, "condition": self.condition}
+                "numbers": plain(self.numbers), "basis": self.basis, "condition": self.condition}
 
 
 def sort_findings(findings: list[Finding]) -> list[Finding]:
     """Hazards first, then cautions, then information; stable within a severity."""
     return sorted(findings, key=lambda f: _SEVERITY_RANK[f.severity])
-
-
-def plain(value: Any) -> Any:
-    """JSON-safe copy (NaN and infinity to None, enums to values, numpy scalars to Python)."""
-    return _plain(value)
