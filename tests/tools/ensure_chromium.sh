@@ -1,8 +1,12 @@
 #!/usr/bin/env bash
-# Install Debian's chromium for the browser tests if it is missing (needs root, as on CI).
+# Install what the browser and record tests need from Debian if it is missing (needs root, as on CI):
+# chromium for the browser tests, poppler-utils (pdftoppm) to render records to PNG.
 set -euo pipefail
-if [ -x /usr/bin/chromium ]; then exit 0; fi
-echo "installing Debian's chromium for the browser tests" >&2
+missing=()
+[ -x /usr/bin/chromium ] || missing+=(chromium)
+command -v pdftoppm >/dev/null 2>&1 || missing+=(poppler-utils)
+[ ${#missing[@]} -eq 0 ] && exit 0
+echo "installing from Debian for the tests: ${missing[*]}" >&2
 export DEBIAN_FRONTEND=noninteractive
 apt-get update -qq >&2
-apt-get install -y -qq chromium >&2
+apt-get install -y -qq "${missing[@]}" >&2

@@ -1,0 +1,6 @@
+"""Calculation records: the PDF rendered from a revision's snapshot (WeasyPrint), its charts, the
+instance's certificate authority and users' signing keys, PAdES signatures (pyHanko) and verification.
+
+May import :mod:`jtcheck.records`, the engineering and core packages, :mod:`jtcheck.units`, WeasyPrint,
+matplotlib and pyHanko; never the web package.
+"""
