@@ -187,3 +187,67 @@ def test_bad_screening_input_exits_2_naming_the_field(extra, field):
                                     "--p-out", "10 barg", *extra])
     assert res.exit_code == EXIT_INPUT
     assert field in res.output
+
+
+# -- jtcheck record verify --------------------------------------------------------------------------
+@pytest.fixture()
+def issued_record(empty_register, tmp_path):
+    """The demo site's three-signature record, issued into the register the CLI will read."""
+    from jtcheck.records.db import database_url, make_engine, make_session_factory, upgrade_database
+    from jtcheck.records.demo import load_demo
+    from jtcheck.reports.demo import issue_demo_record
+    from jtcheck.reports.issue import record_signer
+    from jtcheck.reports.pki import InstancePKI
+
+    url = database_url(tmp_path)
+    upgrade_database(url)
+    engine = make_engine(url)
+    try:
+        with make_session_factory(engine)() as session:
+            load_demo(session)
+            revision = issue_demo_record(session, record_signer(InstancePKI(tmp_path, b"test passphrase")))
+            pdf = revision.record_pdf
+    finally:
+        engine.dispose()
+    path = tmp_path / "record.pdf"
+    path.write_bytes(pdf)
+    return path
+
+
+def test_record_verify_accepts_the_issued_record(issued_record, monkeypatch):
+    monkeypatch.setenv("JTCHECK_PKI_PASSPHRASE", "test passphrase")
+    res = CliRunner().invoke(main, ["record", "verify", str(issued_record)])
+    assert res.exit_code == 0, res.output
+    assert res.output.count("intact, trusted, not changed afterwards") == 3
+    assert "revision 0 (approved)" in res.output and "VALID" in res.output
+    data = json.loads(CliRunner().invoke(main, ["record", "verify", str(issued_record), "--json"]).output)
+    assert data["ok"] and [s["role"] for s in data["signatures"]] == ["preparer", "checker", "approver"]
+
+
+def test_record_verify_refuses_a_changed_byte(issued_record):
+    pdf = bytearray(issued_record.read_bytes())
+    at = pdf.find(b"stream", 2000) + 20      # inside the first signed content stream
+    pdf[at] ^= 0x01
+    bad = issued_record.with_name("changed.pdf")
+    bad.write_bytes(bytes(pdf))
+    res = CliRunner().invoke(main, ["record", "verify", str(bad)])
+    assert res.exit_code == 6
+    assert "NOT INTACT" in res.output and "does not match any record" in res.output and "NOT VALID" in res.output
+
+
+def test_record_verify_with_another_trust_root_is_not_trusted(issued_record, tmp_path):
+    from jtcheck.reports.pki import InstancePKI
+
+    other = InstancePKI(tmp_path / "other", b"x")
+    other.ensure_ca()
+    root = tmp_path / "other-ca.pem"
+    root.write_bytes(other.trust_root_pem())
+    res = CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root)])
+    assert res.exit_code == 6 and "NOT TRUSTED" in res.output
+
+
+def test_record_verify_needs_a_trust_root_when_the_instance_has_no_ca(empty_register, tmp_path):
+    pdf = tmp_path / "x.pdf"
+    pdf.write_bytes(b"%PDF-1.7\n")
+    res = CliRunner().invoke(main, ["record", "verify", str(pdf)])
+    assert res.exit_code == EXIT_INPUT and "trust-root" in res.output

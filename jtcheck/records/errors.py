@@ -75,8 +75,98 @@ class ConcurrentEditError(JtcheckError):
 
 
 class AppendOnlyError(JtcheckError):
-    """An attempt to change or delete a row of the append-only audit log."""
+    """An attempt to change or delete a row of an append-only table (the audit log, the review steps).
 
-    def __init__(self, operation: str):
+    Parameters
+    ----------
+    operation : str
+        ``"UPDATE"`` or ``"DELETE"``.
+    rows : str
+        What the rows are, in plain words (``"audit entries"``, ``"review steps"``).
+    """
+
+    def __init__(self, operation: str, rows: str = "audit entries"):
         self.operation = operation
-        super().__init__(f"the audit log is append-only: {operation} of audit entries is refused")
+        self.rows = rows
+        table = "the audit log" if rows == "audit entries" else rows
+        super().__init__(f"{table} {'is' if rows == 'audit entries' else 'are'} append-only: "
+                         f"{operation} of {rows} is refused")
+
+
+class UnderReview(PermissionDenied):  # noqa: N818 - reads as the state it reports
+    """The case's current calculation record is in review (for check, checked, for approval): its inputs
+    are frozen until the revision is rejected (or withdrawn by its preparer) or approved.
+
+    Parameters
+    ----------
+    action : str
+        What was attempted (``"edit case inputs"``).
+    label : str
+        The revision (``"A"``).
+    status : str
+        Its status (``"for check"``).
+    """
+
+    def __init__(self, action: str, label: str, status: str):
+        self.label = label
+        self.status = status
+        super().__init__(action, f"revision {label} of this case is {status!r}; its inputs are frozen while it is "
+                                 "in review. Reject the revision first (its preparer may withdraw it), then edit")
+
+
+class FourEyesError(PermissionDenied):
+    """The four-eyes rule: the checker must not be the preparer, the approver neither of them.
+
+    Parameters
+    ----------
+    action : str
+        What was attempted (``"check a calculation record"``).
+    rule : str
+        The rule broken, in plain words.
+    """
+
+    def __init__(self, action: str, rule: str):
+        self.rule = rule
+        super().__init__(action, f"four-eyes rule: {rule}")
+
+
+class RevisionStateError(JtcheckError):
+    """A review step that the revision's status does not allow (e.g. approving a draft).
+
+    Parameters
+    ----------
+    action : str
+        What was attempted (``"approve a calculation record"``).
+    label : str or None
+        The revision concerned, if there is one.
+    status : str or None
+        Its status.
+    message : str
+        What the step needs.
+    """
+
+    def __init__(self, action: str, label: str | None, status: str | None, message: str):
+        self.action = action
+        self.label = label
+        self.status = status
+        self.message = message
+        where = f"revision {label} is {status!r}: " if label is not None else ""
+        super().__init__(f"cannot {action}: {where}{message}")
+
+
+class RecordImmutableError(JtcheckError):
+    """An attempt to change or delete an issued calculation record (approved, superseded, voided) or the
+    result it reports.  The database refuses the same with triggers."""
+
+    def __init__(self, message: str):
+        self.message = message
+        super().__init__(message)
+
+
+class RecordSigningError(JtcheckError):
+    """The signing callback returned something that is not the signed record (not a PDF, or a PDF that
+    does not extend the record signed so far)."""
+
+    def __init__(self, message: str):
+        self.message = message
+        super().__init__(message)

@@ -1,4 +1,5 @@
-"""Tables of the case register: users, sites and units, fluids, materials, cases, results, audit log.
+"""Tables of the case register: users, sites and units, fluids, materials, cases, results, audit log,
+and the calculation records (case revisions) with their review steps.
 
 SQLAlchemy 2.0 declarative models with typed ``Mapped[...]`` attributes and one :class:`Base`.
 Quantities are stored in SI units and the unit is part of the column name (``inlet_pressure_pa``,
@@ -7,7 +8,8 @@ records can show the numbers the way they were entered.  Times are timezone-awar
 
 The schema itself is created by the Alembic migrations in the top-level ``migrations/`` folder
 (``jtcheck.records.db.upgrade_database``), never by ``Base.metadata.create_all``: the migrations
-also install the database triggers that keep the audit log append-only.
+also install the database triggers that keep the audit log and the review steps append-only and the
+issued calculation records (and the results they report) immutable.
 """
 from __future__ import annotations
 
@@ -26,6 +28,7 @@ from sqlalchemy import (
     ForeignKey,
     Index,
     Integer,
+    LargeBinary,
     MetaData,
     String,
     Text,
@@ -33,10 +36,11 @@ from sqlalchemy import (
     UniqueConstraint,
     event,
     inspect,
+    select,
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, ORMExecuteState, Session, mapped_column, relationship
 
-from jtcheck.records.errors import AppendOnlyError
+from jtcheck.records.errors import AppendOnlyError, RecordImmutableError
 
 #: Constraint names, so that migrations (and SQLite batch migrations) can refer to them.
 NAMING_CONVENTION = {
@@ -309,6 +313,10 @@ class Case(Base):
     updated_by: Mapped[User] = relationship(foreign_keys=[updated_by_id])
     results: Mapped[list[CaseResult]] = relationship(back_populates="case", order_by="CaseResult.id",
                                                      passive_deletes="all")
+    #: the calculation records of the case, oldest first (deleted with the case by the database, which
+    #: refuses it while one of them is issued).
+    revisions: Mapped[list[CaseRevision]] = relationship(back_populates="case", order_by="CaseRevision.id",
+                                                         passive_deletes="all")
 
     @property
     def site(self) -> Site:
@@ -318,6 +326,11 @@ class Case(Base):
     def latest_result(self) -> CaseResult | None:
         """The most recent stored result, or None if never computed."""
         return self.results[-1] if self.results else None
+
+    @property
+    def current_revision(self) -> CaseRevision | None:
+        """The latest calculation record (revision) of the case; its status is mirrored in :attr:`status`."""
+        return self.revisions[-1] if self.revisions else None
 
     def __repr__(self) -> str:
         return f"Case(id={self.id!r}, tag={self.tag!r}, kind={self.kind!s}, version={self.version!r})"
@@ -366,6 +379,148 @@ class CaseResult(Base):
         return None
 
 
+class RevisionStatus(enum.StrEnum):
+    """Where a calculation record (a :class:`CaseRevision`) is in the four-eyes review."""
+
+    DRAFT = "draft"                  # being prepared: the case may be edited and computed
+    FOR_CHECK = "for check"          # submitted and signed by the preparer; frozen
+    CHECKED = "checked"              # signed by a checker (not the preparer)
+    FOR_APPROVAL = "for approval"    # sent to the approvers
+    APPROVED = "approved"            # signed by an approver (neither preparer nor checker): issued
+    SUPERSEDED = "superseded"        # an approved record replaced by a later approved revision
+    VOIDED = "voided"                # an approved record withdrawn
+
+    @property
+    def issued(self) -> bool:
+        """True for approved, superseded and voided records: their content can never change."""
+        return self in ISSUED_STATUSES
+
+    @property
+    def under_review(self) -> bool:
+        """True for for check, checked and for approval: the case cannot be edited."""
+        return self in REVIEW_STATUSES
+
+
+#: Statuses of records that were approved (immutable, never deleted).
+ISSUED_STATUSES = frozenset({RevisionStatus.APPROVED, RevisionStatus.SUPERSEDED, RevisionStatus.VOIDED})
+#: Statuses of records in review (frozen snapshot; the case cannot be edited).
+REVIEW_STATUSES = frozenset({RevisionStatus.FOR_CHECK, RevisionStatus.CHECKED, RevisionStatus.FOR_APPROVAL})
+
+
+class ReviewAction(enum.StrEnum):
+    """What a :class:`ReviewStep` did."""
+
+    CREATE = "create"
+    SUBMIT = "submit"
+    CHECK = "check"
+    SEND_FOR_APPROVAL = "send for approval"
+    APPROVE = "approve"
+    REJECT = "reject"
+    SUPERSEDE = "supersede"
+    VOID = "void"
+
+
+class CaseRevision(Base):
+    """One calculation record of a case: a revision (``A``, ``B`` ...) going through the four-eyes review.
+
+    A draft holds no content.  Submitting freezes the case and its current result as a canonical JSON
+    ``snapshot`` (with its SHA-256) and stores the PDF signed by the preparer; the checker and the
+    approver sign the same PDF incrementally, and ``record_pdf`` always holds the latest signed PDF
+    (with ``record_sha256``).  On approval the revision gets its ``number`` (0 for the case's first
+    approved revision, then 1, 2 ...), which becomes its :attr:`label`.  Letters are never reused
+    within a case.  Once approved, the content columns never change and the status may only go on to
+    superseded or voided (the service refuses, and so does the database).
+    """
+
+    __tablename__ = "case_revisions"
+    __table_args__ = (
+        UniqueConstraint("case_id", "letter", name="uq_case_revisions_case_id_letter"),
+        UniqueConstraint("case_id", "number", name="uq_case_revisions_case_id_number"),
+        CheckConstraint("number IS NULL OR number >= 0", name="number_not_negative"),
+        CheckConstraint("(number IS NULL) = (status NOT IN ('approved', 'superseded', 'voided'))",
+                        name="number_when_issued"),
+        CheckConstraint("status = 'draft' OR (result_id IS NOT NULL AND case_version IS NOT NULL"
+                        " AND snapshot IS NOT NULL AND snapshot_sha256 IS NOT NULL AND record_pdf IS NOT NULL"
+                        " AND record_sha256 IS NOT NULL AND preparer_id IS NOT NULL AND submitted_at IS NOT NULL)",
+                        name="content_when_submitted"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    case_id: Mapped[int] = mapped_column(ForeignKey("cases.id", ondelete="CASCADE"), index=True)
+    letter: Mapped[str] = mapped_column(String(8))
+    number: Mapped[int | None] = mapped_column(Integer)
+    status: Mapped[RevisionStatus] = mapped_column(_enum(RevisionStatus, "revision_status", 16))
+    result_id: Mapped[int | None] = mapped_column(ForeignKey("case_results.id"), index=True)
+    #: the case version frozen at submission.
+    case_version: Mapped[int | None] = mapped_column(Integer)
+    #: canonical JSON (:func:`jtcheck.records.snapshot.canonical_json`, UTF-8 text) of what the record shows.
+    snapshot: Mapped[str | None] = mapped_column(Text)
+    snapshot_sha256: Mapped[str | None] = mapped_column(String(64))
+    #: the record PDF with every signature given so far.
+    record_pdf: Mapped[bytes | None] = mapped_column(LargeBinary)
+    record_sha256: Mapped[str | None] = mapped_column(String(64), index=True)
+    preparer_id: Mapped[int | None] = mapped_column(ForeignKey("users.id"))
+    checker_id: Mapped[int | None] = mapped_column(ForeignKey("users.id"))
+    approver_id: Mapped[int | None] = mapped_column(ForeignKey("users.id"))
+    submitted_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    checked_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    approved_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    #: when the record was superseded or voided.
+    closed_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    version: Mapped[int] = mapped_column(Integer)
+
+    __mapper_args__ = {"version_id_col": version}
+
+    case: Mapped[Case] = relationship(back_populates="revisions")
+    result: Mapped[CaseResult | None] = relationship()
+    preparer: Mapped[User | None] = relationship(foreign_keys=[preparer_id])
+    checker: Mapped[User | None] = relationship(foreign_keys=[checker_id])
+    approver: Mapped[User | None] = relationship(foreign_keys=[approver_id])
+    steps: Mapped[list[ReviewStep]] = relationship(back_populates="revision", order_by="ReviewStep.id",
+                                                   passive_deletes="all")
+
+    @property
+    def label(self) -> str:
+        """The number once approved (``"0"``, ``"1"`` ...), else the letter (``"A"``)."""
+        return str(self.number) if self.number is not None else self.letter
+
+    @property
+    def issued(self) -> bool:
+        """True once approved (also when superseded or voided since)."""
+        return RevisionStatus(self.status).issued
+
+    def __repr__(self) -> str:
+        return (f"CaseRevision(id={self.id!r}, case_id={self.case_id!r}, label={self.label!r}, "
+                f"status={self.status!s})")
+
+
+#: Columns of a revision that never change once it is issued (enforced here and by database triggers).
+REVISION_CONTENT_COLUMNS = ("id", "case_id", "letter", "number", "result_id", "case_version", "snapshot",
+                            "snapshot_sha256", "record_pdf", "record_sha256", "preparer_id", "checker_id",
+                            "approver_id", "submitted_at", "checked_at", "approved_at", "created_at")
+
+
+class ReviewStep(Base):
+    """One step of the review of a revision (append-only, like the audit log): who, when, from which status
+    to which, and the comment or reason.  Rows are removed only with their revision (when a case that
+    never had an issued record is deleted)."""
+
+    __tablename__ = "review_steps"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    revision_id: Mapped[int] = mapped_column(ForeignKey("case_revisions.id", ondelete="CASCADE"), index=True)
+    action: Mapped[ReviewAction] = mapped_column(_enum(ReviewAction, "review_action", 24))
+    from_status: Mapped[RevisionStatus | None] = mapped_column(_enum(RevisionStatus, "from_status", 16))
+    to_status: Mapped[RevisionStatus] = mapped_column(_enum(RevisionStatus, "to_status", 16))
+    user_id: Mapped[int] = mapped_column(ForeignKey("users.id"))
+    at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    comment: Mapped[str] = mapped_column(Text, default="")
+
+    revision: Mapped[CaseRevision] = relationship(back_populates="steps")
+    user: Mapped[User] = relationship()
+
+
 class AuditEntry(Base):
     """One line of the append-only audit log: who changed what, when, from which value to which.
 
@@ -400,9 +555,13 @@ def _refuse_audit_changes(session: Session, flush_context: Any, instances: Any) 
     for obj in session.deleted:
         if isinstance(obj, AuditEntry):
             raise AppendOnlyError("DELETE")
+        if isinstance(obj, ReviewStep):
+            raise AppendOnlyError("DELETE", "review steps")
     for obj in session.dirty:
         if isinstance(obj, AuditEntry) and _has_changes(obj):
             raise AppendOnlyError("UPDATE")
+        if isinstance(obj, ReviewStep) and _has_changes(obj):
+            raise AppendOnlyError("UPDATE", "review steps")
 
 
 @event.listens_for(AuditEntry, "before_update")
@@ -420,3 +579,76 @@ def _refuse_audit_delete(mapper: Any, connection: Any, target: AuditEntry) -> No
 def _refuse_audit_bulk(state: ORMExecuteState) -> None:
     if (state.is_update or state.is_delete) and any(m.class_ is AuditEntry for m in state.all_mappers):
         raise AppendOnlyError("UPDATE" if state.is_update else "DELETE")
+    if (state.is_update or state.is_delete) and any(m.class_ is ReviewStep for m in state.all_mappers):
+        raise AppendOnlyError("UPDATE" if state.is_update else "DELETE", "review steps")
+
+
+@event.listens_for(ReviewStep, "before_update")
+def _refuse_step_update(mapper: Any, connection: Any, target: ReviewStep) -> None:
+    if _has_changes(target):
+        raise AppendOnlyError("UPDATE", "review steps")
+
+
+@event.listens_for(ReviewStep, "before_delete")
+def _refuse_step_delete(mapper: Any, connection: Any, target: ReviewStep) -> None:
+    raise AppendOnlyError("DELETE", "review steps")
+
+
+# -- issued calculation records, ORM side (the migration installs the database triggers) ------------
+def _committed(target: Any, key: str) -> Any:
+    """The value of an attribute as loaded from the database (before unflushed changes)."""
+    history = inspect(target).attrs[key].history
+    if history.deleted:
+        return history.deleted[0]
+    return history.unchanged[0] if history.unchanged else getattr(target, key)
+
+
+def _check_revision_change(revision: CaseRevision) -> None:
+    state = inspect(revision)
+    if state.pending or state.transient:
+        return
+    old_status = RevisionStatus(_committed(revision, "status"))
+    if not old_status.issued:
+        return
+    label = _committed(revision, "number")
+    changed = [key for key in REVISION_CONTENT_COLUMNS if state.attrs[key].history.has_changes()]
+    if changed:
+        raise RecordImmutableError(f"revision {label} is {old_status.value}: its {', '.join(changed)} cannot change")
+    new_status = RevisionStatus(revision.status)
+    allowed = {old_status} | ({RevisionStatus.SUPERSEDED, RevisionStatus.VOIDED}
+                              if old_status is RevisionStatus.APPROVED else set())
+    if new_status not in allowed:
+        raise RecordImmutableError(f"revision {label} is {old_status.value}: its status cannot become "
+                                   f"{new_status.value!r} (an approved record may only be superseded or voided)")
+    if new_status is old_status and state.attrs["closed_at"].history.has_changes():
+        raise RecordImmutableError(f"revision {label} is {old_status.value}: its closing time cannot change")
+
+
+def _result_is_frozen(session: Session, result: CaseResult) -> CaseRevision | None:
+    """The revision that reports ``result`` (submitted or issued), if any."""
+    if result.id is None:
+        return None
+    with session.no_autoflush:
+        return session.scalars(select(CaseRevision).where(CaseRevision.result_id == result.id)
+                               .order_by(CaseRevision.id).limit(1)).first()
+
+
+@event.listens_for(Session, "before_flush")
+def _refuse_issued_record_changes(session: Session, flush_context: Any, instances: Any) -> None:
+    for obj in session.deleted:
+        if isinstance(obj, CaseRevision) and RevisionStatus(_committed(obj, "status")).issued:
+            raise RecordImmutableError(f"revision {_committed(obj, 'number')} is {_committed(obj, 'status')}: "
+                                       "an issued calculation record cannot be deleted")
+        if isinstance(obj, CaseResult):
+            revision = _result_is_frozen(session, obj)
+            if revision is not None:
+                raise RecordImmutableError(f"result {obj.id} is reported by revision {revision.label} "
+                                           f"({revision.status}): it cannot be deleted")
+    for obj in session.dirty:
+        if isinstance(obj, CaseRevision):
+            _check_revision_change(obj)
+        elif isinstance(obj, CaseResult) and _has_changes(obj):
+            revision = _result_is_frozen(session, obj)
+            if revision is not None:
+                raise RecordImmutableError(f"result {obj.id} is reported by revision {revision.label} "
+                                           f"({revision.status}): it cannot be changed")

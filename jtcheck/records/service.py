@@ -20,7 +20,10 @@ view anything, compute cases                engineer, checker, approver, admin
 create/edit cases, fluids, sites, units     engineer, admin
 create/edit materials and users             admin (a user may change their own password
                                             and API token hashes)
+review calculation records                  see :mod:`jtcheck.records.workflow`
 =========================================  ===========================================
+
+A case's inputs are frozen while its current calculation record is in review.
 
 A deactivated account may do nothing.
 """
@@ -34,23 +37,26 @@ from contextlib import contextmanager
 from typing import Any
 
 from sqlalchemy import func, or_, select
-from sqlalchemy.orm import Session, joinedload, selectinload
+from sqlalchemy.orm import Session, joinedload, object_session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck import __version__ as jtcheck_version
 from jtcheck.errors import InputError
 from jtcheck.records.db import SQLITE_BEGIN_OPTION
-from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
+from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied, UnderReview
 from jtcheck.records.models import (
+    ISSUED_STATUSES,
     P_ATM_STANDARD_PA,
     AuditEntry,
     Case,
     CaseKind,
     CaseResult,
+    CaseRevision,
     FluidRecord,
     KijMode,
     Material,
     PlantUnit,
+    RevisionStatus,
     Role,
     Site,
     User,
@@ -805,7 +811,7 @@ def _none_to_default(data: Mapping[str, Any]) -> dict[str, Any]:
 
 
 def create_case(session: Session, user: User, data: Mapping[str, Any]) -> Case:
-    """Add a case (status "draft", version 1).
+    """Add a case (status "draft", version 1) with its first calculation record, revision A (a draft).
 
     Parameters
     ----------
@@ -837,10 +843,14 @@ def _create_case(session: Session, user: User | None, data: Mapping[str, Any]) -
     loaded: dict[str, Any] = {}
     values = _validate_case(session, {**_CASE_DEFAULTS, **_none_to_default(data)}, loaded=loaded)
     # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
-    case = Case(**values, **loaded, status="draft", created_by=user, updated_by=user)
+    case = Case(**values, **loaded, status=RevisionStatus.DRAFT.value, created_by=user, updated_by=user)
     session.add(case)
     session.flush()
     _audit(session, user, "case", case.id, "create", new=case.tag)
+    # revision A, a draft (workflow builds on this module, hence the late import)
+    from jtcheck.records.workflow import _open_revision
+
+    _open_revision(session, user, case)
     return case
 
 
@@ -868,17 +878,30 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
     Returns
     -------
     Case
-        The case, with ``version`` incremented if anything changed.
+        The case, with ``version`` incremented if anything changed.  If its current calculation record
+        was issued (approved, superseded or voided), a changed case gets its next revision, a draft
+        (:mod:`jtcheck.records.workflow`), in the same transaction.
+
+    Raises
+    ------
+    UnderReview
+        If the current revision is for check, checked or for approval: reject it first.
     """
     _require(user, EDIT_ROLES, "edit case inputs")
+    from jtcheck.records.workflow import _current, _lock_case_row, _open_revision  # workflow builds on this module
+
     try:
         with _transaction(session):
             _unknown_keys(changes, CASE_FIELDS, "case")
+            _lock_case_row(session, case_id)   # orders this edit with the review steps of the case
             case = session.get(Case, case_id, populate_existing=True)
             if case is None:
                 raise NotFound("case", case_id)
             if expected_version is not None and case.version != expected_version:
                 raise ConcurrentEditError("case", case_id, expected_version, case.version)
+            revision = _current(session, case.id)
+            if revision is not None and RevisionStatus(revision.status).under_review:
+                raise UnderReview("edit case inputs", revision.label, RevisionStatus(revision.status).value)
             merged = {**case_values(case), **_none_to_default(changes)}
             values = _validate_case(session, merged, current=case, given=frozenset(changes))
             changed = False
@@ -892,11 +915,30 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
                     changed = True
             if changed:
                 case.updated_by = user
+                if revision is None or RevisionStatus(revision.status).issued:   # the next revision, a draft
+                    case.status = RevisionStatus.DRAFT.value
+                    session.flush()
+                    _open_revision(session, user, case, "after an edit of the case inputs"
+                                   + (f" (revision {revision.label} is {revision.status})" if revision else ""))
                 session.flush()
                 session.expire(case, ["unit", "fluid", "material"])   # reload relationships whose ids changed
     except StaleDataError:
         raise ConcurrentEditError("case", case_id, expected_version) from None
     return case
+
+
+def case_has_issued_records(case: Case) -> bool:
+    """True if ``case`` has a calculation record that was ever approved (approved, superseded or voided).
+
+    Such a case cannot be deleted: the database refuses to delete issued records (and so the case).
+    A case whose current revision is in review holds a frozen result that cannot be deleted either
+    (reject the revision first).
+    """
+    session = object_session(case)
+    if session is None or case.id is None:
+        return False
+    return session.scalar(select(func.count()).select_from(CaseRevision).where(
+        CaseRevision.case_id == case.id, CaseRevision.status.in_(list(ISSUED_STATUSES)))) > 0
 
 
 def _case_loads() -> tuple[Any, ...]:

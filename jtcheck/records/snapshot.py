@@ -66,7 +66,7 @@ def case_snapshot(case: Case, result: CaseResult, letter: str, history: list[dic
     prepared_by : dict, optional
         ``{"name", "email"}`` of the preparer.
     """
-    from jtcheck.records.service import case_values   # service imports this module's users lazily
+    from jtcheck.records.service import case_values  # service imports this module's users lazily
 
     material = case.material
     values = case_values(case)

@@ -63,6 +63,13 @@ def bootstrap(app: Flask, url: str, *, demo: bool = True, reset_admin_password: 
         if demo and not session.scalar(select(func.count()).select_from(Site)):
             load_demo(session)
             lines.append(f"loaded the demo site. {DEMO_NOTICE}")
+            from jtcheck.reports.demo import DEMO_RECORD_TAG, issue_demo_record
+            from jtcheck.web.records_pki import app_signer
+
+            revision = issue_demo_record(session, app_signer())
+            if revision is not None:
+                lines.append(f"issued the demo record of {DEMO_RECORD_TAG} (revision {revision.label}, three "
+                             "signatures by invented reviewers)")
     return lines
 
 

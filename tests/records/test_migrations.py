@@ -14,7 +14,8 @@ from sqlalchemy.exc import DBAPIError, OperationalError
 from jtcheck.records.db import current_revision, downgrade_database, head_revision, upgrade_database
 from jtcheck.records.models import Base
 
-TABLES = {"users", "sites", "units", "fluids", "materials", "cases", "case_results", "audit_log"}
+TABLES = {"users", "sites", "units", "fluids", "materials", "cases", "case_results", "audit_log", "case_revisions",
+          "review_steps"}
 
 
 def _schema_differences(url: str) -> list:
