@@ -35,6 +35,7 @@ test: $(VENV)/.installed-test
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python benchmarks/bench_flash.py
+	$(BIN)/python benchmarks/bench_record.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info
