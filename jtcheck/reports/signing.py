@@ -14,6 +14,7 @@ dictionary carries the signer's name in ``/Name`` and the role in ``/Reason`` ("
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import io
 import math
 import unicodedata
@@ -28,6 +29,7 @@ from pyhanko.sign.timestamps import TimestampRequestError
 from pyhanko.stamp import TextStampStyle
 
 from jtcheck.errors import InputError, JtcheckError
+from jtcheck.reports.loops import outside_event_loop
 
 __all__ = [
     "REASON_PREFIX",
@@ -189,7 +191,7 @@ def _stamp_style(text: str) -> TextStampStyle:
 
 # -- signing ------------------------------------------------------------------------------------------------
 
-def sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name: str, reason: str | None = None,
+def _sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name: str, reason: str | None = None,
                 location: str = "", stamp_lines: list[str] | None = None, timestamper=None) -> bytes:
     """Sign the empty signature field ``field`` (PAdES, SHA-256) as an incremental update.
 
@@ -259,3 +261,9 @@ def sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name: 
     except SigningError as exc:
         raise InputError("field", f"cannot sign {field!r}: {exc}") from exc
     return out.getvalue()
+
+
+@functools.wraps(_sign_record)
+def sign_record(*args, **kwargs):
+    # safe where an asyncio event loop runs in this thread (pyHanko calls asyncio.run): see jtcheck.reports.loops
+    return outside_event_loop(_sign_record, *args, **kwargs)

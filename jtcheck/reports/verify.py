@@ -23,6 +23,7 @@ A file that cannot be parsed gives ``ok=False`` with a problem, never an excepti
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import hashlib
 import io
 import logging
@@ -35,6 +36,7 @@ from pyhanko.sign.validation import SignatureCoverageLevel, validate_pdf_signatu
 from pyhanko_certvalidator import ValidationContext
 
 from jtcheck.errors import InputError
+from jtcheck.reports.loops import outside_event_loop
 
 __all__ = ["ROLE_FROM_WORD", "RecordVerification", "SignatureCheck", "load_trust_roots", "verify_record"]
 
@@ -224,7 +226,7 @@ def _unreadable(sha: str, what: str, exc: BaseException) -> RecordVerification:
     return RecordVerification(False, (), (f"{what} ({text})",), sha)
 
 
-def verify_record(pdf: bytes, trust_roots: list[bytes], *, tsa_roots: list[bytes] | None = None,
+def _verify_record(pdf: bytes, trust_roots: list[bytes], *, tsa_roots: list[bytes] | None = None,
                   at: dt.datetime | None = None) -> RecordVerification:
     """Check every signature of ``pdf`` against ``trust_roots`` (PEM or DER certificates).
 
@@ -381,3 +383,9 @@ def _safe_signer_cert(sig):
         return sig.signer_cert
     except Exception:
         return None
+
+
+@functools.wraps(_verify_record)
+def verify_record(*args, **kwargs):
+    # safe where an asyncio event loop runs in this thread (pyHanko calls asyncio.run): see jtcheck.reports.loops
+    return outside_event_loop(_verify_record, *args, **kwargs)
