@@ -4,7 +4,8 @@ from __future__ import annotations
 from typing import Any
 
 from jtcheck.records import service
-from jtcheck.records.models import CaseKind
+from jtcheck.records.models import CaseKind, ReviewAction, RevisionStatus
+from jtcheck.records.workflow import MAX_COMMENT
 from jtcheck.screening.findings import Outcome, Severity, Topic
 from jtcheck.screening.hydrates import Inhibitor
 from jtcheck.web import caseinput
@@ -150,7 +151,11 @@ def register(api: ApiRegistry) -> None:
         "latest_result": {"type": ["object", "null"], "properties": {
             "id": {"type": "integer"}, "computed_at": STR_OR_NULL, "converged": {"type": "boolean"},
             "t_out_min_k": NUM_OR_NULL, "outcome": _nullable(OUTCOME_ENUM), "outcome_sentence": STR_OR_NULL,
-            "current": {"type": ["boolean", "null"]}}}}})
+            "current": {"type": ["boolean", "null"]}}},
+        "current_revision": {**_nullable(_ref("CurrentRevision")),
+                             "description": "The case's current (latest) calculation record; its status is the "
+                                            "case's status."},
+        "links": {"type": "object", "properties": {"self": {"type": "string"}, "revisions": {"type": "string"}}}}})
     s("CaseList", {"type": "object", "properties": {"count": {"type": "integer"},
                                                     "cases": {"type": "array", "items": _ref("Case")}}})
     s("Result", {"type": "object", "properties": {
@@ -184,6 +189,82 @@ def register(api: ApiRegistry) -> None:
     s("SiteList", {"type": "object", "properties": {"sites": {"type": "array", "items": {"type": "object"}}}})
     s("AuditList", {"type": "object", "properties": {"entries": {"type": "array", "items": {"type": "object"}}}})
     s("OpenAPI", {"type": "object", "description": "This document."})
+    _record_schemas(api)
+
+
+REVISION_STATUS_ENUM = {"type": "string", "enum": [st.value for st in RevisionStatus],
+                        "description": "draft -> for check -> checked -> for approval -> approved (-> superseded by "
+                                       "the next approved revision, or voided); a reject sends a revision in review "
+                                       "back to draft."}
+REVIEW_ACTION_ENUM = {"type": "string", "enum": [a.value for a in ReviewAction]}
+
+
+def _record_schemas(api: ApiRegistry) -> None:
+    """Schemas of the calculation records (case revisions), their review and their verification."""
+    s = api.schema
+    text = {"type": "string", "maxLength": MAX_COMMENT}
+    s("ReviewComment", {"type": "object", "additionalProperties": False, "properties": {
+        "comment": {**text, "description": "Kept with the review step (and, on signing steps, in the record's "
+                                           "history)."}}})
+    s("ReviewReason", {"type": "object", "additionalProperties": False, "required": ["reason"], "properties": {
+        "reason": {**text, "minLength": 1, "description": "Why: required, kept with the review step."}}})
+    s("Person", {"type": ["object", "null"], "properties": {
+        "id": {"type": "integer"}, "name": {"type": "string"}, "email": {"type": "string"}}})
+    links = {"type": "object", "required": ["self", "case"], "properties": {
+        "self": {"type": "string"}, "case": {"type": "string"},
+        "record_pdf": {"type": "string", "description": "The signed record (present once the revision has one)."}}}
+    s("CurrentRevision", {"type": "object", "required": ["label", "status", "links"], "properties": {
+        "label": {"type": "string"}, "letter": {"type": "string"}, "number": {"type": ["integer", "null"]},
+        "status": REVISION_STATUS_ENUM, "links": links}})
+    s("ReviewStep", {"type": "object", "properties": {
+        "id": {"type": "integer"}, "action": REVIEW_ACTION_ENUM, "from_status": _nullable(REVISION_STATUS_ENUM),
+        "to_status": REVISION_STATUS_ENUM, "user": _ref("Person"), "at": {"type": "string"},
+        "comment": {"type": "string", "description": "The comment, or the reason of a reject or void."}}})
+    s("Revision", {"type": "object", "required": ["case_id", "label", "letter", "status", "links"], "properties": {
+        "case_id": {"type": "integer"},
+        "record_number": {"type": "string", "description": "The case's record number (same for every revision)."},
+        "label": {"type": "string", "description": "The number once approved (\"0\", \"1\" ...), else the "
+                                                   "letter (\"A\"); either finds the revision in the URL."},
+        "letter": {"type": "string"}, "number": {"type": ["integer", "null"]}, "status": REVISION_STATUS_ENUM,
+        "issued": {"type": "boolean", "description": "Approved, superseded or voided: the record never changes."},
+        "under_review": {"type": "boolean", "description": "For check, checked or for approval: the case's inputs "
+                                                           "are frozen."},
+        "current": {"type": ["boolean", "null"], "description": "The case's current (latest) revision."},
+        "case_version": {"type": ["integer", "null"], "description": "The case version frozen at submission."},
+        "result_id": {"type": ["integer", "null"], "description": "The stored result the record reports."},
+        "prepared_by": _ref("Person"), "checked_by": _ref("Person"), "approved_by": _ref("Person"),
+        "created_at": {"type": "string"}, "submitted_at": STR_OR_NULL, "checked_at": STR_OR_NULL,
+        "approved_at": STR_OR_NULL, "closed_at": {**STR_OR_NULL, "description": "When superseded or voided."},
+        "record_sha256": {**STR_OR_NULL, "description": "SHA-256 (hex) of the record PDF with every signature so "
+                                                        "far: the bytes of record.pdf."},
+        "snapshot_sha256": {**STR_OR_NULL, "description": "SHA-256 (hex) of the frozen snapshot the record shows."},
+        "links": links,
+        "steps": {"type": "array", "items": _ref("ReviewStep"), "description": "The review steps, oldest first "
+                                                                               "(one revision only)."}}})
+    s("RevisionList", {"type": "object", "properties": {
+        "case_id": {"type": "integer"}, "record_number": {"type": "string"},
+        "revisions": {"type": "array", "items": _ref("Revision"), "description": "Oldest first; the last is the "
+                                                                                 "current one."}}})
+    s("SignatureCheck", {"type": "object", "properties": {
+        "field": {"type": "string"}, "role": STR_OR_NULL, "signer_name": {"type": "string"},
+        "signer_email": {"type": "string"}, "signed_at": STR_OR_NULL, "timestamp_at": STR_OR_NULL,
+        "timestamp_trusted": {"type": ["boolean", "null"]}, "intact": {"type": "boolean"},
+        "trusted": {"type": "boolean"}, "trusted_at_timestamp": {"type": "boolean"},
+        "covers_whole_file": {"type": "boolean"}, "modified_after": {"type": "boolean"},
+        "problems": {"type": "array", "items": {"type": "string"}}}})
+    s("RecordVerification", {"type": "object", "required": ["ok", "problems"], "properties": {
+        "ok": {"type": "boolean", "description": "Every signature intact and trusted (by the instance's trust "
+                                                 "root), nothing changed after signing, and the file is a record "
+                                                 "stored in the register."},
+        "signatures_ok": {"type": "boolean", "description": "The signatures alone are in order."},
+        "file_sha256": {"type": "string"}, "revisions": {"type": "integer",
+                                                         "description": "PDF revisions (the original counts)."},
+        "signatures": {"type": "array", "items": _ref("SignatureCheck"), "description": "In signing order."},
+        "register": {"type": "object", "properties": {
+            "found": {"type": "boolean"}, "record_number": {"type": "string"}, "revision": {"type": "string"},
+            "status": {"type": "string"}, "case_id": {"type": ["integer", "null"]},
+            "snapshot_sha256": {"type": "string"}, "message": {"type": "string"}}},
+        "problems": {"type": "array", "items": {"type": "string"}}}})
 
 
 _CASE_TEXT = {

@@ -1,4 +1,9 @@
-"""Pages of the case register: case list, case form, case and result views, audit history, sites and units."""
+"""Pages of the case register: case list, case form, case and result views, audit history, sites and units.
+
+The case page also shows the review of its calculation records (:mod:`jtcheck.web.records_views`): the
+current revision, the steps the user may take, the revisions with their record PDFs and the review steps.
+A case whose current record is in review cannot be edited: its edit page says so instead of offering the form.
+"""
 from __future__ import annotations
 
 from typing import Any
@@ -8,12 +13,12 @@ from sqlalchemy import select
 
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION, DEMO_NOTICE
-from jtcheck.records import service
+from jtcheck.records import service, workflow
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
-from jtcheck.records.errors import ConcurrentEditError, NotFound
-from jtcheck.records.models import Case, CaseKind, CaseResult
+from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
+from jtcheck.records.models import Case, CaseKind, CaseResult, RevisionStatus
 from jtcheck.units import pressure_from_pa
-from jtcheck.web import removal
+from jtcheck.web import records_views, removal
 from jtcheck.web.caseinput import (
     HYDRATE_INHIBITORS,
     SCREENING_FIELDS,
@@ -75,10 +80,28 @@ def _allowed_units(case: Case | None) -> dict[str, list[str]]:
     return out
 
 
+def _revision_notices(case: Case | None) -> dict[str, str | None]:
+    """``frozen``: why the case cannot be edited now (its record is in review); ``reissue``: what saving a change
+    does to an issued record (opens the next revision)."""
+    out: dict[str, str | None] = {"frozen": None, "reissue": None}
+    if case is None:
+        return out
+    current = workflow.current_revision(db_session(), case.id)
+    if current is None:
+        return out
+    status = RevisionStatus(current.status)
+    if status.under_review:
+        out["frozen"] = str(UnderReview("edit case inputs", current.label, status.value))
+    elif status.issued:
+        out["reissue"] = (f"Revision {current.label} of this case is {status.value}. Saving a change opens the next "
+                          "revision, a draft, which has to be computed, checked and approved again.")
+    return out
+
+
 def _render_form(form: FormState, user, case: Case | None, status: int = 200):
     return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
-                           relief_quantities=RELIEF_QUANTITIES,
-                           unit_options=_allowed_units(case), **_choices(user)), status
+                           relief_quantities=RELIEF_QUANTITIES, unit_options=_allowed_units(case),
+                           **_revision_notices(case), **_choices(user)), status
 
 
 def _new_form() -> FormState:
@@ -149,7 +172,8 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
             "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 
 
-def _case_context(case: Case) -> dict[str, Any]:
+def _case_context(case: Case, review_form: FormState | None = None, review_step: str | None = None
+                  ) -> dict[str, Any]:
     shown = dict(case.display_units or {})
     inputs = []
     for q in CASE_QUANTITIES:
@@ -159,8 +183,10 @@ def _case_context(case: Case) -> dict[str, Any]:
         unit = display_unit(q, shown)
         inputs.append((q, to_display(q, value, unit, case.p_atm_pa), unit, value))
     user = current_user()
-    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown),
-            "can_edit": service.can_edit_cases(user), "can_delete": removal.may_delete_case(user, case),
+    review = records_views.review_context(case, user, review_form, review_step)
+    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown), "review": review,
+            "can_edit": service.can_edit_cases(user) and not review["frozen"],
+            "can_delete": removal.may_delete_case(user, case),
             "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,
             "result_outcome": outcome_of}
 
@@ -211,7 +237,8 @@ def index():
         rows.append({"case": c, "result": r, "units": units_of(r) if r is not None else None,
                      "min_margin": min(margins) if margins else None,
                      "not_screened": any(not x.converged for x in conds), "outcome": outcome})
-    statuses = sorted(set(session.scalars(select(Case.status).distinct())))
+    statuses = [s.value for s in RevisionStatus]
+    statuses += sorted(set(session.scalars(select(Case.status).distinct())) - set(statuses))   # older statuses
     return render_template("cases/list.html", rows=rows, form=form, sites=service.list_sites(session, user),
                            kinds=list(CaseKind), statuses=statuses, outcomes=OUTCOME_FILTERS,
                            can_edit=service.can_edit_cases(user))
@@ -247,6 +274,8 @@ def edit(case_id: int):
     if request.method == "GET":
         return _render_form(_form_of(case), user, case)
     form = FormState.from_request(CASE_FORM_FIELDS)
+    if _revision_notices(case)["frozen"]:
+        return _render_form(form, user, case, 403)     # the page says why; the service would refuse the same
     raw = _raw_from_form(form, _allowed_units(case))
     version_text = form.get("version").strip()
     if not version_text.isdigit():
@@ -265,6 +294,8 @@ def edit(case_id: int):
         except ConcurrentEditError as exc:
             form.general.append(str(exc))
             return _render_form(form, user, service.get_case(session, user, case_id), 409)
+        except UnderReview:           # submitted for check meanwhile: the form page shows why
+            return _render_form(form, user, service.get_case(session, user, case_id), 403)
         except InputError as exc:
             _apply_input_error(form, exc)
         else:
@@ -284,11 +315,17 @@ def delete(case_id: int):
 
 
 # -- view, compute, results, history ---------------------------------------------------------------
+def render_case_page(case: Case, result: CaseResult | None = None, *, status: int = 200,
+                     review_form: FormState | None = None, review_step: str | None = None):
+    """The case page with ``result`` (default: the latest), and a refused review step shown in its section."""
+    shown = result if result is not None else case.latest_result
+    return render_template("cases/view.html", **_case_context(case, review_form, review_step),
+                           **_result_context(case, shown), results=list(reversed(case.results))), status
+
+
 @bp.route("/cases/<int:case_id>")
 def view(case_id: int):
-    case = _case(case_id)
-    return render_template("cases/view.html", **_case_context(case), **_result_context(case, case.latest_result),
-                           results=list(reversed(case.results)))
+    return render_case_page(_case(case_id))
 
 
 @bp.route("/cases/<int:case_id>/compute", methods=["POST"])
@@ -305,8 +342,7 @@ def result(case_id: int, result_id: int):
     res = service.get_result(db_session(), current_user(), result_id)
     if res.case_id != case.id:
         raise NotFound("result", result_id)
-    return render_template("cases/view.html", **_case_context(case), **_result_context(case, res),
-                           results=list(reversed(case.results)))
+    return render_case_page(case, res)
 
 
 @bp.route("/cases/<int:case_id>/history")

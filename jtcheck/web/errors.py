@@ -2,8 +2,17 @@
 
 Never a stack trace: unexpected exceptions are logged with their traceback and answered with a plain
 500 message.
+
+Calculation records: a review step the revision's status does not allow (:class:`RevisionStateError`) and a
+change of an issued record (:class:`RecordImmutableError`) are conflicts (409, with the message); the
+four-eyes rule and a case under review are refusals (403, as every :class:`PermissionDenied`).  A record
+that could not be signed is a 500 with the message (:class:`RecordSigningError`), or a 502 when the
+time-stamp server did not answer; unusable signing keys are a 500 whose details go to the log only (they
+name files of the server).
 """
 from __future__ import annotations
+
+import sys
 
 from flask import Flask, Response, current_app, jsonify, make_response, render_template, request
 from flask_wtf.csrf import CSRFError
@@ -11,7 +20,15 @@ from sqlalchemy.exc import IntegrityError, OperationalError
 from werkzeug.exceptions import HTTPException, MethodNotAllowed
 
 from jtcheck.errors import InputError
-from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
+from jtcheck.records.errors import (
+    ConcurrentEditError,
+    NotFound,
+    PermissionDenied,
+    RecordImmutableError,
+    RecordSigningError,
+    RevisionStateError,
+)
+from jtcheck.reports.pki import PKIError
 from jtcheck.web.removal import InUseError
 
 
@@ -47,7 +64,18 @@ def json_error(status: int, message: str, field: str | None = None, headers: dic
 
 _TITLES = {400: "Bad request", 401: "Sign-in needed", 403: "Not allowed", 404: "Not found", 405: "Method not allowed",
            409: "Conflict", 413: "Too large", 422: "Input not accepted", 429: "Too many attempts",
-           500: "Internal error", 503: "Service unavailable"}
+           500: "Internal error", 502: "Signing service not answering", 503: "Service unavailable"}
+
+#: Endpoints that take a file upload: a larger request size limit (:mod:`jtcheck.web.records_views`), and their 413
+#: answer names the field "file".
+UPLOAD_ENDPOINTS = frozenset({"records.verify"})
+
+
+def is_timestamp_error(exc: BaseException) -> bool:
+    """True for :class:`jtcheck.reports.signing.TimestampError` (without importing pyHanko for the check: if the
+    module is not loaded, nothing can have raised its error)."""
+    signing = sys.modules.get("jtcheck.reports.signing")
+    return signing is not None and isinstance(exc, signing.TimestampError)
 
 
 def _answer(status: int, message: str, field: str | None = None) -> Response:
@@ -81,6 +109,25 @@ def register(app: Flask) -> None:
     def _in_use(exc: InUseError):
         return _answer(409, exc.message, exc.field)
 
+    @app.errorhandler(RevisionStateError)
+    def _revision_state(exc: RevisionStateError):
+        return _answer(409, str(exc))
+
+    @app.errorhandler(RecordImmutableError)
+    def _immutable(exc: RecordImmutableError):
+        return _answer(409, exc.message)
+
+    @app.errorhandler(RecordSigningError)
+    def _signing(exc: RecordSigningError):
+        current_app.logger.error("record signing failed: %s", exc.message, exc_info=exc.__cause__ or exc)
+        return _answer(500, f"the record could not be signed: {exc.message}; nothing was stored")
+
+    @app.errorhandler(PKIError)
+    def _pki(exc: PKIError):
+        current_app.logger.error("signing keys not usable: %s", exc)
+        return _answer(500, "the record could not be signed: the signing keys of this instance are missing or not "
+                            "usable; nothing was stored. The administrator finds the details in the log")
+
     @app.errorhandler(ConcurrentEditError)
     def _stale(exc: ConcurrentEditError):
         return _answer(409, str(exc), "version")
@@ -105,9 +152,14 @@ def register(app: Flask) -> None:
     def _http(exc: HTTPException):
         status = exc.code or 500
         message = exc.description or _TITLES.get(status, "error")
+        field = None
         if status == 429:
             message = "too many attempts; wait a minute and try again"
-        resp = _answer(status, message)
+        if status == 413:
+            limit = request.max_content_length
+            message = "the upload is too large" + (f" (at most {limit / 1048576:.0f} MB)" if limit else "")
+            field = "file" if request.endpoint in UPLOAD_ENDPOINTS else None
+        resp = _answer(status, message, field)
         if isinstance(exc, MethodNotAllowed) and exc.valid_methods:
             resp.headers["Allow"] = ", ".join(exc.valid_methods)
         return resp
@@ -116,6 +168,10 @@ def register(app: Flask) -> None:
     def _unexpected(exc: Exception):
         if isinstance(exc, HTTPException):   # pragma: no cover - routed above
             return _http(exc)
+        if is_timestamp_error(exc):
+            current_app.logger.warning("time-stamp server: %s", exc)
+            return _answer(502, "the record could not be signed: the time-stamp server did not answer or refused "
+                                "(nothing was stored); try again in a moment")
         current_app.logger.exception("unhandled error on %s %s", request.method, request.path)
         return _answer(500, "an internal error occurred; it has been logged. Try again, and tell the "
                             "administrator if it happens again")

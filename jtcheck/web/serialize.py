@@ -1,10 +1,32 @@
 """Stored records as JSON for the API: SI values with their unit in the key, and the same values in the
-units the user typed.  A stored result carries its screening (outcome, findings, answers; SI) as computed."""
+units the user typed.  A stored result carries its screening (outcome, findings, answers; SI) as computed.
+
+Calculation records (case revisions) are given with their status, people, dates and hashes, and links to
+their API addresses (so these functions need a request context, as every API answer has).
+"""
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Any
 
-from jtcheck.records.models import AuditEntry, Case, CaseKind, CaseResult, FluidRecord, KijMode, Material, Site
+from flask import url_for
+
+from jtcheck.records.models import (
+    AuditEntry,
+    Case,
+    CaseKind,
+    CaseResult,
+    CaseRevision,
+    FluidRecord,
+    KijMode,
+    Material,
+    ReviewAction,
+    ReviewStep,
+    RevisionStatus,
+    Site,
+    User,
+)
+from jtcheck.records.snapshot import record_number
 from jtcheck.screening.findings import Outcome
 from jtcheck.web import results
 from jtcheck.web.quantities import CASE_QUANTITIES, display_unit, to_display
@@ -14,7 +36,16 @@ def _iso(value) -> str | None:
     return value.isoformat() if value is not None else None
 
 
-def case_json(case: Case, latest: CaseResult | None = None, current: bool | None = None) -> dict[str, Any]:
+#: ``case_json(..., revision=UNSET)``: look the current revision up on the case.
+UNSET: Any = object()
+
+
+def case_json(case: Case, latest: CaseResult | None = None, current: bool | None = None,
+              revision: CaseRevision | None = UNSET) -> dict[str, Any]:
+    """A case for the API.  ``revision`` is its current calculation record when the caller has it (None: the
+    case has none); by default it is read from the case (which loads every revision of the case)."""
+    if revision is UNSET:
+        revision = case.current_revision
     shown = dict(case.display_units or {})
     si: dict[str, Any] = {q.key: getattr(case, q.key) for q in CASE_QUANTITIES}
     si["p_atm_pa"] = case.p_atm_pa
@@ -46,6 +77,66 @@ def case_json(case: Case, latest: CaseResult | None = None, current: bool | None
                                 "current": current}
     else:
         out["latest_result"] = None
+    out["current_revision"] = None if revision is None else current_revision_json(revision)
+    out["links"] = {"self": url_for("api.get_case", case_id=case.id),
+                    "revisions": url_for("api.list_case_revisions", case_id=case.id)}
+    return out
+
+
+def _has_record(revision: CaseRevision) -> bool:
+    # the hash is stored with the PDF (and checked to be there by the database): no need to load the PDF
+    return revision.record_sha256 is not None
+
+
+def revision_links(revision: CaseRevision) -> dict[str, str]:
+    """``self``, ``case`` and, once the revision has a signed record, ``record_pdf``."""
+    links = {"self": url_for("api.get_case_revision", case_id=revision.case_id, rev=revision.label),
+             "case": url_for("api.get_case", case_id=revision.case_id)}
+    if _has_record(revision):
+        links["record_pdf"] = url_for("api.revision_record", case_id=revision.case_id, rev=revision.label)
+    return links
+
+
+def current_revision_json(revision: CaseRevision) -> dict[str, Any]:
+    """The short form of a case's current revision shown with the case."""
+    return {"label": revision.label, "letter": revision.letter, "number": revision.number,
+            "status": RevisionStatus(revision.status).value, "links": revision_links(revision)}
+
+
+def person_json(user: User | None) -> dict[str, Any] | None:
+    """A signer or actor: id, name, e-mail (as printed on the record)."""
+    return None if user is None else {"id": user.id, "name": user.name, "email": user.email}
+
+
+def review_step_json(step: ReviewStep) -> dict[str, Any]:
+    return {"id": step.id, "action": ReviewAction(step.action).value,
+            "from_status": None if step.from_status is None else RevisionStatus(step.from_status).value,
+            "to_status": RevisionStatus(step.to_status).value, "user": person_json(step.user), "at": _iso(step.at),
+            "comment": step.comment or ""}
+
+
+def revision_json(revision: CaseRevision, steps: Sequence[ReviewStep] | None = None,
+                  current: bool | None = None) -> dict[str, Any]:
+    """A calculation record (case revision) for the API; with ``steps`` its review history, oldest first.
+
+    ``current`` tells whether it is the case's current (latest) revision, when the caller knows.
+    """
+    status = RevisionStatus(revision.status)
+    out: dict[str, Any] = {
+        "case_id": revision.case_id, "record_number": record_number(revision.case_id),
+        "label": revision.label, "letter": revision.letter, "number": revision.number, "status": status.value,
+        "issued": status.issued, "under_review": status.under_review, "current": current,
+        "case_version": revision.case_version, "result_id": revision.result_id,
+        "prepared_by": person_json(revision.preparer), "checked_by": person_json(revision.checker),
+        "approved_by": person_json(revision.approver),
+        "created_at": _iso(revision.created_at), "submitted_at": _iso(revision.submitted_at),
+        "checked_at": _iso(revision.checked_at), "approved_at": _iso(revision.approved_at),
+        "closed_at": _iso(revision.closed_at),
+        "record_sha256": revision.record_sha256, "snapshot_sha256": revision.snapshot_sha256,
+        "links": revision_links(revision),
+    }
+    if steps is not None:
+        out["steps"] = [review_step_json(s) for s in steps]
     return out
 
 
@@ -93,4 +184,5 @@ def audit_json(entry: AuditEntry) -> dict[str, Any]:
             "action": entry.action, "field": entry.field, "old_value": entry.old_value, "new_value": entry.new_value}
 
 
-__all__ = ["audit_json", "case_json", "fluid_json", "material_json", "result_json", "site_json"]
+__all__ = ["UNSET", "audit_json", "case_json", "current_revision_json", "fluid_json", "material_json", "person_json",
+           "result_json", "review_step_json", "revision_json", "revision_links", "site_json"]

@@ -36,8 +36,9 @@ CHROMIUM_ARGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-q
 TIMEOUT_MS = 30_000
 PASSWORD = "kestrel-ridge-e2e-password"
 EMAILS = {Role.ADMIN: "admin@e2e.example.org", Role.ENGINEER: "engineer@e2e.example.org",
-          Role.CHECKER: "checker@e2e.example.org"}
-NAMES = {Role.ADMIN: "Erin Admin", Role.ENGINEER: "Emil Engineer", Role.CHECKER: "Chloe Checker"}
+          Role.CHECKER: "checker@e2e.example.org", Role.APPROVER: "approver@e2e.example.org"}
+NAMES = {Role.ADMIN: "Erin Admin", Role.ENGINEER: "Emil Engineer", Role.CHECKER: "Chloe Checker",
+         Role.APPROVER: "Arne Approver"}
 
 #: Invented gas of the fictional Kestrel Ridge terminal (mole fractions); the check value comes from
 #: jtcheck.letdown on the same inputs, not from the page.
@@ -55,6 +56,7 @@ class LiveApp:
     unit_id: int
     seeded_case_id: int
     gas: dict[str, float]
+    record_case_id: int
 
 
 def _database(tmp_path_factory) -> Iterator[str]:
@@ -90,8 +92,9 @@ def _warm_up_kernels() -> None:
     gas.phase_envelope()
 
 
-def _seed(app) -> tuple[str, int, int]:
-    """Accounts of each role, a site with a unit, and one case the checker test opens."""
+def _seed(app) -> tuple[str, int, int, int]:
+    """Accounts of each role, a site with a unit, one case the checker test opens and one the review test takes
+    through the review."""
     from jtcheck.web.database import db_session
     from jtcheck.web.passwords import hash_password
 
@@ -102,17 +105,19 @@ def _seed(app) -> tuple[str, int, int]:
                                     password_hash=pw)
         engineer = service.create_user(s, admin, email=EMAILS[Role.ENGINEER], name=NAMES[Role.ENGINEER],
                                        role=Role.ENGINEER, password_hash=pw)
-        service.create_user(s, admin, email=EMAILS[Role.CHECKER], name=NAMES[Role.CHECKER], role=Role.CHECKER,
-                            password_hash=pw)
+        for role in (Role.CHECKER, Role.APPROVER):
+            service.create_user(s, admin, email=EMAILS[role], name=NAMES[role], role=role, password_hash=pw)
         site = service.create_site(s, engineer, "Kestrel Ridge gas terminal (e2e)", "Invented site for the tests.")
         unit = service.create_unit(s, engineer, site.id, "Town-main station")
         fluid = service.create_fluid(s, engineer, "Seeded pipeline gas", GAS, "PR", "table")
-        case = service.create_case(s, engineer, {
-            "unit_id": unit.id, "tag": "PCV-E2E-SEED", "service": "town-main regulator (invented)",
-            "kind": "control_valve", "fluid_id": fluid.id, "inlet_pressure_pa": 71.01325e5,
-            "inlet_temperature_k": 288.15, "outlet_pressure_pa": 8.0e5,
-            "display_units": {"inlet_pressure": "barg", "inlet_temperature": "degC", "outlet_pressure": "bara"}})
-        return unit.name, unit.id, case.id
+        seeded = {"unit_id": unit.id, "tag": "PCV-E2E-SEED", "service": "town-main regulator (invented)",
+                  "kind": "control_valve", "fluid_id": fluid.id, "inlet_pressure_pa": 71.01325e5,
+                  "inlet_temperature_k": 288.15, "outlet_pressure_pa": 8.0e5,
+                  "display_units": {"inlet_pressure": "barg", "inlet_temperature": "degC", "outlet_pressure": "bara"}}
+        case = service.create_case(s, engineer, seeded)
+        record_case = service.create_case(s, engineer, {**seeded, "tag": "PCV-E2E-REC",
+                                                        "service": "district regulator, record test (invented)"})
+        return unit.name, unit.id, case.id, record_case.id
 
 
 @pytest.fixture(scope="session")
@@ -127,11 +132,11 @@ def live_app(tmp_path_factory) -> Iterator[LiveApp]:
     server = make_server("127.0.0.1", 0, app, threaded=True)
     thread = threading.Thread(target=server.serve_forever, name="jtcheck-e2e-server", daemon=True)
     try:
-        unit_name, unit_id, case_id = _seed(app)
+        unit_name, unit_id, case_id, record_case_id = _seed(app)
         _warm_up_kernels()
         thread.start()
         yield LiveApp(url=f"http://127.0.0.1:{server.server_port}", app=app, unit_name=unit_name, unit_id=unit_id,
-                      seeded_case_id=case_id, gas=dict(GAS))
+                      seeded_case_id=case_id, gas=dict(GAS), record_case_id=record_case_id)
     finally:
         server.shutdown()
         server.server_close()
