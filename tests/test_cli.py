@@ -251,3 +251,16 @@ def test_record_verify_needs_a_trust_root_when_the_instance_has_no_ca(empty_regi
     pdf.write_bytes(b"%PDF-1.7\n")
     res = CliRunner().invoke(main, ["record", "verify", str(pdf)])
     assert res.exit_code == EXIT_INPUT and "trust-root" in res.output
+
+
+def test_worker_needs_redis_url(monkeypatch):
+    monkeypatch.delenv("REDIS_URL", raising=False)
+    res = CliRunner().invoke(main, ["worker", "--burst"])
+    assert res.exit_code == EXIT_INPUT and "REDIS_URL" in res.output
+
+
+def test_worker_burst_on_an_empty_queue_stops(monkeypatch):
+    """A real Redis (127.0.0.1:6379, database 15): with nothing queued a burst worker returns at once."""
+    monkeypatch.setenv("REDIS_URL", "redis://127.0.0.1:6379/15")
+    res = CliRunner().invoke(main, ["worker", "--burst"])
+    assert res.exit_code == 0, res.output

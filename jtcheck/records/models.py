@@ -1,5 +1,5 @@
 """Tables of the case register: users, sites and units, fluids, materials, cases, results, audit log,
-and the calculation records (case revisions) with their review steps.
+the calculation records (case revisions) with their review steps, and the batch screening jobs.
 
 SQLAlchemy 2.0 declarative models with typed ``Mapped[...]`` attributes and one :class:`Base`.
 Quantities are stored in SI units and the unit is part of the column name (``inlet_pressure_pa``,
@@ -542,6 +542,79 @@ class AuditEntry(Base):
     new_value: Mapped[str | None] = mapped_column(Text)
 
     user: Mapped[User | None] = relationship()
+
+
+class BatchStatus(enum.StrEnum):
+    """Where a batch screening job is."""
+
+    QUEUED = "queued"      # stored, waiting for a worker (a thread of the web process, or an ``rq`` worker)
+    RUNNING = "running"    # a worker is screening its rows
+    DONE = "done"          # results stored
+    FAILED = "failed"      # stopped on an error (``message`` says which); nothing more will happen
+
+    @property
+    def finished(self) -> bool:
+        """True for done and failed: the job will not change any more."""
+        return self in (BatchStatus.DONE, BatchStatus.FAILED)
+
+
+class BatchJob(Base):
+    """One uploaded letdown list screened as a background job (:mod:`jtcheck.batch.jobs`).
+
+    The uploaded file is kept as it came (``input_file``) and read again by the worker, so that a job can
+    be re-run and is reproducible.  ``total`` and ``done`` count the rows to screen and those screened so
+    far (the progress bar); ``results`` holds one dict per screened row (the row's
+    :class:`jtcheck.screening.batch.BatchRowResult` in SI, plus its inputs as the file gave them),
+    ``counts`` the rows by outcome.  ``bad_rows`` is the CSV of the rows that could not be read when the
+    job was created with "keep going" (None when every row was read).  ``options`` keeps the settings of
+    the upload form (limit, MDMT and margin texts, ``compare_models``, ``keep_going``); ``reading`` what
+    reading the file reported (row errors of skipped rows, warnings, the units of its columns).
+    ``heartbeat_at`` is the worker's last sign of life: a running job whose worker fell silent (the
+    process was restarted) is recognised and marked failed instead of running for ever.
+    """
+
+    __tablename__ = "batch_jobs"
+    __table_args__ = (
+        CheckConstraint("runner IN ('thread', 'rq')", name="runner"),
+        CheckConstraint("total >= 0 AND done >= 0", name="counters_not_negative"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    created_by_id: Mapped[int] = mapped_column(ForeignKey("users.id"), index=True)
+    created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    started_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    finished_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    #: last sign of life of the worker (set when it takes the job and with every progress write).
+    heartbeat_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    filename: Mapped[str] = mapped_column(String(255))
+    status: Mapped[BatchStatus] = mapped_column(_enum(BatchStatus, "batch_status", 16), default=BatchStatus.QUEUED,
+                                                index=True)
+    total: Mapped[int] = mapped_column(Integer, default=0)
+    done: Mapped[int] = mapped_column(Integer, default=0)
+    options: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
+    input_file: Mapped[bytes] = mapped_column(LargeBinary)
+    bad_rows: Mapped[bytes | None] = mapped_column(LargeBinary)
+    results: Mapped[list[Any] | None] = mapped_column(JSON)
+    counts: Mapped[dict[str, Any] | None] = mapped_column(JSON)
+    reading: Mapped[dict[str, Any] | None] = mapped_column(JSON)
+    message: Mapped[str] = mapped_column(Text, default="")
+    runner: Mapped[str] = mapped_column(String(8), default="thread")
+
+    created_by: Mapped[User] = relationship()
+
+    @property
+    def finished(self) -> bool:
+        return BatchStatus(self.status).finished
+
+    @property
+    def fraction(self) -> float:
+        """Share of the rows screened so far (0 to 1)."""
+        if BatchStatus(self.status) is BatchStatus.DONE:
+            return 1.0
+        return min(1.0, self.done / self.total) if self.total else 0.0
+
+    def __repr__(self) -> str:
+        return f"BatchJob(id={self.id!r}, filename={self.filename!r}, status={self.status!s})"
 
 
 # -- append-only audit log, ORM side ---------------------------------------------------------------

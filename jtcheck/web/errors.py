@@ -68,7 +68,7 @@ _TITLES = {400: "Bad request", 401: "Sign-in needed", 403: "Not allowed", 404: "
 
 #: Endpoints that take a file upload: a larger request size limit (:mod:`jtcheck.web.records_views`), and their 413
 #: answer names the field "file".
-UPLOAD_ENDPOINTS = frozenset({"records.verify"})
+UPLOAD_ENDPOINTS = frozenset({"records.verify", "batches.create"})
 
 
 def is_timestamp_error(exc: BaseException) -> bool:

@@ -1,0 +1,263 @@
+"""The column layout of a letdown list: one row per case, units in the headers in square brackets.
+
+This table is the one source of truth: :mod:`jtcheck.batch.reader` reads by it, :mod:`jtcheck.batch.template`
+writes its header from it, and :func:`layout_markdown` documents it (the README includes that table).
+
+Rules of a file:
+
+* row 1 holds the column headers; each following row is one letdown case (rows are numbered as a
+  spreadsheet numbers them: the header is row 1, the first case row 2); empty rows are skipped;
+* headers match without regard to letter case, extra spaces, underscores or hyphens
+  (``Inlet_Pressure  [barg]`` is ``inlet pressure [barg]``); the columns may come in any order;
+  columns that are not in the layout are ignored with a warning;
+* a quantity column names its unit in square brackets (``inlet pressure [barg]``), any unit that
+  :mod:`jtcheck.units` accepts for that quantity; a cell may carry its own unit (``"1044 psig"``),
+  which overrides the header's; a cell without a unit takes the header's;
+* CSV: UTF-8 with or without a byte-order mark, comma- or semicolon-delimited (in a
+  semicolon-delimited file a decimal comma is accepted in number cells); XLSX: the first sheet,
+  numbers as numbers or as text;
+* at most :data:`MAX_ROWS` case rows and :data:`MAX_BYTES` bytes per file.
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+from jtcheck.units import (
+    PRESSURE_UNITS,
+    TEMPERATURE_DIFFERENCE_UNITS,
+    TEMPERATURE_UNITS,
+    pressure_unit_names,
+)
+
+#: Largest number of case rows a file may hold.
+MAX_ROWS = 200_000
+#: Largest file accepted [bytes] (50 MB).
+MAX_BYTES = 50 * 1024 * 1024
+
+# kinds of quantity a column holds
+TEXT = "text"
+CHOICE = "choice"
+FLUID = "fluid"
+PRESSURE = "pressure"
+TEMPERATURE = "temperature"
+TEMPERATURE_DIFFERENCE = "temperature difference"
+ABSOLUTE_PRESSURE = "absolute pressure"
+YES_NO = "yes/no"
+
+#: Quantities whose header carries a unit in square brackets.
+UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE)
+
+#: Kinds of letdown (the case register's CaseKind values).
+KINDS = ("control_valve", "relief_valve", "blowdown_valve", "choke", "other")
+#: Equations of state a row may choose.
+EOS_CHOICES = ("PR", "SRK")
+#: Words read as yes / no in the ``water saturated`` column (any letter case).
+YES_WORDS = ("yes", "y", "true", "1", "x")
+NO_WORDS = ("", "no", "n", "false", "0")
+#: Header of the column jtcheck adds to a bad-rows file; ignored (without a warning) when read back.
+PROBLEMS_HEADER = "problems"
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of the layout.
+
+    Attributes
+    ----------
+    key : str
+        Identifier used in code (``inlet_pressure``).
+    name : str
+        Header text without the unit (``inlet pressure``).
+    quantity : str
+        What the cells hold: one of the module's quantity constants.
+    required : bool
+        Every row needs a value.
+    default : str
+        The value an empty cell takes ("" when there is none).
+    unit : str
+        The unit the template writes in the header ("" for a column without one).
+    meaning : str
+        What the column means, for the documentation.
+    choices : tuple of str
+        Allowed words of a choice column.
+    """
+
+    key: str
+    name: str
+    quantity: str
+    required: bool
+    default: str
+    unit: str
+    meaning: str
+    choices: tuple[str, ...] = ()
+
+    @property
+    def has_unit(self) -> bool:
+        return self.quantity in UNIT_QUANTITIES
+
+    def header(self, unit: str | None = None) -> str:
+        """Header text with a unit: ``inlet pressure [barg]`` (the template's unit by default)."""
+        if not self.has_unit:
+            return self.name
+        return f"{self.name} [{unit or self.unit}]"
+
+    @property
+    def generic_header(self) -> str:
+        """Header as the documentation writes it: ``inlet pressure [unit]``."""
+        if not self.has_unit:
+            return self.name
+        if self.key == "margin":
+            return f"{self.name} [K]"
+        if self.key == "atmospheric_pressure":
+            return f"{self.name} [bar]"
+        return f"{self.name} [unit]"
+
+
+COLUMNS: tuple[Column, ...] = (
+    Column("tag", "tag", TEXT, True, "", "",
+           "Tag of the valve or letdown, e.g. PCV-1101. A tag that appears twice is read, with a warning."),
+    Column("service", "service", TEXT, False, "", "", "Service description (free text), carried to the results."),
+    Column("kind", "kind", CHOICE, False, "control_valve", "",
+           "Kind of letdown: control_valve, relief_valve, blowdown_valve, choke or other (spaces for "
+           "underscores are accepted). Every kind is screened as an isenthalpic letdown from the inlet to the "
+           "outlet pressure.", KINDS),
+    Column("fluid", "fluid", FLUID, True, "", "",
+           "A fluid name from the case register's fluid library, or an inline composition "
+           "'methane=0.9,ethane=0.1' (mole fractions or mole percent; quote it in a comma-delimited CSV)."),
+    Column("eos", "eos", CHOICE, False, "PR", "",
+           "Equation of state: PR or SRK. Empty: PR for an inline composition, the library fluid's own "
+           "equation of state for a named fluid. The other of the two is compared side by side.", EOS_CHOICES),
+    Column("inlet_pressure", "inlet pressure", PRESSURE, True, "", "barg", "Normal inlet pressure."),
+    Column("inlet_temperature", "inlet temperature", TEMPERATURE, True, "", "degC", "Normal inlet temperature."),
+    Column("outlet_pressure", "outlet pressure", PRESSURE, True, "", "barg",
+           "Outlet pressure; not above the inlet pressure."),
+    Column("min_inlet_temperature", "min inlet temperature", TEMPERATURE, False, "", "degC",
+           "Lowest credible inlet temperature (adds the credible conditions); not above the inlet temperature."),
+    Column("max_inlet_pressure", "max inlet pressure", PRESSURE, False, "", "barg",
+           "Highest credible inlet pressure (adds the credible conditions); not below the inlet pressure."),
+    Column("mdmt", "MDMT", TEMPERATURE, False, "", "degC",
+           "Minimum design metal temperature of the downstream material."),
+    Column("cold_limit", "cold limit", TEMPERATURE, False, "", "degC",
+           "A cold limit of your own; the warmer of MDMT and cold limit governs. A row with neither is read "
+           "(with a warning) and comes out 'not screened'."),
+    Column("margin", "margin", TEMPERATURE_DIFFERENCE, False, "0 K", "K",
+           "Required margin above the governing limit, 0 to 100 K (K or degF)."),
+    Column("water_saturated", "water saturated", YES_NO, False, "no", "",
+           "yes: screen for hydrates as if the gas were water-saturated; no (or empty): as given."),
+    Column("atmospheric_pressure", "atmospheric pressure", ABSOLUTE_PRESSURE, False, "1.01325 bar", "bar",
+           "Atmospheric pressure for the row's gauge pressures, in an absolute unit, 0.3 to 2 bar."),
+)
+
+COLUMN_BY_KEY: dict[str, Column] = {c.key: c for c in COLUMNS}
+REQUIRED_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if c.required)
+
+_HEADER = re.compile(r"^(?P<name>[^\[\]]*?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")
+#: Header units a column without a unit tolerates (a spreadsheet habit).
+_NO_UNIT = ("", "-")
+
+
+def normalise_name(text: str) -> str:
+    """Header name as compared: lower case, underscores and hyphens as spaces, single spaces."""
+    return " ".join(str(text).replace("_", " ").replace("-", " ").lower().split())
+
+
+_BY_NAME: dict[str, Column] = {normalise_name(c.name): c for c in COLUMNS}
+
+
+def split_header(text: str) -> tuple[str, str | None]:
+    """(normalised name, unit or None) of a header cell: ``"Inlet Pressure [barg]"`` -> ``("inlet pressure", "barg")``.
+
+    A header whose brackets do not parse comes back whole as the name (and matches no column).
+    """
+    raw = str(text).strip()
+    m = _HEADER.match(raw)
+    if not m:
+        return normalise_name(raw), None
+    unit = m.group("unit")
+    return normalise_name(m.group("name")), None if unit is None else unit.strip()
+
+
+def find_column(text: str) -> Column | None:
+    """The layout column a header cell names (None for an unknown header)."""
+    name, _ = split_header(text)
+    return _BY_NAME.get(name)
+
+
+def allowed_units(quantity: str) -> list[str]:
+    """Unit words a column of ``quantity`` accepts."""
+    if quantity == PRESSURE:
+        return pressure_unit_names()
+    if quantity == ABSOLUTE_PRESSURE:
+        return [u for u in pressure_unit_names() if not PRESSURE_UNITS[u.lower()][1]]
+    if quantity == TEMPERATURE:
+        return ["K", "degC", "degF", "degR"]
+    if quantity == TEMPERATURE_DIFFERENCE:
+        return ["K", "degC", "degF"]
+    return []
+
+
+def unit_problem(column: Column, unit: str | None) -> str | None:
+    """Why ``unit`` cannot be the header unit of ``column`` (None when it can)."""
+    if not column.has_unit:
+        if unit is None or unit in _NO_UNIT:
+            return None
+        return f"this column takes no unit; write the header as {column.name!r}"
+    if unit is None or unit == "":
+        return None     # allowed: every cell then carries its own unit
+    key = unit.lower()
+    ok = {
+        PRESSURE: key in PRESSURE_UNITS,
+        ABSOLUTE_PRESSURE: key in PRESSURE_UNITS and not PRESSURE_UNITS[key][1],
+        TEMPERATURE: key in TEMPERATURE_UNITS,
+        TEMPERATURE_DIFFERENCE: key in TEMPERATURE_DIFFERENCE_UNITS,
+    }[column.quantity]
+    if ok:
+        return None
+    allowed = ", ".join(allowed_units(column.quantity))
+    return f"unknown {column.quantity} unit {unit!r} in the header; allowed: {allowed}"
+
+
+def _units_text(column: Column) -> str:
+    if column.quantity == CHOICE:
+        return ", ".join(column.choices)
+    if column.quantity == YES_NO:
+        return "yes / no"
+    if column.quantity == FLUID:
+        return "library name or name=amount pairs"
+    if column.has_unit:
+        return ", ".join(allowed_units(column.quantity))
+    return "text"
+
+
+#: Headings of :func:`layout_rows`.
+LAYOUT_HEADINGS = ("Column header", "Required", "Units or values", "Default", "Meaning")
+
+
+def layout_rows() -> list[tuple[str, str, str, str, str]]:
+    """The layout as rows of text: (column header, required yes/no, units or values, default, meaning)."""
+    return [(c.generic_header, "yes" if c.required else "no", _units_text(c), c.default or "-", c.meaning)
+            for c in COLUMNS]
+
+
+def layout_markdown(notes: bool = True) -> str:
+    """The layout as a Markdown table (header, required, units or values, default, meaning), then the rules."""
+    lines = ["| " + " | ".join(LAYOUT_HEADINGS) + " |", "|---|---|---|---|---|"]
+    for header, required, units, default, meaning in layout_rows():
+        lines.append(f"| `{header}` | {required} | {units} | {default} | {meaning.replace('|', '/')} |")
+    if notes:
+        lines += [
+            "",
+            "- Row 1 holds the headers; every further row is one case. Rows are numbered as the spreadsheet "
+            "numbers them (the header is row 1, the first case row 2); empty rows are skipped.",
+            "- Headers match regardless of letter case, extra spaces, underscores and hyphens; the columns may "
+            "come in any order; unknown columns are ignored with a warning.",
+            "- `[unit]` is any unit jtcheck accepts for the quantity; a cell may carry its own unit "
+            "(`1044 psig`), which overrides the header's.",
+            f"- CSV (UTF-8, comma or semicolon) or XLSX (first sheet); at most {MAX_ROWS:,} rows and "
+            f"{MAX_BYTES // (1024 * 1024)} MB.",
+            "- A file with any bad cell imports nothing; every problem is listed by row and column. With "
+            "keep-going, the good rows are screened and the bad ones written to a bad-rows CSV with a "
+            f"`{PROBLEMS_HEADER}` column (ignored when the fixed file is read again).",
+        ]
+    return "\n".join(lines) + "\n"
