@@ -94,6 +94,17 @@ def from_environment() -> dict[str, Any]:
     proxies = os.environ.get("JTCHECK_PROXY_COUNT", "").strip()
     if proxies:
         out["PROXY_COUNT"] = int(proxies)
+    for name in ("BATCH_RUNNER", "RECORD_PAPER"):
+        value = os.environ.get(name, "").strip()
+        if value:
+            out[name] = value
+    for name in ("BATCH_UPLOAD_MAX_BYTES", "BATCH_JOB_TIMEOUT_S", "BATCH_STALE_AFTER_S"):
+        value = os.environ.get(name, "").strip()
+        if value:
+            try:
+                out[name] = int(value)
+            except ValueError:
+                raise ValueError(f"environment variable {name}={value!r}: use a whole number") from None
     return out
 
 

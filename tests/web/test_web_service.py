@@ -5,6 +5,7 @@ import importlib
 import re
 import sys
 
+import pytest
 from sqlalchemy import func, select
 from web_helpers import FAST_HASHING, app_config
 
@@ -131,3 +132,17 @@ def test_environment_settings(monkeypatch):
     assert cfg["RATELIMIT_STORAGE_URI"] == "redis://127.0.0.1:6379/3"
     assert cfg["SESSION_COOKIE_SECURE"] is False and cfg["SECRET_KEY"] == "s" * 40
     assert cfg["DATABASE_URL"] == "postgresql://u@127.0.0.1/x_test" and cfg["PROXY_COUNT"] == 1
+
+
+def test_batch_and_record_settings_from_the_environment(monkeypatch):
+    from jtcheck.web.config import from_environment
+
+    monkeypatch.setenv("BATCH_RUNNER", "thread")
+    monkeypatch.setenv("BATCH_UPLOAD_MAX_BYTES", "1000000")
+    monkeypatch.setenv("RECORD_PAPER", "Letter")
+    cfg = from_environment()
+    assert cfg["BATCH_RUNNER"] == "thread" and cfg["BATCH_UPLOAD_MAX_BYTES"] == 1_000_000
+    assert cfg["RECORD_PAPER"] == "Letter"
+    monkeypatch.setenv("BATCH_JOB_TIMEOUT_S", "soon")
+    with pytest.raises(ValueError, match="BATCH_JOB_TIMEOUT_S"):
+        from_environment()
