@@ -36,6 +36,7 @@ test: $(VENV)/.installed-test
 bench: $(VENV)/.installed-test
 	$(BIN)/python benchmarks/bench_flash.py
 	$(BIN)/python benchmarks/bench_record.py
+	$(BIN)/python benchmarks/bench_batch.py --end-to-end
 
 clean:
 	rm -rf $(VENV) build *.egg-info
