@@ -221,12 +221,21 @@ def _from_screening(case: BatchCase, s: Screening) -> BatchRowResult:
         all(c.converged for c in s.conditions), "" if cold is None else cold.message, solids=solids)
 
 
-def _scalar_row(case: BatchCase, compare_models: bool) -> BatchRowResult:
+#: A row's scalar screening: (row, compare models) -> Screening.
+ScalarScreen = Callable[[BatchCase, bool], Screening]
+
+
+def letdown_row_screening(case: BatchCase, compare_models: bool) -> Screening:
+    """The scalar screening of a row as a letdown at its credible conditions (no sweep, no answers)."""
+    conds = credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k)
+    return screen_letdown(case.fluid, conds, ScreeningOptions(case.limits, compare_models, _water_present(case),
+                                                              answers=False))
+
+
+def _scalar_row(case: BatchCase, compare_models: bool, scalar: ScalarScreen) -> BatchRowResult:
     """The robust scalar screening of one row; any exception makes the row "not screened"."""
     try:
-        conds = credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k)
-        s = screen_letdown(case.fluid, conds, ScreeningOptions(case.limits, compare_models, _water_present(case),
-                                                               answers=False))
+        s = scalar(case, compare_models)
     except Exception as exc:  # noqa: BLE001 - one row's failure must not stop the list
         return _failed_row(case, exc)
     return _from_screening(case, s)
@@ -581,7 +590,8 @@ def _screen_group(fluid: Fluid, cases: Sequence[BatchCase], compare_models: bool
 
 
 def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
-                 progress: ProgressFn | None = None) -> BatchScreening:
+                 progress: ProgressFn | None = None, vectorised: Callable[[BatchCase], bool] | None = None,
+                 scalar: ScalarScreen | None = None) -> BatchScreening:
     """Screen many letdown rows: one compiled batch letdown per fluid and model, the robust scalar screening
     for the rows that need it.
 
@@ -616,6 +626,11 @@ def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
     progress : callable(done, total), optional
         Called as rows complete: after each group's batch rows and every :data:`PROGRESS_EVERY` scalar rows.
         An exception it raises stops the screening (a way to cancel).
+    vectorised : callable(BatchCase) -> bool, optional
+        Whether a row may take the batch path at all (the case kind decides, :mod:`jtcheck.cases.batch`);
+        every row may when not given.
+    scalar : callable(BatchCase, bool) -> Screening, optional
+        The scalar screening of one row (the case kind's); :func:`letdown_row_screening` when not given.
 
     Returns
     -------
@@ -639,28 +654,29 @@ def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
         if progress is not None and (force or done % PROGRESS_EVERY == 0):
             progress(done, total)
 
-    groups: dict[int, list[int]] = {}
+    row_screen = scalar if scalar is not None else letdown_row_screening
+    groups: dict[tuple[int, bool], list[int]] = {}
     for i, case in enumerate(cases):
-        groups.setdefault(id(case.fluid), []).append(i)
-    for idx in groups.values():
+        groups.setdefault((id(case.fluid), vectorised is None or vectorised(case)), []).append(i)
+    for (_, may_batch), idx in groups.items():
         fluid = cases[idx[0]].fluid
         members = [cases[i] for i in idx]
-        scalar = list(range(len(idx)))
-        if isinstance(fluid, Fluid) and len(idx) >= BATCH_MIN_ROWS:
+        to_scalar = list(range(len(idx)))
+        if may_batch and isinstance(fluid, Fluid) and len(idx) >= BATCH_MIN_ROWS:
             try:
-                batch, scalar = _screen_group(fluid, members, compare_models)
+                batch, to_scalar = _screen_group(fluid, members, compare_models)
             except Exception as exc:  # noqa: BLE001 - the scalar path is the fallback for anything
                 notes.append(f"batch letdown failed for {fluid!r} ({_message_of(exc)}): its {len(idx)} rows took "
                              "the scalar path")
-                batch, scalar = {}, list(range(len(idx)))
+                batch, to_scalar = {}, list(range(len(idx)))
             for pos, res in batch.items():
                 results[idx[pos]] = res
             done += len(batch)
             if batch:
                 tick(force=True)
         t_scalar = time.perf_counter()
-        for pos in scalar:
-            results[idx[pos]] = _scalar_row(members[pos], compare_models)
+        for pos in to_scalar:
+            results[idx[pos]] = _scalar_row(members[pos], compare_models, row_screen)
             done += 1
             tick()
         seconds_scalar += time.perf_counter() - t_scalar

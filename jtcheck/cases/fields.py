@@ -1,0 +1,125 @@
+"""The inputs of a case: one declaration per field, shared by the register, the API, the forms, the CLI and batch.
+
+A :class:`Field` names an input twice (``inlet_pressure`` as people and the API write it,
+``inlet_pressure_pa`` as it is stored in SI), says what quantity it is (so the edges know which units to
+offer and convert), its words for a person, whether it is required and the range allowed in SI.  Every
+entry point checks a value with :meth:`Field.check`, so the message for a bad value is the same wherever it
+was typed.  Field lists belong to the case kinds (:mod:`jtcheck.cases`); :data:`COMMON_FIELDS` are those
+every kind has (the cold limits and the atmospheric pressure for gauge units).
+"""
+from __future__ import annotations
+
+import math
+import numbers
+from dataclasses import dataclass
+from typing import Any
+
+from jtcheck.errors import InputError
+
+# Allowed ranges, (low, high, low is inclusive) in SI units.
+PRESSURE_RANGE_PA = (0.0, 1.0e9, False)           # absolute; 1e9 Pa = 10 000 bar
+INLET_TEMPERATURE_RANGE_K = (0.0, 2000.0, False)  # the range of the heat-capacity data
+LIMIT_TEMPERATURE_RANGE_K = (0.0, 1000.0, False)  # MDMT and cold limits
+MARGIN_RANGE_K = (0.0, 100.0, True)
+MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)
+P_ATM_RANGE_PA = (5.0e4, 1.1e5, True)             # sea level to about 5500 m
+OVERPRESSURE_RANGE = (0.0, 1.0, True)             # fraction of the set gauge pressure (0.10 = 10 %)
+BUILT_UP_RANGE_PA = (0.0, 1.0e9, True)            # a pressure difference
+
+#: SI unit of each quantity, as written in messages.
+SI_UNITS = {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s", "percent": "fraction",
+            "pressure_difference": "Pa"}
+
+
+def range_text(lo: float, hi: float, lo_inclusive: bool, unit: str) -> str:
+    """``"0 < value <= 1e+09 Pa"``: a range as the messages write it."""
+    return f"{lo:g} {'<=' if lo_inclusive else '<'} value <= {hi:g} {unit}"
+
+
+def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, float, bool],
+                 required: bool) -> float | None:
+    """A finite number within ``rng`` (or None when not required); an :class:`InputError` naming ``key`` otherwise.
+
+    Parameters
+    ----------
+    key : str
+        The field named in the error.
+    value : Any
+        The value given (None for none).
+    label, unit : str
+        Words for the message: ``"inlet pressure"``, ``"Pa"``.
+    rng : (float, float, bool)
+        Low and high end in SI, and whether the low end is allowed.
+    required : bool
+        Whether None is refused.
+    """
+    lo, hi, lo_inclusive = rng
+    if value is None:
+        if required:
+            raise InputError(key, f"{label} is required [{unit}]; allowed: {range_text(lo, hi, lo_inclusive, unit)}")
+        return None
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        raise InputError(key, f"{label} must be a number in {unit}, got {value!r}")
+    v = float(value)
+    if not math.isfinite(v):
+        raise InputError(key, f"{label} must be a finite number [{unit}], got {v!r}")
+    if v < lo or (v == lo and not lo_inclusive) or v > hi:
+        raise InputError(key, f"{label} {v:g} {unit} is out of range; allowed: "
+                              f"{range_text(lo, hi, lo_inclusive, unit)}"
+                         + (" (absolute)" if unit == "Pa" else ""))
+    return v
+
+
+@dataclass(frozen=True)
+class Field:
+    """One quantity a case kind takes as input.
+
+    Attributes
+    ----------
+    name : str
+        Name in forms, API bodies, CLI options, batch columns and ``display_units`` (``inlet_pressure``).
+    key : str
+        The SI field of the register (``inlet_pressure_pa``).
+    quantity : str
+        ``"pressure"`` (absolute or gauge), ``"temperature"``, ``"difference"`` (temperature difference),
+        ``"mass_flow"``, ``"percent"`` (entered in %, stored as a fraction) or ``"pressure_difference"``
+        (no atmospheric offset).
+    label : str
+        Words in messages (``"inlet pressure"``).
+    form_label : str
+        Words beside the input on a form (``"Inlet pressure"``).
+    si_range : (float, float, bool)
+        Allowed SI range: low, high, low end allowed.
+    required : bool
+        Whether a new case needs it.
+    message_unit : str
+        The unit written in messages ("Pa", "K", "-", "Pa (difference)"); the SI unit when empty.
+    """
+
+    name: str
+    key: str
+    quantity: str
+    label: str
+    form_label: str
+    si_range: tuple[float, float, bool]
+    required: bool = False
+    message_unit: str = ""
+
+    @property
+    def si_unit(self) -> str:
+        """The SI unit of the stored value (``"fraction"`` for percent fields)."""
+        return SI_UNITS[self.quantity]
+
+    def check(self, value: Any) -> float | None:
+        """The value as a float in SI within :attr:`si_range`; raise :class:`InputError` naming :attr:`key`."""
+        return check_number(self.key, value, self.label, self.message_unit or self.si_unit, self.si_range,
+                            self.required)
+
+
+#: Fields every case kind has: the cold limits of the downstream steel and the atmospheric pressure.
+MDMT = Field("mdmt", "mdmt_k", "temperature", "MDMT", "MDMT", LIMIT_TEMPERATURE_RANGE_K)
+COLD_LIMIT = Field("cold_limit", "cold_limit_k", "temperature", "cold limit", "Cold limit", LIMIT_TEMPERATURE_RANGE_K)
+MARGIN = Field("margin", "margin_k", "difference", "margin", "Required margin", MARGIN_RANGE_K, required=True)
+P_ATM = Field("p_atm", "p_atm_pa", "pressure", "atmospheric pressure for gauge units",
+              "Atmospheric pressure for gauge units", P_ATM_RANGE_PA, required=True)
+COMMON_FIELDS: tuple[Field, ...] = (MDMT, COLD_LIMIT, MARGIN)

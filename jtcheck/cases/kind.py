@@ -1,0 +1,93 @@
+"""What a kind of case is: the one interface the register, the API, batch, the web and the records dispatch on.
+
+A *case kind* (a letdown, a relief valve, later a vessel depressurisation) brings everything that is
+particular to it, so that nothing above the engineering layer knows one kind's fields:
+
+* its inputs: :attr:`CaseKind.fields` (quantities with units and SI ranges, :class:`~jtcheck.cases.fields.Field`)
+  and :meth:`CaseKind.check` (relations between fields, e.g. outlet below inlet pressure);
+* its computation and its result: :meth:`CaseKind.compute` returns a
+  :class:`~jtcheck.screening.screen.Screening` (conditions, outcome, findings, answers);
+* its findings for screening (:meth:`CaseKind.findings`) and a summary for lists (:meth:`CaseKind.summary`);
+* the sections it contributes to the case form, the result page and the PDF record: template names
+  under ``templates/`` (:attr:`CaseKind.form_sections`, :attr:`CaseKind.page_sections`,
+  :attr:`CaseKind.record_sections`).
+
+Values travel as a plain mapping of register keys in SI (``{"inlet_pressure_pa": 72e5, ...}``); the
+edges convert units.  A kind covers one or more *devices*, the values of ``Case.kind`` that users pick
+(control valve, choke, relief valve, ...).
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+from jtcheck.cases.fields import Field
+from jtcheck.screening.findings import Finding
+from jtcheck.screening.screen import Screening
+from jtcheck.thermo.fluid import Fluid
+
+
+class CaseKind:
+    """Base of the case kinds; a kind is a module-level instance registered in :mod:`jtcheck.cases.registry`.
+
+    Attributes
+    ----------
+    name : str
+        Identifier of the kind (``"letdown"``).
+    label : str
+        Words for a person.
+    devices : tuple of str
+        The device values (``Case.kind``) this kind computes.
+    fields : tuple of Field
+        The kind's quantity inputs, in the order they are checked and shown (the common cold-limit fields
+        and the atmospheric pressure are the register's, not listed here).
+    flags : tuple of str
+        Non-quantity inputs the kind reads (``water_saturated``, ``hydrate_inhibitor``).
+    method : str
+        One sentence on the method, stored with every result.
+    form_sections, page_sections, record_sections : tuple of str
+        Templates the kind adds to the case form, the result page and the record.
+    vectorised : bool
+        Whether batch lists may screen this kind on the vectorised path.
+    """
+
+    name: str = ""
+    label: str = ""
+    devices: tuple[str, ...] = ()
+    fields: tuple[Field, ...] = ()
+    flags: tuple[str, ...] = ()
+    method: str = ""
+    form_sections: tuple[str, ...] = ()
+    page_sections: tuple[str, ...] = ()
+    record_sections: tuple[str, ...] = ()
+    vectorised: bool = False
+
+    def field_named(self, name: str) -> Field | None:
+        """The field of this kind with form/API name or SI key ``name``; None if the kind has none."""
+        return next((f for f in self.fields if name in (f.name, f.key)), None)
+
+    def check(self, values: Mapping[str, Any]) -> None:
+        """Check relations between the fields of ``values`` (each already in range); raise InputError."""
+
+    def compute(self, fluid: Fluid, values: Mapping[str, Any], *, compare_models: bool = True,
+                answers: bool = True, sweep: bool = True) -> Screening:
+        """Compute and screen the case described by ``values`` (register keys, SI) for ``fluid``.
+
+        ``compare_models`` screens with the other of PR and SRK beside the case's EOS; ``answers`` finds
+        what keeps a failing case safe; ``sweep`` searches the operating ranges (batch lists switch the
+        last two off).
+        """
+        raise NotImplementedError
+
+    def conditions(self, values: Mapping[str, Any]) -> Sequence[Any]:
+        """The credible conditions the kind computes, in order."""
+        raise NotImplementedError
+
+    def findings(self, screening: Screening) -> list[Finding]:
+        """The findings of a computed case, hazards first."""
+        return list(screening.findings)
+
+    def summary(self, screening: Screening) -> dict[str, Any]:
+        """Outcome, coldest screened temperature [K] and the governing condition, for lists and exports."""
+        return {"kind": self.name, "outcome": screening.outcome.value, "t_out_min_k": screening.t_out_min_k,
+                "coldest_condition": screening.coldest_condition}

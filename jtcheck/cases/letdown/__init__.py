@@ -1,0 +1,141 @@
+"""The letdown case kind: a control valve, pressure-reduction station, choke, blowdown valve or other letdown.
+
+Each credible condition (normal; minimum inlet temperature; maximum inlet pressure; both) is let down
+isenthalpically to the outlet pressure and screened by :func:`jtcheck.screening.screen.screen_letdown`,
+with the operating sweep over the entered ranges and, for a failing case, the preheat and the
+outlet-pressure limit as answers.
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from jtcheck.cases.fields import (
+    INLET_TEMPERATURE_RANGE_K,
+    MASS_FLOW_RANGE_KG_PER_S,
+    PRESSURE_RANGE_PA,
+    Field,
+)
+from jtcheck.cases.kind import CaseKind
+from jtcheck.errors import InputError
+from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.screening.screen import (
+    Condition,
+    OperatingRanges,
+    Screening,
+    ScreeningOptions,
+    credible_conditions,
+    screen_letdown,
+)
+from jtcheck.thermo.fluid import Fluid
+
+#: The operating inputs of a letdown, in the order they are checked and shown.
+LETDOWN_FIELDS: tuple[Field, ...] = (
+    Field("inlet_pressure", "inlet_pressure_pa", "pressure", "inlet pressure", "Inlet pressure", PRESSURE_RANGE_PA,
+          required=True),
+    Field("inlet_temperature", "inlet_temperature_k", "temperature", "inlet temperature", "Inlet temperature",
+          INLET_TEMPERATURE_RANGE_K, required=True),
+    Field("outlet_pressure", "outlet_pressure_pa", "pressure", "outlet pressure", "Outlet pressure",
+          PRESSURE_RANGE_PA, required=True),
+    Field("inlet_temperature_min", "inlet_temperature_min_k", "temperature", "minimum credible inlet temperature",
+          "Minimum credible inlet temperature", INLET_TEMPERATURE_RANGE_K),
+    Field("inlet_pressure_max", "inlet_pressure_max_pa", "pressure", "maximum credible inlet pressure",
+          "Maximum credible inlet pressure", PRESSURE_RANGE_PA),
+    Field("outlet_pressure_min", "outlet_pressure_min_pa", "pressure", "minimum credible outlet pressure",
+          "Minimum credible outlet pressure", PRESSURE_RANGE_PA),
+    Field("mass_flow", "mass_flow_kg_per_s", "mass_flow", "mass flow", "Mass flow", MASS_FLOW_RANGE_KG_PER_S),
+)
+#: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
+HYDRATE_INHIBITORS = ("methanol", "MEG")
+
+
+def check_letdown(values: Mapping[str, Any]) -> None:
+    """Relations between the letdown fields: outlet <= inlet pressure and the extremes on the right side."""
+    p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
+    if p_out > p_in:
+        raise InputError("outlet_pressure_pa", f"outlet pressure {p_out:g} Pa is above the inlet pressure "
+                                               f"{p_in:g} Pa; allowed: outlet <= inlet pressure (a letdown)")
+    t_min = values.get("inlet_temperature_min_k")
+    if t_min is not None and t_min > values["inlet_temperature_k"]:
+        raise InputError("inlet_temperature_min_k",
+                         f"minimum credible inlet temperature {t_min:g} K is above the normal inlet temperature "
+                         f"{values['inlet_temperature_k']:g} K; allowed: <= the normal inlet temperature")
+    p_max = values.get("inlet_pressure_max_pa")
+    if p_max is not None and p_max < p_in:
+        raise InputError("inlet_pressure_max_pa",
+                         f"maximum credible inlet pressure {p_max:g} Pa is below the normal inlet pressure "
+                         f"{p_in:g} Pa; allowed: >= the normal inlet pressure")
+    p_out_min = values.get("outlet_pressure_min_pa")
+    if p_out_min is not None and p_out_min > p_out:
+        raise InputError("outlet_pressure_min_pa",
+                         f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
+                         f"{p_out:g} Pa; allowed: <= the normal outlet pressure")
+    inhibitor = values.get("hydrate_inhibitor", "methanol")
+    if inhibitor not in HYDRATE_INHIBITORS:
+        raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
+                                              f"{', '.join(HYDRATE_INHIBITORS)}")
+
+
+def letdown_conditions(values: Mapping[str, Any]) -> list[Condition]:
+    """The credible conditions of :func:`jtcheck.screening.screen.credible_conditions` for ``values``."""
+    return credible_conditions(values["inlet_pressure_pa"], values["inlet_temperature_k"],
+                               values["outlet_pressure_pa"], values.get("inlet_pressure_max_pa"),
+                               values.get("inlet_temperature_min_k"))
+
+
+def cold_limits(values: Mapping[str, Any]) -> ColdLimits:
+    """The cold limits of ``values``: MDMT (and where it came from), the user's limit and the margin [K]."""
+    return ColdLimits(mdmt_k=values.get("mdmt_k"), user_limit_k=values.get("cold_limit_k"),
+                      margin_k=values.get("margin_k") or 0.0, mdmt_source=values.get("mdmt_source") or "")
+
+
+def operating_ranges(values: Mapping[str, Any]) -> OperatingRanges:
+    """The ranges of the operating sweep: inlet pressure normal to maximum, inlet temperature minimum to
+    normal, outlet pressure minimum to normal (equal ends where no extreme is given)."""
+    p_in, t_in, p_out = values["inlet_pressure_pa"], values["inlet_temperature_k"], values["outlet_pressure_pa"]
+    return OperatingRanges(p_in_pa=(p_in, values.get("inlet_pressure_max_pa") or p_in),
+                           t_in_k=(values.get("inlet_temperature_min_k") or t_in, t_in),
+                           p_out_pa=(values.get("outlet_pressure_min_pa") or p_out, p_out))
+
+
+def letdown_options(values: Mapping[str, Any], *, sweep: bool = True, **extra: Any) -> ScreeningOptions:
+    """The screening a letdown asks for: limits, hydrate data, mass flow and (with ``sweep``) the operating
+    ranges; ``extra`` goes to :class:`ScreeningOptions` as it is (``compare_models``, ``answers``, ``relief``)."""
+    ranges = operating_ranges(values)
+    return ScreeningOptions(limits=cold_limits(values), water_saturated=True if values.get("water_saturated") else None,
+                            inhibitor=values.get("hydrate_inhibitor") or "methanol",
+                            mass_flow_kg_per_s=values.get("mass_flow_kg_per_s"),
+                            ranges=ranges if sweep and ranges.varies else None, **extra)
+
+
+class LetdownKind(CaseKind):
+    """Steady isenthalpic letdown through a valve, choke or restriction."""
+
+    name = "letdown"
+    label = "letdown"
+    devices = ("control_valve", "blowdown_valve", "choke", "other")
+    fields = LETDOWN_FIELDS
+    flags = ("water_saturated", "hydrate_inhibitor")
+    method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
+              "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
+    page_sections = ()
+    record_sections = ()
+    vectorised = True
+
+    def check(self, values: Mapping[str, Any]) -> None:
+        check_letdown(values)
+
+    def conditions(self, values: Mapping[str, Any]) -> list[Condition]:
+        return letdown_conditions(values)
+
+    def options(self, values: Mapping[str, Any], **switches: bool) -> ScreeningOptions:
+        """The :class:`ScreeningOptions` of ``values`` (``switches`` as for :meth:`compute`)."""
+        return letdown_options(values, **switches)
+
+    def compute(self, fluid: Fluid, values: Mapping[str, Any], *, compare_models: bool = True,
+                answers: bool = True, sweep: bool = True) -> Screening:
+        options = self.options(values, compare_models=compare_models, answers=answers, sweep=sweep)
+        return screen_letdown(fluid, self.conditions(values), options)
+
+
+LETDOWN = LetdownKind()
