@@ -12,8 +12,10 @@ from typing import Any
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from jtcheck.records import service
+from jtcheck.records import audit, service
+from jtcheck.records.guard import EDIT_ROLES, require
 from jtcheck.records.models import P_ATM_STANDARD_PA, CaseKind, Material, Role, Site, User
+from jtcheck.records.transactions import transaction
 
 SITE_NAME = "Kestrel Ridge gas terminal (invented)"
 SITE_DESCRIPTION = ("Fictional gas receiving terminal used for jtcheck's demonstration data. "
@@ -137,7 +139,7 @@ def _demo_user(session: Session) -> User:
                     active=False)
         session.add(user)
         session.flush()
-        service._audit(session, None, "user", user.id, "create", new=f"{user.email} (demo data owner)")
+        audit.add_entry(session, None, "user", user.id, "create", new=f"{user.email} (demo data owner)")
     return user
 
 
@@ -154,8 +156,8 @@ def load_demo(session: Session, user: User | None = None) -> Site:
         (``demo@kestrel-ridge.invalid``) that cannot sign in.
     """
     if user is not None:
-        service._require(user, service.EDIT_ROLES, "load demo data")
-    with service._transaction(session):
+        require(user, EDIT_ROLES, "load demo data")
+    with transaction(session):
         site = session.scalar(select(Site).where(Site.name == SITE_NAME))
         if site is not None:
             return site

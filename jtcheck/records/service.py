@@ -11,29 +11,12 @@ passes the unit text along in ``display_units``.  Bad input raises
 :class:`jtcheck.errors.InputError` whose ``field`` is the key at fault and whose message gives the
 allowed range.
 
-Permissions:
-
-=========================================  ===========================================
-action                                      roles
-=========================================  ===========================================
-view anything, compute cases                engineer, checker, approver, admin
-create/edit cases, fluids, sites, units     engineer, admin
-create/edit materials and users             admin (a user may change their own password
-                                            and API token hashes)
-review calculation records                  see :mod:`jtcheck.records.workflow`
-=========================================  ===========================================
-
-A case's inputs are frozen while its current calculation record is in review.
-
-A deactivated account may do nothing.
+Permissions are listed in :mod:`jtcheck.records.guard`.  A case's inputs are frozen while its current
+calculation record is in review.
 """
 from __future__ import annotations
 
-import json
-import math
-import numbers
-from collections.abc import Iterator, Mapping, Sequence
-from contextlib import contextmanager
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from sqlalchemy import func, or_, select
@@ -42,12 +25,43 @@ from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck import __version__ as jtcheck_version
 from jtcheck.errors import InputError
-from jtcheck.records.db import SQLITE_BEGIN_OPTION
+from jtcheck.records import audit
+from jtcheck.records.audit import audit_trail
 from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied, UnderReview
+from jtcheck.records.fields import (
+    BUILT_UP_RANGE_PA,
+    INLET_TEMPERATURE_RANGE_K,
+    LIMIT_TEMPERATURE_RANGE_K,
+    MARGIN_RANGE_K,
+    MASS_FLOW_RANGE_KG_PER_S,
+    MAX_LONG_TEXT,
+    MAX_NAME,
+    MAX_SHORT_TEXT,
+    MAX_TAG,
+    MAX_UNIT_TEXT,
+    OVERPRESSURE_RANGE,
+    P_ATM_RANGE_PA,
+    PRESSURE_RANGE_PA,
+    lookup,
+    parse_flag,
+    parse_id,
+    parse_number,
+    parse_text,
+    refuse_unknown_keys,
+)
+from jtcheck.records.guard import (
+    ADMIN_ROLES,
+    ALL_ROLES,
+    EDIT_ROLES,
+    can_administer,
+    can_compute,
+    can_edit_cases,
+    require,
+)
+from jtcheck.records.json_values import json_safe
 from jtcheck.records.models import (
     ISSUED_STATUSES,
     P_ATM_STANDARD_PA,
-    AuditEntry,
     Case,
     CaseKind,
     CaseResult,
@@ -61,6 +75,7 @@ from jtcheck.records.models import (
     Site,
     User,
 )
+from jtcheck.records.transactions import lock_case_row, transaction
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.screen import (
     CONDITION_MAX_P,
@@ -78,9 +93,34 @@ from jtcheck.screening.screen import (
 )
 from jtcheck.thermo.fluid import Fluid
 
-ALL_ROLES = frozenset(Role)
-EDIT_ROLES = frozenset({Role.ENGINEER, Role.ADMIN})
-ADMIN_ROLES = frozenset({Role.ADMIN})
+#: The public names of this module (some of them live in guard, audit and fields now).
+__all__ = [
+    # guard
+    "ALL_ROLES", "EDIT_ROLES", "ADMIN_ROLES", "can_edit_cases", "can_compute", "can_administer",
+    # audit
+    "audit_trail",
+    # fields
+    "PRESSURE_RANGE_PA", "INLET_TEMPERATURE_RANGE_K", "LIMIT_TEMPERATURE_RANGE_K", "MARGIN_RANGE_K",
+    "MASS_FLOW_RANGE_KG_PER_S", "P_ATM_RANGE_PA", "OVERPRESSURE_RANGE", "BUILT_UP_RANGE_PA",
+    "MAX_TAG", "MAX_NAME", "MAX_SHORT_TEXT", "MAX_LONG_TEXT", "MAX_UNIT_TEXT",
+    # case_inputs
+    "HYDRATE_INHIBITORS", "CASE_FIELDS", "DISPLAY_UNIT_FIELDS", "case_values",
+    # users
+    "create_user", "update_user", "get_user_by_email", "list_users",
+    # sites
+    "create_site", "create_unit", "list_sites",
+    # fluids
+    "create_fluid", "update_fluid", "list_fluids",
+    # materials
+    "create_material", "update_material", "list_materials", "TYPICAL_CAUTION", "TYPICAL_SOURCE",
+    "SEED_MATERIALS", "seed_materials",
+    # cases
+    "NOT_COMPUTED", "create_case", "update_case", "case_has_issued_records", "get_case", "list_cases",
+    # computation
+    "CONDITIONS", "case_conditions", "screening_options", "result_inputs", "compute_case",
+    # results
+    "latest_results", "result_is_current", "get_result",
+]
 
 #: Names of the conditions a case is computed at, in order (the sweep may add SWEEP_CONDITION).
 CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_T_MAX_P)
@@ -88,23 +128,8 @@ CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_
 #: ``list_cases(outcome=NOT_COMPUTED)`` lists cases that have no stored result.
 NOT_COMPUTED = "not computed"
 
-# Allowed ranges, (low, high, low is inclusive) in SI units.
-PRESSURE_RANGE_PA = (0.0, 1.0e9, False)           # absolute; 1e9 Pa = 10 000 bar
-INLET_TEMPERATURE_RANGE_K = (0.0, 2000.0, False)  # the range of the heat-capacity data
-LIMIT_TEMPERATURE_RANGE_K = (0.0, 1000.0, False)  # MDMT and cold limits
-MARGIN_RANGE_K = (0.0, 100.0, True)
-MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)
-P_ATM_RANGE_PA = (5.0e4, 1.1e5, True)             # sea level to about 5500 m
-OVERPRESSURE_RANGE = (0.0, 1.0, True)             # fraction of the set gauge pressure (0.10 = 10 %)
-BUILT_UP_RANGE_PA = (0.0, 1.0e9, True)            # a pressure difference
 #: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
 HYDRATE_INHIBITORS = ("methanol", "MEG")
-
-MAX_TAG = 64
-MAX_NAME = 200
-MAX_SHORT_TEXT = 2000
-MAX_LONG_TEXT = 50_000
-MAX_UNIT_TEXT = 20
 
 #: Case fields a user enters: key -> (label, unit) for the numeric ones.
 _CASE_NUMBERS: dict[str, tuple[str, str, tuple[float, float, bool], bool]] = {
@@ -140,150 +165,7 @@ _CASE_DEFAULTS: dict[str, Any] = {"service": "", "margin_k": 0.0, "p_atm_pa": P_
                                   "hydrate_inhibitor": "methanol"}
 
 
-# -- permissions ----------------------------------------------------------------------------------
-def _require(user: User | None, roles: frozenset[Role], action: str) -> User:
-    if not isinstance(user, User):
-        raise PermissionDenied(action, "no user is signed in")
-    if not user.active:
-        raise PermissionDenied(action, "the account is deactivated")
-    if Role(user.role) not in roles:
-        allowed = ", ".join(r.value for r in Role if r in roles)
-        raise PermissionDenied(action, f"the role {Role(user.role).value!r} may not; allowed roles: {allowed}")
-    return user
-
-
-def can_edit_cases(user: User | None) -> bool:
-    """True if ``user`` may create and edit cases, fluids, sites and units."""
-    return isinstance(user, User) and user.active and Role(user.role) in EDIT_ROLES
-
-
-def can_compute(user: User | None) -> bool:
-    """True if ``user`` may view and compute cases."""
-    return isinstance(user, User) and user.active and Role(user.role) in ALL_ROLES
-
-
-def can_administer(user: User | None) -> bool:
-    """True if ``user`` may edit materials and users."""
-    return isinstance(user, User) and user.active and Role(user.role) in ADMIN_ROLES
-
-
-# -- transactions and audit -------------------------------------------------------------------------
-def _begin_for_writing(session: Session) -> None:
-    """On SQLite, start the unit of work holding the write lock (``BEGIN IMMEDIATE``).
-
-    In WAL mode a deferred transaction that has read before another connection committed cannot
-    write any more ("database is locked" at once, not after the busy timeout); taking the lock at the
-    start makes concurrent writers queue instead.  A transaction the session already has open (for
-    example from loading the signed-in user) is committed first, unless it holds unflushed changes:
-    then the unit of work joins it, as on PostgreSQL.
-    """
-    if session.get_bind().dialect.name != "sqlite":
-        return
-    if session.in_transaction():
-        if session.new or session.dirty or session.deleted:
-            return
-        session.commit()
-    session.connection(execution_options={SQLITE_BEGIN_OPTION: "IMMEDIATE"})
-
-
-@contextmanager
-def _transaction(session: Session) -> Iterator[None]:
-    """Commit the block's work, or roll all of it back on any error."""
-    try:
-        _begin_for_writing(session)
-        yield
-        session.commit()
-    except BaseException:
-        session.rollback()
-        raise
-
-
-def _text(value: Any) -> str | None:
-    """A value as audit text: exact for floats (repr round-trips), JSON for mappings and lists."""
-    if value is None:
-        return None
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, (Role, CaseKind, KijMode)):
-        return value.value
-    if isinstance(value, float):
-        return repr(value)
-    if isinstance(value, (dict, list, tuple)):
-        return json.dumps(value, sort_keys=True, ensure_ascii=False)
-    return str(value)
-
-
-def _audit(session: Session, user: User | None, entity: str, entity_id: int | None, action: str,
-           field: str | None = None, old: Any = None, new: Any = None) -> AuditEntry:
-    entry = AuditEntry(user=user, entity=entity, entity_id=entity_id, action=action, field=field,
-                       old_value=_text(old), new_value=_text(new))
-    session.add(entry)
-    return entry
-
-
-def audit_trail(session: Session, user: User, entity: str, entity_id: int) -> list[AuditEntry]:
-    """The audit entries of one record, oldest first."""
-    _require(user, ALL_ROLES, "view the audit log")
-    stmt = (select(AuditEntry).where(AuditEntry.entity == entity, AuditEntry.entity_id == entity_id)
-            .order_by(AuditEntry.id))
-    return list(session.scalars(stmt))
-
-
 # -- field checks ---------------------------------------------------------------------------------
-def _range_text(lo: float, hi: float, lo_inclusive: bool, unit: str) -> str:
-    return f"{lo:g} {'<=' if lo_inclusive else '<'} value <= {hi:g} {unit}"
-
-
-def _number(key: str, value: Any, label: str, unit: str, rng: tuple[float, float, bool],
-            required: bool) -> float | None:
-    lo, hi, lo_inclusive = rng
-    if value is None:
-        if required:
-            raise InputError(key, f"{label} is required [{unit}]; allowed: {_range_text(lo, hi, lo_inclusive, unit)}")
-        return None
-    if isinstance(value, bool) or not isinstance(value, numbers.Real):
-        raise InputError(key, f"{label} must be a number in {unit}, got {value!r}")
-    v = float(value)
-    if not math.isfinite(v):
-        raise InputError(key, f"{label} must be a finite number [{unit}], got {v!r}")
-    if v < lo or (v == lo and not lo_inclusive) or v > hi:
-        raise InputError(key, f"{label} {v:g} {unit} is out of range; allowed: "
-                              f"{_range_text(lo, hi, lo_inclusive, unit)}"
-                         + (" (absolute)" if unit == "Pa" else ""))
-    return v
-
-
-def _string(key: str, value: Any, label: str, max_len: int, *, required: bool = False,
-            single_line: bool = False) -> str:
-    if value is None:
-        value = ""
-    if not isinstance(value, str):
-        raise InputError(key, f"{label} must be text, got {type(value).__name__}")
-    text = value.strip() if (required or single_line) else value
-    if required and not text:
-        raise InputError(key, f"{label} is required (1 to {max_len} characters)")
-    if len(text) > max_len:
-        raise InputError(key, f"{label} is {len(text)} characters long; at most {max_len} are allowed")
-    if single_line and any(ord(ch) < 32 or ord(ch) == 127 for ch in text):
-        raise InputError(key, f"{label} must be one line of text without control characters")
-    return text
-
-
-def _id(key: str, value: Any, label: str) -> int:
-    if value is None:
-        raise InputError(key, f"a {label} is required (the id of an existing {label})")
-    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
-        raise InputError(key, f"{label} must be the integer id of an existing record, got {value!r}")
-    return int(value)
-
-
-def _lookup(session: Session, model: type, key: str, value: Any, label: str, options: Sequence[Any] = ()) -> Any:
-    obj = session.get(model, _id(key, value, label), options=options)
-    if obj is None:
-        raise InputError(key, f"there is no {label} with id {value!r}; choose an existing one")
-    return obj
-
-
 def _kind(value: Any, key: str = "kind") -> CaseKind:
     try:
         return CaseKind(value)
@@ -307,12 +189,6 @@ def _display_units(value: Any) -> dict[str, str]:
                                               f"got {v!r}")
         out[str(k)] = v.strip()
     return out
-
-
-def _flag(key: str, value: Any, label: str) -> bool:
-    if isinstance(value, bool):
-        return value
-    raise InputError(key, f"{label} must be true or false, got {value!r}")
 
 
 def _validate_relief(values: dict[str, Any]) -> None:
@@ -344,14 +220,6 @@ def _validate_relief(values: dict[str, Any]) -> None:
                          f"{p_relieving:g} Pa abs; allowed: below the relieving pressure")
 
 
-def _unknown_keys(data: Mapping[str, Any], allowed: Sequence[str], what: str) -> None:
-    for key in data:
-        if key not in allowed:
-            if key == "status":
-                raise InputError("status", "the status is set by the review workflow, not by editing the case")
-            raise InputError(str(key), f"unknown {what} field; allowed: {', '.join(allowed)}")
-
-
 def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case | None = None,
                    given: frozenset[str] = frozenset(), loaded: dict[str, Any] | None = None) -> dict[str, Any]:
     """Check every case field of ``data`` (a complete set of values); return column -> value.
@@ -361,18 +229,18 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
     can attach them to the case instead of loading them again).
     """
     values: dict[str, Any] = {}
-    unit = _lookup(session, PlantUnit, "unit_id", data.get("unit_id"), "unit",
+    unit = lookup(session, PlantUnit, "unit_id", data.get("unit_id"), "unit",
                    options=(joinedload(PlantUnit.site),))
     values["unit_id"] = unit.id
-    values["tag"] = _string("tag", data.get("tag"), "tag", MAX_TAG, required=True, single_line=True)
-    values["service"] = _string("service", data.get("service"), "service description", MAX_SHORT_TEXT)
+    values["tag"] = parse_text("tag", data.get("tag"), "tag", MAX_TAG, required=True, single_line=True)
+    values["service"] = parse_text("service", data.get("service"), "service description", MAX_SHORT_TEXT)
     values["kind"] = _kind(data.get("kind"))
-    fluid = _lookup(session, FluidRecord, "fluid_id", data.get("fluid_id"), "fluid")
+    fluid = lookup(session, FluidRecord, "fluid_id", data.get("fluid_id"), "fluid")
     values["fluid_id"] = fluid.id
     for key, (label, unit_text, rng, required) in _CASE_NUMBERS.items():
-        values[key] = _number(key, data.get(key), label, unit_text, rng, required)
-    values["basis"] = _string("basis", data.get("basis"), "basis", MAX_LONG_TEXT)
-    values["references"] = _string("references", data.get("references"), "references", MAX_LONG_TEXT)
+        values[key] = parse_number(key, data.get(key), label, unit_text, rng, required)
+    values["basis"] = parse_text("basis", data.get("basis"), "basis", MAX_LONG_TEXT)
+    values["references"] = parse_text("references", data.get("references"), "references", MAX_LONG_TEXT)
     values["display_units"] = _display_units(data.get("display_units"))
 
     p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
@@ -394,7 +262,7 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
         raise InputError("outlet_pressure_min_pa",
                          f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
                          f"{p_out:g} Pa; allowed: <= the normal outlet pressure")
-    values["water_saturated"] = _flag("water_saturated", data.get("water_saturated"), "water-saturated gas")
+    values["water_saturated"] = parse_flag("water_saturated", data.get("water_saturated"), "water-saturated gas")
     inhibitor = data.get("hydrate_inhibitor")
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
@@ -405,7 +273,7 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
     # material and MDMT: an entered MDMT wins; without one the material's limit is copied
     material = None
     if data.get("material_id") is not None:
-        material = _lookup(session, Material, "material_id", data.get("material_id"), "material")
+        material = lookup(session, Material, "material_id", data.get("material_id"), "material")
     values["material_id"] = material.id if material is not None else None
     if loaded is not None:
         loaded.update(unit=unit, fluid=fluid, material=material)
@@ -433,7 +301,7 @@ def _validate_case(session: Session, data: Mapping[str, Any], *, current: Case |
 
 # -- users ------------------------------------------------------------------------------------------
 def _email(value: Any) -> str:
-    email = _string("email", value, "e-mail address", 254, required=True, single_line=True).lower()
+    email = parse_text("email", value, "e-mail address", 254, required=True, single_line=True).lower()
     local, _, domain = email.partition("@")
     if not local or "." not in domain or " " in email:
         raise InputError("email", f"{value!r} is not an e-mail address (name@example.org)")
@@ -453,24 +321,24 @@ def create_user(session: Session, actor: User | None, *, email: str, name: str, 
 
     With ``actor=None`` only the very first user may be created, and it must be an admin (bootstrap).
     """
-    with _transaction(session):
+    with transaction(session):
         if actor is None:
             if session.scalar(select(func.count()).select_from(User)):
                 raise PermissionDenied("create users", "no user is signed in")
             if _role(role) is not Role.ADMIN:
                 raise InputError("role", "the first user must be an admin")
         else:
-            _require(actor, ADMIN_ROLES, "create users")
+            require(actor, ADMIN_ROLES, "create users")
         email_n = _email(email)
         if session.scalar(select(User.id).where(User.email == email_n)) is not None:
             raise InputError("email", f"a user with e-mail {email_n!r} already exists")
         if not isinstance(password_hash, str) or not password_hash:
             raise InputError("password_hash", "a password hash is required")
-        user = User(email=email_n, name=_string("name", name, "name", MAX_NAME, required=True, single_line=True),
+        user = User(email=email_n, name=parse_text("name", name, "name", MAX_NAME, required=True, single_line=True),
                     role=_role(role), password_hash=password_hash, active=bool(active))
         session.add(user)
         session.flush()
-        _audit(session, actor, "user", user.id, "create", new=f"{user.email} ({user.role.value})")
+        audit.add_entry(session, actor, "user", user.id, "create", new=f"{user.email} ({user.role.value})")
     return user
 
 
@@ -484,10 +352,10 @@ def update_user(session: Session, actor: User, user_id: int, changes: Mapping[st
     Hashes are audited as "(changed)", never with their value.  The last active admin cannot be
     demoted or deactivated.
     """
-    with _transaction(session):
-        _unknown_keys(changes, _USER_FIELDS, "user")
+    with transaction(session):
+        refuse_unknown_keys(changes, _USER_FIELDS, "user")
         own_secrets = isinstance(actor, User) and actor.id == user_id and set(changes) <= _SECRET_FIELDS
-        _require(actor, ALL_ROLES if own_secrets else ADMIN_ROLES, "edit users")
+        require(actor, ALL_ROLES if own_secrets else ADMIN_ROLES, "edit users")
         user = session.get(User, user_id)
         if user is None:
             raise NotFound("user", user_id)
@@ -499,7 +367,7 @@ def update_user(session: Session, actor: User, user_id: int, changes: Mapping[st
                 if other is not None:
                     raise InputError("email", f"a user with e-mail {new[key]!r} already exists")
             elif key == "name":
-                new[key] = _string("name", value, "name", MAX_NAME, required=True, single_line=True)
+                new[key] = parse_text("name", value, "name", MAX_NAME, required=True, single_line=True)
             elif key == "role":
                 new[key] = _role(value)
             elif key == "active":
@@ -525,9 +393,9 @@ def update_user(session: Session, actor: User, user_id: int, changes: Mapping[st
             if old != value:
                 setattr(user, key, value)
                 if key in _SECRET_FIELDS:
-                    _audit(session, actor, "user", user.id, "update", key, "(hidden)", "(changed)")
+                    audit.add_entry(session, actor, "user", user.id, "update", key, "(hidden)", "(changed)")
                 else:
-                    _audit(session, actor, "user", user.id, "update", key, old, value)
+                    audit.add_entry(session, actor, "user", user.id, "update", key, old, value)
     return user
 
 
@@ -538,55 +406,55 @@ def get_user_by_email(session: Session, email: str) -> User | None:
 
 def list_users(session: Session, actor: User) -> list[User]:
     """Every user, by name (admins only)."""
-    _require(actor, ADMIN_ROLES, "list users")
+    require(actor, ADMIN_ROLES, "list users")
     return list(session.scalars(select(User).order_by(User.name, User.id)))
 
 
 # -- sites and units --------------------------------------------------------------------------------
 def create_site(session: Session, user: User, name: str, description: str = "") -> Site:
     """Add a site; its name must be new."""
-    _require(user, EDIT_ROLES, "create sites")
-    with _transaction(session):
+    require(user, EDIT_ROLES, "create sites")
+    with transaction(session):
         site = _create_site(session, user, name, description)
     return site
 
 
 def _create_site(session: Session, user: User | None, name: Any, description: Any = "") -> Site:
-    name_s = _string("name", name, "site name", MAX_NAME, required=True, single_line=True)
+    name_s = parse_text("name", name, "site name", MAX_NAME, required=True, single_line=True)
     if session.scalar(select(Site.id).where(Site.name == name_s)) is not None:
         raise InputError("name", f"a site named {name_s!r} already exists; choose another name")
-    site = Site(name=name_s, description=_string("description", description, "description", MAX_SHORT_TEXT))
+    site = Site(name=name_s, description=parse_text("description", description, "description", MAX_SHORT_TEXT))
     session.add(site)
     session.flush()
-    _audit(session, user, "site", site.id, "create", new=site.name)
+    audit.add_entry(session, user, "site", site.id, "create", new=site.name)
     return site
 
 
 def create_unit(session: Session, user: User, site_id: int, name: str, description: str = "") -> PlantUnit:
     """Add a unit to a site; its name must be new within the site."""
-    _require(user, EDIT_ROLES, "create units")
-    with _transaction(session):
+    require(user, EDIT_ROLES, "create units")
+    with transaction(session):
         unit = _create_unit(session, user, site_id, name, description)
     return unit
 
 
 def _create_unit(session: Session, user: User | None, site_id: Any, name: Any, description: Any = "") -> PlantUnit:
-    site = _lookup(session, Site, "site_id", site_id, "site")
-    name_s = _string("name", name, "unit name", MAX_NAME, required=True, single_line=True)
+    site = lookup(session, Site, "site_id", site_id, "site")
+    name_s = parse_text("name", name, "unit name", MAX_NAME, required=True, single_line=True)
     exists = session.scalar(select(PlantUnit.id).where(PlantUnit.site_id == site.id, PlantUnit.name == name_s))
     if exists is not None:
         raise InputError("name", f"site {site.name!r} already has a unit named {name_s!r}; choose another name")
     unit = PlantUnit(site=site, name=name_s,
-                     description=_string("description", description, "description", MAX_SHORT_TEXT))
+                     description=parse_text("description", description, "description", MAX_SHORT_TEXT))
     session.add(unit)
     session.flush()
-    _audit(session, user, "unit", unit.id, "create", new=f"{site.name} / {unit.name}")
+    audit.add_entry(session, user, "unit", unit.id, "create", new=f"{site.name} / {unit.name}")
     return unit
 
 
 def list_sites(session: Session, user: User) -> list[Site]:
     """Every site with its units, by name."""
-    _require(user, ALL_ROLES, "view sites")
+    require(user, ALL_ROLES, "view sites")
     return list(session.scalars(select(Site).options(selectinload(Site.units)).order_by(Site.name)))
 
 
@@ -618,24 +486,24 @@ def create_fluid(session: Session, user: User, name: str, composition: Any, eos:
     eos : {"PR", "SRK", "RK", "VDW"}
     kij_mode : {"table", "zero"}
     """
-    _require(user, EDIT_ROLES, "create fluids")
-    with _transaction(session):
+    require(user, EDIT_ROLES, "create fluids")
+    with transaction(session):
         record = _create_fluid(session, user, name, composition, eos, kij_mode, notes)
     return record
 
 
 def _create_fluid(session: Session, user: User | None, name: Any, composition: Any, eos: Any = "PR",
                   kij_mode: Any = KijMode.TABLE, notes: Any = "") -> FluidRecord:
-    name_s = _string("name", name, "fluid name", MAX_NAME, required=True, single_line=True)
+    name_s = parse_text("name", name, "fluid name", MAX_NAME, required=True, single_line=True)
     if session.scalar(select(FluidRecord.id).where(FluidRecord.name == name_s)) is not None:
         raise InputError("name", f"a fluid named {name_s!r} already exists; choose another name")
     mode = _kij_mode(kij_mode)
     fluid = _checked_fluid(composition, eos, mode)
     record = FluidRecord(name=name_s, composition=_composition_json(fluid), eos=fluid.eos.value, kij_mode=mode,
-                         notes=_string("notes", notes, "notes", MAX_LONG_TEXT), created_by=user, updated_by=user)
+                         notes=parse_text("notes", notes, "notes", MAX_LONG_TEXT), created_by=user, updated_by=user)
     session.add(record)
     session.flush()
-    _audit(session, user, "fluid", record.id, "create", new=record.name)
+    audit.add_entry(session, user, "fluid", record.id, "create", new=record.name)
     return record
 
 
@@ -648,15 +516,15 @@ _FLUID_FIELDS = ("name", "composition", "eos", "kij_mode", "notes")
 
 def update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[str, Any]) -> FluidRecord:
     """Change a fluid; one audit entry per changed field.  Results already stored keep the fluid they used."""
-    _require(user, EDIT_ROLES, "edit fluids")
-    with _transaction(session):
-        _unknown_keys(changes, _FLUID_FIELDS, "fluid")
+    require(user, EDIT_ROLES, "edit fluids")
+    with transaction(session):
+        refuse_unknown_keys(changes, _FLUID_FIELDS, "fluid")
         record = session.get(FluidRecord, fluid_id)
         if record is None:
             raise NotFound("fluid", fluid_id)
         new: dict[str, Any] = {}
         if "name" in changes:
-            new["name"] = _string("name", changes["name"], "fluid name", MAX_NAME, required=True, single_line=True)
+            new["name"] = parse_text("name", changes["name"], "fluid name", MAX_NAME, required=True, single_line=True)
             other = session.scalar(select(FluidRecord.id).where(FluidRecord.name == new["name"],
                                                                 FluidRecord.id != record.id))
             if other is not None:
@@ -666,13 +534,13 @@ def update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[s
         fluid = _checked_fluid(composition, changes.get("eos", record.eos), mode)
         new.update(composition=_composition_json(fluid), eos=fluid.eos.value, kij_mode=mode)
         if "notes" in changes:
-            new["notes"] = _string("notes", changes["notes"], "notes", MAX_LONG_TEXT)
+            new["notes"] = parse_text("notes", changes["notes"], "notes", MAX_LONG_TEXT)
         changed = False
         for key, value in new.items():
             old = getattr(record, key)
             if old != value:
                 setattr(record, key, value)
-                _audit(session, user, "fluid", record.id, "update", key, old, value)
+                audit.add_entry(session, user, "fluid", record.id, "update", key, old, value)
                 changed = True
         if changed:
             record.updated_by = user
@@ -681,7 +549,7 @@ def update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[s
 
 def list_fluids(session: Session, user: User) -> list[FluidRecord]:
     """Every fluid, by name."""
-    _require(user, ALL_ROLES, "view fluids")
+    require(user, ALL_ROLES, "view fluids")
     return list(session.scalars(select(FluidRecord).order_by(FluidRecord.name)))
 
 
@@ -693,23 +561,23 @@ def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
     out: dict[str, Any] = {}
     for key, value in data.items():
         if key == "name":
-            out[key] = _string("name", value, "material name", MAX_NAME, required=True, single_line=True)
+            out[key] = parse_text("name", value, "material name", MAX_NAME, required=True, single_line=True)
         elif key == "min_metal_temperature_k":
-            out[key] = _number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
+            out[key] = parse_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
         elif key == "editable":
             if not isinstance(value, bool):
                 raise InputError("editable", "must be true or false")
             out[key] = value
         else:
-            out[key] = _string(key, value, key, MAX_LONG_TEXT)
+            out[key] = parse_text(key, value, key, MAX_LONG_TEXT)
     return out
 
 
 def create_material(session: Session, user: User, *, name: str, min_metal_temperature_k: float,
                     specification: str = "", notes: str = "", source: str = "", editable: bool = True) -> Material:
     """Add a material and its minimum metal temperature [K] (admins only)."""
-    _require(user, ADMIN_ROLES, "create materials")
-    with _transaction(session):
+    require(user, ADMIN_ROLES, "create materials")
+    with transaction(session):
         values = _material_values({"name": name, "min_metal_temperature_k": min_metal_temperature_k,
                                    "specification": specification, "notes": notes, "source": source,
                                    "editable": editable})
@@ -718,7 +586,7 @@ def create_material(session: Session, user: User, *, name: str, min_metal_temper
         material = Material(seeded=False, **values)
         session.add(material)
         session.flush()
-        _audit(session, user, "material", material.id, "create", new=material.name)
+        audit.add_entry(session, user, "material", material.id, "create", new=material.name)
     return material
 
 
@@ -728,9 +596,9 @@ def update_material(session: Session, user: User, material_id: int, changes: Map
     Cases that copied the old limit keep it until they are edited; their stored results keep the
     limit they used.
     """
-    _require(user, ADMIN_ROLES, "edit materials")
-    with _transaction(session):
-        _unknown_keys(changes, _MATERIAL_FIELDS, "material")
+    require(user, ADMIN_ROLES, "edit materials")
+    with transaction(session):
+        refuse_unknown_keys(changes, _MATERIAL_FIELDS, "material")
         material = session.get(Material, material_id)
         if material is None:
             raise NotFound("material", material_id)
@@ -746,13 +614,13 @@ def update_material(session: Session, user: User, material_id: int, changes: Map
             old = getattr(material, key)
             if old != value:
                 setattr(material, key, value)
-                _audit(session, user, "material", material.id, "update", key, old, value)
+                audit.add_entry(session, user, "material", material.id, "update", key, old, value)
     return material
 
 
 def list_materials(session: Session, user: User) -> list[Material]:
     """Every material, coldest limit first."""
-    _require(user, ALL_ROLES, "view materials")
+    require(user, ALL_ROLES, "view materials")
     return list(session.scalars(select(Material).order_by(Material.min_metal_temperature_k, Material.name)))
 
 
@@ -784,7 +652,7 @@ def seed_materials(session: Session) -> list[Material]:
     A system action (no user); each entry is marked seeded, editable by admins, with the caution
     "typical value; verify against the applicable code edition".
     """
-    with _transaction(session):
+    with transaction(session):
         added = _seed_materials(session)
     return added
 
@@ -799,7 +667,7 @@ def _seed_materials(session: Session) -> list[Material]:
                             source=TYPICAL_SOURCE, seeded=True, editable=True)
         session.add(material)
         session.flush()
-        _audit(session, None, "material", material.id, "seed", new=material.name)
+        audit.add_entry(session, None, "material", material.id, "seed", new=material.name)
         added.append(material)
     return added
 
@@ -832,25 +700,25 @@ def create_case(session: Session, user: User, data: Mapping[str, Any]) -> Case:
     PermissionDenied
         Unless the user is an active engineer or admin.
     """
-    _require(user, EDIT_ROLES, "create cases")
-    with _transaction(session):
+    require(user, EDIT_ROLES, "create cases")
+    with transaction(session):
         case = _create_case(session, user, data)
     return case
 
 
 def _create_case(session: Session, user: User | None, data: Mapping[str, Any]) -> Case:
-    _unknown_keys(data, CASE_FIELDS, "case")
+    refuse_unknown_keys(data, CASE_FIELDS, "case")
     loaded: dict[str, Any] = {}
     values = _validate_case(session, {**_CASE_DEFAULTS, **_none_to_default(data)}, loaded=loaded)
     # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
     case = Case(**values, **loaded, status=RevisionStatus.DRAFT.value, created_by=user, updated_by=user)
     session.add(case)
     session.flush()
-    _audit(session, user, "case", case.id, "create", new=case.tag)
+    audit.add_entry(session, user, "case", case.id, "create", new=case.tag)
     # revision A, a draft (workflow builds on this module, hence the late import)
-    from jtcheck.records.workflow import _open_revision
+    from jtcheck.records.workflow import open_revision
 
-    _open_revision(session, user, case)
+    open_revision(session, user, case)
     return case
 
 
@@ -887,13 +755,13 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
     UnderReview
         If the current revision is for check, checked or for approval: reject it first.
     """
-    _require(user, EDIT_ROLES, "edit case inputs")
-    from jtcheck.records.workflow import _current, _lock_case_row, _open_revision  # workflow builds on this module
+    require(user, EDIT_ROLES, "edit case inputs")
+    from jtcheck.records.workflow import _current, open_revision  # workflow builds on this module
 
     try:
-        with _transaction(session):
-            _unknown_keys(changes, CASE_FIELDS, "case")
-            _lock_case_row(session, case_id)   # orders this edit with the review steps of the case
+        with transaction(session):
+            refuse_unknown_keys(changes, CASE_FIELDS, "case")
+            lock_case_row(session, case_id)   # orders this edit with the review steps of the case
             case = session.get(Case, case_id, populate_existing=True)
             if case is None:
                 raise NotFound("case", case_id)
@@ -911,15 +779,15 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
                     old = CaseKind(old)
                 if old != value:
                     setattr(case, key, value)
-                    _audit(session, user, "case", case.id, "update", key, old, value)
+                    audit.add_entry(session, user, "case", case.id, "update", key, old, value)
                     changed = True
             if changed:
                 case.updated_by = user
                 if revision is None or RevisionStatus(revision.status).issued:   # the next revision, a draft
                     case.status = RevisionStatus.DRAFT.value
                     session.flush()
-                    _open_revision(session, user, case, "after an edit of the case inputs"
-                                   + (f" (revision {revision.label} is {revision.status})" if revision else ""))
+                    open_revision(session, user, case, "after an edit of the case inputs"
+                                  + (f" (revision {revision.label} is {revision.status})" if revision else ""))
                 session.flush()
                 session.expire(case, ["unit", "fluid", "material"])   # reload relationships whose ids changed
     except StaleDataError:
@@ -948,7 +816,7 @@ def _case_loads() -> tuple[Any, ...]:
 
 def get_case(session: Session, user: User, case_id: int) -> Case:
     """One case (any active user), with its unit, site, fluid and material; raise NotFound if there is none."""
-    _require(user, ALL_ROLES, "view cases")
+    require(user, ALL_ROLES, "view cases")
     case = session.get(Case, case_id, options=_case_loads())
     if case is None:
         raise NotFound("case", case_id)
@@ -970,18 +838,18 @@ def list_cases(session: Session, user: User, *, site_id: int | None = None, unit
     limit, offset : int
         Paging; at most 1000 rows per call.
     """
-    _require(user, ALL_ROLES, "view cases")
+    require(user, ALL_ROLES, "view cases")
     stmt = (select(Case).join(Case.unit).join(PlantUnit.site)
             .options(selectinload(Case.unit).selectinload(PlantUnit.site), selectinload(Case.fluid),
                      selectinload(Case.material)))
     if site_id is not None:
-        stmt = stmt.where(PlantUnit.site_id == _id("site_id", site_id, "site"))
+        stmt = stmt.where(PlantUnit.site_id == parse_id("site_id", site_id, "site"))
     if unit_id is not None:
-        stmt = stmt.where(Case.unit_id == _id("unit_id", unit_id, "unit"))
+        stmt = stmt.where(Case.unit_id == parse_id("unit_id", unit_id, "unit"))
     if kind is not None:
         stmt = stmt.where(Case.kind == _kind(kind))
     if status is not None:
-        stmt = stmt.where(Case.status == _string("status", status, "status", 32, single_line=True))
+        stmt = stmt.where(Case.status == parse_text("status", status, "status", 32, single_line=True))
     if outcome is not None:
         latest = (select(CaseResult.case_id, func.max(CaseResult.id).label("result_id"))
                   .group_by(CaseResult.case_id).subquery())
@@ -990,9 +858,9 @@ def list_cases(session: Session, user: User, *, site_id: int | None = None, unit
         else:
             stmt = (stmt.join(latest, latest.c.case_id == Case.id)
                     .join(CaseResult, CaseResult.id == latest.c.result_id)
-                    .where(CaseResult.outcome == _string("outcome", outcome, "outcome", 32, single_line=True)))
+                    .where(CaseResult.outcome == parse_text("outcome", outcome, "outcome", 32, single_line=True)))
     if text is not None and text.strip():
-        needle = _string("text", text, "search text", 200, single_line=True)
+        needle = parse_text("text", text, "search text", 200, single_line=True)
         escaped = needle.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
         pattern = f"%{escaped}%"
         stmt = stmt.where(or_(Case.tag.ilike(pattern, escape="\\"), Case.service.ilike(pattern, escape="\\")))
@@ -1026,33 +894,6 @@ def case_conditions(case: Case) -> list[tuple[str, float, float]]:
         case.inlet_temperature_min_k)]
 
 
-def _plain(value: Any) -> Any:
-    """JSON-safe copy: numpy scalars to Python, NaN and infinity to None, tuples to lists."""
-    # fast paths for the exact built-in types (most values); subclasses such as numpy.float64 or enums
-    # take the general path below, which gives the same answers for the built-in types
-    kind = type(value)
-    if kind is float:
-        return value if math.isfinite(value) else None
-    if kind is str or kind is bool or kind is int or value is None:
-        return value
-    if kind is dict:
-        return {str(k): _plain(v) for k, v in value.items()}
-    if kind is list or kind is tuple:
-        return [_plain(v) for v in value]
-    if isinstance(value, Mapping):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if isinstance(value, bool) or value is None or isinstance(value, str):
-        return value
-    if isinstance(value, numbers.Integral):
-        return int(value)
-    if isinstance(value, numbers.Real):
-        v = float(value)
-        return v if math.isfinite(v) else None
-    return str(value)
-
-
 def _condition_entry(cs: ConditionScreen, eos: str) -> dict[str, Any]:
     """The stored entry of one screened condition: the case model's letdown plus what the screening made of it."""
     c = cs.condition
@@ -1061,10 +902,10 @@ def _condition_entry(cs: ConditionScreen, eos: str) -> dict[str, Any]:
              "solids": cs.solids,
              "t_out_by_model": {m: (r.t_out if r is not None and r.converged else None) for m, r in cs.results.items()}}
     if result is None:   # refused: stored as not converged, with the reason
-        return _plain({"condition": c.name, "p_in": c.p_in_pa, "t_in": c.t_in_k, "p_out": c.p_out_pa, "t_out": None,
+        return json_safe({"condition": c.name, "p_in": c.p_in_pa, "t_in": c.t_in_k, "p_out": c.p_out_pa, "t_out": None,
                        "dt": None, "vapor_fraction": None, "phase": "unknown", "converged": False,
                        "message": cs.message, "warnings": [], **extra})
-    entry = {"condition": c.name, **_plain(result.to_dict()), **_plain(extra)}
+    entry = {"condition": c.name, **json_safe(result.to_dict()), **json_safe(extra)}
     if not result.converged:   # never a number for a state that was not found
         entry.update(t_out=None, dt=None, vapor_fraction=None, converged=False)
     elif not cs.converged:      # the case model converged, another did not: not screened
@@ -1115,7 +956,7 @@ def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
     record = case.fluid
     fluid = fluid if fluid is not None else record.to_fluid()
     material = case.material
-    return _plain({
+    return json_safe({
         "method": ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
                    "with the case EOS and the other of PR and SRK; screening by jtcheck.screening"),
         "software_version": jtcheck_version,
@@ -1140,7 +981,7 @@ def result_is_current(case: Case, result: CaseResult) -> bool:
         return False
     stored = result.inputs.get("fluid", {})
     record = case.fluid
-    return (stored.get("composition") == _plain(record.composition) and stored.get("eos") == record.eos
+    return (stored.get("composition") == json_safe(record.composition) and stored.get("eos") == record.eos
             and stored.get("kij_mode") == KijMode(record.kij_mode).value)
 
 
@@ -1161,7 +1002,7 @@ def compute_case(session: Session, user: User, case_id: int) -> CaseResult:
     ConcurrentEditError
         If the case or its fluid was changed while it was being computed; nothing is stored.
     """
-    _require(user, ALL_ROLES, "compute cases")
+    require(user, ALL_ROLES, "compute cases")
     try:   # the letdowns run before the write transaction, so no lock is held while they do
         case = session.get(Case, case_id, populate_existing=True, options=_case_loads())
         if case is None:
@@ -1170,7 +1011,7 @@ def compute_case(session: Session, user: User, case_id: int) -> CaseResult:
     except BaseException:
         session.rollback()
         raise
-    with _transaction(session):
+    with transaction(session):
         result = _store_computation(session, user, case_id, prepared)
     return result
 
@@ -1200,7 +1041,7 @@ def _store_computation(session: Session, user: User, case_id: int, prepared: dic
     inputs = prepared["inputs"]
     # the fluid as stored now must be the one computed with; the rest of inputs["fluid"] (component ids and
     # normalised mole fractions) is a function of these stored fields, so no Fluid is built to compare them
-    stored_fluid = _plain(_fluid_record_inputs(case.fluid))
+    stored_fluid = json_safe(_fluid_record_inputs(case.fluid))
     if case.version != prepared["version"] or any(inputs["fluid"].get(k) != v for k, v in stored_fluid.items()):
         raise ConcurrentEditError("case", case_id, prepared["version"], case.version)
     entries = prepared["entries"]
@@ -1218,7 +1059,7 @@ def _store_computation(session: Session, user: User, case_id: int, prepared: dic
         t_out_min_k=screening.t_out_min_k, outcome=screening.outcome.value, screening=screening.to_dict())
     session.add(result)
     session.flush()
-    _audit(session, user, "case", case.id, "compute",
+    audit.add_entry(session, user, "case", case.id, "compute",
            new=f"result {result.id}: {message}; outcome {result.outcome}; coldest screened outlet "
                + (f"{result.t_out_min_k:.2f} K" if result.t_out_min_k is not None else "none"))
     return result
@@ -1226,7 +1067,7 @@ def _store_computation(session: Session, user: User, case_id: int, prepared: dic
 
 def get_result(session: Session, user: User, result_id: int) -> CaseResult:
     """One stored result (any active user); raise NotFound if there is none."""
-    _require(user, ALL_ROLES, "view results")
+    require(user, ALL_ROLES, "view results")
     result = session.get(CaseResult, result_id)
     if result is None:
         raise NotFound("result", result_id)
