@@ -22,7 +22,7 @@ new_revision           engineer, admin (the current revision is issued)  -
 
 Editing the inputs of a case whose current revision is in review is refused
 (:class:`~jtcheck.records.errors.UnderReview`); editing one whose current revision is issued opens
-the next revision, a draft (:func:`jtcheck.records.service.update_case`).
+the next revision, a draft (:func:`jtcheck.records.cases.update_case`).
 
 Submitting freezes a snapshot of the case and its current result (:mod:`jtcheck.records.snapshot`);
 the record PDF is made and signed by a callback (``sign``), so that this module never imports the
@@ -34,7 +34,7 @@ superseded, voided) never change; the models refuse it and so do database trigge
 Each public function that writes is one unit of work (:func:`jtcheck.records.transactions.transaction`):
 it writes a :class:`~jtcheck.records.models.ReviewStep` and an audit entry (entity ``"revision"``),
 and on any error nothing is stored.  The signing callback runs *before* the write transaction (as the
-letdowns of :func:`~jtcheck.records.service.compute_case` do), so no write lock is held while a PDF is
+letdowns of :func:`~jtcheck.records.computation.compute_case` do), so no write lock is held while a PDF is
 rendered or a time stamp fetched; the write then checks that nobody changed the revision or the case
 meanwhile (else :class:`~jtcheck.records.errors.ConcurrentEditError`, nothing stored).
 """
@@ -50,7 +50,7 @@ from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session, selectinload
 
 from jtcheck.errors import InputError
-from jtcheck.records import audit, service
+from jtcheck.records import audit
 from jtcheck.records.errors import (
     ConcurrentEditError,
     FourEyesError,
@@ -72,6 +72,7 @@ from jtcheck.records.models import (
     User,
     utcnow,
 )
+from jtcheck.records.results import result_is_current
 from jtcheck.records.snapshot import canonical_json, case_snapshot, sha256_hex
 from jtcheck.records.transactions import lock_case_row, transaction
 
@@ -361,7 +362,7 @@ def may_approve(user: User | None, revision: CaseRevision) -> bool:
             and _status(revision) is RevisionStatus.FOR_APPROVAL)
 
 
-# -- opening revisions (also used by service.create_case and service.update_case) ----------------------
+# -- opening revisions (also used by cases.add_case and cases.update_case) ------------------------------
 def open_revision(session: Session, user: User | None, case: Case, comment: str = "") -> CaseRevision:
     """Add the next draft revision of ``case`` (``A`` for a new case) within the caller's transaction.
 
@@ -382,7 +383,7 @@ def open_revision(session: Session, user: User | None, case: Case, comment: str 
 def new_revision(session: Session, user: User, case_id: int, comment: str = "") -> CaseRevision:
     """Open the next draft revision of a case whose current revision is issued (engineer or admin).
 
-    Editing an issued case's inputs does this by itself (:func:`jtcheck.records.service.update_case`);
+    Editing an issued case's inputs does this by itself (:func:`jtcheck.records.cases.update_case`);
     this is for re-issuing without an edit (e.g. after a void, or to report a new computation).
     """
     action = "open a new revision"
@@ -419,7 +420,7 @@ def submit_for_check(session: Session, user: User, case_id: int, sign: SignFn, c
         case = _get_case(session, case_id)
         revision = _expect(_current(session, case.id), {RevisionStatus.DRAFT}, action)
         result = _latest_result(session, case.id)
-        if result is None or not service.result_is_current(case, result):
+        if result is None or not result_is_current(case, result):
             raise InputError("result", "the case has no result computed from its inputs as they are now; "
                                        "compute the case first")
         snapshot_text = canonical_json(case_snapshot(
@@ -434,7 +435,7 @@ def submit_for_check(session: Session, user: User, case_id: int, sign: SignFn, c
     with transaction(session):
         case, revision = _relock(session, case.id, planned[0], planned[1], planned[2])
         result = session.get(CaseResult, planned[3], populate_existing=True)
-        if result is None or not service.result_is_current(case, result):
+        if result is None or not result_is_current(case, result):
             raise ConcurrentEditError("case", case.id)
         revision.result = result
         revision.case_version = case.version

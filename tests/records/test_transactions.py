@@ -4,7 +4,7 @@ from __future__ import annotations
 import pytest
 
 from jtcheck.errors import InputError
-from jtcheck.records import audit, demo, service
+from jtcheck.records import audit, computation, demo, service
 from jtcheck.records.models import AuditEntry, Case, CaseResult, FluidRecord, PlantUnit, Site
 
 from .register_helpers import LEAN_GAS, count, unique
@@ -64,7 +64,7 @@ def test_a_fluid_name_must_be_new(session, engineer, world):
 
 def test_a_failing_demo_load_leaves_nothing(session, monkeypatch):
     before = _counts(session)
-    real = service._compute_case
+    real = computation.add_result
     computed = []
 
     def fail_on_third(*args):
@@ -73,7 +73,7 @@ def test_a_failing_demo_load_leaves_nothing(session, monkeypatch):
             raise RuntimeError("interrupted")
         return real(*args)
 
-    monkeypatch.setattr(service, "_compute_case", fail_on_third)
+    monkeypatch.setattr(computation, "add_result", fail_on_third)
     with pytest.raises(RuntimeError):
         demo.load_demo(session)
     assert _counts(session) == before
