@@ -526,9 +526,9 @@ def user_group():
 @click.option("--name", default=None, help="Display name (default: the part of EMAIL before @).")
 def user_add(email, role, name):
     """Add an account; the password is read from standard input (one line)."""
-    from jtcheck.records import service
     from jtcheck.records.errors import PermissionDenied
     from jtcheck.records.passwords import check_password_length, hash_password
+    from jtcheck.records.users import create_user
 
     password = sys.stdin.readline().rstrip("\r\n")
     try:
@@ -537,8 +537,8 @@ def user_add(email, role, name):
             actor = _acting_admin(session)
             if actor is None and role != "admin":
                 raise InputError("role", "the first account must be an admin (add one with --role admin)")
-            user = service.create_user(session, actor, email=email, name=name or email.split("@")[0], role=role,
-                                       password_hash=hash_password(password))
+            user = create_user(session, actor, email=email, name=name or email.split("@")[0], role=role,
+                               password_hash=hash_password(password))
             click.echo(f"added {user.email} ({user.role})")
     except InputError as err:
         _fail_input(err)
@@ -551,11 +551,11 @@ def user_add(email, role, name):
 @click.argument("email")
 def user_token(email):
     """Print a new API token for EMAIL (replacing any earlier one); only its hash is stored."""
-    from jtcheck.records import service
     from jtcheck.records.tokens import create_token
+    from jtcheck.records.users import get_user_by_email
 
     with _register_session() as session:
-        user = service.get_user_by_email(session, email)
+        user = get_user_by_email(session, email)
         if user is None or not user.active:
             click.echo(f"error: email: no active account {email!r}", err=True)
             sys.exit(EXIT_INPUT)

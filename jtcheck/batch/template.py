@@ -34,7 +34,7 @@ def template_rows() -> list[dict[str, Any]]:
     Numbers are numbers (pressures in barg, temperatures in degC, the margin in K); empty cells are ``""``.
     """
     from jtcheck.records.demo import CASES, FLUIDS, P_ATM
-    from jtcheck.records.service import SEED_MATERIALS
+    from jtcheck.records.materials import SEED_MATERIALS
 
     t0 = 273.15
     compositions = {f["name"]: f["composition"] for f in FLUIDS}

@@ -12,8 +12,14 @@ from typing import Any
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from jtcheck.records import service
+from jtcheck.records import audit, computation
+from jtcheck.records.cases import add_case
+from jtcheck.records.fluids import add_fluid
+from jtcheck.records.guard import EDIT_ROLES, require
+from jtcheck.records.materials import add_seed_materials
 from jtcheck.records.models import P_ATM_STANDARD_PA, CaseKind, Material, Role, Site, User
+from jtcheck.records.sites import add_site, add_unit
+from jtcheck.records.transactions import transaction
 
 SITE_NAME = "Kestrel Ridge gas terminal (invented)"
 SITE_DESCRIPTION = ("Fictional gas receiving terminal used for jtcheck's demonstration data. "
@@ -137,7 +143,7 @@ def _demo_user(session: Session) -> User:
                     active=False)
         session.add(user)
         session.flush()
-        service._audit(session, None, "user", user.id, "create", new=f"{user.email} (demo data owner)")
+        audit.add_entry(session, None, "user", user.id, "create", new=f"{user.email} (demo data owner)")
     return user
 
 
@@ -154,17 +160,17 @@ def load_demo(session: Session, user: User | None = None) -> Site:
         (``demo@kestrel-ridge.invalid``) that cannot sign in.
     """
     if user is not None:
-        service._require(user, service.EDIT_ROLES, "load demo data")
-    with service._transaction(session):
+        require(user, EDIT_ROLES, "load demo data")
+    with transaction(session):
         site = session.scalar(select(Site).where(Site.name == SITE_NAME))
         if site is not None:
             return site
         owner = user if user is not None else _demo_user(session)
-        service._seed_materials(session)
-        site = service._create_site(session, owner, SITE_NAME, SITE_DESCRIPTION)
-        units = {name: service._create_unit(session, owner, site.id, name, text) for name, text in UNITS}
-        fluids = {f["name"]: service._create_fluid(session, owner, f["name"], f["composition"], "PR", "table",
-                                                   DEMO_NOTE) for f in FLUIDS}
+        add_seed_materials(session)
+        site = add_site(session, owner, SITE_NAME, SITE_DESCRIPTION)
+        units = {name: add_unit(session, owner, site.id, name, text) for name, text in UNITS}
+        fluids = {f["name"]: add_fluid(session, owner, f["name"], f["composition"], "PR", "table", DEMO_NOTE)
+                  for f in FLUIDS}
         for unit_name, fluid_name, material_name, fields in CASES:
             material = session.scalar(select(Material).where(Material.name == material_name))
             assert material is not None, material_name
@@ -173,6 +179,6 @@ def load_demo(session: Session, user: User | None = None) -> Site:
                     "references": "Invented demo case; no references.",
                     "display_units": {k: u for k, u in _DISPLAY.items() if _SI_KEYS[k] in fields},
                     "p_atm_pa": P_ATM}
-            case = service._create_case(session, owner, data)
-            service._compute_case(session, owner, case.id)
+            case = add_case(session, owner, data)
+            computation.add_result(session, owner, case.id)
     return site

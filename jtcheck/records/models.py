@@ -85,7 +85,7 @@ class UTCDateTime(TypeDecorator[datetime]):
 
 
 class Role(enum.StrEnum):
-    """What a user may do (the rules are enforced in :mod:`jtcheck.records.service`)."""
+    """What a user may do (the rules are enforced in :mod:`jtcheck.records.guard`)."""
 
     ENGINEER = "engineer"   # creates and edits fluids and cases
     CHECKER = "checker"     # views and computes; checks the engineer's work

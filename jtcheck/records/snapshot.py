@@ -13,6 +13,7 @@ import json
 import math
 from typing import Any
 
+from jtcheck.records.case_inputs import case_values
 from jtcheck.records.models import Case, CaseKind, CaseResult, KijMode
 
 #: Version of the snapshot layout (bump when its keys change meaning).
@@ -66,8 +67,6 @@ def case_snapshot(case: Case, result: CaseResult, letter: str, history: list[dic
     prepared_by : dict, optional
         ``{"name", "email"}`` of the preparer.
     """
-    from jtcheck.records.service import case_values  # service imports this module's users lazily
-
     material = case.material
     values = case_values(case)
     values.pop("display_units", None)

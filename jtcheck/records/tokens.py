@@ -13,8 +13,8 @@ import secrets
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from jtcheck.records import service
 from jtcheck.records.models import User
+from jtcheck.records.users import update_user
 
 #: Every token starts with this, so that a leaked one is easy to recognise (and to search for).
 TOKEN_PREFIX = "jtc_"
@@ -29,13 +29,13 @@ def token_hash(token: str) -> str:
 def create_token(session: Session, user: User) -> str:
     """Make a new API token for ``user`` (replacing any earlier one) and return it; only its hash is kept."""
     token = TOKEN_PREFIX + secrets.token_urlsafe(32)
-    service.update_user(session, user, user.id, {"api_token_hash": token_hash(token)})
+    update_user(session, user, user.id, {"api_token_hash": token_hash(token)})
     return token
 
 
 def revoke_token(session: Session, user: User) -> None:
     """Remove the user's API token."""
-    service.update_user(session, user, user.id, {"api_token_hash": None})
+    update_user(session, user, user.id, {"api_token_hash": None})
 
 
 def user_for_token(session: Session, token: str) -> User | None:

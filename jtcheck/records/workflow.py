@@ -22,7 +22,7 @@ new_revision           engineer, admin (the current revision is issued)  -
 
 Editing the inputs of a case whose current revision is in review is refused
 (:class:`~jtcheck.records.errors.UnderReview`); editing one whose current revision is issued opens
-the next revision, a draft (:func:`jtcheck.records.service.update_case`).
+the next revision, a draft (:func:`jtcheck.records.cases.update_case`).
 
 Submitting freezes a snapshot of the case and its current result (:mod:`jtcheck.records.snapshot`);
 the record PDF is made and signed by a callback (``sign``), so that this module never imports the
@@ -31,10 +31,10 @@ On approval the revision gets its number (0 for the case's first approved revisi
 and any earlier approved revision of the case is superseded.  Issued revisions (approved,
 superseded, voided) never change; the models refuse it and so do database triggers.
 
-Each public function that writes is one unit of work (:func:`jtcheck.records.service._transaction`):
+Each public function that writes is one unit of work (:func:`jtcheck.records.transactions.transaction`):
 it writes a :class:`~jtcheck.records.models.ReviewStep` and an audit entry (entity ``"revision"``),
 and on any error nothing is stored.  The signing callback runs *before* the write transaction (as the
-letdowns of :func:`~jtcheck.records.service.compute_case` do), so no write lock is held while a PDF is
+letdowns of :func:`~jtcheck.records.computation.compute_case` do), so no write lock is held while a PDF is
 rendered or a time stamp fetched; the write then checks that nobody changed the revision or the case
 meanwhile (else :class:`~jtcheck.records.errors.ConcurrentEditError`, nothing stored).
 """
@@ -50,7 +50,7 @@ from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session, selectinload
 
 from jtcheck.errors import InputError
-from jtcheck.records import service
+from jtcheck.records import audit
 from jtcheck.records.errors import (
     ConcurrentEditError,
     FourEyesError,
@@ -59,6 +59,8 @@ from jtcheck.records.errors import (
     RecordSigningError,
     RevisionStateError,
 )
+from jtcheck.records.fields import MAX_SHORT_TEXT, parse_id, parse_text
+from jtcheck.records.guard import ALL_ROLES, EDIT_ROLES, can_compute, require
 from jtcheck.records.models import (
     Case,
     CaseResult,
@@ -70,7 +72,9 @@ from jtcheck.records.models import (
     User,
     utcnow,
 )
+from jtcheck.records.results import result_is_current
 from jtcheck.records.snapshot import canonical_json, case_snapshot, sha256_hex
+from jtcheck.records.transactions import lock_case_row, transaction
 
 #: Roles that may check a record (besides the four-eyes rule).
 CHECK_ROLES = frozenset({Role.CHECKER, Role.APPROVER, Role.ADMIN})
@@ -79,7 +83,7 @@ APPROVE_ROLES = frozenset({Role.APPROVER, Role.ADMIN})
 #: Roles that may reject a record in review (its preparer may too, whatever their role).
 REJECT_ROLES = frozenset({Role.CHECKER, Role.APPROVER, Role.ADMIN})
 
-MAX_COMMENT = service.MAX_SHORT_TEXT
+MAX_COMMENT = MAX_SHORT_TEXT
 
 PREPARER, CHECKER, APPROVER = "preparer", "checker", "approver"
 
@@ -161,7 +165,7 @@ def _next_number(session: Session, case_id: int) -> int:
 # -- small helpers ------------------------------------------------------------------------------------
 def _comment(value: Any, key: str = "comment", *, required: bool = False) -> str:
     label = "reason" if key == "reason" else "comment"
-    return service._string(key, value, label, MAX_COMMENT, required=required)
+    return parse_text(key, value, label, MAX_COMMENT, required=required)
 
 
 def _status(revision: CaseRevision) -> RevisionStatus:
@@ -179,16 +183,10 @@ def _expect(revision: CaseRevision | None, allowed: set[RevisionStatus] | frozen
     return revision
 
 
-def _lock_case_row(session: Session, case_id: int) -> None:
-    """Lock the case's row until the transaction ends (PostgreSQL ``FOR NO KEY UPDATE``; SQLite writers queue
-    on ``BEGIN IMMEDIATE`` anyway): review steps and edits of one case then run one after the other."""
-    session.execute(select(Case.id).where(Case.id == case_id).with_for_update(key_share=True))
-
-
 def _get_case(session: Session, case_id: Any, *, lock: bool = False) -> Case:
-    case_id = service._id("case_id", case_id, "case")
+    case_id = parse_id("case_id", case_id, "case")
     if lock:
-        _lock_case_row(session, case_id)
+        lock_case_row(session, case_id)
     case = session.get(Case, case_id, populate_existing=True)
     if case is None:
         raise NotFound("case", case_id)
@@ -206,9 +204,9 @@ def _add_step(session: Session, revision: CaseRevision, user: User, action: Revi
     step = ReviewStep(revision=revision, action=action, from_status=from_status, to_status=to_status, user=user,
                       at=utcnow(), comment=comment)
     session.add(step)
-    service._audit(session, user, "revision", revision.id, action.value, "status",
-                   from_status.value if from_status is not None else None,
-                   to_status.value if not comment else f"{to_status.value}: {comment}")
+    audit.add_entry(session, user, "revision", revision.id, action.value, "status",
+                    from_status.value if from_status is not None else None,
+                    to_status.value if not comment else f"{to_status.value}: {comment}")
     return step
 
 
@@ -295,13 +293,13 @@ def _latest_result(session: Session, case_id: int) -> CaseResult | None:
 # -- reading ------------------------------------------------------------------------------------------
 def current_revision(session: Session, case_id: int) -> CaseRevision | None:
     """The latest revision of a case (None if the case does not exist or has none).  Checks no user."""
-    return _current(session, service._id("case_id", case_id, "case"))
+    return _current(session, parse_id("case_id", case_id, "case"))
 
 
 def list_revisions(session: Session, user: User, case_id: int) -> list[CaseRevision]:
     """The revisions of a case, oldest first (any active user); NotFound if there is no such case."""
-    service._require(user, service.ALL_ROLES, "view calculation records")
-    case = session.get(Case, service._id("case_id", case_id, "case"))
+    require(user, ALL_ROLES, "view calculation records")
+    case = session.get(Case, parse_id("case_id", case_id, "case"))
     if case is None:
         raise NotFound("case", case_id)
     return list(session.scalars(select(CaseRevision).where(CaseRevision.case_id == case.id)
@@ -318,8 +316,8 @@ def get_revision(session: Session, user: User, case_id: int, label: str) -> Case
     NotFound
         If the case or the revision does not exist (``entity`` ``"revision"``).
     """
-    service._require(user, service.ALL_ROLES, "view calculation records")
-    case = session.get(Case, service._id("case_id", case_id, "case"))
+    require(user, ALL_ROLES, "view calculation records")
+    case = session.get(Case, parse_id("case_id", case_id, "case"))
     if case is None:
         raise NotFound("case", case_id)
     text = str(label).strip().upper() if isinstance(label, (str, int)) and not isinstance(label, bool) else ""
@@ -338,12 +336,12 @@ def get_revision(session: Session, user: User, case_id: int, label: str) -> Case
 
 def revision_steps(session: Session, user: User, case_id: int, label: str | None = None) -> list[ReviewStep]:
     """The review steps of one revision (by label), or of every revision of the case, oldest first."""
-    service._require(user, service.ALL_ROLES, "view calculation records")
+    require(user, ALL_ROLES, "view calculation records")
     if label is not None:
         revision = get_revision(session, user, case_id, label)
         where = ReviewStep.revision_id == revision.id
     else:
-        case = session.get(Case, service._id("case_id", case_id, "case"))
+        case = session.get(Case, parse_id("case_id", case_id, "case"))
         if case is None:
             raise NotFound("case", case_id)
         where = ReviewStep.revision_id.in_(select(CaseRevision.id).where(CaseRevision.case_id == case.id))
@@ -353,19 +351,19 @@ def revision_steps(session: Session, user: User, case_id: int, label: str | None
 
 def may_check(user: User | None, revision: CaseRevision) -> bool:
     """True if ``user`` may check ``revision`` now (role, four-eyes rule and status)."""
-    return (service.can_compute(user) and Role(user.role) in CHECK_ROLES and user.id != revision.preparer_id
+    return (can_compute(user) and Role(user.role) in CHECK_ROLES and user.id != revision.preparer_id
             and _status(revision) is RevisionStatus.FOR_CHECK)
 
 
 def may_approve(user: User | None, revision: CaseRevision) -> bool:
     """True if ``user`` may approve ``revision`` now (role, four-eyes rule and status)."""
-    return (service.can_compute(user) and Role(user.role) in APPROVE_ROLES
+    return (can_compute(user) and Role(user.role) in APPROVE_ROLES
             and user.id not in (revision.preparer_id, revision.checker_id)
             and _status(revision) is RevisionStatus.FOR_APPROVAL)
 
 
-# -- opening revisions (also used by service.create_case and service.update_case) ----------------------
-def _open_revision(session: Session, user: User | None, case: Case, comment: str = "") -> CaseRevision:
+# -- opening revisions (also used by cases.add_case and cases.update_case) ------------------------------
+def open_revision(session: Session, user: User | None, case: Case, comment: str = "") -> CaseRevision:
     """Add the next draft revision of ``case`` (``A`` for a new case) within the caller's transaction.
 
     The caller sets the case's status (it is "draft" already for a new case).
@@ -385,17 +383,17 @@ def _open_revision(session: Session, user: User | None, case: Case, comment: str
 def new_revision(session: Session, user: User, case_id: int, comment: str = "") -> CaseRevision:
     """Open the next draft revision of a case whose current revision is issued (engineer or admin).
 
-    Editing an issued case's inputs does this by itself (:func:`jtcheck.records.service.update_case`);
+    Editing an issued case's inputs does this by itself (:func:`jtcheck.records.cases.update_case`);
     this is for re-issuing without an edit (e.g. after a void, or to report a new computation).
     """
     action = "open a new revision"
-    service._require(user, service.EDIT_ROLES, action)
+    require(user, EDIT_ROLES, action)
     comment = _comment(comment)
-    with service._transaction(session):
+    with transaction(session):
         case = _get_case(session, case_id, lock=True)
         current = _expect(_current(session, case.id), {RevisionStatus.APPROVED, RevisionStatus.SUPERSEDED,
                                                        RevisionStatus.VOIDED}, action)
-        revision = _open_revision(session, user, case, comment or f"after revision {current.label}")
+        revision = open_revision(session, user, case, comment or f"after revision {current.label}")
         _set_case_status(session, case, RevisionStatus.DRAFT)
     return revision
 
@@ -416,13 +414,13 @@ def submit_for_check(session: Session, user: User, case_id: int, sign: SignFn, c
         If the current revision is not a draft.
     """
     action = "submit a calculation record for check"
-    service._require(user, service.EDIT_ROLES, action)
+    require(user, EDIT_ROLES, action)
     comment = _comment(comment)
     try:   # read and sign before the write transaction (no write lock while the PDF is made)
         case = _get_case(session, case_id)
         revision = _expect(_current(session, case.id), {RevisionStatus.DRAFT}, action)
         result = _latest_result(session, case.id)
-        if result is None or not service.result_is_current(case, result):
+        if result is None or not result_is_current(case, result):
             raise InputError("result", "the case has no result computed from its inputs as they are now; "
                                        "compute the case first")
         snapshot_text = canonical_json(case_snapshot(
@@ -434,10 +432,10 @@ def submit_for_check(session: Session, user: User, case_id: int, sign: SignFn, c
     except BaseException:
         session.rollback()
         raise
-    with service._transaction(session):
+    with transaction(session):
         case, revision = _relock(session, case.id, planned[0], planned[1], planned[2])
         result = session.get(CaseResult, planned[3], populate_existing=True)
-        if result is None or not service.result_is_current(case, result):
+        if result is None or not result_is_current(case, result):
             raise ConcurrentEditError("case", case.id)
         revision.result = result
         revision.case_version = case.version
@@ -451,7 +449,7 @@ def submit_for_check(session: Session, user: User, case_id: int, sign: SignFn, c
         session.flush()
         _add_step(session, revision, user, ReviewAction.SUBMIT, RevisionStatus.DRAFT, RevisionStatus.FOR_CHECK,
                   comment)
-        service._audit(session, user, "revision", revision.id, "submit", "record_sha256", None, revision.record_sha256)
+        audit.add_entry(session, user, "revision", revision.id, "submit", "record_sha256", None, revision.record_sha256)
         _set_case_status(session, case, RevisionStatus.FOR_CHECK)
     return revision
 
@@ -462,7 +460,7 @@ def check(session: Session, user: User, case_id: int, sign: SignFn, comment: str
     Checkers, approvers and admins, but never the preparer (four-eyes rule, :class:`FourEyesError`).
     """
     action = "check a calculation record"
-    service._require(user, CHECK_ROLES, action)
+    require(user, CHECK_ROLES, action)
     comment = _comment(comment)
     try:
         case = _get_case(session, case_id)
@@ -475,7 +473,7 @@ def check(session: Session, user: User, case_id: int, sign: SignFn, comment: str
     except BaseException:
         session.rollback()
         raise
-    with service._transaction(session):
+    with transaction(session):
         case, revision = _relock(session, case.id, *planned)
         old_sha = revision.record_sha256
         revision.checker = user
@@ -486,8 +484,8 @@ def check(session: Session, user: User, case_id: int, sign: SignFn, comment: str
         session.flush()
         _add_step(session, revision, user, ReviewAction.CHECK, RevisionStatus.FOR_CHECK, RevisionStatus.CHECKED,
                   comment)
-        service._audit(session, user, "revision", revision.id, "check", "record_sha256", old_sha,
-                       revision.record_sha256)
+        audit.add_entry(session, user, "revision", revision.id, "check", "record_sha256", old_sha,
+                        revision.record_sha256)
         _set_case_status(session, case, RevisionStatus.CHECKED)
     return revision
 
@@ -495,9 +493,9 @@ def check(session: Session, user: User, case_id: int, sign: SignFn, comment: str
 def send_for_approval(session: Session, user: User, case_id: int, comment: str = "") -> CaseRevision:
     """"checked" -> "for approval" (no signature): the preparer, the checker or an admin."""
     action = "send a calculation record for approval"
-    service._require(user, service.ALL_ROLES, action)
+    require(user, ALL_ROLES, action)
     comment = _comment(comment)
-    with service._transaction(session):
+    with transaction(session):
         case = _get_case(session, case_id, lock=True)
         revision = _expect(_current(session, case.id), {RevisionStatus.CHECKED}, action)
         if Role(user.role) is not Role.ADMIN and user.id not in (revision.preparer_id, revision.checker_id):
@@ -519,7 +517,7 @@ def approve(session: Session, user: User, case_id: int, sign: SignFn, comment: s
     revision of the case becomes "superseded" (review step "supersede").
     """
     action = "approve a calculation record"
-    service._require(user, APPROVE_ROLES, action)
+    require(user, APPROVE_ROLES, action)
     comment = _comment(comment)
     try:
         case = _get_case(session, case_id)
@@ -535,7 +533,7 @@ def approve(session: Session, user: User, case_id: int, sign: SignFn, comment: s
     except BaseException:
         session.rollback()
         raise
-    with service._transaction(session):
+    with transaction(session):
         case, revision = _relock(session, case.id, *planned)
         if _next_number(session, case.id) != number:
             raise ConcurrentEditError("revision", revision.id)
@@ -559,9 +557,9 @@ def approve(session: Session, user: User, case_id: int, sign: SignFn, comment: s
         session.flush()
         _add_step(session, revision, user, ReviewAction.APPROVE, RevisionStatus.FOR_APPROVAL, RevisionStatus.APPROVED,
                   comment)
-        service._audit(session, user, "revision", revision.id, "approve", "record_sha256", old_sha,
-                       revision.record_sha256)
-        service._audit(session, user, "revision", revision.id, "approve", "number", None, number)
+        audit.add_entry(session, user, "revision", revision.id, "approve", "record_sha256", old_sha,
+                        revision.record_sha256)
+        audit.add_entry(session, user, "revision", revision.id, "approve", "number", None, number)
         _set_case_status(session, case, RevisionStatus.APPROVED)
     return revision
 
@@ -574,9 +572,9 @@ def reject(session: Session, user: User, case_id: int, reason: str) -> CaseRevis
     signers are cleared (the rejected PDF is not kept; the audit log keeps its SHA-256).
     """
     action = "reject a calculation record"
-    service._require(user, service.ALL_ROLES, action)
+    require(user, ALL_ROLES, action)
     reason = _comment(reason, "reason", required=True)
-    with service._transaction(session):
+    with transaction(session):
         case = _get_case(session, case_id, lock=True)
         revision = _expect(_current(session, case.id), {RevisionStatus.FOR_CHECK, RevisionStatus.CHECKED,
                                                         RevisionStatus.FOR_APPROVAL}, action)
@@ -597,7 +595,7 @@ def reject(session: Session, user: User, case_id: int, reason: str) -> CaseRevis
         revision.checked_at = None
         session.flush()
         _add_step(session, revision, user, ReviewAction.REJECT, old_status, RevisionStatus.DRAFT, reason)
-        service._audit(session, user, "revision", revision.id, "reject", "record_sha256", old_sha, None)
+        audit.add_entry(session, user, "revision", revision.id, "reject", "record_sha256", old_sha, None)
         _set_case_status(session, case, RevisionStatus.DRAFT)
     return revision
 
@@ -609,9 +607,9 @@ def void(session: Session, user: User, case_id: int, reason: str) -> CaseRevisio
     current one (a draft opened after it stays the current revision).
     """
     action = "void a calculation record"
-    service._require(user, APPROVE_ROLES, action)
+    require(user, APPROVE_ROLES, action)
     reason = _comment(reason, "reason", required=True)
-    with service._transaction(session):
+    with transaction(session):
         case = _get_case(session, case_id, lock=True)
         revision = session.scalars(select(CaseRevision).where(
             CaseRevision.case_id == case.id, CaseRevision.status == RevisionStatus.APPROVED)

@@ -10,7 +10,7 @@ from __future__ import annotations
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from jtcheck.records import service, workflow
+from jtcheck.records import audit, workflow
 from jtcheck.records.demo import SITE_NAME
 from jtcheck.records.models import Case, CaseRevision, PlantUnit, Role, Site, User
 from jtcheck.records.workflow import SignFn
@@ -31,7 +31,7 @@ def _reviewer(session: Session, email: str, name: str, role: Role) -> User:
         user = User(email=email, name=name, role=role, password_hash="!", active=True)
         session.add(user)
         session.flush()
-        service._audit(session, None, "user", user.id, "create", new=f"{user.email} (invented demo reviewer)")
+        audit.add_entry(session, None, "user", user.id, "create", new=f"{user.email} (invented demo reviewer)")
     user.active = True
     session.commit()
     return user

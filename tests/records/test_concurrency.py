@@ -4,7 +4,7 @@ from __future__ import annotations
 import pytest
 from sqlalchemy.orm.exc import StaleDataError
 
-from jtcheck.records import service
+from jtcheck.records import computation, service
 from jtcheck.records.errors import ConcurrentEditError
 from jtcheck.records.models import Case, User
 
@@ -46,14 +46,14 @@ def test_computing_does_not_change_the_case_version(session, engineer, case_data
 
 def test_a_case_edited_while_it_is_computed_is_not_stored(session, engineer, case_data, monkeypatch):
     case = service.create_case(session, engineer, case_data())
-    real = service._prepare_computation
+    real = computation._prepare_computation
 
     def prepare_then_someone_edits(c):
         prepared = real(c)
         prepared["version"] -= 1     # as if the case had been saved meanwhile
         return prepared
 
-    monkeypatch.setattr(service, "_prepare_computation", prepare_then_someone_edits)
+    monkeypatch.setattr(computation, "_prepare_computation", prepare_then_someone_edits)
     with pytest.raises(ConcurrentEditError):
         service.compute_case(session, engineer, case.id)
     assert case.results == []

@@ -4,7 +4,7 @@ from __future__ import annotations
 import pytest
 
 from jtcheck.errors import InputError
-from jtcheck.records import demo, service
+from jtcheck.records import audit, computation, demo, service
 from jtcheck.records.models import AuditEntry, Case, CaseResult, FluidRecord, PlantUnit, Site
 
 from .register_helpers import LEAN_GAS, count, unique
@@ -20,7 +20,7 @@ def test_failure_after_the_case_row_is_written_leaves_nothing(session, engineer,
     def failing_audit(*args, **kwargs):
         raise RuntimeError("audit store failed")
 
-    monkeypatch.setattr(service, "_audit", failing_audit)
+    monkeypatch.setattr(audit, "add_entry", failing_audit)
     with pytest.raises(RuntimeError):
         service.create_case(session, engineer, case_data())
     assert _counts(session) == before
@@ -28,7 +28,7 @@ def test_failure_after_the_case_row_is_written_leaves_nothing(session, engineer,
 
 def test_failure_in_an_update_leaves_the_case_as_it_was(session, engineer, case_data, monkeypatch):
     case = service.create_case(session, engineer, case_data())
-    real = service._audit
+    real = audit.add_entry
     calls = []
 
     def audit_then_fail(*args, **kwargs):
@@ -37,7 +37,7 @@ def test_failure_in_an_update_leaves_the_case_as_it_was(session, engineer, case_
             raise RuntimeError("disk full")
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(service, "_audit", audit_then_fail)
+    monkeypatch.setattr(audit, "add_entry", audit_then_fail)
     with pytest.raises(RuntimeError):
         service.update_case(session, engineer, case.id, {"margin_k": 9.0, "service": "changed"})
     stored = session.get(Case, case.id, populate_existing=True)
@@ -64,7 +64,7 @@ def test_a_fluid_name_must_be_new(session, engineer, world):
 
 def test_a_failing_demo_load_leaves_nothing(session, monkeypatch):
     before = _counts(session)
-    real = service._compute_case
+    real = computation.add_result
     computed = []
 
     def fail_on_third(*args):
@@ -73,7 +73,7 @@ def test_a_failing_demo_load_leaves_nothing(session, monkeypatch):
             raise RuntimeError("interrupted")
         return real(*args)
 
-    monkeypatch.setattr(service, "_compute_case", fail_on_third)
+    monkeypatch.setattr(computation, "add_result", fail_on_third)
     with pytest.raises(RuntimeError):
         demo.load_demo(session)
     assert _counts(session) == before

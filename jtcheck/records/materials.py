@@ -1,0 +1,141 @@
+"""Materials and their minimum metal temperatures [K], and the typical entries shipped with jtcheck."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from jtcheck.errors import InputError
+from jtcheck.records import audit
+from jtcheck.records.errors import NotFound, PermissionDenied
+from jtcheck.records.fields import (
+    LIMIT_TEMPERATURE_RANGE_K,
+    MAX_LONG_TEXT,
+    MAX_NAME,
+    parse_number,
+    parse_text,
+    refuse_unknown_keys,
+)
+from jtcheck.records.guard import ADMIN_ROLES, ALL_ROLES, require
+from jtcheck.records.models import Material, User
+from jtcheck.records.transactions import transaction
+
+_MATERIAL_FIELDS = ("name", "specification", "min_metal_temperature_k", "notes", "source", "editable")
+
+
+def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for key, value in data.items():
+        if key == "name":
+            out[key] = parse_text("name", value, "material name", MAX_NAME, required=True, single_line=True)
+        elif key == "min_metal_temperature_k":
+            out[key] = parse_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
+        elif key == "editable":
+            if not isinstance(value, bool):
+                raise InputError("editable", "must be true or false")
+            out[key] = value
+        else:
+            out[key] = parse_text(key, value, key, MAX_LONG_TEXT)
+    return out
+
+
+def create_material(session: Session, user: User, *, name: str, min_metal_temperature_k: float,
+                    specification: str = "", notes: str = "", source: str = "", editable: bool = True) -> Material:
+    """Add a material and its minimum metal temperature [K] (admins only)."""
+    require(user, ADMIN_ROLES, "create materials")
+    with transaction(session):
+        values = _material_values({"name": name, "min_metal_temperature_k": min_metal_temperature_k,
+                                   "specification": specification, "notes": notes, "source": source,
+                                   "editable": editable})
+        if session.scalar(select(Material.id).where(Material.name == values["name"])) is not None:
+            raise InputError("name", f"a material named {values['name']!r} already exists; choose another name")
+        material = Material(seeded=False, **values)
+        session.add(material)
+        session.flush()
+        audit.add_entry(session, user, "material", material.id, "create", new=material.name)
+    return material
+
+
+def update_material(session: Session, user: User, material_id: int, changes: Mapping[str, Any]) -> Material:
+    """Change a material (admins only; entries marked not editable are refused).
+
+    Cases that copied the old limit keep it until they are edited; their stored results keep the
+    limit they used.
+    """
+    require(user, ADMIN_ROLES, "edit materials")
+    with transaction(session):
+        refuse_unknown_keys(changes, _MATERIAL_FIELDS, "material")
+        material = session.get(Material, material_id)
+        if material is None:
+            raise NotFound("material", material_id)
+        if not material.editable:
+            raise PermissionDenied("edit materials", f"{material.name!r} is locked (not editable)")
+        values = _material_values(changes)
+        if "name" in values:
+            other = session.scalar(select(Material.id).where(Material.name == values["name"],
+                                                             Material.id != material.id))
+            if other is not None:
+                raise InputError("name", f"a material named {values['name']!r} already exists")
+        for key, value in values.items():
+            old = getattr(material, key)
+            if old != value:
+                setattr(material, key, value)
+                audit.add_entry(session, user, "material", material.id, "update", key, old, value)
+    return material
+
+
+def list_materials(session: Session, user: User) -> list[Material]:
+    """Every material, coldest limit first."""
+    require(user, ALL_ROLES, "view materials")
+    return list(session.scalars(select(Material).order_by(Material.min_metal_temperature_k, Material.name)))
+
+
+#: Shipped materials: typical, illustrative minimum metal temperatures.  Code limits depend on the
+#: code, its edition, the thickness, the stress ratio and the impact testing actually done.
+TYPICAL_CAUTION = "Typical value; verify against the applicable code edition."
+TYPICAL_SOURCE = "Common practice (illustrative typical value, not taken from a code)."
+_T0 = 273.15   # 0 degC [K]
+SEED_MATERIALS: tuple[dict[str, Any], ...] = (
+    {"name": "Carbon steel, not impact tested (typical -29 degC)", "min_metal_temperature_k": round(_T0 - 29.0, 2),
+     "specification": "Carbon steel plate, pipe and fittings without impact testing. The code exemption "
+                      "curves (ASME B31.3 para. 323.2.2, ASME BPVC VIII-1 UCS-66) give limits that depend on "
+                      "the material group and thickness; -29 degC is a common default."},
+    {"name": "Carbon steel, impact tested to -46 degC (typical)", "min_metal_temperature_k": round(_T0 - 46.0, 2),
+     "specification": "Carbon steel impact tested at -46 degC to the requirements of the applicable code."},
+    {"name": "Low-temperature carbon steel (typical -46 degC)", "min_metal_temperature_k": round(_T0 - 46.0, 2),
+     "specification": "Low-temperature carbon steel grades (for example ASTM A333 Gr. 6 pipe, A350 LF2 "
+                      "forgings) supplied impact tested."},
+    {"name": "3.5 % nickel steel (typical -101 degC)", "min_metal_temperature_k": round(_T0 - 101.0, 2),
+     "specification": "3.5 % nickel steel (for example ASTM A333 Gr. 3 pipe, A350 LF3 forgings)."},
+    {"name": "Austenitic stainless steel 304/316 (typical -196 degC)", "min_metal_temperature_k": round(_T0 - 196.0, 2),
+     "specification": "Austenitic stainless steel types 304/304L and 316/316L."},
+)
+
+
+def seed_materials(session: Session) -> list[Material]:
+    """Add the shipped typical materials that are missing (by name); return the ones added.
+
+    A system action (no user); each entry is marked seeded, editable by admins, with the caution
+    "typical value; verify against the applicable code edition".
+    """
+    with transaction(session):
+        added = add_seed_materials(session)
+    return added
+
+
+def add_seed_materials(session: Session) -> list[Material]:
+    """Add the missing shipped materials within the caller's transaction (a system action)."""
+    added = []
+    for entry in SEED_MATERIALS:
+        if session.scalar(select(Material.id).where(Material.name == entry["name"])) is not None:
+            continue
+        material = Material(name=entry["name"], specification=entry["specification"],
+                            min_metal_temperature_k=entry["min_metal_temperature_k"], notes=TYPICAL_CAUTION,
+                            source=TYPICAL_SOURCE, seeded=True, editable=True)
+        session.add(material)
+        session.flush()
+        audit.add_entry(session, None, "material", material.id, "seed", new=material.name)
+        added.append(material)
+    return added
