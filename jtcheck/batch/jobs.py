@@ -14,7 +14,7 @@
    :func:`run_job` is put on the RQ queue :data:`QUEUE_NAME`, where an ``rq`` worker process takes it.
 3. :func:`run_job` (module-level, so that an ``rq`` worker can import it) takes the job, reads the stored file
    again, applies the upload form's limits where the file's cells are empty, screens the rows with
-   :func:`jtcheck.cases.batch.screen_rows` (each row by its case kind) writing the progress (rows done) about every
+   :func:`jtcheck.screening.batch.screen_batch` (each row by its case kind) writing the progress (rows done) about every
    :data:`PROGRESS_INTERVAL_S` seconds, and stores the results, the counts by outcome and the status
    ``done``.  Any exception ends the job ``failed`` with the message: a job never hangs.  A running job whose
    worker fell silent for longer than the stale limit (the process was stopped) is marked failed by
@@ -454,9 +454,9 @@ class _Worker:
         self._write({"total": len(cases), "heartbeat_at": utcnow()}, only_if=(BatchStatus.RUNNING,))
         screen = self.screen
         if screen is None:
-            from jtcheck.cases import batch as cases_batch
+            from jtcheck.screening import batch as screening_batch
 
-            screen = cases_batch.screen_rows
+            screen = screening_batch.screen_batch
         screening = screen(cases, compare_models=opts.compare_models, progress=self.progress)
         by_row = {c.row: c for c in cases}
         rows = [row_dict(r, by_row.get(r.row), result.sources.get(r.row)) for r in screening.rows]
@@ -525,7 +525,7 @@ def start_job(app_or_config: Any, job_id: int, *, screen: ScreenFn | None = None
         ``app.extensions["jtcheck_batch_threads"]``) or a config dict with ``DATABASE_URL``.
     job_id : int
     screen : callable, optional
-        Instead of :func:`jtcheck.cases.batch.screen_rows` (threads only; tests).
+        Instead of :func:`jtcheck.screening.batch.screen_batch` (threads only; tests).
 
     Returns
     -------

@@ -1,17 +1,20 @@
-"""Letdown lists screened kind by kind: which rows may take the vectorised path, and each row's scalar screening.
+"""Letdown-list rows screened by their case kind: whether a row may take the vectorised path, and its scalar
+screening.
 
-:func:`screen_rows` is :func:`jtcheck.screening.batch.screen_batch` with the case kinds deciding: a row
-whose kind is not :attr:`~jtcheck.cases.kind.CaseKind.vectorised` goes to the scalar path, and the scalar
-path screens a row with its kind's :meth:`~jtcheck.cases.kind.CaseKind.compute` (credible conditions, no
-sweep and no answers, as the vectorised path).
+:func:`with_kind` gives a :class:`~jtcheck.screening.batch.BatchCase` its kind's
+:attr:`~jtcheck.cases.kind.CaseKind.vectorised` flag and scalar screening (the kind's
+:meth:`~jtcheck.cases.kind.CaseKind.compute` at the credible conditions, without sweep and answers, as the
+vectorised path); :func:`jtcheck.screening.batch.screen_batch` then honours both.  The reader of letdown
+lists (:mod:`jtcheck.batch.reader`) makes every row this way.
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+import dataclasses
 from typing import Any
 
+from jtcheck.cases.kind import CaseKind
 from jtcheck.cases.registry import kind_of
-from jtcheck.screening.batch import BatchCase, BatchScreening, ProgressFn, screen_batch
+from jtcheck.screening.batch import BatchCase
 from jtcheck.screening.screen import Screening
 
 #: The device of a row that names none.
@@ -27,19 +30,17 @@ def row_values(case: BatchCase) -> dict[str, Any]:
             "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated}
 
 
-def _kind(case: BatchCase) -> Any:
+def row_kind(case: BatchCase) -> CaseKind:
     """The kind of a row; its device as the list spells it ("control valve" or "control_valve")."""
     return kind_of("_".join(case.kind.split()) or DEFAULT_DEVICE)
 
 
 def row_screening(case: BatchCase, compare_models: bool) -> Screening:
-    """The scalar screening of one row by its kind."""
-    return _kind(case).compute(case.fluid, row_values(case), compare_models=compare_models, answers=False,
-                               sweep=False)
+    """The scalar screening of one row by its kind (credible conditions; no sweep, no answers)."""
+    return row_kind(case).compute(case.fluid, row_values(case), compare_models=compare_models, answers=False,
+                                  sweep=False)
 
 
-def screen_rows(cases: Sequence[BatchCase], *, compare_models: bool = True,
-                progress: ProgressFn | None = None) -> BatchScreening:
-    """Screen a list's rows, each by its case kind (see the module text)."""
-    return screen_batch(cases, compare_models=compare_models, progress=progress,
-                        vectorised=lambda c: _kind(c).vectorised, scalar=row_screening)
+def with_kind(case: BatchCase) -> BatchCase:
+    """``case`` screened as its kind says: the kind's vectorised flag and its scalar screening."""
+    return dataclasses.replace(case, vectorised=row_kind(case).vectorised, screen=row_screening)

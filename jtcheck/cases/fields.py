@@ -116,10 +116,11 @@ class Field:
                             self.required)
 
 
-#: Fields every case kind has: the cold limits of the downstream steel and the atmospheric pressure.
+#: Fields every case kind has: the cold limits of the downstream steel and the atmospheric pressure for gauge
+#: units (the web and the API treat the last apart: it is entered with its own units, ``p_atm``).
 MDMT = Field("mdmt", "mdmt_k", "temperature", "MDMT", "MDMT", LIMIT_TEMPERATURE_RANGE_K)
 COLD_LIMIT = Field("cold_limit", "cold_limit_k", "temperature", "cold limit", "Cold limit", LIMIT_TEMPERATURE_RANGE_K)
 MARGIN = Field("margin", "margin_k", "difference", "margin", "Required margin", MARGIN_RANGE_K, required=True)
 P_ATM = Field("p_atm", "p_atm_pa", "pressure", "atmospheric pressure for gauge units",
               "Atmospheric pressure for gauge units", P_ATM_RANGE_PA, required=True)
-COMMON_FIELDS: tuple[Field, ...] = (MDMT, COLD_LIMIT, MARGIN)
+COMMON_FIELDS: tuple[Field, ...] = (MDMT, COLD_LIMIT, MARGIN, P_ATM)

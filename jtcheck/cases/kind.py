@@ -36,6 +36,8 @@ class CaseKind:
         Identifier of the kind (``"letdown"``).
     label : str
         Words for a person.
+    cases_phrase : str
+        How messages name cases of this kind ("relief-valve cases").
     devices : tuple of str
         The device values (``Case.kind``) this kind computes.
     fields : tuple of Field
@@ -53,6 +55,7 @@ class CaseKind:
 
     name: str = ""
     label: str = ""
+    cases_phrase: str = ""
     devices: tuple[str, ...] = ()
     fields: tuple[Field, ...] = ()
     flags: tuple[str, ...] = ()
@@ -68,6 +71,10 @@ class CaseKind:
 
     def check(self, values: Mapping[str, Any]) -> None:
         """Check relations between the fields of ``values`` (each already in range); raise InputError."""
+
+    def check_group(self, values: Mapping[str, Any]) -> None:
+        """Check that the kind's optional inputs that go together are given together (run on a case of
+        another kind too, before it is told these inputs are not for it)."""
 
     def compute(self, fluid: Fluid, values: Mapping[str, Any], *, compare_models: bool = True,
                 answers: bool = True, sweep: bool = True) -> Screening:

@@ -36,7 +36,7 @@ def kind_of(device: str) -> CaseKind:
 
 def all_fields() -> tuple[Field, ...]:
     """Every quantity field of every kind, once each, in check order: the first kind's operating fields,
-    the common cold-limit fields, then the fields the other kinds add (the atmospheric pressure apart)."""
+    the common fields (cold limits, atmospheric pressure), then the fields the other kinds add."""
     out: dict[str, Field] = {}
     first, *rest = KINDS.values()
     for f in (*first.fields, *COMMON_FIELDS):
@@ -47,9 +47,15 @@ def all_fields() -> tuple[Field, ...]:
     return tuple(out.values())
 
 
+def foreign_fields(kind: CaseKind, values: dict) -> list[Field]:
+    """The fields given a value in ``values`` that ``kind`` does not have (another kind's inputs)."""
+    own = {f.key for f in (*kind.fields, *COMMON_FIELDS)}
+    return [f for f in all_fields() if f.key not in own and values.get(f.key) is not None]
+
+
 def kinds_with(key: str) -> list[CaseKind]:
     """The kinds that have the field ``key``."""
     return [k for k in KINDS.values() if k.field_named(key) is not None]
 
 
-__all__ = ["KINDS", "P_ATM", "all_fields", "kind_named", "kind_of", "kinds_with"]
+__all__ = ["KINDS", "P_ATM", "all_fields", "foreign_fields", "kind_named", "kind_of", "kinds_with"]

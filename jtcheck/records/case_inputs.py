@@ -10,62 +10,35 @@ from typing import Any
 
 from sqlalchemy.orm import Session, joinedload
 
+from jtcheck.cases import all_fields, kind_of, kinds_with
+from jtcheck.cases.letdown import HYDRATE_INHIBITORS
+from jtcheck.cases.registry import foreign_fields
 from jtcheck.errors import InputError
 from jtcheck.records.fields import (
-    BUILT_UP_RANGE_PA,
-    INLET_TEMPERATURE_RANGE_K,
-    LIMIT_TEMPERATURE_RANGE_K,
-    MARGIN_RANGE_K,
-    MASS_FLOW_RANGE_KG_PER_S,
     MAX_LONG_TEXT,
     MAX_SHORT_TEXT,
     MAX_TAG,
     MAX_UNIT_TEXT,
-    OVERPRESSURE_RANGE,
-    P_ATM_RANGE_PA,
-    PRESSURE_RANGE_PA,
     lookup,
     parse_flag,
-    parse_number,
     parse_text,
 )
 from jtcheck.records.models import P_ATM_STANDARD_PA, Case, CaseKind, FluidRecord, Material, PlantUnit
 
-#: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
-HYDRATE_INHIBITORS = ("methanol", "MEG")
-#: Case fields a user enters: key -> (label, unit) for the numeric ones.
-_CASE_NUMBERS: dict[str, tuple[str, str, tuple[float, float, bool], bool]] = {
-    # key: (label, unit, range, required)
-    "inlet_pressure_pa": ("inlet pressure", "Pa", PRESSURE_RANGE_PA, True),
-    "inlet_temperature_k": ("inlet temperature", "K", INLET_TEMPERATURE_RANGE_K, True),
-    "outlet_pressure_pa": ("outlet pressure", "Pa", PRESSURE_RANGE_PA, True),
-    "inlet_temperature_min_k": ("minimum credible inlet temperature", "K", INLET_TEMPERATURE_RANGE_K, False),
-    "inlet_pressure_max_pa": ("maximum credible inlet pressure", "Pa", PRESSURE_RANGE_PA, False),
-    "outlet_pressure_min_pa": ("minimum credible outlet pressure", "Pa", PRESSURE_RANGE_PA, False),
-    "mass_flow_kg_per_s": ("mass flow", "kg/s", MASS_FLOW_RANGE_KG_PER_S, False),
-    "mdmt_k": ("MDMT", "K", LIMIT_TEMPERATURE_RANGE_K, False),
-    "cold_limit_k": ("cold limit", "K", LIMIT_TEMPERATURE_RANGE_K, False),
-    "margin_k": ("margin", "K", MARGIN_RANGE_K, True),
-    "p_atm_pa": ("atmospheric pressure for gauge units", "Pa", P_ATM_RANGE_PA, True),
-    "set_pressure_pa": ("relief valve set pressure", "Pa", PRESSURE_RANGE_PA, False),
-    "overpressure_fraction": ("allowable overpressure (fraction of the set gauge pressure)", "-",
-                              OVERPRESSURE_RANGE, False),
-    "superimposed_back_pressure_pa": ("superimposed back pressure", "Pa", PRESSURE_RANGE_PA, False),
-    "built_up_back_pressure_pa": ("built-up back pressure", "Pa (difference)", BUILT_UP_RANGE_PA, False),
-    "header_limit_k": ("flare header cold limit", "K", LIMIT_TEMPERATURE_RANGE_K, False),
-}
+#: The quantity fields of every case kind (:mod:`jtcheck.cases`), in the order they are checked.
+QUANTITY_FIELDS = all_fields()
 #: Every field of a case that create_case/update_case accept.
-CASE_FIELDS = ("unit_id", "tag", "service", "kind", "fluid_id", *_CASE_NUMBERS, "material_id", "basis",
-               "references", "display_units", "water_saturated", "hydrate_inhibitor")
-#: Keys allowed in ``display_units``: the quantity fields without their SI suffix.
-DISPLAY_UNIT_FIELDS = ("inlet_pressure", "inlet_temperature", "outlet_pressure", "inlet_temperature_min",
-                       "inlet_pressure_max", "outlet_pressure_min", "mass_flow", "mdmt", "cold_limit", "margin",
-                       "set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
-                       "header_limit")
+CASE_FIELDS = ("unit_id", "tag", "service", "kind", "fluid_id", *(f.key for f in QUANTITY_FIELDS), "material_id",
+               "basis", "references", "display_units", "water_saturated", "hydrate_inhibitor")
+#: Keys allowed in ``display_units``: the quantity fields without their SI suffix (the atmospheric pressure
+#: is shown in its own unit).
+DISPLAY_UNIT_FIELDS = tuple(f.name for f in QUANTITY_FIELDS if f.name != "p_atm")
 #: Values of the fields a case may leave out (stored with the case).
 CASE_DEFAULTS: dict[str, Any] = {"service": "", "margin_k": 0.0, "p_atm_pa": P_ATM_STANDARD_PA, "basis": "",
                                  "references": "", "display_units": {}, "water_saturated": False,
                                  "hydrate_inhibitor": "methanol"}
+__all__ = ["CASE_DEFAULTS", "CASE_FIELDS", "DISPLAY_UNIT_FIELDS", "HYDRATE_INHIBITORS", "QUANTITY_FIELDS",
+           "case_values", "none_to_default", "parse_kind", "validate_case"]
 
 
 def parse_kind(value: Any, key: str = "kind") -> CaseKind:
@@ -94,33 +67,16 @@ def _display_units(value: Any) -> dict[str, str]:
     return out
 
 
-def _validate_relief(values: dict[str, Any]) -> None:
-    """Relief-valve fields: all-or-nothing for the set pressure and its companions; pressures consistent."""
-    p_set = values["set_pressure_pa"]
-    given = [k for k in ("overpressure_fraction", "superimposed_back_pressure_pa", "built_up_back_pressure_pa",
-                         "header_limit_k") if values[k] is not None]
-    if p_set is None:
-        if given:
-            raise InputError(given[0], "relief-valve data need the set pressure (set_pressure_pa) as well")
-        return
-    if values["kind"] is not CaseKind.RELIEF_VALVE:
-        raise InputError("set_pressure_pa", "a set pressure is only for relief-valve cases (kind relief_valve)")
-    if values["overpressure_fraction"] is None:
-        raise InputError("overpressure_fraction", "the allowable overpressure is required with a set pressure "
-                                                  "(fraction of the set gauge pressure, e.g. 0.10 for 10 %)")
-    p_atm = values["p_atm_pa"]
-    if p_set <= p_atm:
-        raise InputError("set_pressure_pa", f"set pressure {p_set:g} Pa abs is not above the atmospheric pressure "
-                                            f"{p_atm:g} Pa; allowed: above atmospheric")
-    p_relieving = p_set + values["overpressure_fraction"] * (p_set - p_atm)
-    p_super = values["superimposed_back_pressure_pa"]
-    p_super = p_atm if p_super is None else p_super
-    p_back = p_super + (values["built_up_back_pressure_pa"] or 0.0)
-    if p_back >= p_relieving:
-        raise InputError("built_up_back_pressure_pa" if values["built_up_back_pressure_pa"] else
-                         "superimposed_back_pressure_pa",
-                         f"total back pressure {p_back:g} Pa abs is not below the relieving pressure "
-                         f"{p_relieving:g} Pa abs; allowed: below the relieving pressure")
+def _check_for_kind(values: dict[str, Any]) -> None:
+    """The kind's own checks, then no input of another kind: each named by its field."""
+    kind = kind_of(values["kind"])
+    kind.check(values)
+    foreign = foreign_fields(kind, values)
+    if foreign:
+        owner = kinds_with(foreign[0].key)[0]
+        owner.check_group(values)   # the owner's own complaint first (e.g. relief data without a set pressure)
+        raise InputError(foreign[0].key, f"a {foreign[0].label} is only for {owner.cases_phrase} (kind "
+                                         f"{', '.join(owner.devices)})")
 
 
 def validate_case(session: Session, data: Mapping[str, Any], *, current: Case | None = None,
@@ -140,38 +96,15 @@ def validate_case(session: Session, data: Mapping[str, Any], *, current: Case | 
     values["kind"] = parse_kind(data.get("kind"))
     fluid = lookup(session, FluidRecord, "fluid_id", data.get("fluid_id"), "fluid")
     values["fluid_id"] = fluid.id
-    for key, (label, unit_text, rng, required) in _CASE_NUMBERS.items():
-        values[key] = parse_number(key, data.get(key), label, unit_text, rng, required)
+    for f in QUANTITY_FIELDS:
+        values[f.key] = f.check(data.get(f.key))
     values["basis"] = parse_text("basis", data.get("basis"), "basis", MAX_LONG_TEXT)
     values["references"] = parse_text("references", data.get("references"), "references", MAX_LONG_TEXT)
     values["display_units"] = _display_units(data.get("display_units"))
 
-    p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
-    if p_out > p_in:
-        raise InputError("outlet_pressure_pa", f"outlet pressure {p_out:g} Pa is above the inlet pressure "
-                                               f"{p_in:g} Pa; allowed: outlet <= inlet pressure (a letdown)")
-    t_min = values["inlet_temperature_min_k"]
-    if t_min is not None and t_min > values["inlet_temperature_k"]:
-        raise InputError("inlet_temperature_min_k",
-                         f"minimum credible inlet temperature {t_min:g} K is above the normal inlet temperature "
-                         f"{values['inlet_temperature_k']:g} K; allowed: <= the normal inlet temperature")
-    p_max = values["inlet_pressure_max_pa"]
-    if p_max is not None and p_max < p_in:
-        raise InputError("inlet_pressure_max_pa",
-                         f"maximum credible inlet pressure {p_max:g} Pa is below the normal inlet pressure "
-                         f"{p_in:g} Pa; allowed: >= the normal inlet pressure")
-    p_out_min = values["outlet_pressure_min_pa"]
-    if p_out_min is not None and p_out_min > p_out:
-        raise InputError("outlet_pressure_min_pa",
-                         f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
-                         f"{p_out:g} Pa; allowed: <= the normal outlet pressure")
     values["water_saturated"] = parse_flag("water_saturated", data.get("water_saturated"), "water-saturated gas")
-    inhibitor = data.get("hydrate_inhibitor")
-    if inhibitor not in HYDRATE_INHIBITORS:
-        raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
-                                              f"{', '.join(HYDRATE_INHIBITORS)}")
-    values["hydrate_inhibitor"] = inhibitor
-    _validate_relief(values)
+    values["hydrate_inhibitor"] = data.get("hydrate_inhibitor")
+    _check_for_kind(values)
 
     # material and MDMT: an entered MDMT wins; without one the material's limit is copied
     material = None

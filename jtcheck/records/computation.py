@@ -10,6 +10,8 @@ from typing import Any
 from sqlalchemy.orm import Session, joinedload
 
 from jtcheck import __version__ as jtcheck_version
+from jtcheck.cases import CaseKind as KindOfCase
+from jtcheck.cases import kind_of
 from jtcheck.records import audit
 from jtcheck.records.case_inputs import case_values
 from jtcheck.records.cases import case_loads
@@ -18,25 +20,29 @@ from jtcheck.records.guard import ALL_ROLES, require
 from jtcheck.records.json_values import json_safe
 from jtcheck.records.models import Case, CaseKind, CaseResult, FluidRecord, KijMode, User
 from jtcheck.records.transactions import transaction
-from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.screen import (
     CONDITION_MAX_P,
     CONDITION_MIN_T,
     CONDITION_MIN_T_MAX_P,
     CONDITION_NORMAL,
-    Condition,
     ConditionScreen,
-    OperatingRanges,
-    ReliefInputs,
     Screening,
     ScreeningOptions,
-    credible_conditions,
-    screen_letdown,
 )
 from jtcheck.thermo.fluid import Fluid
 
 #: Names of the conditions a case is computed at, in order (the sweep may add SWEEP_CONDITION).
 CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_T_MAX_P)
+
+
+def kind_values(case: Case) -> dict[str, Any]:
+    """The values of ``case`` as its kind reads them (register keys, SI), with where the MDMT came from."""
+    return {**case_values(case), "mdmt_source": case.mdmt_source or ""}
+
+
+def case_kind(case: Case) -> KindOfCase:
+    """The case kind (:mod:`jtcheck.cases`) that computes ``case``."""
+    return kind_of(case.kind)
 
 
 def case_conditions(case: Case) -> list[tuple[str, float, float]]:
@@ -45,9 +51,7 @@ def case_conditions(case: Case) -> list[tuple[str, float, float]]:
     Always "normal"; "min inlet temperature" and "max inlet pressure" when those extremes are given,
     and "min temperature + max pressure" when both are (:func:`jtcheck.screening.screen.credible_conditions`).
     """
-    return [(c.name, c.p_in_pa, c.t_in_k) for c in credible_conditions(
-        case.inlet_pressure_pa, case.inlet_temperature_k, case.outlet_pressure_pa, case.inlet_pressure_max_pa,
-        case.inlet_temperature_min_k)]
+    return [(c.name, c.p_in_pa, c.t_in_k) for c in case_kind(case).conditions(kind_values(case))]
 
 
 def _condition_entry(cs: ConditionScreen, eos: str) -> dict[str, Any]:
@@ -71,23 +75,7 @@ def _condition_entry(cs: ConditionScreen, eos: str) -> dict[str, Any]:
 
 def screening_options(case: Case) -> ScreeningOptions:
     """The screening a case asks for: its limits, hydrate data, operating ranges and relief-valve data."""
-    limits = ColdLimits(mdmt_k=case.mdmt_k, user_limit_k=case.cold_limit_k, margin_k=case.margin_k or 0.0,
-                        mdmt_source=case.mdmt_source or "")
-    ranges = OperatingRanges(
-        p_in_pa=(case.inlet_pressure_pa, case.inlet_pressure_max_pa or case.inlet_pressure_pa),
-        t_in_k=(case.inlet_temperature_min_k or case.inlet_temperature_k, case.inlet_temperature_k),
-        p_out_pa=(case.outlet_pressure_min_pa or case.outlet_pressure_pa, case.outlet_pressure_pa))
-    relief = None
-    if case.set_pressure_pa is not None and case.overpressure_fraction is not None:
-        relief = ReliefInputs(
-            set_pressure_pa=case.set_pressure_pa, overpressure_fraction=case.overpressure_fraction,
-            t_relieving_k=case.inlet_temperature_k,
-            superimposed_back_pressure_pa=case.superimposed_back_pressure_pa or case.p_atm_pa,
-            built_up_back_pressure_pa=case.built_up_back_pressure_pa or 0.0, p_atm_pa=case.p_atm_pa,
-            header_limit_k=case.header_limit_k)
-    return ScreeningOptions(limits=limits, water_saturated=True if case.water_saturated else None,
-                            inhibitor=case.hydrate_inhibitor or "methanol", mass_flow_kg_per_s=case.mass_flow_kg_per_s,
-                            ranges=ranges if ranges.varies else None, relief=relief)
+    return case_kind(case).options(kind_values(case))
 
 
 def _merged_warnings(entries: list[dict[str, Any]]) -> list[str]:
@@ -113,16 +101,15 @@ def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
     fluid = fluid if fluid is not None else record.to_fluid()
     material = case.material
     return json_safe({
-        "method": ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
-                   "with the case EOS and the other of PR and SRK; screening by jtcheck.screening"),
+        "method": case_kind(case).method,
         "software_version": jtcheck_version,
         "case": {"id": case.id, "version": case.version, "tag": case.tag, "kind": CaseKind(case.kind).value,
                  "unit": case.unit.name, "site": case.unit.site.name},
         "fluid": {**_fluid_record_inputs(record),
                   "component_ids": list(fluid.ids), "zs": [float(z) for z in fluid.zs]},
         "basis": fluid.basis(),
-        "conditions": [{"condition": n, "p_in_pa": p, "t_in_k": t, "p_out_pa": case.outlet_pressure_pa}
-                       for n, p, t in case_conditions(case)],
+        "conditions": [{"condition": c.name, "p_in_pa": c.p_in_pa, "t_in_k": c.t_in_k, "p_out_pa": c.p_out_pa}
+                       for c in case_kind(case).conditions(kind_values(case))],
         "case_values": {**{k: v for k, v in case_values(case).items() if k not in ("basis", "references")},
                         "mdmt_source": case.mdmt_source},
         "material": None if material is None else {
@@ -172,8 +159,7 @@ def add_result(session: Session, user: User, case_id: int) -> CaseResult:
 
 def _prepare_computation(case: Case) -> dict[str, Any]:
     fluid = case.fluid.to_fluid()   # built once: the letdowns, the stored inputs and the basis share it
-    conditions = [Condition(name, p_in, t_in, case.outlet_pressure_pa) for name, p_in, t_in in case_conditions(case)]
-    screening = screen_letdown(fluid, conditions, screening_options(case))
+    screening = case_kind(case).compute(fluid, kind_values(case))
     entries = [_condition_entry(cs, fluid.eos.value) for cs in screening.conditions]
     inputs = result_inputs(case, fluid)
     return {"version": case.version, "inputs": inputs, "basis": fluid.basis(), "entries": entries,

@@ -1,11 +1,10 @@
-"""Input checks shared by the register: text, numbers in their allowed ranges, record ids, flags.
+"""Input checks shared by the register: text, record ids, flags (numbers: :mod:`jtcheck.cases.fields`).
 
 Each check raises :class:`jtcheck.errors.InputError` naming the field (the key at fault) and the
 allowed range or form; it returns the value as stored.  Quantities are SI floats.
 """
 from __future__ import annotations
 
-import math
 import numbers
 from collections.abc import Mapping, Sequence
 from typing import Any
@@ -14,46 +13,12 @@ from sqlalchemy.orm import Session
 
 from jtcheck.errors import InputError
 
-# Allowed ranges, (low, high, low is inclusive) in SI units.
-PRESSURE_RANGE_PA = (0.0, 1.0e9, False)           # absolute; 1e9 Pa = 10 000 bar
-INLET_TEMPERATURE_RANGE_K = (0.0, 2000.0, False)  # the range of the heat-capacity data
-LIMIT_TEMPERATURE_RANGE_K = (0.0, 1000.0, False)  # MDMT and cold limits
-MARGIN_RANGE_K = (0.0, 100.0, True)
-MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)
-P_ATM_RANGE_PA = (5.0e4, 1.1e5, True)             # sea level to about 5500 m
-OVERPRESSURE_RANGE = (0.0, 1.0, True)             # fraction of the set gauge pressure (0.10 = 10 %)
-BUILT_UP_RANGE_PA = (0.0, 1.0e9, True)            # a pressure difference
 #: Longest texts allowed [characters].
 MAX_TAG = 64
 MAX_NAME = 200
 MAX_SHORT_TEXT = 2000
 MAX_LONG_TEXT = 50_000
 MAX_UNIT_TEXT = 20
-
-
-def range_text(lo: float, hi: float, lo_inclusive: bool, unit: str) -> str:
-    """An allowed range as the messages show it (``0 < value <= 1e+09 Pa``)."""
-    return f"{lo:g} {'<=' if lo_inclusive else '<'} value <= {hi:g} {unit}"
-
-
-def parse_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, float, bool],
-                 required: bool) -> float | None:
-    """A finite number in ``rng`` = (low, high, low is inclusive), as float; None if not given and not required."""
-    lo, hi, lo_inclusive = rng
-    if value is None:
-        if required:
-            raise InputError(key, f"{label} is required [{unit}]; allowed: {range_text(lo, hi, lo_inclusive, unit)}")
-        return None
-    if isinstance(value, bool) or not isinstance(value, numbers.Real):
-        raise InputError(key, f"{label} must be a number in {unit}, got {value!r}")
-    v = float(value)
-    if not math.isfinite(v):
-        raise InputError(key, f"{label} must be a finite number [{unit}], got {v!r}")
-    if v < lo or (v == lo and not lo_inclusive) or v > hi:
-        raise InputError(key, f"{label} {v:g} {unit} is out of range; allowed: "
-                              f"{range_text(lo, hi, lo_inclusive, unit)}"
-                         + (" (absolute)" if unit == "Pa" else ""))
-    return v
 
 
 def parse_text(key: str, value: Any, label: str, max_len: int, *, required: bool = False,

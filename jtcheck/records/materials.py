@@ -7,14 +7,13 @@ from typing import Any
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
+from jtcheck.cases.fields import LIMIT_TEMPERATURE_RANGE_K, check_number
 from jtcheck.errors import InputError
 from jtcheck.records import audit
 from jtcheck.records.errors import NotFound, PermissionDenied
 from jtcheck.records.fields import (
-    LIMIT_TEMPERATURE_RANGE_K,
     MAX_LONG_TEXT,
     MAX_NAME,
-    parse_number,
     parse_text,
     refuse_unknown_keys,
 )
@@ -31,7 +30,7 @@ def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
         if key == "name":
             out[key] = parse_text("name", value, "material name", MAX_NAME, required=True, single_line=True)
         elif key == "min_metal_temperature_k":
-            out[key] = parse_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
+            out[key] = check_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
         elif key == "editable":
             if not isinstance(value, bool):
                 raise InputError("editable", "must be true or false")

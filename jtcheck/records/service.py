@@ -38,6 +38,16 @@ allowed range.  Permissions are listed in :mod:`jtcheck.records.guard`.
 """
 from __future__ import annotations
 
+from jtcheck.cases.fields import (
+    BUILT_UP_RANGE_PA,
+    INLET_TEMPERATURE_RANGE_K,
+    LIMIT_TEMPERATURE_RANGE_K,
+    MARGIN_RANGE_K,
+    MASS_FLOW_RANGE_KG_PER_S,
+    OVERPRESSURE_RANGE,
+    P_ATM_RANGE_PA,
+    PRESSURE_RANGE_PA,
+)
 from jtcheck.records.audit import audit_trail
 from jtcheck.records.case_inputs import CASE_FIELDS, DISPLAY_UNIT_FIELDS, HYDRATE_INHIBITORS, case_values
 from jtcheck.records.cases import (
@@ -49,21 +59,7 @@ from jtcheck.records.cases import (
     update_case,
 )
 from jtcheck.records.computation import CONDITIONS, case_conditions, compute_case, result_inputs, screening_options
-from jtcheck.records.fields import (
-    BUILT_UP_RANGE_PA,
-    INLET_TEMPERATURE_RANGE_K,
-    LIMIT_TEMPERATURE_RANGE_K,
-    MARGIN_RANGE_K,
-    MASS_FLOW_RANGE_KG_PER_S,
-    MAX_LONG_TEXT,
-    MAX_NAME,
-    MAX_SHORT_TEXT,
-    MAX_TAG,
-    MAX_UNIT_TEXT,
-    OVERPRESSURE_RANGE,
-    P_ATM_RANGE_PA,
-    PRESSURE_RANGE_PA,
-)
+from jtcheck.records.fields import MAX_LONG_TEXT, MAX_NAME, MAX_SHORT_TEXT, MAX_TAG, MAX_UNIT_TEXT
 from jtcheck.records.fluids import create_fluid, list_fluids, update_fluid
 from jtcheck.records.guard import ADMIN_ROLES, ALL_ROLES, EDIT_ROLES, can_administer, can_compute, can_edit_cases
 from jtcheck.records.materials import (

@@ -77,6 +77,10 @@ class BatchCase:
     water_saturated : bool
     service, kind : str
         Carried through to the results.
+    vectorised : bool
+        Whether the row may take the vectorised path (its case kind says; :mod:`jtcheck.cases.batch`).
+    screen : callable(BatchCase, bool) -> Screening, optional
+        The row's scalar screening (its case kind's); :func:`letdown_row_screening` when None.
     """
 
     row: int
@@ -91,6 +95,8 @@ class BatchCase:
     water_saturated: bool = False
     service: str = ""
     kind: str = ""
+    vectorised: bool = True
+    screen: Callable[[BatchCase, bool], Screening] | None = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
@@ -221,10 +227,6 @@ def _from_screening(case: BatchCase, s: Screening) -> BatchRowResult:
         all(c.converged for c in s.conditions), "" if cold is None else cold.message, solids=solids)
 
 
-#: A row's scalar screening: (row, compare models) -> Screening.
-ScalarScreen = Callable[[BatchCase, bool], Screening]
-
-
 def letdown_row_screening(case: BatchCase, compare_models: bool) -> Screening:
     """The scalar screening of a row as a letdown at its credible conditions (no sweep, no answers)."""
     conds = credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k)
@@ -232,10 +234,11 @@ def letdown_row_screening(case: BatchCase, compare_models: bool) -> Screening:
                                                               answers=False))
 
 
-def _scalar_row(case: BatchCase, compare_models: bool, scalar: ScalarScreen) -> BatchRowResult:
-    """The robust scalar screening of one row; any exception makes the row "not screened"."""
+def _scalar_row(case: BatchCase, compare_models: bool) -> BatchRowResult:
+    """The robust scalar screening of one row (its own, or as a letdown); any exception makes the row
+    "not screened"."""
     try:
-        s = scalar(case, compare_models)
+        s = (case.screen or letdown_row_screening)(case, compare_models)
     except Exception as exc:  # noqa: BLE001 - one row's failure must not stop the list
         return _failed_row(case, exc)
     return _from_screening(case, s)
@@ -590,12 +593,13 @@ def _screen_group(fluid: Fluid, cases: Sequence[BatchCase], compare_models: bool
 
 
 def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
-                 progress: ProgressFn | None = None, vectorised: Callable[[BatchCase], bool] | None = None,
-                 scalar: ScalarScreen | None = None) -> BatchScreening:
+                 progress: ProgressFn | None = None) -> BatchScreening:
     """Screen many letdown rows: one compiled batch letdown per fluid and model, the robust scalar screening
     for the rows that need it.
 
-    Rows are grouped by fluid object (identity).  For each group, every row's credible conditions
+    Rows are grouped by fluid object (identity); rows that are not ``vectorised`` (their case kind says so)
+    go straight to the scalar path, which runs the row's own ``screen`` when it has one.  For each group,
+    every row's credible conditions
     (:func:`jtcheck.screening.screen.credible_conditions`) are flattened and let down in one
     :func:`jtcheck.letdown.throttle.letdown` call per model: the case's fluid and, when ``compare_models``,
     the same fluid under the other of PR and SRK.  Per row, the coldest condition and the colder model give
@@ -626,11 +630,6 @@ def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
     progress : callable(done, total), optional
         Called as rows complete: after each group's batch rows and every :data:`PROGRESS_EVERY` scalar rows.
         An exception it raises stops the screening (a way to cancel).
-    vectorised : callable(BatchCase) -> bool, optional
-        Whether a row may take the batch path at all (the case kind decides, :mod:`jtcheck.cases.batch`);
-        every row may when not given.
-    scalar : callable(BatchCase, bool) -> Screening, optional
-        The scalar screening of one row (the case kind's); :func:`letdown_row_screening` when not given.
 
     Returns
     -------
@@ -654,10 +653,9 @@ def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
         if progress is not None and (force or done % PROGRESS_EVERY == 0):
             progress(done, total)
 
-    row_screen = scalar if scalar is not None else letdown_row_screening
     groups: dict[tuple[int, bool], list[int]] = {}
-    for i, case in enumerate(cases):
-        groups.setdefault((id(case.fluid), vectorised is None or vectorised(case)), []).append(i)
+    for i, case in enumerate(cases):   # a row whose kind is not vectorised goes to the scalar path
+        groups.setdefault((id(case.fluid), case.vectorised), []).append(i)
     for (_, may_batch), idx in groups.items():
         fluid = cases[idx[0]].fluid
         members = [cases[i] for i in idx]
@@ -676,7 +674,7 @@ def screen_batch(cases: Sequence[BatchCase], *, compare_models: bool = True,
                 tick(force=True)
         t_scalar = time.perf_counter()
         for pos in to_scalar:
-            results[idx[pos]] = _scalar_row(members[pos], compare_models, row_screen)
+            results[idx[pos]] = _scalar_row(members[pos], compare_models)
             done += 1
             tick()
         seconds_scalar += time.perf_counter() - t_scalar

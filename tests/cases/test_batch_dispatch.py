@@ -1,6 +1,8 @@
-"""Letdown lists dispatch on the case kind: same results as the screening they wrap, and a kind can opt out of
-the vectorised path."""
+"""Letdown-list rows are screened by their case kind: same results as the letdown screening for letdown rows,
+and a kind can keep its rows off the vectorised path."""
 from __future__ import annotations
+
+import dataclasses
 
 import numpy as np
 import pytest
@@ -8,6 +10,7 @@ import pytest
 from jtcheck import Fluid
 from jtcheck.cases import batch as cases_batch
 from jtcheck.cases.letdown import LETDOWN
+from jtcheck.cases.relief import RELIEF_VALVE
 from jtcheck.screening.batch import BatchCase, screen_batch
 from jtcheck.screening.cold_metal import ColdLimits
 
@@ -30,30 +33,34 @@ def rows(n: int, kind: str = "control valve") -> list[BatchCase]:
     return out
 
 
-def test_dispatch_by_kind_gives_the_screening_it_wraps():
-    cases = rows(40)
-    by_kind = cases_batch.screen_rows(cases)
-    direct = screen_batch(cases)
+def test_rows_take_their_kind():
+    assert cases_batch.row_kind(rows(1, "control valve")[0]) is LETDOWN
+    assert cases_batch.row_kind(rows(1, "relief_valve")[0]) is RELIEF_VALVE
+    assert cases_batch.row_kind(rows(1, "")[0]) is LETDOWN
+    marked = cases_batch.with_kind(rows(1)[0])
+    assert marked.vectorised is LETDOWN.vectorised and marked.screen is cases_batch.row_screening
+
+
+def test_letdown_rows_screened_by_kind_equal_the_letdown_screening():
+    plain = rows(40)
+    by_kind = screen_batch([cases_batch.with_kind(c) for c in plain])
+    direct = screen_batch(plain)
     assert [r.to_dict() for r in by_kind.rows] == [r.to_dict() for r in direct.rows]
     assert by_kind.n_batch > 0
 
 
-def test_a_kind_that_is_not_vectorised_takes_the_scalar_path_with_its_own_screening(monkeypatch):
+def test_rows_of_a_kind_that_is_not_vectorised_take_the_scalar_path_with_the_kind_screening():
     calls = []
 
-    class ScalarOnly(type(LETDOWN)):
-        vectorised = False
+    def scalar_only(case, compare_models):
+        calls.append(case.row)
+        return cases_batch.row_screening(case, compare_models)
 
-        def compute(self, fluid, values, **switches):
-            calls.append(values["inlet_pressure_pa"])
-            return super().compute(fluid, values, **switches)
-
-    monkeypatch.setattr(cases_batch, "kind_of", lambda device: ScalarOnly())
-    cases = rows(30)
-    res = cases_batch.screen_rows(cases)
+    plain = rows(30)
+    res = screen_batch([dataclasses.replace(c, vectorised=False, screen=scalar_only) for c in plain])
     assert res.n_scalar == 30
-    assert sorted(calls) == sorted(c.p_in_pa for c in cases)
-    direct = screen_batch(cases)
+    assert sorted(calls) == [c.row for c in plain]
+    direct = screen_batch(plain)
     for a, b in zip(res.rows, direct.rows, strict=True):
         assert a.outcome == b.outcome
         assert a.t_screen_k == pytest.approx(b.t_screen_k, abs=0.05)

@@ -108,7 +108,7 @@ def test_migration_environment_imports_only_the_models():
 
 @pytest.mark.parametrize("module", sorted(p.name for p in (REPO / "jtcheck" / "records").glob("*.py")))
 def test_records_layer_imports_only_what_the_design_allows(module):
-    allowed = ("sqlalchemy", "alembic", "jtcheck.records", "jtcheck.letdown", "jtcheck.screening",
+    allowed = ("sqlalchemy", "alembic", "jtcheck.records", "jtcheck.cases", "jtcheck.letdown", "jtcheck.screening",
                "jtcheck.thermo", "jtcheck.errors")
     for name in _imports(REPO / "jtcheck" / "records" / module):
         if name.split(".")[0] in ("sqlalchemy", "alembic") or name.split(".")[0] != "jtcheck":

@@ -113,6 +113,7 @@ class LetdownKind(CaseKind):
 
     name = "letdown"
     label = "letdown"
+    cases_phrase = "letdown cases"
     devices = ("control_valve", "blowdown_valve", "choke", "other")
     fields = LETDOWN_FIELDS
     flags = ("water_saturated", "hydrate_inhibitor")

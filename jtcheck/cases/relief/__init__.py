@@ -40,13 +40,19 @@ _COMPANIONS = ("overpressure_fraction", "superimposed_back_pressure_pa", "built_
                "header_limit_k")
 
 
-def check_relief(values: Mapping[str, Any]) -> None:
-    """Relief-valve fields: all-or-nothing for the set pressure and its companions; pressures consistent."""
-    p_set = values.get("set_pressure_pa")
-    if p_set is None:
+def check_relief_group(values: Mapping[str, Any]) -> None:
+    """The set pressure's companions (overpressure, back pressures, header limit) need the set pressure."""
+    if values.get("set_pressure_pa") is None:
         given = [k for k in _COMPANIONS if values.get(k) is not None]
         if given:
             raise InputError(given[0], "relief-valve data need the set pressure (set_pressure_pa) as well")
+
+
+def check_relief(values: Mapping[str, Any]) -> None:
+    """Relief-valve fields: all-or-nothing for the set pressure and its companions; pressures consistent."""
+    check_relief_group(values)
+    p_set = values.get("set_pressure_pa")
+    if p_set is None:
         return
     if values.get("overpressure_fraction") is None:
         raise InputError("overpressure_fraction", "the allowable overpressure is required with a set pressure "
@@ -84,6 +90,7 @@ class ReliefValveKind(LetdownKind):
 
     name = "relief_valve"
     label = "relief valve"
+    cases_phrase = "relief-valve cases"
     devices = ("relief_valve",)
     fields = (*LETDOWN_FIELDS, *RELIEF_FIELDS)
     form_sections = ("web/cases/kinds/relief_form.html",)
@@ -93,6 +100,9 @@ class ReliefValveKind(LetdownKind):
     def check(self, values: Mapping[str, Any]) -> None:
         super().check(values)
         check_relief(values)
+
+    def check_group(self, values: Mapping[str, Any]) -> None:
+        check_relief_group(values)
 
     def options(self, values: Mapping[str, Any], **switches: bool) -> ScreeningOptions:
         return letdown_options(values, relief=relief_inputs(values), **switches)
