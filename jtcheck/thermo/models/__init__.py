@@ -39,21 +39,26 @@ that module is the one place a family is wired in.
 How a second family plugs in
 ----------------------------
 The new family writes the six functions above over its own parameter tuple, in its own subpackage,
-and makes its mixture object expose that tuple as ``kernel_params``.  The interface then chooses the
+and makes its mixture object expose that tuple as ``kernel_params``. The interface then chooses the
 family at compile time: each interface name becomes a generic function (``numba.extending.overload``
 of a Python stub) that looks at the numba type of ``prm`` and returns the matching family's
-implementation.  numba then compiles every algorithm once per parameter type, and caches each
-signature separately, so the flashes are written once and cost nothing extra at run time.  Two
-constraints found with numba 0.68: the parameter tuple must be flat (the ``prange`` loop of the
-letdown batch captures it, and the parallel lowering rejects tuples nested in tuples), and it should
-be a plain tuple told apart from other families' by its element types (for example a leading marker
-element of a type unique to the family): a ``NamedTuple`` would be a cleaner key, but numba types a
-named tuple argument about 1 us slower per kernel call, six percent of a single-phase PH flash.
-This dispatch is left to the GERG-2008 issue; today the interface binds the cubic functions directly.
+implementation. numba then compiles every algorithm once per parameter type, and caches each
+signature separately, so the flashes are written once and cost nothing extra at run time (a toy of
+two families checked this on numba 0.68: overload dispatch on the tuple type, ``cache=True`` hits
+for both families in a second process, also inside ``prange``). Two constraints found with numba
+0.68: the parameter tuple must be flat (the ``prange`` loop of the letdown batch captures it, and
+the parallel lowering rejects tuples nested in tuples), and it should be a plain tuple told apart
+from other families' by its element types (for example a leading marker element of a type unique to
+the family): a ``NamedTuple`` would be a cleaner key, but numba types a named tuple argument about a
+microsecond slower per kernel call, six percent of a single-phase PH flash. This dispatch is left to
+the GERG-2008 issue; today the interface binds the cubic functions directly.
 
-Still bound to the cubic, outside the compiled algorithms: the numpy modules
-:mod:`jtcheck.thermo.envelope` (it calls :mod:`jtcheck.thermo.models.cubic.properties`, including the
-cubic's sqrt(a_i) for the critical point), :mod:`jtcheck.thermo.properties` and the CO2 solids screening.
+Still bound to the cubic, outside the compiled algorithms: :mod:`jtcheck.thermo.envelope` (it calls
+:mod:`jtcheck.thermo.models.cubic.properties`, including the cubic's sqrt(a_i) for the critical
+point), :mod:`jtcheck.thermo.properties`, the CO2 solids screening, and the annotations of
+:mod:`jtcheck.thermo.flash` and :mod:`jtcheck.thermo.stability`, which take a ``CubicMixture`` but
+use only its ``kernel_params``, ``n`` and ``pcs``; :class:`jtcheck.thermo.fluid.Fluid` builds the
+``CubicMixture``.
 
 numba's on-disk cache does not notice a change in another source file (numba issue #1833): an
 algorithm's cached machine code contains the model functions it calls.  After editing a model
