@@ -3,7 +3,7 @@ PY ?= python3
 VENV ?= .venv
 BIN := $(VENV)/bin
 
-.PHONY: run test lint bench clean
+.PHONY: run test lint bench clean clean-kernels
 
 $(BIN)/python:
 	$(PY) -m venv $(VENV)
@@ -40,3 +40,9 @@ bench: $(VENV)/.installed-test
 
 clean:
 	rm -rf $(VENV) build *.egg-info
+
+# numba's on-disk cache of the compiled kernels (*.nbi, *.nbc in __pycache__).  numba does not notice a change in
+# another source file (numba issue #1833): after editing a model kernel under jtcheck/thermo/models, run this, or the
+# flash kernels keep the old model code they were compiled with.
+clean-kernels:
+	find jtcheck -path '*/__pycache__/*' \( -name '*.nbi' -o -name '*.nbc' \) -delete

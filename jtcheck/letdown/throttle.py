@@ -17,9 +17,10 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from jtcheck.errors import InputError
-from jtcheck.thermo import _kernels as _k
 from jtcheck.thermo.flash import pure_supercritical
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.kernels.constants import ST_PURE_SAT, ST_SINGLE, ST_TWO
+from jtcheck.thermo.kernels.letdown_batch import letdown_batch
 
 #: CO2 triple point: 216.592 K, 0.51795 MPa (Span and Wagner, J. Phys. Chem. Ref. Data 25 (1996) 1509).
 CO2_TRIPLE_T_K = 216.592
@@ -251,10 +252,10 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
         offset = -cz * (pi - po)   # H_out(untranslated) = H_in - c (P_in - P_out)
     # for large batches, find the fluid's cricondentherm once: above it no stability test is needed
     t_skip = fluid.single_phase_above_k() if pi.size >= BATCH_ENVELOPE_MIN else math.inf
-    (st_in, b_in, h_in, s_in, st_out, T_out, b_out, h_out, s_out, iters, resid) = _k.letdown_batch(
+    (st_in, b_in, h_in, s_in, st_out, T_out, b_out, h_out, s_out, iters, resid) = letdown_batch(
         fluid.mixture.kernel_params, np.ascontiguousarray(fluid.zs), pi, ti, po, 0, offset, t_skip)
-    ok_in = np.isin(st_in, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
-    ok_out = np.isin(st_out, (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT))
+    ok_in = np.isin(st_in, (ST_SINGLE, ST_TWO, ST_PURE_SAT))
+    ok_out = np.isin(st_out, (ST_SINGLE, ST_TWO, ST_PURE_SAT))
     conv = ok_in & ok_out
     T = np.where(conv, T_out, np.nan)
     beta = np.where(conv, b_out, np.nan)

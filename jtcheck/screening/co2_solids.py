@@ -40,9 +40,9 @@ from jtcheck.letdown.plain import plain
 from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, CO2_TRIPLE_T_K, LetdownResult
 from jtcheck.thermo import flash as _flash
 from jtcheck.thermo.components import find_component
-from jtcheck.thermo.cubic import ln_phi, phase_properties
 from jtcheck.thermo.eos import R
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.models.cubic.properties import ln_phi, phase_properties
 
 __all__ = [
     "CO2_SOLID_DENSITY_KG_PER_M3",
@@ -240,7 +240,7 @@ def _shift(fluid: Fluid) -> np.ndarray:
 def _vapour_state(fluid: Fluid, t, p, x):
     """(ln phi [-], v [m^3/mol], h [J/mol]) of the vapour root, translated as the fluid translates.
 
-    Cubic EOS of the fluid (Michelsen and Mollerup 2007, ch. 3, via :mod:`jtcheck.thermo.cubic`);
+    Cubic EOS of the fluid (Michelsen and Mollerup 2007, ch. 3, via :mod:`jtcheck.thermo.models.cubic.properties`);
     Peneloux translation: v - x.c, h - p x.c, ln phi_i - c_i p/(R T).
     """
     t = np.asarray(t, float)

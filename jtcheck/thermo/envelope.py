@@ -45,8 +45,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from jtcheck.errors import InputError
-from jtcheck.thermo.cubic import CubicMixture, fugacity_derivatives, ln_phi, sqrt_a
 from jtcheck.thermo.eos import R
+from jtcheck.thermo.models.cubic.mixture import CubicMixture
+from jtcheck.thermo.models.cubic.properties import fugacity_derivatives, ln_phi, sqrt_a
 from jtcheck.thermo.stability import stability_test, wilson_k
 
 #: Highest pressure the envelope is followed to [Pa]; an envelope still open there is reported as such.

@@ -15,7 +15,8 @@ split's sensitivity (dv/dT = -H^-1 dg/dT, hbar_i = h_i^ig - R T^2 d ln phi_i/dT;
 on the equilibrium path).  A pure component is solved on its EOS saturation line, with the quality
 from the lever rule.
 
-The numerical work is done by the compiled kernels in :mod:`jtcheck.thermo._kernels`; this module
+The numerical work is done by the compiled kernels :mod:`jtcheck.thermo.kernels.flash_pt` and
+:mod:`jtcheck.thermo.kernels.flash_spec`, over the model interface of :mod:`jtcheck.thermo.models`; this module
 turns their status codes into :class:`FlashResult` objects.  Every result carries ``converged``;
 a failure is never returned as a plain number.
 """
@@ -26,17 +27,27 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from jtcheck.thermo import _kernels as _k
-from jtcheck.thermo.cubic import CubicMixture
+from jtcheck.thermo.kernels.constants import (
+    ST_FAIL_INPUT,
+    ST_FAIL_SINGLE,
+    ST_FAIL_SPLIT,
+    ST_FAIL_TWO,
+    ST_PURE_SAT,
+    ST_SINGLE,
+    ST_TWO,
+)
+from jtcheck.thermo.kernels.flash_pt import flash_pt as _flash_pt_kernel
+from jtcheck.thermo.kernels.flash_spec import flash_spec as _flash_spec_kernel
+from jtcheck.thermo.models.cubic.mixture import CubicMixture
 
 _STATUS_TEXT = {
-    _k.ST_SINGLE: "stable single phase",
-    _k.ST_TWO: "two phases",
-    _k.ST_PURE_SAT: "pure component on its saturation line",
-    _k.ST_FAIL_SINGLE: "single-phase temperature iteration did not converge",
-    _k.ST_FAIL_TWO: "two-phase temperature iteration did not converge",
-    _k.ST_FAIL_SPLIT: "the feed is unstable but no phase split was found",
-    _k.ST_FAIL_INPUT: "non-finite input",
+    ST_SINGLE: "stable single phase",
+    ST_TWO: "two phases",
+    ST_PURE_SAT: "pure component on its saturation line",
+    ST_FAIL_SINGLE: "single-phase temperature iteration did not converge",
+    ST_FAIL_TWO: "two-phase temperature iteration did not converge",
+    ST_FAIL_SPLIT: "the feed is unstable but no phase split was found",
+    ST_FAIL_INPUT: "non-finite input",
 }
 
 
@@ -95,9 +106,9 @@ class FlashResult:
 
 
 def _phase_label(status: int, beta: float) -> str:
-    if status in (_k.ST_TWO, _k.ST_PURE_SAT) and 0.0 < beta < 1.0:
+    if status in (ST_TWO, ST_PURE_SAT) and 0.0 < beta < 1.0:
         return "two-phase"
-    if status == _k.ST_PURE_SAT:
+    if status == ST_PURE_SAT:
         return "vapour" if beta >= 1.0 else "liquid"
     return "vapour" if beta >= 0.5 else "liquid"
 
@@ -114,7 +125,7 @@ def pure_supercritical(mix: CubicMixture, z, P) -> bool | np.ndarray:
 
 
 def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd, mix=None) -> FlashResult:
-    converged = status in (_k.ST_SINGLE, _k.ST_TWO, _k.ST_PURE_SAT)
+    converged = status in (ST_SINGLE, ST_TWO, ST_PURE_SAT)
     if converged:
         phase = _phase_label(status, beta)
         if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P):
@@ -135,7 +146,7 @@ def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
     z = np.ascontiguousarray(z, dtype=float)
     x = np.empty_like(z)
     y = np.empty_like(z)
-    st, beta, h, s, tpd, its = _k.flash_pt(mix.kernel_params, float(T), float(P), z, x, y, math.inf)
+    st, beta, h, s, tpd, its = _flash_pt_kernel(mix.kernel_params, float(T), float(P), z, x, y, math.inf)
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd, mix)
 
 
@@ -144,8 +155,8 @@ def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | 
     x = np.empty_like(z)
     y = np.empty_like(z)
     T0 = 300.0 if T_guess is None or not math.isfinite(T_guess) else float(T_guess)
-    st, T, beta, h, s, its, resid, tpd = _k.flash_spec(mix.kernel_params, float(P), float(target), z, T0, spec,
-                                                       x, y, math.inf)
+    st, T, beta, h, s, its, resid, tpd = _flash_spec_kernel(mix.kernel_params, float(P), float(target), z, T0, spec,
+                                                            x, y, math.inf)
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)
 
 

@@ -16,8 +16,8 @@ from jtcheck.errors import InputError
 from jtcheck.thermo import flash as _flash
 from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION, find_component, kij_matrix
 from jtcheck.thermo.composition import Composition, normalise_composition
-from jtcheck.thermo.cubic import CubicMixture, make_mixture
 from jtcheck.thermo.eos import EOS, R
+from jtcheck.thermo.models.cubic.mixture import CubicMixture, make_mixture
 
 #: Components for which a cubic EOS with the classic alpha function is poor (negative acentric factor,
 #: quantum gases): the Joule-Thomson inversion is mispredicted near room temperature.
@@ -202,7 +202,7 @@ class Fluid:
         """Temperature [K] above which this fluid is single-phase at any pressure: its cricondentherm
         plus 2 K, when the envelope closed and no component can form a second liquid (water, glycols,
         alcohols, ammonia); +inf otherwise.  Lets batch screening skip stability tests safely."""
-        from jtcheck.thermo.cubic import POLAR_IDS
+        from jtcheck.thermo.models.cubic.mixture import POLAR_IDS
 
         if len(self.ids) < 2 or any(i in POLAR_IDS for i in self.ids):
             return float("inf")

@@ -17,7 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from jtcheck.thermo.cubic import CubicMixture, phase_properties
+from jtcheck.thermo.models.cubic.mixture import CubicMixture
+from jtcheck.thermo.models.cubic.properties import phase_properties
 
 
 @dataclass(frozen=True)

@@ -8,7 +8,7 @@ Equilib. 74 (1992) 303-308: beta_min = max over K_i > 1 of (K_i z_i - 1)/(K_i - 
 min over K_i < 1 of (1 - z_i)/(1 - K_i).  The function is monotone decreasing there, so a Newton
 step safeguarded by bisection on the bracket cannot diverge.  Each term is evaluated as
 z_i / (1/(K_i - 1) + beta), the form recommended against round-off near the poles by Nielsen and
-Lia, Fluid Phase Equilib. 571 (2023) 113801.  Compiled as :func:`jtcheck.thermo._kernels.rachford_rice`.
+Lia, Fluid Phase Equilib. 571 (2023) 113801.  Compiled as :func:`jtcheck.thermo.kernels.rachford_rice.rachford_rice`.
 """
 from __future__ import annotations
 
@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from jtcheck.thermo import _kernels
+from jtcheck.thermo.kernels import rachford_rice as _kernel
 
 
 @dataclass(frozen=True, slots=True)
@@ -53,5 +53,5 @@ def solve_rachford_rice(z, K) -> RachfordRiceResult:
     K = np.ascontiguousarray(K, dtype=float)
     x = np.empty_like(z)
     y = np.empty_like(z)
-    beta, ok = _kernels.rachford_rice(z, K, x, y)
+    beta, ok = _kernel.rachford_rice(z, K, x, y)
     return RachfordRiceResult(beta=float(beta), x=x, y=y, converged=bool(ok))

@@ -7,7 +7,7 @@ Minima are sought by successive substitution ln W_i <- d_i - ln phi_i(w) from se
 (Wilson K-values both ways, and near-pure trial phases of water-like components and of the heaviest
 component, so that an incipient aqueous or heavy phase is not missed), finished by Newton steps in
 alpha_i = 2 sqrt(W_i) (Michelsen and Mollerup 2007, ch. 10) where substitution is slow.  The
-compiled implementation is :func:`jtcheck.thermo._kernels.stability`.
+compiled implementation is :func:`jtcheck.thermo.kernels.stability.stability`.
 """
 from __future__ import annotations
 
@@ -15,8 +15,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from jtcheck.thermo import _kernels
-from jtcheck.thermo.cubic import CubicMixture
+from jtcheck.thermo.kernels import stability as _stability_kernels
+from jtcheck.thermo.kernels import wilson as _wilson_kernels
+from jtcheck.thermo.models.cubic.mixture import CubicMixture
 
 #: Tangent-plane distance below which a feed is declared unstable [-].
 TPD_UNSTABLE = -1e-8
@@ -59,7 +60,7 @@ def wilson_k(mix: CubicMixture, T: float, P: float) -> np.ndarray:
     Wilson, *A modified Redlich-Kwong equation of state*, 64th AIChE National Meeting (1968).
     """
     K = np.empty(mix.n)
-    _kernels.wilson_k(mix.kernel_params, float(T), float(P), K)
+    _wilson_kernels.wilson_k(mix.kernel_params, float(T), float(P), K)
     return K
 
 
@@ -80,7 +81,7 @@ def stability_test(mix: CubicMixture, T: float, P: float, z) -> StabilityResult:
     if z.size == 1:
         return StabilityResult(True, 0.0, None, False, True)
     W = np.empty(z.size)
-    stable, tpd, lighter, conv = _kernels.stability(mix.kernel_params, float(T), float(P), z, W, 80, 1e-10)
+    stable, tpd, lighter, conv = _stability_kernels.stability(mix.kernel_params, float(T), float(P), z, W, 80, 1e-10)
     if stable:
         return StabilityResult(True, float(tpd), None, False, bool(conv))
     return StabilityResult(False, float(tpd), W, bool(lighter), bool(conv))

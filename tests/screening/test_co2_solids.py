@@ -120,8 +120,8 @@ def test_sublimation_enthalpy_at_the_normal_sublimation_point():
 
 def test_sublimation_enthalpy_is_clausius_clapeyron_with_the_eos_vapour_volume():
     # independent evaluation: numerical dp/dT of the public p_sub(T) and the vapour volume from Z
-    from jtcheck.thermo.cubic import ln_phi
     from jtcheck.thermo.eos import R
+    from jtcheck.thermo.models.cubic.properties import ln_phi
 
     t, dt = 180.0, 1e-3
     dpdt = (co2_sublimation_pressure_pa(t + dt) - co2_sublimation_pressure_pa(t - dt)) / (2 * dt)

@@ -17,7 +17,6 @@ from hypothesis import strategies as st
 
 from jtcheck import Fluid
 from jtcheck.errors import InputError
-from jtcheck.thermo.cubic import ln_phi
 from jtcheck.thermo.envelope import (
     bubble_point_p,
     bubble_point_t,
@@ -26,6 +25,7 @@ from jtcheck.thermo.envelope import (
     phase_envelope,
 )
 from jtcheck.thermo.flash import flash_pt
+from jtcheck.thermo.models.cubic.properties import ln_phi
 from jtcheck.thermo.stability import stability_test
 
 GASES = {"lean gas": LEAN_GAS, "rich gas": RICH_GAS}

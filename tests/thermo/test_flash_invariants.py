@@ -27,8 +27,8 @@ from hypothesis import strategies as st
 
 from jtcheck import Fluid, letdown
 from jtcheck.letdown.throttle import BATCH_ENVELOPE_MIN
-from jtcheck.thermo.cubic import ln_phi
 from jtcheck.thermo.eos import R
+from jtcheck.thermo.models.cubic.properties import ln_phi
 from jtcheck.thermo.stability import stability_test
 
 BAR = 1e5

@@ -1,4 +1,4 @@
-"""The generic two-parameter cubic equation of state for mixtures.
+"""The generic two-parameter cubic equation of state for mixtures: fugacities and properties, in numpy.
 
 All functions take SI inputs (T [K], P [Pa], mole fractions [-]) and broadcast over leading axes:
 ``T`` and ``P`` of shape ``(...)`` with compositions of shape ``(..., n)``.  The scalar path (one
@@ -15,122 +15,23 @@ The residual enthalpy and entropy in closed form (departures at the same T and P
     I = ln[(v + d1 b)/(v + d2 b)] / (b (d1 - d2))   (I = 1/(v + d b) when d1 = d2),
 
 which for van der Waals (d1 = d2 = 0, a' = 0) reduce to H_R = R T (Z - 1) - a/v.
+
+The parameters come from :mod:`jtcheck.thermo.models.cubic.mixture`; :func:`fugacity_derivatives` and
+:func:`phase_identification_parameter` call the compiled kernels of
+:mod:`jtcheck.thermo.models.cubic.kernels` (the flash kernels use those kernels, not this module).
 """
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from jtcheck.thermo import idealgas
-from jtcheck.thermo.eos import EOS, AlphaKind, R, soave_m
-
-#: Reference pressure of ideal-gas entropies [Pa].
-P_REF = 101325.0
-
-
-@dataclass(frozen=True, eq=False)
-class CubicMixture:
-    """Parameters of a mixture under one cubic EOS (no state, no solving).
-
-    Build with :func:`make_mixture`.  Vectors are per component, in the order of ``ids``.
-
-    Attributes
-    ----------
-    eos : EOS
-    ids : tuple of str
-        Component ids.
-    tcs, pcs, omegas : numpy.ndarray
-        Critical temperatures [K], critical pressures [Pa], acentric factors [-].
-    mws : numpy.ndarray
-        Molar masses [kg/mol].
-    kij : numpy.ndarray
-        Binary interaction parameters [-], (n, n).
-    vol_shifts : numpy.ndarray
-        Peneloux volume shifts c_i [m^3/mol] (translated v = v_EOS - sum x_i c_i).
-    cp_abcde : tuple of numpy.ndarray
-        Aly-Lee ideal-gas heat-capacity coefficients A, B [J/(mol K)], C [K], D [J/(mol K)], E [K].
-    """
-
-    eos: EOS
-    ids: tuple[str, ...]
-    tcs: np.ndarray
-    pcs: np.ndarray
-    omegas: np.ndarray
-    mws: np.ndarray
-    kij: np.ndarray
-    vol_shifts: np.ndarray
-    cp_abcde: tuple
-    # derived constants
-    ms: np.ndarray = field(repr=False)         # Soave slopes [-]
-    bs: np.ndarray = field(repr=False)         # co-volumes [m^3/mol]
-    one_minus_kij: np.ndarray = field(repr=False)
-    d1: float = 0.0
-    d2: float = 0.0
-    # sqrt(a_i(T)) = s_c1 - s_c2 sqrt(T) (Soave), s_c1 T^-1/4 (Redlich-Kwong), s_c1 (van der Waals)
-    s_c1: np.ndarray = field(default=None, repr=False)
-    s_c2: np.ndarray = field(default=None, repr=False)
-    kernel_params: tuple = field(default=None, repr=False)
-
-    @property
-    def n(self) -> int:
-        return len(self.ids)
-
-
-def make_mixture(eos: EOS, ids, tcs, pcs, omegas, mws, kij, vol_shifts, cp_abcde) -> CubicMixture:
-    """Assemble a :class:`CubicMixture` and its derived constants.
-
-    Parameters
-    ----------
-    eos : EOS
-        Model.
-    ids : sequence of str
-        Component ids.
-    tcs, pcs, omegas : array_like
-        Critical temperatures [K], critical pressures [Pa], acentric factors [-].
-    mws : array_like
-        Molar masses [kg/mol].
-    kij : array_like
-        Symmetric (n, n) interaction parameters [-].
-    vol_shifts : array_like
-        Peneloux shifts [m^3/mol].
-    cp_abcde : sequence of 5 array_like
-        Aly-Lee coefficients A, B [J/(mol K)], C [K], D [J/(mol K)], E [K].
-    """
-    from jtcheck.thermo._kernels import ideal_gas_reference
-
-    c = eos.constants
-    tcs = np.ascontiguousarray(tcs, dtype=float)
-    pcs = np.ascontiguousarray(pcs, dtype=float)
-    omegas = np.ascontiguousarray(omegas, dtype=float)
-    kij = np.ascontiguousarray(kij, dtype=float)
-    ms = soave_m(eos, omegas) if c.alpha is AlphaKind.SOAVE else np.zeros_like(tcs)
-    sqrt_acs = np.sqrt(c.omega_a * (R * tcs) ** 2 / pcs)
-    if c.alpha is AlphaKind.SOAVE:
-        s_c1, s_c2 = sqrt_acs * (1.0 + ms), sqrt_acs * ms / np.sqrt(tcs)
-    elif c.alpha is AlphaKind.INVERSE_SQRT:
-        s_c1, s_c2 = sqrt_acs * tcs ** 0.25, np.zeros_like(tcs)
-    else:
-        s_c1, s_c2 = sqrt_acs, np.zeros_like(tcs)
-    bs = c.omega_b * R * tcs / pcs
-    cps = tuple(np.ascontiguousarray(v, dtype=float) for v in cp_abcde)
-    h_ref, s_ref = ideal_gas_reference(*cps)
-    polar = np.array([cid in POLAR_IDS for cid in ids], dtype=np.bool_)
-    prm = (_ALPHA_CODES[c.alpha], s_c1, s_c2, bs, 1.0 - kij, float(c.d1), float(c.d2), *cps,
-           tcs, pcs, omegas, polar, h_ref, s_ref)
-    return CubicMixture(
-        eos=eos, ids=tuple(ids), tcs=tcs, pcs=pcs, omegas=omegas, mws=np.asarray(mws, float), kij=kij,
-        vol_shifts=np.asarray(vol_shifts, float), cp_abcde=cps, ms=ms, bs=bs, one_minus_kij=1.0 - kij,
-        d1=c.d1, d2=c.d2, s_c1=s_c1, s_c2=s_c2, kernel_params=prm)
-
-
-#: Components seeded as near-pure trial phases in stability tests (they can form their own liquid).
-POLAR_IDS = frozenset({"water", "methanol", "ethanol", "monoethylene glycol", "ammonia",
-                       "diethylene glycol", "triethylene glycol"})
-
-_ALPHA_CODES = {AlphaKind.SOAVE: 0, AlphaKind.INVERSE_SQRT: 1, AlphaKind.CONSTANT: 2}
-
+from jtcheck.thermo.eos import AlphaKind, R
+from jtcheck.thermo.models.conventions import GIBBS, LIQUID, P_REF, VAPOUR
+from jtcheck.thermo.models.cubic import kernels
+from jtcheck.thermo.models.cubic.mixture import CubicMixture
 
 # ---------------------------------------------------------------------------------------------
 # attraction parameter
@@ -449,8 +350,6 @@ def fugacity_derivatives(mix: CubicMixture, T: float, P: float, x, phase: str = 
     phase : {"gibbs", "liquid", "vapour"}
         Root choice.
     """
-    from jtcheck.thermo import _kernels
-
     x = np.ascontiguousarray(x, dtype=float)
     n = x.size
     lnphi = np.empty(n)
@@ -458,7 +357,7 @@ def fugacity_derivatives(mix: CubicMixture, T: float, P: float, x, phase: str = 
     dT = np.empty(n)
     dP = np.empty(n)
     vbar = np.empty(n)
-    Z = _kernels.fug_derivs(mix.kernel_params, float(T), float(P), x, _PHASE_CODES[phase], lnphi, dn, dT, dP, vbar)
+    Z = kernels.fug_derivs(mix.kernel_params, float(T), float(P), x, _PHASE_CODES[phase], lnphi, dn, dT, dP, vbar)
     return FugacityDerivatives(lnphi=lnphi, dn=dn, dT=dT, dP=dP, Z=float(Z), v_partial=vbar)
 
 
@@ -468,10 +367,8 @@ def phase_identification_parameter(mix: CubicMixture, T: float, P: float, x, pha
     PIP = v [ (d2P/dT dv) / (dP/dT)_v - (d2P/dv^2) / (dP/dv)_T ]; PIP > 1 is liquid-like, below 1
     vapour-like (Fluid Phase Equilib. 301 (2011) 225-233, doi:10.1016/j.fluid.2010.12.001).
     """
-    from jtcheck.thermo import _kernels
-
-    return float(_kernels.pip(mix.kernel_params, float(T), float(P), np.ascontiguousarray(x, dtype=float),
-                              _PHASE_CODES[phase]))
+    return float(kernels.pip(mix.kernel_params, float(T), float(P), np.ascontiguousarray(x, dtype=float),
+                             _PHASE_CODES[phase]))
 
 
-_PHASE_CODES = {"gibbs": 0, "liquid": 1, "vapour": 2}
+_PHASE_CODES = {"gibbs": GIBBS, "liquid": LIQUID, "vapour": VAPOUR}
