@@ -5,7 +5,7 @@ import sys
 
 import click
 
-from jtcheck.cli.letdown import run_letdown
+from jtcheck.cli.letdown import LetdownArgs, run_letdown
 from jtcheck.notices import DEMO_NOTICE
 
 
@@ -23,5 +23,5 @@ def demo_cmd():
         p_in = f"{(fields['inlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         p_out = f"{(fields['outlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         t_in = f"{fields['inlet_temperature_k'] - 273.15:.6g} degC"
-        code = max(code, run_letdown(fluid_text, p_in, t_in, p_out, "PR", "table", None, False, title))
+        code = max(code, run_letdown(LetdownArgs(fluid_text, p_in, t_in, p_out, eos="PR", kij="table"), title=title))
     sys.exit(code)
