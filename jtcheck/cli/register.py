@@ -4,10 +4,16 @@ from __future__ import annotations
 import os
 from collections.abc import Iterator
 from contextlib import contextmanager
+from pathlib import Path
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
+
+
+def instance_dir() -> Path:
+    """The instance folder: JTCHECK_INSTANCE, else ./instance."""
+    return Path(os.environ.get("JTCHECK_INSTANCE", "instance"))
 
 
 @contextmanager

@@ -2,12 +2,14 @@
 layout in :mod:`jtcheck.batch.layout`)."""
 from __future__ import annotations
 
+import os
 import sys
+from pathlib import Path
 
 import click
 
 from jtcheck.cli.exits import EXIT_FAIL, EXIT_INPUT, EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED, fail_input
-from jtcheck.cli.register import register_session
+from jtcheck.cli.register import instance_dir, register_session
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.units import temperature_from_k
@@ -24,14 +26,11 @@ def _batch_fluid_library():
     The register is DATABASE_URL, else the SQLite file in ./instance (JTCHECK_INSTANCE); a SQLite file that
     does not exist is not created just to read it.
     """
-    import os
-    from pathlib import Path
-
     from jtcheck.batch.reader import register_fluid_library
     from jtcheck.records.db import SQLITE_FILENAME
 
     if not os.environ.get("DATABASE_URL", "").strip():
-        sqlite = Path(os.environ.get("JTCHECK_INSTANCE", "instance")) / SQLITE_FILENAME
+        sqlite = instance_dir() / SQLITE_FILENAME
         if not sqlite.is_file():
             return None, (f"fluids    no case register found (DATABASE_URL unset, no {sqlite.as_posix()}): only "
                           "inline compositions are read")
@@ -43,9 +42,7 @@ def _batch_fluid_library():
     return library, f"fluids    {len(library)} named fluids from the case register, or inline compositions"
 
 
-def _screen_out_path(file: str, out: str | None):
-    from pathlib import Path
-
+def _screen_out_path(file: str, out: str | None) -> Path:
     src = Path(file)
     path = Path(out) if out else src.with_name(f"{src.stem}-results{src.suffix.lower()}")
     if path.suffix.lower() not in (".csv", ".xlsx"):
@@ -72,19 +69,11 @@ def _screen_exit_code(counts: dict[str, int], bad_rows: int) -> int:
     return 0
 
 
-def _run_screen(file: str, limit: str | None, mdmt: str | None, margin: str | None, out: str | None,
-                keep_going: bool, single_model: bool, no_progress: bool) -> int:
-    from tqdm import tqdm
+def _read_letdown_list(file: str, limit: str | None, mdmt: str | None, margin: str | None, keep_going: bool):
+    """The file's rows read into cases (bad input names the command-line option where a default was at fault);
+    prints which file, which fluid library and the reader's warnings."""
+    from jtcheck.batch.reader import read_cases
 
-    from jtcheck.batch.reader import bad_rows_file, read_cases
-    from jtcheck.batch.writer import summary_counts, write_results
-    from jtcheck.screening import batch as batch_screening
-
-    try:
-        out_path = _screen_out_path(file, out)
-    except InputError as err:
-        fail_input(err)
-        return EXIT_INPUT
     library, library_note = _batch_fluid_library()
     defaults = {col: text for opt, col in _SCREEN_DEFAULTS.items()
                 if (text := {"--limit": limit, "--mdmt": mdmt, "--margin": margin}[opt]) is not None}
@@ -93,32 +82,47 @@ def _run_screen(file: str, limit: str | None, mdmt: str | None, margin: str | No
     except InputError as err:
         option = {col: opt for opt, col in _SCREEN_DEFAULTS.items()}.get(err.field)
         fail_input(InputError(option, err.message) if option else err)
-        return EXIT_INPUT
     click.echo(f"file      {file}: {result.n_rows} case rows")
     click.echo(library_note)
     for w in result.warnings[:SCREEN_MAX_WARNINGS]:
         click.echo(f"warning: {w}")
     if len(result.warnings) > SCREEN_MAX_WARNINGS:
         click.echo(f"warning: ... and {len(result.warnings) - SCREEN_MAX_WARNINGS} more warnings")
-    bad_path = None
-    if result.errors:
-        for e in result.errors:
-            click.echo(f"error: {e}", err=True)
-        n_bad = len(result.bad_rows)
-        click.echo(f"{len(result.errors)} problems in {n_bad} {'row' if n_bad == 1 else 'rows'} "
-                   "(rows numbered as in the spreadsheet: the header is row 1)", err=True)
-        if not keep_going or not result.cases:
-            why = "no good rows to screen" if keep_going else "fix them, or use --keep-going to screen the good rows"
-            click.echo(f"nothing was screened: {why}", err=True)
-            if keep_going and result.bad_rows:
-                bad_path = out_path.with_name(f"{out_path.stem}-bad-rows.csv")
-                bad_path.write_bytes(bad_rows_file(result))
-                click.echo(f"bad rows written to {bad_path} (with a 'problems' column); fix and screen them again",
-                           err=True)
-            return EXIT_INPUT
-        bad_path = out_path.with_name(f"{out_path.stem}-bad-rows.csv")
-        bad_path.write_bytes(bad_rows_file(result))
-    cases = result.cases
+    return result
+
+
+def _handle_bad_rows(result, out_path: Path, keep_going: bool) -> Path | None:
+    """Report every problem of the file on standard error.  Returns the file the bad rows were written to (with
+    --keep-going and good rows to screen), or None when every row is good; ends the command with EXIT_INPUT
+    when nothing can be screened."""
+    from jtcheck.batch.reader import bad_rows_file
+
+    if not result.errors:
+        return None
+    for e in result.errors:
+        click.echo(f"error: {e}", err=True)
+    n_bad = len(result.bad_rows)
+    click.echo(f"{len(result.errors)} problems in {n_bad} {'row' if n_bad == 1 else 'rows'} "
+               "(rows numbered as in the spreadsheet: the header is row 1)", err=True)
+    bad_path = out_path.with_name(f"{out_path.stem}-bad-rows.csv")
+    if not keep_going or not result.cases:
+        why = "no good rows to screen" if keep_going else "fix them, or use --keep-going to screen the good rows"
+        click.echo(f"nothing was screened: {why}", err=True)
+        if keep_going and result.bad_rows:
+            bad_path.write_bytes(bad_rows_file(result))
+            click.echo(f"bad rows written to {bad_path} (with a 'problems' column); fix and screen them again",
+                       err=True)
+        sys.exit(EXIT_INPUT)
+    bad_path.write_bytes(bad_rows_file(result))
+    return bad_path
+
+
+def _screen_with_progress(cases, single_model: bool, no_progress: bool):
+    """The batch screening of ``cases``, with a progress bar on standard error (on a terminal only)."""
+    from tqdm import tqdm
+
+    from jtcheck.screening import batch as batch_screening
+
     bar = tqdm(total=len(cases), disable=not _progress_wanted(no_progress), file=sys.stderr, unit="case",
                desc="screening", leave=False)
 
@@ -127,16 +131,14 @@ def _run_screen(file: str, limit: str | None, mdmt: str | None, margin: str | No
         bar.update(done - bar.n)
 
     try:
-        screening = batch_screening.screen_batch(cases, compare_models=not single_model, progress=progress)
+        return batch_screening.screen_batch(cases, compare_models=not single_model, progress=progress)
     finally:
         bar.close()
-    try:
-        write_results(screening, result, out_path)
-    except OSError as exc:
-        fail_input(InputError("out", f"cannot write {str(out_path)!r}: {exc.strerror or exc}"))
-        return EXIT_INPUT
 
-    counts = summary_counts(screening)
+
+def _print_summary(screening, result, counts: dict[str, int], single_model: bool, out_path: Path,
+                   bad_path: Path | None) -> None:
+    """Counts by outcome, the ten coldest cases, where the results went, and the caution."""
     t_unit = result.units.get("inlet_temperature", "degC")
     click.echo(f"screened  {len(screening.rows)} cases in {screening.seconds:.1f} s "
                f"({screening.n_scalar} by the scalar path)"
@@ -160,6 +162,25 @@ def _run_screen(file: str, limit: str | None, mdmt: str | None, margin: str | No
         click.echo(f"bad rows written to {bad_path} ({len(result.bad_rows)} rows, with a 'problems' column): fix "
                    "them and screen that file; they count as not screened here")
     click.echo(f"\n{CAUTION}")
+
+
+def _run_screen(file: str, limit: str | None, mdmt: str | None, margin: str | None, out: str | None,
+                keep_going: bool, single_model: bool, no_progress: bool) -> int:
+    from jtcheck.batch.writer import summary_counts, write_results
+
+    try:
+        out_path = _screen_out_path(file, out)
+    except InputError as err:
+        fail_input(err)
+    result = _read_letdown_list(file, limit, mdmt, margin, keep_going)
+    bad_path = _handle_bad_rows(result, out_path, keep_going)
+    screening = _screen_with_progress(result.cases, single_model, no_progress)
+    try:
+        write_results(screening, result, out_path)
+    except OSError as exc:
+        fail_input(InputError("out", f"cannot write {str(out_path)!r}: {exc.strerror or exc}"))
+    counts = summary_counts(screening)
+    _print_summary(screening, result, counts, single_model, out_path, bad_path)
     return _screen_exit_code(counts, len(result.bad_rows) if bad_path is not None else 0)
 
 
@@ -192,8 +213,6 @@ def screen_cmd(file, limit, mdmt, margin, out, keep_going, single_model, no_prog
 def screen_template_cmd(file, force):
     """Write a letdown list to start from (FILE.csv or FILE.xlsx): the layout's columns and the invented
     Kestrel Ridge demo cases."""
-    from pathlib import Path
-
     from jtcheck.batch.layout import COLUMNS
     from jtcheck.batch.template import template_rows, write_template
 
