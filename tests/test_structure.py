@@ -34,12 +34,12 @@ class Row(NamedTuple):
     libraries: frozenset[str] | None = None
 
 
-CORE = frozenset({"errors", "units", "notices"})
+CORE_PACKAGES = frozenset({"errors", "units", "notices"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
-#: "jtcheck" is jtcheck/__init__.py: the public API it re-exports (Fluid, letdown)
-ENGINEERING = frozenset({"thermo", "letdown", "screening", ROOT})
-BELOW_OUTPUT = CORE | ENGINEERING | {"records"}
+#: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown)
+ENGINEERING_PACKAGES = frozenset({"thermo", "letdown", "screening", ROOT})
+BELOW_OUTPUT = CORE_PACKAGES | ENGINEERING_PACKAGES | {"records"}
 BELOW_EDGE = BELOW_OUTPUT | {"reports", "batch"}
 
 #: The table of allowed layer edges: package under jtcheck/ -> its layer and what it may import.
@@ -53,7 +53,7 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     # screening may import letdown; letdown never imports screening
     "screening": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown"}), NUMERIC),
     ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown"}), NUMERIC),
-    "records": Row(Layer.RECORDS, frozenset({"errors", *ENGINEERING})),
+    "records": Row(Layer.RECORDS, frozenset({"errors", *ENGINEERING_PACKAGES})),
     "reports": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "batch": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "web": Row(Layer.EDGE, BELOW_EDGE),
