@@ -8,8 +8,9 @@ import openpyxl
 import pytest
 from click.testing import CliRunner
 
-from jtcheck import cli
 from jtcheck.cli import EXIT_FAIL, EXIT_INPUT, EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED, main
+from jtcheck.cli import screen as cli  # the module of jtcheck screen
+from jtcheck.cli.register import register_session
 from jtcheck.notices import CAUTION
 
 GAS = "methane=0.9,ethane=0.1"
@@ -217,7 +218,7 @@ def test_fluid_names_resolve_against_the_case_register(tmp_path, monkeypatch):
     from jtcheck.records.demo import load_demo
 
     (tmp_path / "instance").mkdir()
-    with cli._register_session() as session:
+    with register_session() as session:
         load_demo(session)
     row = ["FG-1", "fuel gas by name", "kestrel FUEL gas", 70, 45, 6, -29, 5]
     src = write_csv(tmp_path / "letdowns.csv", [row])

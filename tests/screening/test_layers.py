@@ -1,36 +1,30 @@
-"""Layer rules (shared design): the engineering core imports no web, database, unit or report library."""
+"""Layer rules (shared design): the engineering core imports no web, database, unit or report library.
+
+The packages of the core and the libraries each may import are the rows of ``ALLOWED_IMPORTS`` in
+tests/test_structure.py that name their libraries; which jtcheck packages each may import is checked there.
+"""
 from __future__ import annotations
 
-import ast
 import sys
-from pathlib import Path
 
+import import_graph
 import pytest
+from test_structure import ALLOWED_IMPORTS, package_of
 
-PKG = Path(__file__).resolve().parents[2] / "jtcheck"
-ALLOWED = {
-    "thermo": ("jtcheck.thermo", "jtcheck.errors"),
-    "letdown": ("jtcheck.thermo", "jtcheck.letdown", "jtcheck.errors"),
-    "screening": ("jtcheck.thermo", "jtcheck.letdown", "jtcheck.screening", "jtcheck.errors"),
-}
-THIRD_PARTY = {"numpy", "scipy", "numba"}
+GRAPH = import_graph.jtcheck()
+RESTRICTED = sorted(m for m in GRAPH.modules
+                    if package_of(m) in ALLOWED_IMPORTS and ALLOWED_IMPORTS[package_of(m)].libraries is not None)
 
 
-def _imports(path: Path):
-    for node in ast.walk(ast.parse(path.read_text())):
-        if isinstance(node, ast.Import):
-            yield from (a.name for a in node.names)
-        elif isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
-            yield node.module
+def test_the_engineering_core_is_restricted():
+    assert {"thermo", "letdown", "screening"} <= {package_of(m) for m in RESTRICTED}
 
 
-@pytest.mark.parametrize("path", [p for layer in ALLOWED for p in sorted((PKG / layer).glob("*.py"))],
-                         ids=lambda p: f"{p.parent.name}/{p.name}")
-def test_engineering_layers_import_only_what_the_design_allows(path):
-    allowed = ALLOWED[path.parent.name]
-    for name in _imports(path):
-        top = name.split(".")[0]
-        if top != "jtcheck":
-            assert top in THIRD_PARTY or top in sys.stdlib_module_names, f"{path.name} imports {name}"
-            continue
-        assert name.startswith(allowed), f"{path.parent.name}/{path.name} imports {name}"
+@pytest.mark.parametrize("module", RESTRICTED)
+def test_engineering_layers_import_only_what_the_design_allows(module):
+    allowed = ALLOWED_IMPORTS[package_of(module)].libraries
+    bad = [f"{GRAPH.location(i)} imports {i.target}" for i in GRAPH.imports
+           if i.module == module and GRAPH.internal_module(i.target) is None
+           and i.target.split(".")[0] not in allowed | sys.stdlib_module_names]
+    assert not bad, (f"{module} may import only {sorted(allowed)} and the standard library (no web, database, "
+                     "unit or report library):\n" + "\n".join(bad))

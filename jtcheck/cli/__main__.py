@@ -1,0 +1,4 @@
+"""``python -m jtcheck.cli``."""
+from jtcheck.cli import run
+
+run()

@@ -1,0 +1,419 @@
+"""``jtcheck letdown``: one isenthalpic letdown, screened against a cold limit, printed as a table or as JSON.
+
+The options are text with units; :func:`parse_inputs` converts them to SI (through :mod:`jtcheck.units`), the
+engineering core screens in SI, and the printers convert back to the units the user typed.
+"""
+from __future__ import annotations
+
+import json
+import sys
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import click
+
+from jtcheck.cli.exits import EXIT_FAIL, EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED, fail_input
+from jtcheck.errors import InputError
+from jtcheck.notices import CAUTION
+from jtcheck.units import (
+    P_ATM_DEFAULT_PA,
+    Pressure,
+    parse_pressure,
+    parse_temperature,
+    parse_temperature_difference,
+    pressure_from_pa,
+    temperature_from_k,
+)
+
+if TYPE_CHECKING:
+    from jtcheck.letdown.throttle import LetdownResult
+    from jtcheck.screening.cold_metal import ColdLimits
+    from jtcheck.screening.screen import Screening, ScreeningOptions
+    from jtcheck.thermo.fluid import Fluid
+
+#: Allowed atmospheric pressure for gauge units [Pa].
+P_ATM_RANGE_PA = (3e4, 2e5)
+#: Allowed mass flow [kg/s] (open interval).
+MASS_FLOW_RANGE_KG_PER_S = (0.0, 1e5)
+
+
+@dataclass(frozen=True)
+class LetdownArgs:
+    """The options of ``jtcheck letdown`` as typed: text with units (see the command's option help)."""
+
+    fluid_text: str
+    p_in: str
+    t_in: str
+    p_out: str
+    eos: str = "PR"
+    kij: str = "table"
+    p_atm: str | None = None
+    limit: str | None = None
+    mdmt: str | None = None
+    margin: str = "0 K"
+    p_in_max: str | None = None
+    t_in_min: str | None = None
+    p_out_min: str | None = None
+    water_saturated: bool = False
+    inhibitor: str = "methanol"
+    mass_flow: str | None = None
+    compare_models: bool = True
+
+
+@dataclass(frozen=True)
+class LetdownInputs:
+    """The options converted to SI and checked against each other.
+
+    Attributes
+    ----------
+    p_atm_pa : float
+        Atmospheric pressure for gauge units [Pa].
+    p_in, p_out : Pressure
+        Inlet and outlet pressure, as entered and in SI.
+    t_in_k : float
+        Inlet temperature [K].
+    limits : ColdLimits
+        Cold limit, MDMT and margin.
+    p_in_max_pa, t_in_min_k, p_out_min_pa : float or None
+        Credible extremes of the inlet pressure [Pa], inlet temperature [K] and outlet pressure [Pa].
+    mass_flow_kg_per_s : float or None
+        Mass flow, for the heater duty [kg/s].
+    """
+
+    p_atm_pa: float
+    p_in: Pressure
+    p_out: Pressure
+    t_in_k: float
+    limits: ColdLimits
+    p_in_max_pa: float | None
+    t_in_min_k: float | None
+    p_out_min_pa: float | None
+    mass_flow_kg_per_s: float | None
+
+
+# ---------------------------------------------------------------------------------------------
+# parse the inputs
+# ---------------------------------------------------------------------------------------------
+
+def limit_options(limit: str | None, mdmt: str | None, margin: str) -> ColdLimits:
+    """The cold limits of --limit, --mdmt and --margin (the warmer of limit and MDMT governs)."""
+    from jtcheck.screening.cold_metal import ColdLimits
+
+    return ColdLimits(mdmt_k=None if mdmt is None else parse_temperature(mdmt, "mdmt"),
+                      user_limit_k=None if limit is None else parse_temperature(limit, "limit"),
+                      margin_k=parse_temperature_difference(margin, "margin"),
+                      mdmt_source="entered" if mdmt is not None else "")
+
+
+def _parse_p_atm(p_atm: str | None) -> float:
+    if p_atm is None:
+        return P_ATM_DEFAULT_PA
+    p_atm_pa = parse_pressure(p_atm, "p_atm").pa
+    lo, hi = P_ATM_RANGE_PA
+    if p_atm_pa > hi or p_atm_pa < lo:
+        raise InputError("p_atm", "atmospheric pressure must lie between 0.3 and 2 bar absolute")
+    return p_atm_pa
+
+
+def _check_kij(kij: str) -> None:
+    if kij not in ("table", "zero"):
+        raise InputError("kij", f"{kij!r} is not a kij choice; allowed: table, zero")
+
+
+def _parse_mass_flow(mass_flow: str | None) -> float | None:
+    if mass_flow is None:
+        return None
+    try:
+        flow = float(mass_flow.split()[0])
+    except (ValueError, IndexError):
+        raise InputError("mass_flow", f"mass flow must be a number in kg/s, got {mass_flow!r}") from None
+    lo, hi = MASS_FLOW_RANGE_KG_PER_S
+    if not lo < flow < hi:
+        raise InputError("mass_flow", "mass flow must lie between 0 and 100000 kg/s")
+    return flow
+
+
+def _check_credible_extremes(p_in_pa: float, t_in_k: float, p_out_pa: float, p_in_max_pa: float | None,
+                             t_in_min_k: float | None, p_out_min_pa: float | None) -> None:
+    """The credible extremes lie on the far side of the operating point, not between it and the letdown."""
+    if p_in_max_pa is not None and p_in_max_pa < p_in_pa:
+        raise InputError("p_in_max", "the maximum inlet pressure must not be below the inlet pressure")
+    if t_in_min_k is not None and t_in_min_k > t_in_k:
+        raise InputError("t_in_min", "the minimum inlet temperature must not be above the inlet temperature")
+    if p_out_min_pa is not None and p_out_min_pa > p_out_pa:
+        raise InputError("p_out_min", "the minimum outlet pressure must not be above the outlet pressure")
+
+
+def parse_inputs(args: LetdownArgs) -> LetdownInputs:
+    """Convert the options to SI and check them; raises InputError naming the option at fault (the first one,
+    in the order of the checks below)."""
+    p_atm_pa = _parse_p_atm(args.p_atm)
+    p_in = parse_pressure(args.p_in, "p_in", p_atm_pa)
+    p_out = parse_pressure(args.p_out, "p_out", p_atm_pa)
+    t_in_k = parse_temperature(args.t_in, "t_in")
+    _check_kij(args.kij)
+    limits = limit_options(args.limit, args.mdmt, args.margin)
+    p_in_max_pa = None if args.p_in_max is None else parse_pressure(args.p_in_max, "p_in_max", p_atm_pa).pa
+    t_in_min_k = None if args.t_in_min is None else parse_temperature(args.t_in_min, "t_in_min")
+    p_out_min_pa = None if args.p_out_min is None else parse_pressure(args.p_out_min, "p_out_min", p_atm_pa).pa
+    _check_credible_extremes(p_in.pa, t_in_k, p_out.pa, p_in_max_pa, t_in_min_k, p_out_min_pa)
+    return LetdownInputs(p_atm_pa=p_atm_pa, p_in=p_in, p_out=p_out, t_in_k=t_in_k, limits=limits,
+                         p_in_max_pa=p_in_max_pa, t_in_min_k=t_in_min_k, p_out_min_pa=p_out_min_pa,
+                         mass_flow_kg_per_s=_parse_mass_flow(args.mass_flow))
+
+
+# ---------------------------------------------------------------------------------------------
+# build the fluid, the conditions and the options; screen
+# ---------------------------------------------------------------------------------------------
+
+def build_fluid(args: LetdownArgs) -> Fluid:
+    """The fluid of --fluid with the chosen EOS and kij basis."""
+    from jtcheck import Fluid
+
+    return Fluid(args.fluid_text, eos=args.eos, kij=None if args.kij == "table" else 0)
+
+
+def screening_options(args: LetdownArgs, inputs: LetdownInputs) -> ScreeningOptions:
+    """What the screening looks at: limits, models compared, hydrates, heater duty, the credible ranges swept."""
+    from jtcheck.screening.screen import OperatingRanges, ScreeningOptions
+
+    ranges = OperatingRanges((inputs.p_in.pa, inputs.p_in_max_pa or inputs.p_in.pa),
+                             (inputs.t_in_min_k or inputs.t_in_k, inputs.t_in_k),
+                             (inputs.p_out_min_pa or inputs.p_out.pa, inputs.p_out.pa))
+    return ScreeningOptions(limits=inputs.limits, compare_models=args.compare_models,
+                            water_saturated=True if args.water_saturated else None, inhibitor=args.inhibitor,
+                            mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, ranges=ranges if ranges.varies else None)
+
+
+def screen(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid) -> Screening:
+    """The letdown screened at each credible condition (operating point and credible extremes)."""
+    from jtcheck.letdown.throttle import check_letdown_inputs
+    from jtcheck.screening.screen import credible_conditions, screen_letdown
+
+    check_letdown_inputs(inputs.p_in.pa, inputs.t_in_k, inputs.p_out.pa)
+    options = screening_options(args, inputs)
+    conditions = credible_conditions(inputs.p_in.pa, inputs.t_in_k, inputs.p_out.pa, inputs.p_in_max_pa,
+                                     inputs.t_in_min_k)
+    return screen_letdown(fluid, conditions, options)
+
+
+def exit_code(screening: Screening, limits_given: bool) -> int:
+    """0 pass, 3 not screened, 4 margin eroded, 5 fail; without a limit only the calculation is judged."""
+    from jtcheck.screening.findings import Outcome
+
+    if not limits_given:
+        return 0 if all(c.converged for c in screening.conditions) else EXIT_NOT_SCREENED
+    return {Outcome.PASS: 0, Outcome.MARGIN_ERODED: EXIT_MARGIN_ERODED, Outcome.FAIL: EXIT_FAIL,
+            Outcome.NOT_SCREENED: EXIT_NOT_SCREENED}[screening.outcome]
+
+
+# ---------------------------------------------------------------------------------------------
+# print: in the units the user typed
+# ---------------------------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class DisplayUnits:
+    """The units results are printed in: the temperature unit of --t-in, the pressure unit of each option."""
+
+    t_unit: str
+    d_unit: str
+    p_unit: str
+    p_atm_pa: float
+
+    def temperature(self, k: float | None) -> str:
+        """A temperature [K] as text, ``-`` for None."""
+        return "-" if k is None else f"{temperature_from_k(k, self.t_unit):.2f} {self.t_unit}"
+
+    def difference(self, dk: float) -> float:
+        """A temperature difference [K] in the display unit (K or degF)."""
+        return dk * (1.8 if self.d_unit == "degF" else 1.0)
+
+    def difference_text(self, dk: float) -> str:
+        return f"{self.difference(dk):.2f} {self.d_unit}"
+
+    def pressure(self, pa: float, unit: str | None = None) -> str:
+        """A pressure [Pa] as text, in ``unit`` (default: the unit of --p-out)."""
+        unit = unit or self.p_unit
+        return f"{pressure_from_pa(pa, unit, self.p_atm_pa):.4g} {unit}"
+
+
+def display_units(args: LetdownArgs, inputs: LetdownInputs) -> DisplayUnits:
+    t_unit = args.t_in.strip().split()[-1] if " " in args.t_in.strip() else "K"
+    t_unit = {"c": "degC", "f": "degF"}.get(t_unit.lower(), t_unit)
+    return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() == "degf" else "K",
+                        p_unit=inputs.p_out.unit, p_atm_pa=inputs.p_atm_pa)
+
+
+def _atm_note(args: LetdownArgs, inputs: LetdownInputs) -> str:
+    return (f"gauge pressures converted with atmospheric pressure {inputs.p_atm_pa / 1e5:.6g} bar"
+            + (" (default)" if args.p_atm is None else " (given)"))
+
+
+def json_payload(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid, screening: Screening,
+                 result: LetdownResult, units: DisplayUnits, code: int) -> dict:
+    """The --json output: inputs as typed, SI result and screening, display values, exit code, caution."""
+    p_atm_pa = inputs.p_atm_pa
+    display = {
+        "p_in": {"value": pressure_from_pa(inputs.p_in.pa, inputs.p_in.unit, p_atm_pa), "unit": inputs.p_in.unit},
+        "p_out": {"value": pressure_from_pa(inputs.p_out.pa, inputs.p_out.unit, p_atm_pa),
+                  "unit": inputs.p_out.unit},
+        "t_in": {"value": temperature_from_k(inputs.t_in_k, units.t_unit), "unit": units.t_unit},
+        "t_out": {"value": temperature_from_k(result.t_out, units.t_unit) if result.converged else None,
+                  "unit": units.t_unit},
+        "dt": {"value": units.difference(result.dt) if result.converged else None, "unit": units.d_unit},
+    }
+    return {
+        "inputs": {"fluid": args.fluid_text, "p_in": args.p_in, "t_in": args.t_in, "p_out": args.p_out,
+                   "eos": fluid.eos.value, "kij": args.kij, "p_atm_pa": p_atm_pa, "limit": args.limit,
+                   "mdmt": args.mdmt, "margin": args.margin, "p_in_max": args.p_in_max, "t_in_min": args.t_in_min,
+                   "p_out_min": args.p_out_min, "water_saturated": args.water_saturated,
+                   "inhibitor": args.inhibitor, "mass_flow": args.mass_flow},
+        "composition": {i: float(z) for i, z in zip(fluid.ids, fluid.zs, strict=True)},
+        "result": result.to_dict(),
+        "display": display,
+        "screening": screening.to_dict(),
+        "exit_code": code,
+        "notes": [_atm_note(args, inputs)] if inputs.p_in.gauge or inputs.p_out.gauge else [],
+        "caution": CAUTION,
+    }
+
+
+def print_table(fluid: Fluid, screening: Screening, result: LetdownResult, inputs: LetdownInputs,
+                units: DisplayUnits) -> None:
+    """Fluid and model, then inlet and outlet side by side, then the temperature change."""
+    comp = ", ".join(f"{n} {z:.4g}" for n, z in zip(fluid.names, fluid.zs, strict=True))
+    click.echo(f"fluid      {comp}")
+    click.echo(f"model      {fluid.eos.long_name}; kij: {fluid.kij_basis}")
+    if len(screening.models) > 1:
+        click.echo(f"compared   {', '.join(screening.models)} side by side; the colder outlet is screened")
+    click.echo("")
+    click.echo(f"{'':18s}{'inlet':>16s}{'outlet':>16s}")
+    p_in_txt, p_out_txt = units.pressure(inputs.p_in.pa, inputs.p_in.unit), units.pressure(inputs.p_out.pa)
+    click.echo(f"{'pressure':18s}{p_in_txt:>16s}{p_out_txt:>16s}")
+    t_out_txt = units.temperature(result.t_out) if result.converged else "not converged"
+    vf_out = f"{result.vapor_fraction:.4f}" if result.converged else "-"
+    click.echo(f"{'temperature':18s}{units.temperature(inputs.t_in_k):>16s}{t_out_txt:>16s}")
+    click.echo(f"{'phase':18s}{result.inlet_phase:>16s}{result.phase:>16s}")
+    click.echo(f"{'vapour fraction':18s}{result.inlet_vapor_fraction:>16.4f}{vf_out:>16s}")
+    if result.converged:
+        click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} {units.d_unit}")
+    else:
+        click.echo(f"\nNOT CONVERGED: {result.message}")
+
+
+def print_conditions(screening: Screening, inputs: LetdownInputs, units: DisplayUnits) -> None:
+    """Each credible condition with each model's outlet and the one screened (when there is more than one)."""
+    if not (len(screening.conditions) > 1 or len(screening.models) > 1):
+        return
+    click.echo(f"\n{'condition':34s}{'inlet':>14s}{'outlet':>12s}" + "".join(f"{m:>14s}" for m in screening.models)
+               + f"{'screened':>14s}")
+    for cs in screening.conditions:
+        c = cs.condition
+        by_model = "".join(f"{units.temperature(r.t_out if r is not None and r.converged else None):>14s}"
+                           for r in cs.results.values())
+        p_in_txt, p_out_txt = units.pressure(c.p_in_pa, inputs.p_in.unit), units.pressure(c.p_out_pa)
+        click.echo(f"{c.name:34s}{p_in_txt:>14s}{p_out_txt:>12s}{by_model}{units.temperature(cs.t_screen_k):>14s}")
+
+
+def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnits) -> None:
+    """The limit and the outcome (or why there is none), then every finding."""
+    if limits.governing_k is not None:
+        click.echo(f"\ncold limit {units.temperature(limits.governing_k)} ({limits.basis}); "
+                   f"margin {units.difference_text(limits.margin_k)}")
+        click.echo(f"OUTCOME: {screening.outcome.value.upper()} - {screening.outcome.sentence}")
+    else:
+        click.echo("\nno cold limit given (--limit or --mdmt): the outcome is not screened; findings follow")
+    click.echo("\nfindings")
+    for f in screening.findings:
+        click.echo(f"  [{f.severity.value}] {f.topic.value}: {f.message}")
+
+
+def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
+    """What keeps it safe: the preheat needed and the lowest outlet pressure, where the screening found them."""
+    if not answers.get("preheat"):
+        return
+    click.echo("\nwhat keeps it safe (outlet at the limit plus margin, "
+               f"{units.temperature(answers['preheat']['target_k'])})")
+    gov = answers["preheat"].get("governing")
+    if gov and gov.get("needed"):
+        duty = gov.get("duty_w")
+        duty_txt = f"; heater duty {duty / 1e3:.1f} kW at {mass_flow_kg_per_s:g} kg/s" if duty is not None else \
+            "; give --mass-flow for the heater duty"
+        click.echo(f"  preheat: heat the inlet to {units.temperature(gov['t_in_required_k'])} (a rise of "
+                   f"{units.difference_text(gov['temperature_rise_k'])}, {gov['condition']}, {gov['model']}){duty_txt}")
+    elif not answers["preheat"].get("all_converged"):
+        click.echo("  preheat: not found (a calculation did not converge)")
+    olim = answers["outlet_pressure_limit"].get("governing")
+    if olim:
+        click.echo(f"  outlet pressure: keep it at or above {units.pressure(olim['p_out_min_pa'])} "
+                   f"({olim['condition']}, {olim['model']})")
+    elif answers["outlet_pressure_limit"].get("all_converged"):
+        click.echo("  outlet pressure: no limit found above the floor (the inlet itself may be too cold)")
+
+
+# ---------------------------------------------------------------------------------------------
+# the command
+# ---------------------------------------------------------------------------------------------
+
+def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None = None) -> int:
+    """Parse, screen and print one letdown; returns the exit code (bad input exits with EXIT_INPUT)."""
+    try:
+        inputs = parse_inputs(args)
+        fluid = build_fluid(args)
+        screening = screen(args, inputs, fluid)
+    except InputError as err:
+        fail_input(err)
+    result = screening.conditions[0].results[fluid.eos.value]
+    assert result is not None   # inputs were checked above
+    units = display_units(args, inputs)
+    code = exit_code(screening, inputs.limits.governing_k is not None)
+    if as_json:
+        click.echo(json.dumps(json_payload(args, inputs, fluid, screening, result, units, code), indent=2))
+        return code
+    if title:
+        click.echo(title)
+    print_table(fluid, screening, result, inputs, units)
+    print_conditions(screening, inputs, units)
+    print_screening(screening, inputs.limits, units)
+    print_remedies(screening.answers, units, inputs.mass_flow_kg_per_s)
+    if inputs.p_in.gauge or inputs.p_out.gauge:
+        click.echo(_atm_note(args, inputs))
+    click.echo(f"\n{CAUTION}")
+    return code
+
+
+@click.command("letdown")
+@click.option("--fluid", "fluid_text", required=True,
+              help='Composition as name=amount pairs, e.g. "methane=0.85,ethane=0.07,CO2=0.08" (fractions or %).')
+@click.option("--p-in", required=True, help='Inlet pressure with unit, e.g. "100 bara", "1450 psig".')
+@click.option("--t-in", required=True, help='Inlet temperature with unit, e.g. "40 degC", "313.15 K".')
+@click.option("--p-out", required=True, help='Outlet pressure with unit, e.g. "10 barg".')
+@click.option("--eos", default="PR", show_default=True, help="Equation of state: PR, SRK, RK or VDW.")
+@click.option("--kij", default="table", show_default=True,
+              help="Binary interaction parameters: 'table' (published values, 0 where none) or 'zero'.")
+@click.option("--p-atm", default=None, help='Atmospheric pressure for gauge units (default "1.01325 bar").')
+@click.option("--limit", default=None, help='Cold limit of the downstream steel, e.g. "-29 degC".')
+@click.option("--mdmt", default=None, help='MDMT of the downstream material, e.g. "-46 degC" (the warmer of '
+                                          '--limit and --mdmt governs).')
+@click.option("--margin", default="0 K", show_default=True, help='Required margin above the limit, e.g. "5 K".')
+@click.option("--p-in-max", default=None, help="Maximum credible inlet pressure (adds conditions and a sweep).")
+@click.option("--t-in-min", default=None, help="Minimum credible inlet temperature (adds conditions and a sweep).")
+@click.option("--p-out-min", default=None, help="Minimum credible outlet pressure (the sweep runs down to it).")
+@click.option("--water-saturated", is_flag=True, help="Screen for hydrates as if the gas were water-saturated.")
+@click.option("--inhibitor", default="methanol", show_default=True, type=click.Choice(["methanol", "MEG"]),
+              help="Hydrate inhibitor for the Hammerschmidt dose.")
+@click.option("--mass-flow", default=None, help="Mass flow in kg/s, for the heater duty.")
+@click.option("--single-model", is_flag=True, help="Use only the chosen EOS (no PR/SRK comparison).")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
+def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
+                water_saturated, inhibitor, mass_flow, single_model, as_json):
+    """Temperature and phase downstream of an isenthalpic letdown, screened against a cold limit.
+
+    Exit codes: 0 pass (or, without a limit, converged), 2 bad input, 3 not screened (a calculation did not
+    converge), 4 margin eroded, 5 fail.
+    """
+    args = LetdownArgs(fluid_text, p_in, t_in, p_out, eos=eos, kij=kij, p_atm=p_atm, limit=limit, mdmt=mdmt,
+                       margin=margin, p_in_max=p_in_max, t_in_min=t_in_min, p_out_min=p_out_min,
+                       water_saturated=water_saturated, inhibitor=inhibitor, mass_flow=mass_flow,
+                       compare_models=not single_model)
+    sys.exit(run_letdown(args, as_json=as_json))
