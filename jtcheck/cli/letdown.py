@@ -28,7 +28,7 @@ from jtcheck.units import (
 if TYPE_CHECKING:
     from jtcheck.letdown.throttle import LetdownResult
     from jtcheck.screening.cold_metal import ColdLimits
-    from jtcheck.screening.screen import Screening, ScreeningOptions
+    from jtcheck.screening.screen import Screening
     from jtcheck.thermo.fluid import Fluid
 
 #: Allowed atmospheric pressure for gauge units [Pa].
@@ -133,15 +133,32 @@ def _parse_mass_flow(mass_flow: str | None) -> float | None:
     return flow
 
 
-def _check_credible_extremes(p_in_pa: float, t_in_k: float, p_out_pa: float, p_in_max_pa: float | None,
-                             t_in_min_k: float | None, p_out_min_pa: float | None) -> None:
-    """The credible extremes lie on the far side of the operating point, not between it and the letdown."""
-    if p_in_max_pa is not None and p_in_max_pa < p_in_pa:
-        raise InputError("p_in_max", "the maximum inlet pressure must not be below the inlet pressure")
-    if t_in_min_k is not None and t_in_min_k > t_in_k:
-        raise InputError("t_in_min", "the minimum inlet temperature must not be above the inlet temperature")
-    if p_out_min_pa is not None and p_out_min_pa > p_out_pa:
-        raise InputError("p_out_min", "the minimum outlet pressure must not be above the outlet pressure")
+#: The option of this command that carries each register field (errors name the option the user typed).
+OPTION_OF_FIELD = {"inlet_pressure_pa": "p_in", "inlet_temperature_k": "t_in", "outlet_pressure_pa": "p_out",
+                   "inlet_temperature_min_k": "t_in_min", "inlet_pressure_max_pa": "p_in_max",
+                   "outlet_pressure_min_pa": "p_out_min", "mass_flow_kg_per_s": "mass_flow",
+                   "hydrate_inhibitor": "inhibitor"}
+
+
+def case_values(args: LetdownArgs, inputs: LetdownInputs) -> dict:
+    """The letdown as the case register holds one (register keys, SI): the input of the letdown case kind."""
+    lim = inputs.limits
+    return {"inlet_pressure_pa": inputs.p_in.pa, "inlet_temperature_k": inputs.t_in_k,
+            "outlet_pressure_pa": inputs.p_out.pa, "inlet_temperature_min_k": inputs.t_in_min_k,
+            "inlet_pressure_max_pa": inputs.p_in_max_pa, "outlet_pressure_min_pa": inputs.p_out_min_pa,
+            "mass_flow_kg_per_s": inputs.mass_flow_kg_per_s, "mdmt_k": lim.mdmt_k, "cold_limit_k": lim.user_limit_k,
+            "margin_k": lim.margin_k, "mdmt_source": lim.mdmt_source, "p_atm_pa": inputs.p_atm_pa,
+            "water_saturated": args.water_saturated, "hydrate_inhibitor": args.inhibitor}
+
+
+def _check_by_kind(values: dict) -> None:
+    """The letdown kind's checks of how the inputs relate, naming this command's options."""
+    from jtcheck.cases.letdown import LETDOWN
+
+    try:
+        LETDOWN.check(values)
+    except InputError as err:
+        raise InputError(OPTION_OF_FIELD.get(err.field, err.field), err.message) from None
 
 
 def parse_inputs(args: LetdownArgs) -> LetdownInputs:
@@ -156,10 +173,11 @@ def parse_inputs(args: LetdownArgs) -> LetdownInputs:
     p_in_max_pa = None if args.p_in_max is None else parse_pressure(args.p_in_max, "p_in_max", p_atm_pa).pa
     t_in_min_k = None if args.t_in_min is None else parse_temperature(args.t_in_min, "t_in_min")
     p_out_min_pa = None if args.p_out_min is None else parse_pressure(args.p_out_min, "p_out_min", p_atm_pa).pa
-    _check_credible_extremes(p_in.pa, t_in_k, p_out.pa, p_in_max_pa, t_in_min_k, p_out_min_pa)
-    return LetdownInputs(p_atm_pa=p_atm_pa, p_in=p_in, p_out=p_out, t_in_k=t_in_k, limits=limits,
-                         p_in_max_pa=p_in_max_pa, t_in_min_k=t_in_min_k, p_out_min_pa=p_out_min_pa,
-                         mass_flow_kg_per_s=_parse_mass_flow(args.mass_flow))
+    inputs = LetdownInputs(p_atm_pa=p_atm_pa, p_in=p_in, p_out=p_out, t_in_k=t_in_k, limits=limits,
+                           p_in_max_pa=p_in_max_pa, t_in_min_k=t_in_min_k, p_out_min_pa=p_out_min_pa,
+                           mass_flow_kg_per_s=_parse_mass_flow(args.mass_flow))
+    _check_by_kind(case_values(args, inputs))
+    return inputs
 
 
 # ---------------------------------------------------------------------------------------------
@@ -173,28 +191,14 @@ def build_fluid(args: LetdownArgs) -> Fluid:
     return Fluid(args.fluid_text, eos=args.eos, kij=None if args.kij == "table" else 0)
 
 
-def screening_options(args: LetdownArgs, inputs: LetdownInputs) -> ScreeningOptions:
-    """What the screening looks at: limits, models compared, hydrates, heater duty, the credible ranges swept."""
-    from jtcheck.screening.screen import OperatingRanges, ScreeningOptions
-
-    ranges = OperatingRanges((inputs.p_in.pa, inputs.p_in_max_pa or inputs.p_in.pa),
-                             (inputs.t_in_min_k or inputs.t_in_k, inputs.t_in_k),
-                             (inputs.p_out_min_pa or inputs.p_out.pa, inputs.p_out.pa))
-    return ScreeningOptions(limits=inputs.limits, compare_models=args.compare_models,
-                            water_saturated=True if args.water_saturated else None, inhibitor=args.inhibitor,
-                            mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, ranges=ranges if ranges.varies else None)
-
-
 def screen(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid) -> Screening:
-    """The letdown screened at each credible condition (operating point and credible extremes)."""
+    """The letdown screened by the letdown case kind, as the register screens one: each credible condition
+    (operating point and credible extremes), the sweep over the ranges and the answers."""
+    from jtcheck.cases.letdown import LETDOWN
     from jtcheck.letdown.throttle import check_letdown_inputs
-    from jtcheck.screening.screen import credible_conditions, screen_letdown
 
     check_letdown_inputs(inputs.p_in.pa, inputs.t_in_k, inputs.p_out.pa)
-    options = screening_options(args, inputs)
-    conditions = credible_conditions(inputs.p_in.pa, inputs.t_in_k, inputs.p_out.pa, inputs.p_in_max_pa,
-                                     inputs.t_in_min_k)
-    return screen_letdown(fluid, conditions, options)
+    return LETDOWN.compute(fluid, case_values(args, inputs), compare_models=args.compare_models)
 
 
 def exit_code(screening: Screening, limits_given: bool) -> int:
