@@ -20,7 +20,8 @@ import numpy as np
 from scipy.optimize import brentq
 
 from jtcheck.errors import InputError
-from jtcheck.letdown.preheat import T_MAX_K, _plain, _positive
+from jtcheck.letdown.checks import T_MAX_K, check_fluid, positive
+from jtcheck.letdown.plain import PlainResult
 from jtcheck.letdown.throttle import letdown
 from jtcheck.thermo.fluid import Fluid
 
@@ -35,7 +36,7 @@ TINY_LETDOWN = 1e-6
 
 
 @dataclass(frozen=True)
-class OutletPressureLimit:
+class OutletPressureLimit(PlainResult):
     """Lowest outlet pressure that keeps a letdown's outlet at or above a temperature limit.  All values SI.
 
     Attributes
@@ -84,10 +85,6 @@ class OutletPressureLimit:
     warnings: tuple[str, ...] = field(default=())
     basis: dict = field(default_factory=dict)
 
-    def to_dict(self) -> dict:
-        """Plain-JSON representation (SI units; NaN becomes None)."""
-        return _plain(self)
-
 
 def outlet_pressure_limit(fluid: Fluid, p_in_pa: float, t_in_k: float, t_limit_k: float,
                           p_floor_pa: float = 101325.0) -> OutletPressureLimit:
@@ -122,12 +119,11 @@ def outlet_pressure_limit(fluid: Fluid, p_in_pa: float, t_in_k: float, t_limit_k
         For non-finite or non-positive inputs, temperatures at or above 2000 K, or p_floor_pa >= p_in_pa;
         the message names the field.
     """
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
-    p_in = _positive("p_in_pa", p_in_pa, "inlet pressure", "Pa")
-    t_in = _positive("t_in_k", t_in_k, "inlet temperature", "K", T_MAX_K)
-    t_lim = _positive("t_limit_k", t_limit_k, "outlet temperature limit", "K", T_MAX_K)
-    p_floor = _positive("p_floor_pa", p_floor_pa, "lowest outlet pressure", "Pa")
+    check_fluid(fluid)
+    p_in = positive("p_in_pa", p_in_pa, "inlet pressure", "Pa")
+    t_in = positive("t_in_k", t_in_k, "inlet temperature", "K", T_MAX_K)
+    t_lim = positive("t_limit_k", t_limit_k, "outlet temperature limit", "K", T_MAX_K)
+    p_floor = positive("p_floor_pa", p_floor_pa, "lowest outlet pressure", "Pa")
     if p_floor >= p_in:
         raise InputError("p_floor_pa", f"the lowest outlet pressure {p_floor:g} Pa must be below the inlet pressure "
                                        f"{p_in:g} Pa")

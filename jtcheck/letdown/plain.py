@@ -33,3 +33,13 @@ def plain(value: Any) -> Any:
     if is_dataclass(value) and not isinstance(value, type):
         return {f.name: plain(getattr(value, f.name)) for f in fields(value)}
     return value
+
+
+class PlainResult:
+    """Base of the frozen result dataclasses: :meth:`to_dict` is their plain-JSON copy."""
+
+    __slots__ = ()
+
+    def to_dict(self) -> dict:
+        """Plain-JSON representation (SI units; NaN becomes None)."""
+        return plain(self)

@@ -19,39 +19,18 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
-
 from jtcheck.errors import InputError
-from jtcheck.letdown.plain import plain as _plain
+from jtcheck.letdown.checks import T_MAX_K, check_fluid, positive
+from jtcheck.letdown.plain import PlainResult
 from jtcheck.letdown.throttle import letdown
 from jtcheck.thermo.fluid import Fluid
-
-#: Highest temperature accepted [K] (the range of the ideal-gas heat-capacity data).
-T_MAX_K = 2000.0
 
 #: The re-check letdown from the required inlet must land on the target within this [K].
 CHECK_TOL_K = 0.01
 
 
-def _positive(name: str, value, what: str, unit: str, upper: float | None = None) -> float:
-    """A finite number > 0 (and below ``upper`` when given), else InputError naming ``name``."""
-    if isinstance(value, bool) or np.ndim(value) != 0:
-        raise InputError(name, f"{what} must be a single number [{unit}], got {value!r}")
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(name, f"{what} must be a number [{unit}], got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(name, f"{what} must be a finite number [{unit}], got {value!r}")
-    if v <= 0.0:
-        raise InputError(name, f"{what} must be greater than 0 {unit} (absolute), got {v:g}")
-    if upper is not None and v >= upper:
-        raise InputError(name, f"{what} must be below {upper:g} {unit}, got {v:g}")
-    return v
-
-
 @dataclass(frozen=True)
-class PreheatResult:
+class PreheatResult(PlainResult):
     """Preheat needed so that a letdown's outlet ends at a target temperature.  All values SI.
 
     Attributes
@@ -119,10 +98,6 @@ class PreheatResult:
     warnings: tuple[str, ...] = field(default=())
     basis: dict = field(default_factory=dict)
 
-    def to_dict(self) -> dict:
-        """Plain-JSON representation (SI units; NaN becomes None)."""
-        return _plain(self)
-
 
 def required_preheat(fluid: Fluid, p_in_pa: float, t_in_k: float, p_out_pa: float, t_target_k: float,
                      mass_flow_kg_per_s: float | None = None) -> PreheatResult:
@@ -160,18 +135,17 @@ def required_preheat(fluid: Fluid, p_in_pa: float, t_in_k: float, p_out_pa: floa
         For non-finite or non-positive inputs, temperatures at or above 2000 K, or p_out > p_in; the
         message names the field.
     """
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
-    p_in = _positive("p_in_pa", p_in_pa, "inlet pressure", "Pa")
-    t_in = _positive("t_in_k", t_in_k, "inlet temperature", "K", T_MAX_K)
-    p_out = _positive("p_out_pa", p_out_pa, "outlet pressure", "Pa")
-    t_target = _positive("t_target_k", t_target_k, "target outlet temperature", "K", T_MAX_K)
+    check_fluid(fluid)
+    p_in = positive("p_in_pa", p_in_pa, "inlet pressure", "Pa")
+    t_in = positive("t_in_k", t_in_k, "inlet temperature", "K", T_MAX_K)
+    p_out = positive("p_out_pa", p_out_pa, "outlet pressure", "Pa")
+    t_target = positive("t_target_k", t_target_k, "target outlet temperature", "K", T_MAX_K)
     if p_out > p_in:
         raise InputError("p_out_pa", f"outlet pressure {p_out:g} Pa is above the inlet pressure {p_in:g} Pa; "
                                      "a letdown needs p_out <= p_in")
     m_dot = None
     if mass_flow_kg_per_s is not None:
-        m_dot = _positive("mass_flow_kg_per_s", mass_flow_kg_per_s, "mass flow", "kg/s")
+        m_dot = positive("mass_flow_kg_per_s", mass_flow_kg_per_s, "mass flow", "kg/s")
     molar_mass = fluid.molar_mass
     nan = math.nan
 

@@ -38,6 +38,7 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from jtcheck.errors import InputError
+from jtcheck.letdown.checks import check_fluid
 from jtcheck.letdown.plain import plain as _plain
 from jtcheck.letdown.throttle import LetdownResult, letdown
 from jtcheck.thermo.flash import FlashResult
@@ -91,12 +92,6 @@ def _temperature(name: str, value: Any, what: str) -> float:
         raise InputError(name, f"{what} must be between 0 and 2000 K (the range of the heat-capacity data), "
                                f"got {v:g}")
     return v
-
-
-def _check_fluid(fluid: Any) -> Fluid:
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
-    return fluid
 
 
 # ---------------------------------------------------------------------------------------------
@@ -420,7 +415,7 @@ def nozzle_flow(fluid: Fluid, p0_pa: float, t0_k: float, p_back_pa: float) -> No
     jtcheck.errors.InputError
         For bad input; the message names the field.
     """
-    fluid = _check_fluid(fluid)
+    fluid = check_fluid(fluid)
     p0 = _positive("p0_pa", p0_pa, "stagnation pressure (absolute)", "Pa")
     t0 = _temperature("t0_k", t0_k, "stagnation temperature")
     pb = _positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
@@ -582,7 +577,7 @@ def downstream_of_relief(fluid: Fluid, p_relieving_pa: float, t_relieving_k: flo
     jtcheck.errors.InputError
         For bad input; the message names the field.
     """
-    fluid = _check_fluid(fluid)
+    fluid = check_fluid(fluid)
     p1 = _positive("p_relieving_pa", p_relieving_pa, "relieving pressure (absolute)", "Pa")
     t1 = _temperature("t_relieving_k", t_relieving_k, "relieving temperature")
     pb = _positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
@@ -720,7 +715,7 @@ def relief_valve_case(fluid: Fluid, set_pressure_pa: float, overpressure_fractio
         ``superimposed_back_pressure_pa`` when that alone reaches it, else
         ``built_up_back_pressure_pa``).
     """
-    fluid = _check_fluid(fluid)
+    fluid = check_fluid(fluid)
     p1 = relieving_pressure_pa(set_pressure_pa, overpressure_fraction, p_atm_pa)
     try:
         pb = back_pressure_pa(superimposed_back_pressure_pa, built_up_back_pressure_pa)

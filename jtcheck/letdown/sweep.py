@@ -30,7 +30,9 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from jtcheck.errors import InputError
-from jtcheck.letdown.preheat import T_MAX_K, _plain
+from jtcheck.letdown.checks import T_MAX_K, check_fluid
+from jtcheck.letdown.plain import PlainResult
+from jtcheck.letdown.plain import plain as _plain
 from jtcheck.letdown.throttle import letdown
 from jtcheck.thermo.fluid import Fluid
 
@@ -109,7 +111,7 @@ class SweepTable:
 
 
 @dataclass(frozen=True)
-class SweepResult:
+class SweepResult(PlainResult):
     """Coldest letdown over ranges of inlet pressure, inlet temperature and outlet pressure.  All values SI.
 
     Attributes
@@ -193,10 +195,6 @@ class SweepResult:
     warnings: tuple[str, ...] = field(default=())
     basis: dict = field(default_factory=dict)
 
-    def to_dict(self) -> dict:
-        """Plain-JSON representation (SI units; NaN becomes None)."""
-        return _plain(self)
-
 
 def _range(name: str, value, what: str, unit: str, upper: float | None = None) -> tuple[float, float]:
     """A (low, high) pair of finite positive numbers with low <= high, else InputError naming ``name``."""
@@ -266,8 +264,7 @@ def operating_sweep(fluid: Fluid, p_in_range_pa, t_in_range_k, p_out_range_pa, n
         at or above 2000 K, an outlet range entirely above the inlet range, or ``n`` out of range; the
         message names the field.
     """
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    check_fluid(fluid)
     ranges = {
         "p_in_pa": _range("p_in_range_pa", p_in_range_pa, "inlet pressure", "Pa"),
         "t_in_k": _range("t_in_range_k", t_in_range_k, "inlet temperature", "K", T_MAX_K),

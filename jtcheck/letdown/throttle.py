@@ -17,6 +17,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from jtcheck.errors import InputError
+from jtcheck.letdown.checks import check_fluid
 from jtcheck.thermo.flash import pure_supercritical
 from jtcheck.thermo.fluid import Fluid
 from jtcheck.thermo.kernels.constants import ST_PURE_SAT, ST_SINGLE, ST_TWO
@@ -209,8 +210,7 @@ def letdown(fluid: Fluid, p_in, t_in, p_out) -> LetdownResult | LetdownBatch:
     jtcheck.errors.InputError
         For non-finite or non-positive inputs, or p_out > p_in; the message names the field.
     """
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    check_fluid(fluid)
     scalar = all(np.ndim(v) == 0 for v in (p_in, t_in, p_out))
     p_in_b, t_in_b, p_out_b = check_letdown_inputs(p_in, t_in, p_out)
     if scalar:

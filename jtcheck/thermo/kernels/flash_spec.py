@@ -25,7 +25,7 @@ from jtcheck.thermo.kernels.constants import (
 from jtcheck.thermo.kernels.linalg import lu_solve
 from jtcheck.thermo.kernels.saturation import pure_saturation_T
 from jtcheck.thermo.kernels.single_phase import single_phase_beta, solve_single, spec_tol, spec_value
-from jtcheck.thermo.kernels.split import apply_step, gibbs_hessian, split, two_phase_state
+from jtcheck.thermo.kernels.split import apply_step, gibbs_hessian, split, two_phase_state, two_phase_work
 from jtcheck.thermo.kernels.stability import stability
 from jtcheck.thermo.kernels.wilson import wilson_k
 from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, R, fug_derivs, props
@@ -53,14 +53,7 @@ def _joint_newton(prm, P, target, z, T0, K, spec, x, y, max_iter=30):
     for i in range(n):
         v[i] = beta * y[i]
         l_[i] = (1.0 - beta) * x[i]
-    lnV = np.empty(n)
-    lnL = np.empty(n)
-    dnV = np.empty((n, n))
-    dnL = np.empty((n, n))
-    dTV = np.empty(n)
-    dTL = np.empty(n)
-    dP_ = np.empty(n)
-    vb = np.empty(n)
+    lnV, lnL, dnV, dnL, dTV, dTL, dP_, vb = two_phase_work(n)
     J = np.empty((n + 1, n + 1))
     rhs = np.empty(n + 1)
     step = np.empty(n + 1)

@@ -69,6 +69,14 @@ def split(prm, T, P, z, K, x, y, warm=False, max_ss=300, tol=1e-10):
 
 
 @_jit
+def two_phase_work(n):
+    """Work arrays for the fugacity derivatives of a vapour and a liquid of ``n`` components:
+    (ln phi V, ln phi L, d/dn V, d/dn L, d/dT V, d/dT L, d/dP, partial molar volumes)."""
+    return (np.empty(n), np.empty(n), np.empty((n, n)), np.empty((n, n)), np.empty(n), np.empty(n), np.empty(n),
+            np.empty(n))
+
+
+@_jit
 def gibbs_hessian(dnV, dnL, x, y, V, L, H):
     """Fill H[:n, :n] with the Hessian of the Gibbs energy in the vapour mole numbers,
     (delta_ij / y_i - 1 + n d ln phi_i/d n_j)^V / V + (same)^L / L (Michelsen 1982, Part II)."""
@@ -169,14 +177,7 @@ def two_phase_state(prm, T, P, beta, x, y):
     L = 1.0 - beta
     h = V * pV[2] + L * pL[2]
     s = V * pV[3] + L * pL[3]
-    lnV = np.empty(n)
-    lnL = np.empty(n)
-    dnV = np.empty((n, n))
-    dnL = np.empty((n, n))
-    dTV = np.empty(n)
-    dTL = np.empty(n)
-    dP_ = np.empty(n)
-    vb = np.empty(n)
+    lnV, lnL, dnV, dnL, dTV, dTL, dP_, vb = two_phase_work(n)
     fug_derivs(prm, T, P, y, GIBBS, lnV, dnV, dTV, dP_, vb)
     fug_derivs(prm, T, P, x, GIBBS, lnL, dnL, dTL, dP_, vb)
     H = np.empty((n, n))
