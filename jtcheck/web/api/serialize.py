@@ -28,7 +28,7 @@ from jtcheck.records.models import (
 )
 from jtcheck.records.snapshot import record_number
 from jtcheck.screening.findings import Outcome
-from jtcheck.web import results
+from jtcheck.web.cases import results
 from jtcheck.web.quantities import CASE_QUANTITIES, display_unit, to_display
 
 
@@ -149,7 +149,7 @@ def outcome_sentence(outcome: str | None) -> str | None:
 
 
 def result_json(result: CaseResult, current: bool | None = None) -> dict[str, Any]:
-    """A stored result for the API (:func:`jtcheck.web.results.result_json`), with its outcome and screening.
+    """A stored result for the API (:func:`jtcheck.web.cases.results.result_json`), with its outcome and screening.
 
     The screening is passed through as stored (``Screening.to_dict()``, SI); results stored before
     screening existed have ``"screening": null`` and the outcome they were stored with.

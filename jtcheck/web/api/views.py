@@ -1,6 +1,6 @@
 """The JSON API, ``/api/v1``: token authentication (``Authorization: Bearer <token>``), explicit units.
 
-Every route is registered through :data:`api` (an :class:`~jtcheck.web.openapi.ApiRegistry`) so that it
+Every route is registered through :data:`api` (an :class:`~jtcheck.web.api.openapi.ApiRegistry`) so that it
 appears in the OpenAPI document at ``/api/v1/openapi.json``.  Errors are
 ``{"error": {"field": ..., "message": ...}}`` with 400 (not JSON), 401, 403, 404, 409, 413 or 422.
 
@@ -40,14 +40,10 @@ from jtcheck.units import (
     temperature_difference_from_k,
     temperature_from_k,
 )
-from jtcheck.web import api_schemas, records_pki, removal
-from jtcheck.web.caseinput import FieldInputError, api_field, changed_only, convert
-from jtcheck.web.database import db_session
-from jtcheck.web.errors import ApiError
-from jtcheck.web.openapi import ApiRegistry, QueryParam
-from jtcheck.web.quantities import MASS_FLOW_UNIT, canonical_unit, parse_p_atm, quantity_text, unit_word
-from jtcheck.web.security import require_editor, require_viewer
-from jtcheck.web.serialize import (
+from jtcheck.web import removal
+from jtcheck.web.api import schemas
+from jtcheck.web.api.openapi import ApiRegistry, QueryParam
+from jtcheck.web.api.serialize import (
     audit_json,
     case_json,
     fluid_json,
@@ -56,6 +52,12 @@ from jtcheck.web.serialize import (
     revision_json,
     site_json,
 )
+from jtcheck.web.cases.inputs import FieldInputError, api_field, changed_only, convert
+from jtcheck.web.database import db_session
+from jtcheck.web.errors import ApiError
+from jtcheck.web.quantities import MASS_FLOW_UNIT, canonical_unit, parse_p_atm, quantity_text, unit_word
+from jtcheck.web.records import signer
+from jtcheck.web.security import require_editor, require_viewer
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
 api = ApiRegistry(bp, "jtcheck API", __version__,
@@ -63,7 +65,7 @@ api = ApiRegistry(bp, "jtcheck API", __version__,
                   "SI values (unit in the key) and the same values in the units chosen. Each case has "
                   "calculation records (revisions A, B ...; numbered 0, 1 ... when approved) that go through a "
                   "four-eyes review and are issued as signed PDFs. " + CAUTION)
-api_schemas.register(api)
+schemas.register(api)
 
 _CASE_FILTERS = (
     QueryParam("q", "Text in the tag or service description."),
@@ -254,7 +256,7 @@ def screening_display(screening: Mapping[str, Any], p: Callable[[float | None], 
                       t: Callable[[float | None], dict[str, Any]],
                       dt: Callable[[float | None], dict[str, Any]]) -> dict[str, Any]:
     """The key numbers of a screening (``Screening.to_dict()``) in display units, keyed as a stored case
-    result's ``screening.display`` is (see :data:`jtcheck.web.api_schemas.SCREENING_DISPLAY`).
+    result's ``screening.display`` is (see :data:`jtcheck.web.api.schemas.SCREENING_DISPLAY`).
 
     ``p``, ``t`` and ``dt`` turn an SI pressure [Pa abs], temperature [K] and temperature difference [K]
     into ``{"value", "unit"}`` (value None stays None).
@@ -701,7 +703,7 @@ def revision_record(case_id: int, rev: str):
 
 def _sign(req: workflow.SigningRequest) -> bytes:
     """The workflow's signing callback: the app's signer, set up only when a signature is due."""
-    return records_pki.app_signer()(req)
+    return signer.app_signer()(req)
 
 
 def _reviewer() -> User:
@@ -778,7 +780,7 @@ def trust_root():
     """The instance's CA certificate (PEM): give it to a PDF reader or to ``jtcheck record verify`` to check
     the signatures of a record."""
     require_viewer("download the trust root")
-    resp = Response(records_pki.trust_root_pem(), mimetype="application/x-pem-file")
+    resp = Response(signer.trust_root_pem(), mimetype="application/x-pem-file")
     resp.headers["Content-Disposition"] = 'attachment; filename="jtcheck-trust-root.pem"'
     return resp
 
@@ -821,5 +823,5 @@ def verify_record_pdf():
     pdf = request.get_data(cache=False)
     if not pdf:
         raise InputError("pdf", "the body is empty: send the record PDF")
-    result = verify_against_register(db_session(), pdf, [records_pki.trust_root_pem()])
+    result = verify_against_register(db_session(), pdf, [signer.trust_root_pem()])
     return jsonify(verification_json(result))

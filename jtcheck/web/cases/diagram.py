@@ -2,7 +2,7 @@
 
 The drawing itself is :mod:`jtcheck.reports.charts` (the calculation records draw the same charts); this
 module turns a stored :class:`~jtcheck.records.models.CaseResult` into the charts' plain data, in the units
-the case was entered in, through the same helpers as the result page (:mod:`jtcheck.web.results`).
+the case was entered in, through the same helpers as the result page (:mod:`jtcheck.web.cases.results`).
 Documents are kept in a small in-memory cache per result.
 """
 from __future__ import annotations
@@ -28,7 +28,7 @@ from jtcheck.reports.charts import (
     inline_svg,
     pt_diagram_data,
 )
-from jtcheck.web.results import Units, conditions_of, fluid_key, limits_of, screening_view, units_of
+from jtcheck.web.cases.results import Units, conditions_of, fluid_key, limits_of, screening_view, units_of
 
 __all__ = ["TITLE", "SWEEP_TITLE", "inline_svg", "render", "render_sweep", "DiagramCache", "cache_key"]
 

@@ -1,6 +1,6 @@
 """Pages of the case register: case list, case form, case and result views, audit history, sites and units.
 
-The case page also shows the review of its calculation records (:mod:`jtcheck.web.records_views`): the
+The case page also shows the review of its calculation records (:mod:`jtcheck.web.records.views`): the
 current revision, the steps the user may take, the revisions with their record PDFs and the review steps.
 A case whose current record is in review cannot be edited: its edit page says so instead of offering the form.
 """
@@ -18,8 +18,9 @@ from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
 from jtcheck.records.models import Case, CaseKind, CaseResult, RevisionStatus
 from jtcheck.units import pressure_from_pa
-from jtcheck.web import records_views, removal
-from jtcheck.web.caseinput import (
+from jtcheck.web import removal
+from jtcheck.web.cases.diagram import DiagramCache
+from jtcheck.web.cases.inputs import (
     HYDRATE_INHIBITORS,
     SCREENING_FIELDS,
     FieldInputError,
@@ -28,8 +29,17 @@ from jtcheck.web.caseinput import (
     field_message,
     form_field,
 )
+from jtcheck.web.cases.results import (
+    NOT_COMPUTED,
+    OUTCOMES,
+    basis_of,
+    conditions_of,
+    limits_of,
+    outcome_of,
+    screening_view,
+    units_of,
+)
 from jtcheck.web.database import db_session
-from jtcheck.web.diagram import DiagramCache
 from jtcheck.web.forms import FormState
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
@@ -40,16 +50,7 @@ from jtcheck.web.quantities import (
     p_atm_unit_for,
     to_display,
 )
-from jtcheck.web.results import (
-    NOT_COMPUTED,
-    OUTCOMES,
-    basis_of,
-    conditions_of,
-    limits_of,
-    outcome_of,
-    screening_view,
-    units_of,
-)
+from jtcheck.web.records import views as records_views
 from jtcheck.web.security import current_user, require_editor, require_viewer
 
 bp = Blueprint("cases", __name__)
@@ -131,7 +132,7 @@ def _form_of(case: Case) -> FormState:
 
 
 def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict[str, Any]:
-    """The posted case as the mapping :func:`jtcheck.web.caseinput.convert` takes (quantities as "72 barg")."""
+    """The posted case as the mapping :func:`jtcheck.web.cases.inputs.convert` takes (quantities as "72 barg")."""
     raw: dict[str, Any] = {k: form.get(k) for k in (*_TEXT_FIELDS, *SCREENING_FIELDS)}
     for name in (*(q.name for q in CASE_QUANTITIES), "p_atm"):
         value, unit = form.get(name).strip(), form.get(f"{name}_unit").strip()

@@ -210,7 +210,7 @@ def review_context(case: Case, user: User, form: FormState | None = None, step: 
 # -- the review steps ------------------------------------------------------------------------------------
 def _signer() -> workflow.SignFn:
     """The app's signing callback; failures other than the known ones become :class:`RecordSigningError`."""
-    from jtcheck.web.records_pki import app_signer
+    from jtcheck.web.records.signer import app_signer
 
     sign = app_signer()
 
@@ -302,7 +302,7 @@ def review_step(case_id: int, step: str):
         else:
             flash(_done_message(step, before_label, rev))
             return redirect(url_for("cases.view", case_id=case_id, _anchor="review"))
-    from jtcheck.web.cases import render_case_page  # cases imports this module
+    from jtcheck.web.cases.views import render_case_page  # cases imports this module
 
     return render_case_page(service.get_case(session, user, case_id), status=status, review_form=form,
                             review_step=step)
@@ -329,7 +329,7 @@ def record_pdf(case_id: int, label: str):
 
 
 def _trust_root_pem() -> bytes:
-    from jtcheck.web.records_pki import trust_root_pem
+    from jtcheck.web.records.signer import trust_root_pem
 
     return trust_root_pem()
 
