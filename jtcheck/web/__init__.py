@@ -27,12 +27,12 @@ from werkzeug.middleware.proxy_fix import ProxyFix
 from jtcheck import __version__
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
+from jtcheck.reports.numbers import fmt_number
 from jtcheck.web import database, errors, security
 from jtcheck.web.batches import views as batch_views
 from jtcheck.web.cases.diagram import DiagramCache
 from jtcheck.web.cases.results import units_of
 from jtcheck.web.config import DEFAULTS, from_environment, instance_path, instance_secret_key
-from jtcheck.web.quantities import fmt_number
 from jtcheck.web.records import views as record_views
 
 

@@ -17,7 +17,7 @@ from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.models import Case, CaseResult
 from jtcheck.web import removal
 from jtcheck.web.cases.diagram import DiagramCache
-from jtcheck.web.cases.results import basis_of, conditions_of, limits_of, outcome_of, screening_view, units_of
+from jtcheck.web.cases.results import basis_of, outcome_of, screening_view, units_of
 from jtcheck.web.forms import FormState
 from jtcheck.web.quantities import CASE_QUANTITIES, display_unit, p_atm_unit_for, to_display
 from jtcheck.web.records.review import review_context
@@ -31,10 +31,9 @@ def _diagrams() -> DiagramCache:
 def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
     if result is None:
         return {"result": None}
-    units = units_of(result)
     screening = screening_view(result)
-    return {"result": result, "conditions": conditions_of(result), "limits": limits_of(result), "units": units,
-            "basis": basis_of(result), "current": service.result_is_current(case, result),
+    return {"result": result, "conditions": screening.conditions, "limits": screening.limits,
+            "units": units_of(result), "basis": basis_of(result), "current": service.result_is_current(case, result),
             "screening": screening, "diagram": _diagrams().get(result),
             "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 import numbers
-from collections.abc import Callable, Mapping
+from collections.abc import Mapping
 from typing import Any
 
 from flask import Blueprint, Response, current_app, jsonify, request, url_for
@@ -29,6 +29,7 @@ from jtcheck.records.errors import NotFound
 from jtcheck.records.models import CaseRevision, FluidRecord, KijMode, User
 from jtcheck.records.snapshot import record_number
 from jtcheck.reports.issue import FullVerification, verify_against_register
+from jtcheck.reports.screening_display import DisplayUnits, key_numbers
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.hydrates import Inhibitor
 from jtcheck.screening.screen import OperatingRanges, Screening, ScreeningOptions, credible_conditions, screen_letdown
@@ -37,7 +38,6 @@ from jtcheck.units import (
     parse_temperature,
     parse_temperature_difference,
     pressure_from_pa,
-    temperature_difference_from_k,
     temperature_from_k,
 )
 from jtcheck.web import removal
@@ -54,6 +54,7 @@ from jtcheck.web.api.serialize import (
 )
 from jtcheck.web.cases.inputs import FieldInputError, api_field, changed_only, convert
 from jtcheck.web.database import db_session
+from jtcheck.web.downloads import attachment
 from jtcheck.web.errors import ApiError
 from jtcheck.web.quantities import MASS_FLOW_UNIT, canonical_unit, parse_p_atm, quantity_text, unit_word
 from jtcheck.web.records import signer
@@ -246,42 +247,6 @@ def _ranges(data: Mapping[str, Any], p_in_pa: float, t_in_k: float, p_out_pa: fl
     return p_in_max, t_in_min, p_out_min
 
 
-def _governing(answers: Mapping[str, Any], key: str) -> Mapping[str, Any]:
-    part = answers.get(key)
-    gov = part.get("governing") if isinstance(part, Mapping) else None
-    return gov if isinstance(gov, Mapping) else {}
-
-
-def screening_display(screening: Mapping[str, Any], p: Callable[[float | None], dict[str, Any]],
-                      t: Callable[[float | None], dict[str, Any]],
-                      dt: Callable[[float | None], dict[str, Any]]) -> dict[str, Any]:
-    """The key numbers of a screening (``Screening.to_dict()``) in display units, keyed as a stored case
-    result's ``screening.display`` is (see :data:`jtcheck.web.api.schemas.SCREENING_DISPLAY`).
-
-    ``p``, ``t`` and ``dt`` turn an SI pressure [Pa abs], temperature [K] and temperature difference [K]
-    into ``{"value", "unit"}`` (value None stays None).
-    """
-    limits = screening.get("limits") or {}
-    answers = screening.get("answers") or {}
-    preheat = _governing(answers, "preheat")
-    pressure = _governing(answers, "outlet_pressure_limit")
-    sweep = answers.get("sweep") if isinstance(answers.get("sweep"), Mapping) else {}
-    worst = sweep.get("worst") if isinstance(sweep.get("worst"), Mapping) else None
-    relief = answers.get("relief_valve") if isinstance(answers.get("relief_valve"), Mapping) else {}
-    duty = preheat.get("duty_w")
-    return {
-        "t_out_min": t(screening.get("t_out_min_k")), "governing_limit": t(limits.get("governing_k")),
-        "target": t(limits.get("target_k")), "margin": dt(limits.get("margin_k")), "mdmt": t(limits.get("mdmt_k")),
-        "preheat_t_in_required": t(preheat.get("t_in_required_k")),
-        "preheat_temperature_rise": dt(preheat.get("temperature_rise_k")),
-        "preheat_duty": {"value": None if duty is None else duty / 1e3, "unit": "kW"},
-        "outlet_pressure_limit": p(pressure.get("p_out_min_pa")),
-        "sweep_worst": None if worst is None else {"t_out": t(worst.get("t_out_k")), "p_in": p(worst.get("p_in_pa")),
-                                                   "t_in": t(worst.get("t_in_k")), "p_out": p(worst.get("p_out_pa"))},
-        "relief_t_downstream": t(relief.get("t_downstream_k")),
-    }
-
-
 def _screening_notes(screening: Screening) -> list[str]:
     notes = []
     if screening.limits.governing_k is None:
@@ -362,16 +327,8 @@ def compute_letdown():
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
         result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
     ok = bool(result.converged)
-    dt_unit = "degF" if t_unit.lower() in ("degf", "f") else "K"
-
-    def p(pa: float | None) -> dict[str, Any]:
-        return {"value": pressure_from_pa(pa, p_unit, p_atm_pa) if pa is not None else None, "unit": p_unit}
-
-    def t(k: float | None) -> dict[str, Any]:
-        return {"value": temperature_from_k(k, t_unit) if k is not None else None, "unit": t_unit}
-
-    def dt(dk: float | None) -> dict[str, Any]:
-        return {"value": temperature_difference_from_k(dk, dt_unit) if dk is not None else None, "unit": dt_unit}
+    shown = DisplayUnits(temperature=t_unit, inlet_pressure=p_unit, outlet_pressure=p_unit, p_atm_pa=p_atm_pa)
+    p, t, dt = shown.P, shown.T, shown.DT
 
     gauge = p_in.gauge or p_out.gauge or p_unit.lower().endswith("g")
     notes = []
@@ -381,7 +338,7 @@ def compute_letdown():
     notes += _screening_notes(screening)
     d = result.to_dict()
     screened = screening.to_dict()
-    screened["display"] = screening_display(screened, p, t, dt)
+    screened["display"] = key_numbers(screened, shown)
     si = {"p_in_pa": p_in.pa, "t_in_k": t_in_k, "p_out_pa": p_out.pa, "t_out_k": d["t_out"] if ok else None,
           "dt_k": d["dt"] if ok else None, "h_j_per_mol": d["h"], "p_atm_pa": p_atm_pa,
           "p_in_max_pa": p_in_max, "t_in_min_k": t_in_min, "p_out_min_pa": p_out_min}
@@ -694,9 +651,7 @@ def revision_record(case_id: int, rev: str):
     if pdf is None:
         raise ApiError(404, f"revision {revision.label} of case {case_id} has no record yet (it is "
                             f"{revision.status!s}); the record is made when the revision is submitted for check")
-    name = f"{record_number(case_id)}-rev-{revision.label}.pdf"
-    resp = Response(bytes(pdf), mimetype="application/pdf")
-    resp.headers["Content-Disposition"] = f'attachment; filename="{name}"'
+    resp = attachment(bytes(pdf), "application/pdf", f"{record_number(case_id)}-rev-{revision.label}.pdf")
     resp.headers["ETag"] = f'"{revision.record_sha256}"'
     return resp
 
@@ -780,9 +735,7 @@ def trust_root():
     """The instance's CA certificate (PEM): give it to a PDF reader or to ``jtcheck record verify`` to check
     the signatures of a record."""
     require_viewer("download the trust root")
-    resp = Response(signer.trust_root_pem(), mimetype="application/x-pem-file")
-    resp.headers["Content-Disposition"] = 'attachment; filename="jtcheck-trust-root.pem"'
-    return resp
+    return attachment(signer.trust_root_pem(), "application/x-pem-file", "jtcheck-trust-root.pem")
 
 
 #: Largest record PDF ``/records/verify`` reads (config ``RECORD_UPLOAD_MAX_BYTES``, as the verify page).

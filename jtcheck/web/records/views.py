@@ -30,7 +30,7 @@ import hashlib
 from collections.abc import Callable
 from typing import Any
 
-from flask import Blueprint, Flask, Response, current_app, flash, redirect, render_template, request, url_for
+from flask import Blueprint, Flask, current_app, flash, redirect, render_template, request, url_for
 from sqlalchemy import select
 from sqlalchemy.orm import defer
 
@@ -47,6 +47,7 @@ from jtcheck.records.snapshot import record_number
 from jtcheck.reports.pki import PKIError
 from jtcheck.web.case_page import render_case_page
 from jtcheck.web.database import db_session
+from jtcheck.web.downloads import attachment
 from jtcheck.web.errors import UPLOAD_ENDPOINTS, ApiError, is_timestamp_error
 from jtcheck.web.forms import FormState
 from jtcheck.web.records.review import STATUS_WORDS, STEPS
@@ -172,13 +173,6 @@ def review_step(case_id: int, step: str):
 
 
 # -- the record files --------------------------------------------------------------------------------------
-def _attachment(data: bytes, mimetype: str, filename: str) -> Response:
-    resp = Response(data, mimetype=mimetype)
-    resp.headers["Content-Disposition"] = f'attachment; filename="{filename}"'
-    resp.headers["Content-Length"] = str(len(data))
-    return resp
-
-
 @bp.route("/cases/<int:case_id>/revisions/<label>/record.pdf")
 def record_pdf(case_id: int, label: str):
     user = require_viewer("download calculation records")
@@ -186,7 +180,7 @@ def record_pdf(case_id: int, label: str):
     if rev.record_pdf is None:
         raise ApiError(404, f"revision {rev.label} is a draft: it has no record yet (the record is made when the "
                             "revision is submitted for check)")
-    resp = _attachment(rev.record_pdf, "application/pdf", f"{record_number(case_id)}-rev{rev.label}.pdf")
+    resp = attachment(rev.record_pdf, "application/pdf", f"{record_number(case_id)}-rev{rev.label}.pdf")
     resp.headers["X-Record-SHA256"] = rev.record_sha256 or hashlib.sha256(rev.record_pdf).hexdigest()
     return resp
 
@@ -215,7 +209,7 @@ def _certificate_facts(pem: bytes) -> dict[str, str]:
 @bp.route("/records/trust-root.pem")
 def trust_root():
     require_viewer("download the trust root")
-    return _attachment(_trust_root_pem(), "application/x-pem-file", "jtcheck-trust-root.pem")
+    return attachment(_trust_root_pem(), "application/x-pem-file", "jtcheck-trust-root.pem")
 
 
 # -- checking a record file ----------------------------------------------------------------------------------
