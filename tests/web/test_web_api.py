@@ -223,7 +223,7 @@ def test_reference_lists(api, world):
 
 # -- errors --------------------------------------------------------------------------------------------------
 def test_internal_error_is_a_json_500_without_traceback(api, monkeypatch, caplog):
-    from jtcheck.web.api import views as api_module
+    from jtcheck.web.api import library as api_module
 
     def explode(*args, **kwargs):
         raise RuntimeError("secret internals at /srv/db password=hunter2")

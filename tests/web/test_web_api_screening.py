@@ -13,7 +13,7 @@ from jtcheck import Fluid, letdown
 from jtcheck.records.models import Role
 from jtcheck.screening import screen as screen_module
 from jtcheck.web.api import schemas as api_schemas
-from jtcheck.web.api.views import _LETDOWN_KEYS
+from jtcheck.web.api.letdown import _LETDOWN_KEYS
 from jtcheck.web.cases import inputs as caseinput
 
 LIMIT_K = 273.15 - 29.0
