@@ -542,10 +542,6 @@ class ScreeningDisplay:
     def slug(self) -> str:
         return outcome_slug(self.outcome)
 
-    @property
-    def has_answers(self) -> bool:
-        return any((self.preheat, self.outlet_limit, self.sweep, self.relief))
-
 
 def screening_display(stored: StoredResult, units: DisplayUnits) -> ScreeningDisplay:
     """Outcome, limits, conditions, findings and answers of a stored result, in ``units``.
