@@ -9,7 +9,8 @@ Only this package imports Flask.  One package per feature, each with its bluepri
 list, run as background jobs), ``fluids``, ``materials`` and ``api`` (``/api/v1``); ``health`` (``/healthz``)
 is a module.  What the features share stays at this level: settings (``config``), the database session
 (``database``), who is signed in (``security``), error answers (``errors``), plain forms (``forms``),
-quantities with units (``quantities``) and deleting cases and fluids (``removal``).
+quantities with units (``quantities``), deleting cases and fluids (``removal``), file downloads
+(``downloads``) and the case page (``case_page``), which the cases views and the review steps both render.
 Configuration comes from environment variables (see :mod:`jtcheck.web.config`); the ``config`` argument
 of :func:`create_app` overrides them (tests).
 """
