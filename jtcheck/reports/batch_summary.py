@@ -18,7 +18,6 @@ from __future__ import annotations
 
 import datetime as dt
 import logging
-import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache
@@ -29,22 +28,21 @@ import jinja2
 from jtcheck import __version__
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION
+from jtcheck.reports.numbers import UNIT_LABELS, finite_or_none, temperature_text
 from jtcheck.reports.record import templates_path
+from jtcheck.reports.screening_display import OUTCOME_LABELS
 from jtcheck.screening.findings import Outcome
-from jtcheck.units import temperature_difference_from_k, temperature_from_k
+from jtcheck.units import temperature_difference_from_k
 
 logging.getLogger("weasyprint.progress").setLevel(logging.WARNING)
 
 #: The outcomes in the order the summary lists them (worst first), with their label.
 OUTCOME_ORDER: tuple[str, ...] = (Outcome.FAIL.value, Outcome.MARGIN_ERODED.value, Outcome.NOT_SCREENED.value,
                                   Outcome.PASS.value)
-OUTCOME_LABELS = {Outcome.PASS.value: "PASS", Outcome.MARGIN_ERODED.value: "MARGIN ERODED",
-                  Outcome.FAIL.value: "FAIL", Outcome.NOT_SCREENED.value: "NOT SCREENED"}
 #: How many of the coldest rows the page lists.
 COLDEST_ROWS = 10
 #: Longest text of a user-given cell on the page (longer ones end in "…"), so that the page stays one page.
 _MAX_CELL = {"tag": 28, "service": 44, "filename": 90}
-_UNIT_LABELS = {"degc": "°C", "degf": "°F", "k": "K", "degr": "°R"}
 
 
 @dataclass(frozen=True)
@@ -61,31 +59,13 @@ def _clip(text: Any, key: str) -> str:
     return s if len(s) <= limit else s[:limit - 1] + "…"
 
 
-def _finite(value: Any) -> float | None:
-    if value is None or isinstance(value, bool):
-        return None
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        return None
-    return v if math.isfinite(v) else None
-
-
-def _temperature(value_k: Any, unit: str) -> str:
-    v = _finite(value_k)
-    if v is None:
-        return "–"
-    text = f"{temperature_from_k(v, unit):.1f}"
-    return f"{'0.0' if text == '-0.0' else text} {_UNIT_LABELS.get(unit.lower(), unit)}"
-
-
 def _difference(value_k: Any, unit: str) -> str:
-    v = _finite(value_k)
+    v = finite_or_none(value_k)
     if v is None:
         return "–"
     d = temperature_difference_from_k(v, unit)
     text = f"{d:+.1f}"
-    label = "K" if unit.lower() in ("k", "degc") else _UNIT_LABELS.get(unit.lower(), unit)
+    label = "K" if unit.lower() in ("k", "degc") else UNIT_LABELS.get(unit.lower(), unit)
     return f"{'0.0' if text in ('-0.0', '+0.0') else text} {label}"
 
 
@@ -133,7 +113,7 @@ def summary_context(job: Any, *, temperature_unit: str = "degC", now: dt.datetim
     counts: Mapping[str, Any] = job.counts
     by_outcome = counts.get("by_outcome", {})
     rows: Sequence[Mapping[str, Any]] = job.results
-    screened = [r for r in rows if _finite(r.get("t_screen_k")) is not None]
+    screened = [r for r in rows if finite_or_none(r.get("t_screen_k")) is not None]
     coldest = sorted(screened, key=lambda r: float(r["t_screen_k"]))[:COLDEST_ROWS]
     unit = temperature_unit
     return {
@@ -149,16 +129,16 @@ def summary_context(job: Any, *, temperature_unit: str = "degC", now: dt.datetim
                      for o in OUTCOME_ORDER],
         "hazard_rows": int(counts.get("hazard_rows", 0)),
         "n_scalar": int(counts.get("n_scalar", 0)),
-        "seconds": _finite(counts.get("seconds")),
+        "seconds": finite_or_none(counts.get("seconds")),
         "coldest": [{"row": r.get("row"), "tag": _clip(r.get("tag"), "tag"),
                      "service": _clip(r.get("service"), "service"), "outcome": r.get("outcome") or "not screened",
                      "label": OUTCOME_LABELS.get(r.get("outcome") or "", "NOT SCREENED"),
-                     "t_screen": _temperature(r.get("t_screen_k"), unit),
-                     "limit": _temperature((r.get("inputs") or {}).get("limit_k"), unit),
+                     "t_screen": temperature_text(r.get("t_screen_k"), unit),
+                     "limit": temperature_text((r.get("inputs") or {}).get("limit_k"), unit),
                      "margin": _difference(r.get("margin_to_limit_k"), unit),
                      "condition": r.get("coldest_condition") or "–", "path": r.get("path") or "–"}
                     for r in coldest],
-        "temperature_unit": _UNIT_LABELS.get(unit.lower(), unit),
+        "temperature_unit": UNIT_LABELS.get(unit.lower(), unit),
         "caution": CAUTION,
         "version": __version__,
     }

@@ -6,12 +6,13 @@
 >>> rendered.signature_boxes["checker"]                  # doctest: +SKIP
 SignatureBox(page_index=0, x1=..., y1=..., x2=..., y2=...)
 
-The record is made from the snapshot alone (:func:`jtcheck.records.snapshot.case_snapshot`): numbers are
-the stored SI values, shown in the units the case was entered in; nothing is computed again except the
-drawings (the phase envelope and the traced letdown paths of the P-T diagram, a drawing aid whose end
-points are the stored ones).  Component constants and kij sources are listed from the shipped data tables
-only when the tables are the very versions the result was computed with (same SHA-256 prefix); otherwise
-the record says so and lists just what the snapshot holds.
+The record is made from the snapshot alone (:func:`jtcheck.records.snapshot.case_snapshot`): numbers are the
+stored SI values, shown in the units the case was entered in; the screening (outcome, limits, conditions,
+findings, answers) is the display of :mod:`jtcheck.reports.screening_display`, the one the web's result page
+shows too.  Nothing is computed again except the drawings (the phase envelope and the traced letdown paths of
+the P-T diagram, a drawing aid whose end points are the stored ones).  Component constants and kij sources are
+listed from the shipped data tables only when the tables are the very versions the result was computed with
+(same SHA-256 prefix); otherwise the record says so and lists just what the snapshot holds.
 
 Layout (templates ``reports/record.html`` and ``reports/record.css``): a cover block with the revision, its
 status line and three empty framed signature areas (Prepared, Checked, Approved) into which the signing
@@ -25,11 +26,10 @@ from __future__ import annotations
 import base64
 import datetime as dt
 import logging
-import math
 import os
 import threading
-from collections.abc import Mapping
-from dataclasses import dataclass
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
 from functools import cache
 from pathlib import Path
 from typing import Any
@@ -40,11 +40,19 @@ from jtcheck.errors import InputError, JtcheckError
 from jtcheck.notices import CAUTION
 from jtcheck.records.snapshot import snapshot_digest
 from jtcheck.reports import charts
-from jtcheck.screening.findings import Outcome
+from jtcheck.reports.numbers import finite_or_none, fmt_number, fmt_quantity, fmt_signed
+from jtcheck.reports.screening_display import (
+    OUTCOME_LABELS,
+    ConditionView,
+    DisplayUnits,
+    ScreeningDisplay,
+    StoredResult,
+    screening_display,
+    sweep_chart_data,
+)
 from jtcheck.units import (
     P_ATM_DEFAULT_PA,
     pressure_from_pa,
-    temperature_difference_from_k,
     temperature_from_k,
 )
 
@@ -59,14 +67,6 @@ SIGNATURE_LABELS = {"preparer": "Prepared", "checker": "Checked", "approver": "A
 #: PDF points per CSS pixel (72 / 96).
 PT_PER_PX = 0.75
 
-OUTCOME_LABELS = {Outcome.PASS.value: "PASS", Outcome.MARGIN_ERODED.value: "MARGIN ERODED",
-                  Outcome.FAIL.value: "FAIL", Outcome.NOT_SCREENED.value: "NOT SCREENED"}
-_SEVERITY_ORDER = {"hazard": 0, "caution": 1, "information": 2}
-_DIMENSIONS = {"p_in_pa": "Inlet pressure", "t_in_k": "Inlet temperature", "p_out_pa": "Outlet pressure"}
-#: Pascal per unit of a pressure difference (gauge and absolute spellings mean the same for a difference).
-_DIFFERENCE_PA = {"bar": 1.0e5, "bara": 1.0e5, "barg": 1.0e5, "kpa": 1.0e3, "kpaa": 1.0e3, "kpag": 1.0e3,
-                  "mpa": 1.0e6, "mpaa": 1.0e6, "mpag": 1.0e6, "psi": 6894.757293168361, "psia": 6894.757293168361,
-                  "psig": 6894.757293168361, "pa": 1.0, "mbar": 100.0}
 
 
 @dataclass(frozen=True)
@@ -133,102 +133,6 @@ def _stylesheet(page_size: str):
         return _CSS[page_size]
 
 
-# -- numbers -------------------------------------------------------------------------------------------------
-def _num(value: Any) -> float | None:
-    if value is None or isinstance(value, bool):
-        return None
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        return None
-    return v if math.isfinite(v) else None
-
-
-def fmt_number(value: Any, kind: str = "pressure") -> str:
-    """A number for the record: temperatures and differences to 0.01, others to 6 significant digits."""
-    v = _num(value)
-    if v is None:
-        return "–"
-    if kind in ("temperature", "difference"):
-        text = f"{v:.2f}"
-        return "0.00" if text == "-0.00" else text
-    if kind == "fraction":
-        return f"{v:.4f}"
-    if abs(v) >= 1e6:
-        return f"{v:.0f}"
-    return f"{v:.6g}"
-
-
-def fmt_quantity(q: Mapping[str, Any] | None, kind: str = "pressure") -> str:
-    """``{"value", "unit"}`` as "12.5 barg" ("–" without a value)."""
-    if not q or _num(q.get("value")) is None:
-        return "–"
-    return f"{fmt_number(q['value'], kind)} {q['unit']}"
-
-
-def fmt_signed(q: Mapping[str, Any] | None) -> str:
-    """A difference with its sign: "+3.20 K"."""
-    if not q or _num(q.get("value")) is None:
-        return "–"
-    text = f"{_num(q['value']):+.2f}"
-    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {q['unit']}"
-
-
-def _q(value: float | None, unit: str) -> dict[str, Any]:
-    return {"value": value, "unit": unit}
-
-
-class _Units:
-    """The units a case was entered in, and conversions of stored SI values to them."""
-
-    def __init__(self, shown: Mapping[str, Any], p_atm_pa: float):
-        self.shown = {str(k): str(v) for k, v in shown.items() if v}
-        self.p_atm_pa = p_atm_pa
-        self.temperature = self.shown.get("inlet_temperature") or "degC"
-        self.inlet_pressure = self.shown.get("inlet_pressure") or "barg"
-        self.outlet_pressure = self.shown.get("outlet_pressure") or self.inlet_pressure
-        self.difference = "degF" if self.temperature.lower() in ("degf", "f") else "K"
-
-    def T(self, k: Any, unit: str | None = None) -> dict[str, Any]:
-        unit = unit or self.temperature
-        v = _num(k)
-        try:
-            return _q(None if v is None else temperature_from_k(v, unit), unit)
-        except InputError:
-            return _q(v, "K")
-
-    def DT(self, dk: Any, unit: str | None = None) -> dict[str, Any]:
-        unit = unit or self.difference
-        v = _num(dk)
-        return _q(None if v is None else temperature_difference_from_k(v, unit), unit)
-
-    def pressure_unit(self, name: str) -> str:
-        return self.shown.get(name) or (self.outlet_pressure if name.startswith("outlet") else self.inlet_pressure)
-
-    def P(self, pa: Any, name: str = "inlet_pressure", unit: str | None = None) -> dict[str, Any]:
-        """An absolute pressure [Pa] in the unit of the pressure field ``name``."""
-        unit = unit or self.pressure_unit(name)
-        v = _num(pa)
-        try:
-            return _q(None if v is None else pressure_from_pa(v, unit, self.p_atm_pa), unit)
-        except InputError:
-            return _q(v, "Pa")
-
-    def DP(self, dpa: Any, unit: str | None = None) -> dict[str, Any]:
-        """A pressure difference [Pa] in ``unit`` (default: the unit the built-up back pressure was entered in)."""
-        unit = unit or self.shown.get("built_up_back_pressure") or "bar"
-        v = _num(dpa)
-        factor = _DIFFERENCE_PA.get(unit.lower())
-        if factor is None:
-            return _q(v, "Pa")
-        return _q(None if v is None else v / factor, unit)
-
-    def dim(self, dim: str, value: Any) -> dict[str, Any]:
-        if dim == "t_in_k":
-            return self.T(value)
-        return self.P(value, "inlet_pressure" if dim == "p_in_pa" else "outlet_pressure")
-
-
 def _date(value: Any) -> str:
     """An ISO time stamp as "2026-12-02 01:59 UTC" (text that is not one is shown as it is)."""
     if not value:
@@ -276,13 +180,13 @@ def _display_key(si_key: str) -> str:
     return si_key
 
 
-def _inputs(case: Mapping[str, Any], units: _Units) -> list[dict[str, Any]]:
+def _inputs(case: Mapping[str, Any], units: DisplayUnits) -> list[dict[str, Any]]:
     """Rows of the inputs table: label, as entered (the unit typed), SI."""
     values = case.get("values") or {}
     relief = case.get("kind") == "relief_valve"
     rows: list[dict[str, Any]] = []
     for key, label, kind, always in _INPUT_FIELDS:
-        v = _num(values.get(key))
+        v = finite_or_none(values.get(key))
         if v is None and not (always or relief):
             continue
         name = _display_key(key)
@@ -308,7 +212,7 @@ def _inputs(case: Mapping[str, Any], units: _Units) -> list[dict[str, Any]]:
             entered = f"{fmt_number(v)} kg/s"
             si = f"{fmt_number(v)} kg/s"
         rows.append({"label": label, "entered": entered, "si": si})
-    p_atm = _num(case.get("p_atm_pa")) or _num(values.get("p_atm_pa")) or P_ATM_DEFAULT_PA
+    p_atm = finite_or_none(case.get("p_atm_pa")) or finite_or_none(values.get("p_atm_pa")) or P_ATM_DEFAULT_PA
     rows.append({"label": "Atmospheric pressure (for gauge units)", "entered": f"{fmt_number(p_atm / 1e5)} bar",
                  "si": f"{fmt_number(p_atm)} Pa"})
     if "water_saturated" in values:
@@ -320,221 +224,25 @@ def _inputs(case: Mapping[str, Any], units: _Units) -> list[dict[str, Any]]:
     return rows
 
 
-def _limits(snapshot: Mapping[str, Any]) -> dict[str, Any]:
-    """The limits screened against [K]: the stored screening's, else the same rule on the case values."""
-    screening = (snapshot.get("result") or {}).get("screening")
-    stored = screening.get("limits") if isinstance(screening, Mapping) else None
-    if isinstance(stored, Mapping):
-        return {"mdmt_k": _num(stored.get("mdmt_k")), "mdmt_source": str(stored.get("mdmt_source") or ""),
-                "user_limit_k": _num(stored.get("user_limit_k")), "margin_k": _num(stored.get("margin_k")) or 0.0,
-                "governing_k": _num(stored.get("governing_k")), "target_k": _num(stored.get("target_k")),
-                "basis": str(stored.get("basis") or "")}
-    values = (snapshot.get("case") or {}).get("values") or {}
-    mdmt, user = _num(values.get("mdmt_k")), _num(values.get("cold_limit_k"))
-    margin = _num(values.get("margin_k")) or 0.0
-    given = [v for v in (mdmt, user) if v is not None]
-    governing = max(given) if given else None
-    return {"mdmt_k": mdmt, "mdmt_source": str((snapshot.get("case") or {}).get("mdmt_source") or ""),
-            "user_limit_k": user, "margin_k": margin, "governing_k": governing,
-            "target_k": None if governing is None else governing + margin,
-            "basis": "warmer of the MDMT and the cold limit" if given else "no limit given"}
-
-
-def _band(t_k: float | None, limits: Mapping[str, Any], converged: bool = True) -> str:
-    governing, target = limits["governing_k"], limits["target_k"]
-    if not converged or t_k is None or governing is None:
-        return Outcome.NOT_SCREENED.value
-    if t_k < governing:
-        return Outcome.FAIL.value
-    if t_k < (target if target is not None else governing):
-        return Outcome.MARGIN_ERODED.value
-    return Outcome.PASS.value
-
-
-def _conditions(result: Mapping[str, Any], limits: Mapping[str, Any], units: _Units) -> list[dict[str, Any]]:
+def _condition_rows(conditions: Sequence[ConditionView], units: DisplayUnits) -> list[dict[str, Any]]:
+    """The conditions as the record's tables show them (text-ready values in the case's units)."""
     out = []
-    for entry in result.get("conditions") or []:
-        if not isinstance(entry, Mapping):
-            continue
-        converged = bool(entry.get("converged")) and _num(entry.get("t_out")) is not None
-        t_out = _num(entry.get("t_out")) if converged else None
-        if "t_screen_k" in entry:
-            t_screen = _num(entry.get("t_screen_k")) if converged else None
-            converged = converged and t_screen is not None
-        else:
-            t_screen = t_out
-        by_model = {str(m): _num(t) for m, t in (entry.get("t_out_by_model") or {}).items()}
-        if not by_model and result.get("eos"):
-            by_model = {str(result["eos"]): t_out}
-        temps = [t for t in by_model.values() if t is not None]
-        spread = max(temps) - min(temps) if len(temps) >= 2 else None
-        drop = None if t_out is None or _num(entry.get("t_in")) is None else _num(entry.get("t_in")) - t_out
-        governing = limits["governing_k"]
-        solids = entry.get("solids") if isinstance(entry.get("solids"), Mapping) else None
-        band = _band(t_screen, limits, converged)
+    for c in conditions:
+        solid_fraction = finite_or_none((c.solids or {}).get("solid_fraction"))
         out.append({
-            "name": str(entry.get("condition") or ""), "converged": converged,
-            "message": str(entry.get("message") or ""),
-            "p_in": units.P(entry.get("p_in"), "inlet_pressure"), "t_in": units.T(entry.get("t_in")),
-            "p_out": units.P(entry.get("p_out"), "outlet_pressure"), "t_out": units.T(t_out),
-            "inlet_phase": str(entry.get("inlet_phase") or "unknown"),
-            "phase": str(entry.get("phase") or "unknown") if t_out is not None else "–",
-            "inlet_vf": _num(entry.get("inlet_vapor_fraction")),
-            "vf": _num(entry.get("vapor_fraction")) if t_out is not None else None,
-            "drop": units.DT(drop), "by_model": {m: units.T(t) for m, t in by_model.items()},
-            "spread": units.DT(spread), "t_screen": units.T(t_screen),
-            "governing_model": str(entry.get("governing_model") or ""),
-            "solids": None if solids is None else {
-                "t_out": units.T(solids.get("t_out_k")),
-                "solid_percent": None if _num(solids.get("solid_fraction")) is None
-                else 100.0 * _num(solids.get("solid_fraction"))},
-            "margin": units.DT(None if t_screen is None or governing is None else t_screen - governing),
-            "band": band, "band_label": OUTCOME_LABELS.get(band, band.upper()),
-            "warnings": [str(w) for w in entry.get("warnings") or ()],
-            # SI, for the drawing
-            "si": {"p_in": _num(entry.get("p_in")), "t_in": _num(entry.get("t_in")),
-                   "p_out": _num(entry.get("p_out")), "t_out": t_out},
-        })
-    return out
-
-
-def _findings(screening: Mapping[str, Any]) -> list[dict[str, str]]:
-    out = []
-    for f in screening.get("findings") or ():
-        if not isinstance(f, Mapping):
-            continue
-        out.append({"severity": str(f.get("severity") or "information"), "topic": str(f.get("topic") or ""),
-                    "message": str(f.get("message") or ""), "basis": str(f.get("basis") or ""),
-                    "condition": str(f.get("condition") or "")})
-    out.sort(key=lambda f: _SEVERITY_ORDER.get(f["severity"], 3))   # stable: hazards first
-    return out
-
-
-def _preheat(units: _Units, ph: Any) -> dict[str, Any] | None:
-    if not isinstance(ph, Mapping):
-        return None
-
-    def row(p: Mapping[str, Any]) -> dict[str, Any]:
-        duty = _num(p.get("duty_w"))
-        return {"condition": str(p.get("condition") or ""), "model": str(p.get("model") or ""),
-                "converged": bool(p.get("converged")), "needed": bool(p.get("needed")),
-                "t_in": units.T(p.get("t_in_k")), "t_in_required": units.T(p.get("t_in_required_k")),
-                "rise": units.DT(p.get("temperature_rise_k")), "duty_kw": None if duty is None else duty / 1e3,
-                "message": str(p.get("message") or "")}
-
-    rows = [row(p) for p in ph.get("cases") or () if isinstance(p, Mapping)]
-    gov = ph.get("governing")
-    return {"target": units.T(ph.get("target_k")), "all_converged": bool(ph.get("all_converged")),
-            "governing": row(gov) if isinstance(gov, Mapping) else None, "rows": rows,
-            "mass_flow_given": any(r["duty_kw"] is not None for r in rows)}
-
-
-def _outlet_limit(units: _Units, ol: Any) -> dict[str, Any] | None:
-    if not isinstance(ol, Mapping):
-        return None
-
-    def row(o: Mapping[str, Any]) -> dict[str, Any]:
-        return {"condition": str(o.get("condition") or ""), "model": str(o.get("model") or ""),
-                "converged": bool(o.get("converged")), "limited": bool(o.get("limited")),
-                "inlet_too_cold": bool(o.get("inlet_too_cold")),
-                "p_out_min": units.P(o.get("p_out_min_pa"), "outlet_pressure"),
-                "t_out_at_floor": units.T(o.get("t_out_at_floor_k")), "message": str(o.get("message") or "")}
-
-    rows = [row(o) for o in ol.get("cases") or () if isinstance(o, Mapping)]
-    gov = ol.get("governing")
-    too_cold = sorted({r["condition"] for r in rows if r["inlet_too_cold"]})
-    return {"target": units.T(ol.get("target_k")), "all_converged": bool(ol.get("all_converged")),
-            "governing": row(gov) if isinstance(gov, Mapping) else None, "rows": rows, "inlet_too_cold": too_cold}
-
-
-def _sweep(units: _Units, sw: Any, limits: Mapping[str, Any]) -> dict[str, Any] | None:
-    if not isinstance(sw, Mapping):
-        return None
-    worst = sw.get("worst") if isinstance(sw.get("worst"), Mapping) else None
-    models = {str(m): d for m, d in (sw.get("models") or {}).items() if isinstance(d, Mapping)}
-    gov_model = None
-    if worst is not None:
-        for m, d in models.items():
-            if _num(d.get("worst_t_out_k")) == _num(worst.get("t_out_k")):
-                gov_model = m
-                break
-    per_model = [{"model": m, "complete": bool(d.get("complete")), "worst_t_out": units.T(d.get("worst_t_out_k")),
-                  "interior": bool(d.get("worst_is_interior")),
-                  "interior_dimensions": [_DIMENSIONS.get(x, x).lower() for x in d.get("interior_dimensions") or ()],
-                  "n_points": d.get("n_points"), "n_not_converged": d.get("n_not_converged")}
-                 for m, d in models.items()]
-    table = None
-    source = models.get(gov_model or "") or next(iter(models.values()), None)
-    raw = source.get("table") if source is not None else None
-    if isinstance(raw, Mapping) and raw.get("row_values") and raw.get("column_values"):
-        rdim, cdim, fdim = str(raw.get("row_dimension")), str(raw.get("column_dimension")), \
-            str(raw.get("fixed_dimension"))
-        rows = []
-        for value, temps in zip(raw.get("row_values") or (), raw.get("t_out_k") or (), strict=False):
-            cells = []
-            for t in temps:
-                tk = _num(t)
-                band = _band(tk, limits, tk is not None)
-                cells.append({"t_out": units.T(tk), "band": band})
-            rows.append({"axis": units.dim(rdim, value), "cells": cells})
-        table = {"model": gov_model or "", "row_dimension": _DIMENSIONS.get(rdim, rdim),
-                 "column_dimension": _DIMENSIONS.get(cdim, cdim),
-                 "row_kind": "temperature" if rdim == "t_in_k" else "pressure",
-                 "column_kind": "temperature" if cdim == "t_in_k" else "pressure",
-                 "columns": [units.dim(cdim, v) for v in raw.get("column_values") or ()], "rows": rows,
-                 "fixed_dimension": _DIMENSIONS.get(fdim, fdim), "fixed": units.dim(fdim, raw.get("fixed_value")),
-                 "fixed_kind": "temperature" if fdim == "t_in_k" else "pressure"}
-    gov = next((p for p in per_model if p["model"] == gov_model), None)
-    ranges = sw.get("ranges") or {}
-    return {"complete": bool(sw.get("complete")), "governing_model": gov_model or "",
-            "worst": None if worst is None else {
-                "t_out": units.T(worst.get("t_out_k")), "p_in": units.P(worst.get("p_in_pa"), "inlet_pressure"),
-                "t_in": units.T(worst.get("t_in_k")), "p_out": units.P(worst.get("p_out_pa"), "outlet_pressure"),
-                "band": _band(_num(worst.get("t_out_k")), limits, True)},
-            "interior": bool(gov and gov["interior"]), "interior_dimensions": gov["interior_dimensions"] if gov else [],
-            "models": per_model, "table": table,
-            "ranges": {"p_in": [units.P(v, "inlet_pressure") for v in ranges.get("p_in_pa") or ()],
-                       "t_in": [units.T(v) for v in ranges.get("t_in_k") or ()],
-                       "p_out": [units.P(v, "outlet_pressure") for v in ranges.get("p_out_pa") or ()]}}
-
-
-def _relief(units: _Units, rv: Any) -> dict[str, Any] | None:
-    if not isinstance(rv, Mapping):
-        return None
-    models = {str(m): d for m, d in (rv.get("models") or {}).items() if isinstance(d, Mapping)}
-    per_model = []
-    for m, d in models.items():
-        nz = d.get("nozzle") if isinstance(d.get("nozzle"), Mapping) else {}
-        per_model.append({"model": m, "converged": bool(d.get("converged")), "choked": nz.get("choked"),
-                          "critical_pressure_ratio": _num(nz.get("critical_pressure_ratio")),
-                          "t_throat": units.T(d.get("t_throat_k")), "t_downstream": units.T(d.get("t_downstream_k"))})
-    gm = str(rv.get("governing_model") or "")
-    d = models.get(gm) if gm else None
-    out: dict[str, Any] = {"governing_model": gm, "models": per_model, "converged": d is not None}
-    if d is None:
-        return out
-    nz = d.get("nozzle") if isinstance(d.get("nozzle"), Mapping) else {}
-    over = _num(d.get("overpressure_fraction"))
-    out.update({
-        "p_set": units.P(d.get("set_pressure_pa"), "set_pressure"),
-        "overpressure_percent": None if over is None else 100.0 * over,
-        "p_relieving": units.P(d.get("p_relieving_pa"), "set_pressure"),
-        "t_relieving": units.T(d.get("t_relieving_k")),
-        "p_superimposed": units.P(d.get("superimposed_back_pressure_pa"), "superimposed_back_pressure"),
-        "dp_built_up": units.DP(d.get("built_up_back_pressure_pa")),
-        "p_back": units.P(d.get("p_back_pa"), "superimposed_back_pressure"),
-        "choked": nz.get("choked"), "critical_pressure_ratio": _num(nz.get("critical_pressure_ratio")),
-        "ideal_critical_pressure_ratio": _num(nz.get("ideal_critical_pressure_ratio")),
-        "isentropic_exponent": _num(nz.get("isentropic_exponent")),
-        "p_throat": units.P(nz.get("p_throat_pa"), "set_pressure"), "t_throat": units.T(d.get("t_throat_k")),
-        "throat_phase": str(nz.get("throat_phase") or ""), "t_downstream": units.T(d.get("t_downstream_k")),
-        "downstream_phase": str(d.get("downstream_phase") or ""),
-        "outlet_limit": units.T(d.get("outlet_limit_k")), "outlet_margin": units.DT(d.get("outlet_margin_k")),
-        "below_outlet_limit": bool(d.get("below_outlet_limit")),
-        "header_limit": units.T(d.get("header_limit_k")), "header_margin": units.DT(d.get("header_margin_k")),
-        "below_header_limit": bool(d.get("below_header_limit")),
-        "method": str((nz.get("basis") or {}).get("method") or "") if isinstance(nz.get("basis"), Mapping) else "",
-        "warnings": [str(w) for w in d.get("warnings") or ()]})
+            "name": c.name, "converged": c.converged, "message": c.message,
+            "p_in": units.P(c.p_in_pa, "inlet_pressure"), "t_in": units.T(c.t_in_k),
+            "p_out": units.P(c.p_out_pa, "outlet_pressure"), "t_out": units.T(c.t_out_k),
+            "inlet_phase": c.inlet_phase, "phase": c.phase if c.t_out_k is not None else "–",
+            "inlet_vf": c.inlet_vapor_fraction, "vf": c.vapor_fraction,
+            "drop": units.DT(c.drop_k), "by_model": {m: units.T(t) for m, t in c.t_out_by_model.items()},
+            "spread": units.DT(c.model_spread_k), "t_screen": units.T(c.t_screen_k),
+            "governing_model": c.governing_model,
+            "solids": None if c.solids is None else {
+                "t_out": units.T(c.solids.get("t_out_k")),
+                "solid_percent": None if solid_fraction is None else 100.0 * solid_fraction},
+            "margin": units.DT(c.margin_to_cold_limit_k), "band": c.band,
+            "band_label": OUTCOME_LABELS.get(c.band, c.band.upper()), "warnings": list(c.warnings)})
     return out
 
 
@@ -573,9 +281,10 @@ def _component_rows(composition: list[Any], stored_version: str) -> tuple[list[d
     matched = bool(stored_version) and stored_version == COMPONENT_DATA_VERSION
     sources: list[str] = []
     rows = []
-    total = sum(_num(z) or 0.0 for _, z in composition) or 1.0
+    total = sum(finite_or_none(z) or 0.0 for _, z in composition) or 1.0
     for cid, z in composition:
-        row: dict[str, Any] = {"id": str(cid), "z": _num(z), "percent": 100.0 * (_num(z) or 0.0) / total,
+        zi = finite_or_none(z)
+        row: dict[str, Any] = {"id": str(cid), "z": zi, "percent": 100.0 * (zi or 0.0) / total,
                                "name": str(cid), "formula": "", "cas": "", "mw": None, "tc_k": None,
                                "pc_pa": None, "omega": None, "source": None}
         if matched:
@@ -654,26 +363,13 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
     fluid = snapshot.get("fluid") or {}
     inputs = result.get("inputs") or {}
     shown = case.get("display_units") or ((inputs.get("case_values") or {}).get("display_units")) or {}
-    p_atm = _num(case.get("p_atm_pa")) or P_ATM_DEFAULT_PA
-    units = _Units(shown, p_atm)
-    limits = _limits(snapshot)
-    screening = result.get("screening") if isinstance(result.get("screening"), Mapping) else None
-    outcome = str((screening or {}).get("outcome") or result.get("outcome") or Outcome.NOT_SCREENED.value) \
-        if screening is not None else Outcome.NOT_SCREENED.value
-    if outcome not in OUTCOME_LABELS:
-        outcome = Outcome.NOT_SCREENED.value
-    sentence = str((screening or {}).get("outcome_sentence") or Outcome(outcome).sentence)
-    if screening is None:
-        sentence = ("This result was stored before the hazard screening existed: it has no outcome, findings or "
-                    "answers and counts as not screened.")
-    answers = (screening or {}).get("answers") or {}
-    conditions = _conditions(result, limits, units)
-    t_min = _num((screening or {}).get("t_out_min_k"))
-    if t_min is None:
-        done = [_num(c.get("t_screen_k", c.get("t_out"))) for c in result.get("conditions") or ()
-                if isinstance(c, Mapping)]
-        done = [t for t in done if t is not None]
-        t_min = min(done) if done else None
+    p_atm = finite_or_none(case.get("p_atm_pa")) or P_ATM_DEFAULT_PA
+    units = DisplayUnits.entered(shown, p_atm)
+    stored = StoredResult.from_snapshot(result)
+    if not stored.case_values:      # a result stored without its case values: the snapshot's case has them
+        stored = replace(stored, case_values={**(case.get("values") or {}), "mdmt_source": case.get("mdmt_source")})
+    display = screening_display(stored, units)
+    limits = display.limits
     bases = _model_bases(result)
     eos = str(result.get("eos") or fluid.get("eos") or "PR")
     main_basis = bases.get(eos) or {}
@@ -692,10 +388,12 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
     except (TypeError, ValueError):
         digest = ""
     refs = [str(b.get("eos_reference")) for b in bases.values() if b.get("eos_reference")]
-    relief = _relief(units, answers.get("relief_valve"))
+    relief = display.relief
     if relief and relief.get("method"):
         refs.append(f"Relief valve nozzle: {relief['method']}")
     material = case.get("material")
+    conditions = _condition_rows(display.conditions, units)
+    models = list(display.models) or [eos]
     return {
         "paper": paper, "record_number": str(snapshot.get("record_number") or ""), "letter": letter,
         "schema": str(snapshot.get("schema") or ""), "digest": digest,
@@ -716,7 +414,7 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
                   "p_atm_bar": p_atm / 1e5},
         "inputs": _inputs(case, units),
         "fluid": {"name": str(fluid.get("name") or ""), "eos": eos, "kij_mode": kij_mode, "rows": comp_rows,
-                  "total": sum(_num(z) or 0.0 for _, z in comp), "crit_sources": crit_sources,
+                  "total": sum(finite_or_none(z) or 0.0 for _, z in comp), "crit_sources": crit_sources,
                   "data_matched": comp_matched},
         "method": {"text": str(inputs.get("method") or ""), "eos_name": str(main_basis.get("eos_name") or eos),
                    "eos_reference": str(main_basis.get("eos_reference") or ""),
@@ -728,7 +426,7 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
                                "kij_basis": str(b.get("kij_basis") or ""),
                                "n_defaulted": len(b.get("kij_defaulted_pairs") or ())}
                               for e, b in bases.items() if e != eos],
-                   "models": [str(m) for m in (screening or {}).get("models") or ()] or [eos],
+                   "models": models,
                    "software_version": str(result.get("software_version") or ""),
                    "component_data_version": str(result.get("component_data_version") or ""),
                    "kij_data_version": str(result.get("kij_data_version") or "")},
@@ -740,24 +438,23 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
         "condition_notes": ([] if result.get("warnings") else
                             [f"{c['name']}: {w}" for c in conditions for w in c["warnings"]])
         + [f"{c['name']}: {c['message']}" for c in conditions if not c["converged"] and c["message"]],
-        "models": [str(m) for m in (screening or {}).get("models") or ()] or [eos],
-        "limits": {"governing": units.T(limits["governing_k"]), "target": units.T(limits["target_k"]),
-                   "mdmt": units.T(limits["mdmt_k"]), "user": units.T(limits["user_limit_k"]),
-                   "margin": units.DT(limits["margin_k"]), "basis": limits["basis"],
-                   "mdmt_source": limits["mdmt_source"]},
-        "outcome": {"value": outcome, "label": OUTCOME_LABELS[outcome], "sentence": sentence,
-                    "slug": outcome.replace(" ", "-"), "t_out_min": units.T(t_min),
-                    "coldest": str((screening or {}).get("coldest_condition") or ""), "legacy": screening is None},
-        "findings": _findings(screening or {}),
-        "preheat": _preheat(units, answers.get("preheat")),
-        "outlet_limit": _outlet_limit(units, answers.get("outlet_pressure_limit")),
-        "sweep": _sweep(units, answers.get("sweep"), limits),
+        "models": models,
+        "limits": {"governing": units.T(limits.governing_k), "target": units.T(limits.target_k),
+                   "mdmt": units.T(limits.mdmt_k), "user": units.T(limits.user_limit_k),
+                   "margin": units.DT(limits.margin_k), "basis": limits.basis, "mdmt_source": limits.mdmt_source},
+        "outcome": {"value": display.outcome, "label": display.label, "sentence": display.sentence,
+                    "slug": display.slug, "t_out_min": display.t_out_min, "coldest": display.coldest_condition,
+                    "legacy": display.legacy},
+        "findings": display.findings,
+        "preheat": display.preheat,
+        "outlet_limit": display.outlet_limit,
+        "sweep": display.sweep,
         "relief": relief,
         "references": refs,
         "history": [_history_row(h) for h in history],
         "caution": CAUTION,
         "signature_roles": [{"role": r, "label": SIGNATURE_LABELS[r]} for r in SIGNATURE_ROLES],
-        "_limits_k": limits,
+        "_display": display, "_units": units,
     }
 
 
@@ -775,40 +472,26 @@ def _svg_uri(svg: str) -> str:
 def _charts(snapshot: Mapping[str, Any], ctx: Mapping[str, Any]) -> dict[str, str | None]:
     """The P-T diagram and the sweep chart as inline SVG (None when one cannot be drawn)."""
     result = snapshot.get("result") or {}
+    display: ScreeningDisplay = ctx["_display"]
     units = ctx["units"]
-    limits = ctx["_limits_k"]
+    limits = display.limits
     out: dict[str, str | None] = {"pt": None, "sweep": None, "pt_error": None, "sweep_error": None}
     try:
-        ends = [charts.LetdownEnds(c["name"], c["converged"], c["si"]["p_in"], c["si"]["t_in"], c["si"]["p_out"],
-                                   c["si"]["t_out"]) for c in ctx["conditions"]]
+        ends = [charts.LetdownEnds(c.name, c.converged, c.p_in_pa, c.t_in_k, c.p_out_pa, c.t_out_k)
+                for c in display.conditions]
         data = charts.pt_diagram_data(
             charts.fluid_key_of(result.get("inputs") or {}), ends,
-            charts.ColdLines(limits["governing_k"], limits["target_k"], limits["mdmt_k"]),
+            charts.ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k),
             charts.ChartUnits(units["temperature"], units["inlet_pressure"], units["p_atm_bar"] * 1e5))
         out["pt"] = _svg_uri(charts.draw_pt_diagram(data, style=charts.PRINT, text_as_paths=False,
                                                     css_class="chart-pt", figsize=(8.2, 4.4),
                                                     margins=(0.085, 0.115, 0.70, 0.975)))
     except (JtcheckError, ValueError, KeyError, TypeError) as exc:
         out["pt_error"] = str(exc)[:200]
-    sw = ctx.get("sweep")
-    table = (sw or {}).get("table")
-    if table and table["rows"] and table["columns"]:
-        lines = []
-        for row in table["rows"]:
-            axis = row["axis"]
-            label = (f"{table['row_dimension'].lower()} {axis['value']:.4g} {axis['unit']}"
-                     if axis["value"] is not None else None)
-            lines.append(charts.SweepLine(label, tuple(c["t_out"]["value"] for c in row["cells"])))
-        fixed = table["fixed"]
-        title = (f"{table['fixed_dimension']} {fixed['value']:.4g} {fixed['unit']} ({table['model'] or 'model'})"
-                 if fixed["value"] is not None else None)
-        data = charts.SweepChartData(
-            x=tuple(c["value"] for c in table["columns"]),
-            x_label=f"{table['column_dimension']} [{table['columns'][0]['unit']}]",
-            y_label=f"Outlet temperature [{units['temperature']}]", lines=tuple(lines),
-            governing=ctx["limits"]["governing"]["value"], target=ctx["limits"]["target"]["value"], title=title)
+    sweep = sweep_chart_data(display, ctx["_units"])
+    if sweep is not None:
         try:
-            out["sweep"] = _svg_uri(charts.draw_sweep_chart(data, style=charts.PRINT, text_as_paths=False,
+            out["sweep"] = _svg_uri(charts.draw_sweep_chart(sweep, style=charts.PRINT, text_as_paths=False,
                                                             css_class="chart-sweep", figsize=(7.6, 3.6),
                                                             margins=(0.09, 0.135, 0.72, 0.92)))
         except (ValueError, TypeError) as exc:   # pragma: no cover - plain numbers; a drawing problem shows as text

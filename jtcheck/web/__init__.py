@@ -3,10 +3,14 @@
 >>> from jtcheck.web import create_app
 >>> app = create_app({"DATABASE_URL": "sqlite:////tmp/jtcheck-example.sqlite3"})   # doctest: +SKIP
 
-Only this package imports Flask.  Blueprints: ``auth`` (sign-in, account, users), ``cases`` (case register
-pages, sites), ``records`` (review steps, record PDFs, the verify page), ``batches`` (batch screening of an
-uploaded letdown list, run as background jobs), ``fluids``, ``materials``, ``api``
-(``/api/v1``) and ``health`` (``/healthz``).
+Only this package imports Flask.  One package per feature, each with its blueprint in ``views``:
+``accounts`` (blueprint ``auth``: sign-in, account, users), ``cases`` (case register pages, sites),
+``records`` (review steps, record PDFs, the verify page), ``batches`` (batch screening of an uploaded letdown
+list, run as background jobs), ``fluids``, ``materials`` and ``api`` (``/api/v1``); ``health`` (``/healthz``)
+is a module.  What the features share stays at this level: settings (``config``), the database session
+(``database``), who is signed in (``security``), error answers (``errors``), plain forms (``forms``),
+quantities with units (``quantities``), deleting cases and fluids (``removal``), file downloads
+(``downloads``) and the case page (``case_page``), which the cases views and the review steps both render.
 Configuration comes from environment variables (see :mod:`jtcheck.web.config`); the ``config`` argument
 of :func:`create_app` overrides them (tests).
 """
@@ -24,11 +28,13 @@ from werkzeug.middleware.proxy_fix import ProxyFix
 from jtcheck import __version__
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
-from jtcheck.web import batches, database, errors, records_views, security
+from jtcheck.reports.numbers import fmt_number
+from jtcheck.web import database, errors, security
+from jtcheck.web.batches import views as batch_views
+from jtcheck.web.cases.diagram import DiagramCache
+from jtcheck.web.cases.results import units_of
 from jtcheck.web.config import DEFAULTS, from_environment, instance_path, instance_secret_key
-from jtcheck.web.diagram import DiagramCache
-from jtcheck.web.quantities import fmt_number
-from jtcheck.web.results import units_of
+from jtcheck.web.records import views as record_views
 
 
 def templates_path() -> Path:
@@ -76,15 +82,20 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
 
     database.init_app(app)
     security.init_app(app)          # first: an anonymous request goes to sign-in before anything else
-    records_views.init_app(app)     # the upload limit of the verify page, before the CSRF check reads the form
-    batches.init_app(app)           # the same for the batch upload
+    record_views.init_app(app)      # the upload limit of the verify page, before the CSRF check reads the form
+    batch_views.init_app(app)       # the same for the batch upload
     csrf = CSRFProtect(app)
     limiter = Limiter(get_remote_address, app=app, headers_enabled=False)
     errors.register(app)
 
-    from jtcheck.web import api, auth, cases, fluids, health, materials
+    from jtcheck.web import health
+    from jtcheck.web.accounts import views as accounts
+    from jtcheck.web.api import views as api
+    from jtcheck.web.cases import views as cases
+    from jtcheck.web.fluids import views as fluids
+    from jtcheck.web.materials import views as materials
 
-    for bp in (auth.bp, cases.bp, records_views.bp, batches.bp, fluids.bp, materials.bp, api.bp, health.bp):
+    for bp in (accounts.bp, cases.bp, record_views.bp, batch_views.bp, fluids.bp, materials.bp, api.bp, health.bp):
         app.register_blueprint(bp)
     csrf.exempt(api.bp)             # token-authenticated only: no cookie, so no cross-site forgery
     app.view_functions["auth.login"] = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])

@@ -21,8 +21,8 @@ from jtcheck.records import service
 from jtcheck.records.demo import load_demo
 from jtcheck.records.models import Role, Site, User
 from jtcheck.web import create_app
+from jtcheck.web.accounts.passwords import generate_password, hash_password
 from jtcheck.web.database import db_session
-from jtcheck.web.passwords import generate_password, hash_password
 
 #: E-mail address of the admin account made on the first start (JTCHECK_ADMIN_EMAIL changes it).
 DEFAULT_ADMIN_EMAIL = "admin@jtcheck.local"
@@ -64,7 +64,7 @@ def bootstrap(app: Flask, url: str, *, demo: bool = True, reset_admin_password: 
             load_demo(session)
             lines.append(f"loaded the demo site. {DEMO_NOTICE}")
             from jtcheck.reports.demo import DEMO_RECORD_TAG, issue_demo_record
-            from jtcheck.web.records_pki import app_signer
+            from jtcheck.web.records.signer import app_signer
 
             revision = issue_demo_record(session, app_signer())
             if revision is not None:

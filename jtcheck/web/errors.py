@@ -66,7 +66,7 @@ _TITLES = {400: "Bad request", 401: "Sign-in needed", 403: "Not allowed", 404: "
            409: "Conflict", 413: "Too large", 422: "Input not accepted", 429: "Too many attempts",
            500: "Internal error", 502: "Signing service not answering", 503: "Service unavailable"}
 
-#: Endpoints that take a file upload: a larger request size limit (:mod:`jtcheck.web.records_views`), and their 413
+#: Endpoints that take a file upload: a larger request size limit (:mod:`jtcheck.web.records.views`), and their 413
 #: answer names the field "file".
 UPLOAD_ENDPOINTS = frozenset({"records.verify", "batches.create"})
 

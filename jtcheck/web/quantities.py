@@ -292,15 +292,3 @@ def input_number(value: float | None) -> str:
         return ""
     text = f"{value:.12g}"
     return "0" if text == "-0" else text
-
-
-def fmt_number(value: float | None, kind: str = "pressure") -> str:
-    """A number for a page: temperatures to 0.01, pressures to 6 significant digits."""
-    if value is None or (isinstance(value, float) and not math.isfinite(value)):
-        return "–"
-    if kind in ("temperature", "difference"):
-        text = f"{value:.2f}"
-        return "0.00" if text == "-0.00" else text
-    if abs(value) >= 1e6:
-        return f"{value:.0f}"
-    return f"{value:.6g}"

@@ -15,9 +15,9 @@ from jtcheck.records import service
 from jtcheck.records.errors import PermissionDenied
 from jtcheck.records.models import Role, User
 from jtcheck.records.tokens import user_for_token
+from jtcheck.web.accounts.passwords import session_fingerprint
 from jtcheck.web.database import db_session
 from jtcheck.web.errors import json_error
-from jtcheck.web.passwords import session_fingerprint
 
 #: Endpoints anyone may reach: the sign-in page, the health check and the style sheet.
 PUBLIC_ENDPOINTS = frozenset({"auth.login", "health.healthz", "static"})

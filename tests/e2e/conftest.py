@@ -95,8 +95,8 @@ def _warm_up_kernels() -> None:
 def _seed(app) -> tuple[str, int, int, int]:
     """Accounts of each role, a site with a unit, one case the checker test opens and one the review test takes
     through the review."""
+    from jtcheck.web.accounts.passwords import hash_password
     from jtcheck.web.database import db_session
-    from jtcheck.web.passwords import hash_password
 
     with app.app_context():
         s = db_session()

@@ -21,8 +21,8 @@ from jtcheck.records.db import current_revision, downgrade_database, normalise_d
 from jtcheck.records.models import Role
 from jtcheck.records.tokens import create_token
 from jtcheck.web import create_app
+from jtcheck.web.accounts.passwords import hash_password
 from jtcheck.web.database import db_session
-from jtcheck.web.passwords import hash_password
 
 
 def env_database_url() -> str | None:

@@ -223,7 +223,7 @@ def test_reference_lists(api, world):
 
 # -- errors --------------------------------------------------------------------------------------------------
 def test_internal_error_is_a_json_500_without_traceback(api, monkeypatch, caplog):
-    from jtcheck.web import api as api_module
+    from jtcheck.web.api import library as api_module
 
     def explode(*args, **kwargs):
         raise RuntimeError("secret internals at /srv/db password=hunter2")
@@ -239,7 +239,7 @@ def test_internal_error_is_a_json_500_without_traceback(api, monkeypatch, caplog
 
 
 def test_internal_error_on_a_page_is_a_plain_500(engineer, monkeypatch):
-    from jtcheck.web import fluids as fluids_module
+    from jtcheck.web.fluids import views as fluids_module
 
     def explode(*args, **kwargs):
         raise RuntimeError("hunter2")

@@ -315,7 +315,7 @@ def test_steps_in_the_wrong_state_are_409(app, api, world):
 
 
 def test_a_signing_failure_stores_nothing(app, api, world, monkeypatch, caplog):
-    from jtcheck.web import records_pki
+    from jtcheck.web.records import signer as records_pki
 
     case_id = new_case(api, world)
     before = stored(app, case_id)

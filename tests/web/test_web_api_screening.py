@@ -12,8 +12,9 @@ from web_helpers import LEAN_GAS, P_ATM, PSI, case_body
 from jtcheck import Fluid, letdown
 from jtcheck.records.models import Role
 from jtcheck.screening import screen as screen_module
-from jtcheck.web import api_schemas, caseinput
-from jtcheck.web.api import _LETDOWN_KEYS
+from jtcheck.web.api import schemas as api_schemas
+from jtcheck.web.api.letdown import _LETDOWN_KEYS
+from jtcheck.web.cases import inputs as caseinput
 
 LIMIT_K = 273.15 - 29.0
 MARGIN_K = 5.0

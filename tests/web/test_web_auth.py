@@ -151,7 +151,7 @@ def test_password_change_checks_input_and_ends_other_sessions(app, world):
     email = "changer@example.org"
     with app.app_context():
         from jtcheck.records import service
-        from jtcheck.web.passwords import hash_password
+        from jtcheck.web.accounts.passwords import hash_password
 
         s = db_session()
         admin = service.get_user_by_email(s, world.emails[Role.ADMIN])

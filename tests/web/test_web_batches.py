@@ -270,7 +270,7 @@ def test_a_file_with_bad_rows_shows_every_error_and_stores_nothing(app, engineer
 
 
 def test_a_file_with_very_many_errors_lists_the_first_and_says_how_many(engineer, monkeypatch):
-    from jtcheck.web import batches
+    from jtcheck.web.batches import views as batches
 
     monkeypatch.setattr(batches, "MAX_ERRORS_SHOWN", 2)
     resp = _upload(engineer, _mixed_file(), "mixed.csv")
@@ -329,7 +329,7 @@ def test_the_upload_size_limit_is_enforced(app, engineer):
 
 def test_uploads_may_be_larger_than_the_apps_request_limit(app, engineer):
     """The app refuses requests over MAX_CONTENT_LENGTH (1 MiB); the batch upload may carry up to 50 MB."""
-    from jtcheck.web import batches
+    from jtcheck.web.batches import views as batches
 
     assert batches.UPLOAD_MAX_BYTES == 50 * 1024 * 1024 > app.config["MAX_CONTENT_LENGTH"]
     big = b"tag,notes\r\n" + b"PCV-1,xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx\r\n" * 40_000    # 2.2 MB

@@ -251,7 +251,7 @@ def test_missing_case_and_result_are_404(engineer, world):
 
 
 def test_result_page_survives_a_diagram_that_cannot_be_drawn(app, engineer, world, monkeypatch):
-    from jtcheck.web import diagram
+    from jtcheck.web.cases import diagram
 
     def broken(result):
         raise ValueError("no drawing today")

@@ -10,7 +10,7 @@ from web_helpers import case_form, count, field_error, unique
 
 from jtcheck.records.models import AuditEntry, Case, FluidRecord, Material
 from jtcheck.web.database import db_session
-from jtcheck.web.fluids import parse_composition_lines
+from jtcheck.web.fluids.views import parse_composition_lines
 
 
 def _fluid(app, name):

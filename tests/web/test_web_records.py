@@ -470,7 +470,7 @@ def test_trust_root_download(engineer):
 
 
 def test_a_signing_failure_stores_nothing_and_says_so(app, world, engineer, monkeypatch):
-    from jtcheck.web import records_pki
+    from jtcheck.web.records import signer as records_pki
 
     def broken_signer():
         def sign(req):

@@ -14,10 +14,11 @@ from web_helpers import P_ATM, PSI, case_body, case_form, count, created_id, fie
 from jtcheck.notices import CAUTION
 from jtcheck.records import service
 from jtcheck.records.models import AuditEntry, Case, CaseResult
+from jtcheck.reports.numbers import fmt_number
 from jtcheck.units import pressure_from_pa, temperature_from_k
+from jtcheck.web.api.serialize import result_json
+from jtcheck.web.cases.results import screening_view
 from jtcheck.web.database import db_session
-from jtcheck.web.quantities import fmt_number
-from jtcheck.web.results import result_json, screening_view
 
 LABELS = {"pass": "PASS", "margin eroded": "MARGIN ERODED", "fail": "FAIL", "not screened": "NOT SCREENED",
           "not computed": "NOT COMPUTED"}

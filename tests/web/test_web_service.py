@@ -13,8 +13,8 @@ from jtcheck.records.demo import SITE_NAME
 from jtcheck.records.models import Case, Role, Site, User
 from jtcheck.web import create_app
 from jtcheck.web.__main__ import bootstrap
+from jtcheck.web.cases.diagram import inline_svg
 from jtcheck.web.database import db_session
-from jtcheck.web.diagram import inline_svg
 
 
 def test_healthz_reports_the_database(client):

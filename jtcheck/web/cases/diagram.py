@@ -2,7 +2,8 @@
 
 The drawing itself is :mod:`jtcheck.reports.charts` (the calculation records draw the same charts); this
 module turns a stored :class:`~jtcheck.records.models.CaseResult` into the charts' plain data, in the units
-the case was entered in, through the same helpers as the result page (:mod:`jtcheck.web.results`).
+the case was entered in, from the same display as the result page and the record
+(:mod:`jtcheck.reports.screening_display`).
 Documents are kept in a small in-memory cache per result.
 """
 from __future__ import annotations
@@ -21,14 +22,14 @@ from jtcheck.reports.charts import (
     ChartUnits,
     ColdLines,
     LetdownEnds,
-    SweepChartData,
-    SweepLine,
     draw_pt_diagram,
     draw_sweep_chart,
+    fluid_key_of,
     inline_svg,
     pt_diagram_data,
 )
-from jtcheck.web.results import Units, conditions_of, fluid_key, limits_of, screening_view, units_of
+from jtcheck.reports.screening_display import sweep_chart_data
+from jtcheck.web.cases.results import screening_view, units_of
 
 __all__ = ["TITLE", "SWEEP_TITLE", "inline_svg", "render", "render_sweep", "DiagramCache", "cache_key"]
 
@@ -38,11 +39,11 @@ _LOCK = threading.Lock()          # one drawing at a time
 
 def render(result: CaseResult) -> str:
     """The P-T diagram of ``result`` as an SVG element (text)."""
-    units: Units = units_of(result)
-    limits = limits_of(result)
-    ends = [LetdownEnds(c.name, c.converged, c.p_in_pa, c.t_in_k, c.p_out_pa, c.t_out_k)
-            for c in conditions_of(result)]
-    data = pt_diagram_data(fluid_key(result.inputs or {}), ends,
+    units = units_of(result)
+    view = screening_view(result)
+    limits = view.limits
+    ends = [LetdownEnds(c.name, c.converged, c.p_in_pa, c.t_in_k, c.p_out_pa, c.t_out_k) for c in view.conditions]
+    data = pt_diagram_data(fluid_key_of(result.inputs or {}), ends,
                            ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k),
                            ChartUnits(units.temperature, units.inlet_pressure, units.p_atm_pa))
     return draw_pt_diagram(data, style=SCREEN)
@@ -50,27 +51,8 @@ def render(result: CaseResult) -> str:
 
 def render_sweep(result: CaseResult) -> str | None:
     """The operating sweep of ``result`` as an SVG element (text); None when the result has no sweep table."""
-    view = screening_view(result)
-    table = (view.sweep or {}).get("table")
-    if not table or not table["rows"] or not table["columns"]:
-        return None
-    units = units_of(result)
-    limits = view.limits
-    lines = []
-    for row in table["rows"]:
-        axis = row["axis"]
-        label = (f"{table['row_dimension'].lower()} {axis['value']:.4g} {axis['unit']}"
-                 if axis["value"] is not None else None)
-        lines.append(SweepLine(label, tuple(c["t_out"]["value"] for c in row["cells"])))
-    fixed = table["fixed"]
-    title = (f"{table['fixed_dimension']} {fixed['value']:.4g} {fixed['unit']} ({table['model'] or 'model'})"
-             if fixed["value"] is not None else None)
-    data = SweepChartData(
-        x=tuple(c["value"] for c in table["columns"]),
-        x_label=f"{table['column_dimension']} [{table['columns'][0]['unit']}]",
-        y_label=f"Outlet temperature [{units.temperature}]", lines=tuple(lines),
-        governing=units.t(limits.governing_k), target=units.t(limits.target_k), title=title)
-    return draw_sweep_chart(data, style=SCREEN)
+    data = sweep_chart_data(screening_view(result), units_of(result))
+    return None if data is None else draw_sweep_chart(data, style=SCREEN)
 
 
 #: The drawings a cache can make, by name.

@@ -8,15 +8,15 @@ from jtcheck.records import service
 from jtcheck.records.errors import NotFound
 from jtcheck.records.models import Role, User
 from jtcheck.records.tokens import create_token, revoke_token
-from jtcheck.web.database import db_session
-from jtcheck.web.forms import FormState
-from jtcheck.web.passwords import (
+from jtcheck.web.accounts.passwords import (
     check_new_password,
     generate_password,
     hash_password,
     needs_rehash,
     verify_password,
 )
+from jtcheck.web.database import db_session
+from jtcheck.web.forms import FormState
 from jtcheck.web.security import current_user, require_admin, require_viewer, safe_next, sign_in, sign_out
 
 bp = Blueprint("auth", __name__)
@@ -39,12 +39,12 @@ def login():
         if not ok or user is None or not user.active:
             current_app.logger.info("failed sign-in for %r from %s", email[:254], request.remote_addr)
             form.general.append(_FAILED)
-            return render_template("auth/login.html", form=form), 401
+            return render_template("accounts/login.html", form=form), 401
         if needs_rehash(user.password_hash):
             user = service.update_user(session, user, user.id, {"password_hash": hash_password(password)})
         sign_in(user)
         return redirect(safe_next(form.get("next")) or url_for("cases.index"))
-    return render_template("auth/login.html", form=form)
+    return render_template("accounts/login.html", form=form)
 
 
 @bp.route("/logout", methods=["POST"])
@@ -58,7 +58,7 @@ def logout():
 @bp.route("/account", methods=["GET"])
 def account():
     user = require_viewer("view the account page")
-    return render_template("auth/account.html", user=user, form=FormState(), token=None)
+    return render_template("accounts/account.html", user=user, form=FormState(), token=None)
 
 
 @bp.route("/account/password", methods=["POST"])
@@ -79,7 +79,7 @@ def change_password():
     if new and new == current:
         form.add("new_password", "choose a password different from the current one")
     if not form.ok:
-        return render_template("auth/account.html", user=user, form=form, token=None), 422
+        return render_template("accounts/account.html", user=user, form=form, token=None), 422
     user = service.update_user(db_session(), user, user.id, {"password_hash": hash_password(new)})
     sign_in(user)   # a fresh session; sessions signed in with the old password end
     flash("Your password is changed. Other sessions signed in with the old password are signed out.")
@@ -90,7 +90,7 @@ def change_password():
 def make_token():
     user = require_viewer("make an API token")
     token = create_token(db_session(), user)
-    return render_template("auth/account.html", user=user, form=FormState(), token=token)
+    return render_template("accounts/account.html", user=user, form=FormState(), token=token)
 
 
 @bp.route("/account/token/revoke", methods=["POST"])
@@ -108,7 +108,7 @@ _USER_FIELDS = ("email", "name", "role")
 @bp.route("/users")
 def users():
     admin = require_admin("list users")
-    return render_template("auth/users.html", users=service.list_users(db_session(), admin), roles=list(Role),
+    return render_template("accounts/users.html", users=service.list_users(db_session(), admin), roles=list(Role),
                            form=FormState.of({"role": Role.ENGINEER.value}), new_password=None)
 
 
@@ -123,9 +123,9 @@ def new_user():
                                    role=form.get("role"), password_hash=hash_password(password))
     except InputError as exc:
         form.add(exc.field, exc.message)
-        return render_template("auth/users.html", users=service.list_users(session, admin), roles=list(Role),
+        return render_template("accounts/users.html", users=service.list_users(session, admin), roles=list(Role),
                                form=form, new_password=None), 409 if "already exists" in exc.message else 422
-    return render_template("auth/users.html", users=service.list_users(session, admin), roles=list(Role),
+    return render_template("accounts/users.html", users=service.list_users(session, admin), roles=list(Role),
                            form=FormState.of({"role": Role.ENGINEER.value}), new_password=(user, password))
 
 
@@ -141,7 +141,7 @@ def edit_user(user_id: int):
     admin = require_admin("edit users")
     user = _user_or_404(user_id)
     if request.method == "GET":
-        return render_template("auth/user_edit.html", user=user, roles=list(Role),
+        return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                                form=FormState.of({"name": user.name, "role": Role(user.role).value,
                                                   "active": "1" if user.active else ""}), new_password=None)
     form = FormState.from_request(("name", "role", "active"))
@@ -150,7 +150,7 @@ def edit_user(user_id: int):
         user = service.update_user(db_session(), admin, user_id, changes)
     except InputError as exc:
         form.add(exc.field, exc.message)
-        return render_template("auth/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
+        return render_template("accounts/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
                                new_password=None), 422
     flash(f"Saved {user.email}.")
     return redirect(url_for("auth.users"))
@@ -164,6 +164,6 @@ def reset_password(user_id: int):
     user = service.update_user(db_session(), admin, user.id, {"password_hash": hash_password(password)})
     if user.id == admin.id:
         sign_in(user)   # keep the admin who reset their own password signed in
-    return render_template("auth/user_edit.html", user=user, roles=list(Role),
+    return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                            form=FormState.of({"name": user.name, "role": Role(user.role).value,
                                               "active": "1" if user.active else ""}), new_password=password)

@@ -1,25 +1,25 @@
 """Pages of the case register: case list, case form, case and result views, audit history, sites and units.
 
-The case page also shows the review of its calculation records (:mod:`jtcheck.web.records_views`): the
-current revision, the steps the user may take, the revisions with their record PDFs and the review steps.
+The case page itself (:mod:`jtcheck.web.case_page`) also shows the review of its calculation records
+(:mod:`jtcheck.web.records.review`): the current revision, the steps the user may take, the revisions with
+their record PDFs and the review steps.
 A case whose current record is in review cannot be edited: its edit page says so instead of offering the form.
 """
 from __future__ import annotations
 
 from typing import Any
 
-from flask import Blueprint, current_app, flash, redirect, render_template, request, url_for
+from flask import Blueprint, flash, redirect, render_template, request, url_for
 from sqlalchemy import select
 
 from jtcheck.errors import InputError
-from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service, workflow
-from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
-from jtcheck.records.models import Case, CaseKind, CaseResult, RevisionStatus
+from jtcheck.records.models import Case, CaseKind, RevisionStatus
 from jtcheck.units import pressure_from_pa
-from jtcheck.web import records_views, removal
-from jtcheck.web.caseinput import (
+from jtcheck.web import removal
+from jtcheck.web.case_page import render_case_page
+from jtcheck.web.cases.inputs import (
     HYDRATE_INHIBITORS,
     SCREENING_FIELDS,
     FieldInputError,
@@ -28,8 +28,14 @@ from jtcheck.web.caseinput import (
     field_message,
     form_field,
 )
+from jtcheck.web.cases.results import (
+    NOT_COMPUTED,
+    OUTCOMES,
+    conditions_of,
+    outcome_of,
+    units_of,
+)
 from jtcheck.web.database import db_session
-from jtcheck.web.diagram import DiagramCache
 from jtcheck.web.forms import FormState
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
@@ -39,16 +45,6 @@ from jtcheck.web.quantities import (
     input_number,
     p_atm_unit_for,
     to_display,
-)
-from jtcheck.web.results import (
-    NOT_COMPUTED,
-    OUTCOMES,
-    basis_of,
-    conditions_of,
-    limits_of,
-    outcome_of,
-    screening_view,
-    units_of,
 )
 from jtcheck.web.security import current_user, require_editor, require_viewer
 
@@ -131,7 +127,7 @@ def _form_of(case: Case) -> FormState:
 
 
 def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict[str, Any]:
-    """The posted case as the mapping :func:`jtcheck.web.caseinput.convert` takes (quantities as "72 barg")."""
+    """The posted case as the mapping :func:`jtcheck.web.cases.inputs.convert` takes (quantities as "72 barg")."""
     raw: dict[str, Any] = {k: form.get(k) for k in (*_TEXT_FIELDS, *SCREENING_FIELDS)}
     for name in (*(q.name for q in CASE_QUANTITIES), "p_atm"):
         value, unit = form.get(name).strip(), form.get(f"{name}_unit").strip()
@@ -155,40 +151,6 @@ def _apply_input_error(form: FormState, exc: InputError) -> None:
 
 def _case(case_id: int) -> Case:
     return service.get_case(db_session(), require_viewer("view cases"), case_id)
-
-
-def _diagrams() -> DiagramCache:
-    return current_app.extensions["jtcheck_diagrams"]
-
-
-def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
-    if result is None:
-        return {"result": None}
-    units = units_of(result)
-    screening = screening_view(result)
-    return {"result": result, "conditions": conditions_of(result), "limits": limits_of(result), "units": units,
-            "basis": basis_of(result), "current": service.result_is_current(case, result),
-            "screening": screening, "diagram": _diagrams().get(result),
-            "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
-
-
-def _case_context(case: Case, review_form: FormState | None = None, review_step: str | None = None
-                  ) -> dict[str, Any]:
-    shown = dict(case.display_units or {})
-    inputs = []
-    for q in CASE_QUANTITIES:
-        value = getattr(case, q.key)
-        if value is None:
-            continue
-        unit = display_unit(q, shown)
-        inputs.append((q, to_display(q, value, unit, case.p_atm_pa), unit, value))
-    user = current_user()
-    review = records_views.review_context(case, user, review_form, review_step)
-    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown), "review": review,
-            "can_edit": service.can_edit_cases(user) and not review["frozen"],
-            "can_delete": removal.may_delete_case(user, case),
-            "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,
-            "result_outcome": outcome_of}
 
 
 # -- list ------------------------------------------------------------------------------------------
@@ -315,14 +277,6 @@ def delete(case_id: int):
 
 
 # -- view, compute, results, history ---------------------------------------------------------------
-def render_case_page(case: Case, result: CaseResult | None = None, *, status: int = 200,
-                     review_form: FormState | None = None, review_step: str | None = None):
-    """The case page with ``result`` (default: the latest), and a refused review step shown in its section."""
-    shown = result if result is not None else case.latest_result
-    return render_template("cases/view.html", **_case_context(case, review_form, review_step),
-                           **_result_context(case, shown), results=list(reversed(case.results))), status
-
-
 @bp.route("/cases/<int:case_id>")
 def view(case_id: int):
     return render_case_page(_case(case_id))

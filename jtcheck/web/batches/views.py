@@ -44,8 +44,10 @@ from jtcheck.batch.layout import MAX_BYTES
 from jtcheck.errors import InputError
 from jtcheck.records.errors import NotFound, PermissionDenied
 from jtcheck.records.models import BatchJob, BatchStatus, Role
-from jtcheck.units import temperature_difference_from_k, temperature_from_k
+from jtcheck.reports.numbers import UNIT_LABELS, finite_or_none, temperature_text
+from jtcheck.units import temperature_difference_from_k
 from jtcheck.web.database import db_session
+from jtcheck.web.downloads import attachment
 from jtcheck.web.errors import ApiError
 from jtcheck.web.forms import FormState
 from jtcheck.web.security import current_user, require_viewer
@@ -67,7 +69,6 @@ WORKER_HINT_AFTER_S = 15
 FORM_FIELDS = ("limit", "mdmt", "margin", "compare_models", "keep_going")
 FIELD_LABELS = {"file": "Letdown list", "limit": "Cold limit", "mdmt": "MDMT", "margin": "Margin"}
 SORTS = {"row": "file order", "coldest": "coldest first", "warmest": "warmest first"}
-_UNIT_LABELS = {"degc": "°C", "degf": "°F", "k": "K", "degr": "°R"}
 
 PROGRESS_JS = """\
 // jtcheck: follow a batch job's progress (polls its status once a second, reloads the page when it is finished)
@@ -137,27 +138,10 @@ def _job(job_id: int, *, light: bool = False) -> BatchJob:
     return job
 
 
-def _attachment(data: bytes, mimetype: str, filename: str) -> Response:
-    resp = Response(data, mimetype=mimetype)
-    resp.headers["Content-Disposition"] = f'attachment; filename="{filename}"'
-    resp.headers["Content-Length"] = str(len(data))
-    return resp
-
-
 def _stem(job: BatchJob) -> str:
     base = job.filename.rsplit(".", 1)[0]
     safe = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in base).strip("-")[:60]
     return f"batch{job.id}-{safe or 'letdowns'}"
-
-
-def _finite(value: Any) -> float | None:
-    if value is None or isinstance(value, bool):
-        return None
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        return None
-    return v if math.isfinite(v) else None
 
 
 class _Display:
@@ -167,18 +151,14 @@ class _Display:
         units = (job.reading or {}).get("units") or {}
         self.temperature = str(units.get("inlet_temperature") or "degC")
         self.difference = "degF" if self.temperature.lower() == "degf" else "K"
-        self.t_label = _UNIT_LABELS.get(self.temperature.lower(), self.temperature)
+        self.t_label = UNIT_LABELS.get(self.temperature.lower(), self.temperature)
         self.dt_label = "°F" if self.difference == "degF" else "K"
 
     def t(self, k: Any) -> str:
-        v = _finite(k)
-        if v is None:
-            return "–"
-        text = f"{temperature_from_k(v, self.temperature):.1f}"
-        return f"{'0.0' if text == '-0.0' else text} {self.t_label}"
+        return temperature_text(k, self.temperature)
 
     def dt(self, dk: Any) -> str:
-        v = _finite(dk)
+        v = finite_or_none(dk)
         if v is None:
             return "–"
         text = f"{temperature_difference_from_k(v, self.difference):+.1f}"
@@ -196,7 +176,7 @@ def _row_view(r: dict[str, Any], show: _Display) -> dict[str, Any]:
             "phase": r.get("phase") or "–", "path": r.get("path") or "–", "hazard": bool(r.get("hazard")),
             "hazards": [f.get("message", "") for f in hazards], "message": r.get("message") or "",
             "hazard_topics": list(dict.fromkeys(str(f.get("topic") or "hazard") for f in hazards)),
-            "cold": (_finite(r.get("margin_to_limit_k")) or 0.0) < 0}
+            "cold": (finite_or_none(r.get("margin_to_limit_k")) or 0.0) < 0}
 
 
 def _status_text(job: BatchJob) -> str:
@@ -233,8 +213,8 @@ def _filtered(rows: list[dict[str, Any]], f: dict[str, Any]) -> list[dict[str, A
     if f["hazards"]:
         out = [r for r in out if r.get("hazard")]
     if f["sort"] in ("coldest", "warmest"):
-        with_t = [r for r in out if _finite(r.get("t_screen_k")) is not None]
-        without = [r for r in out if _finite(r.get("t_screen_k")) is None]
+        with_t = [r for r in out if finite_or_none(r.get("t_screen_k")) is not None]
+        without = [r for r in out if finite_or_none(r.get("t_screen_k")) is None]
         with_t.sort(key=lambda r: float(r["t_screen_k"]), reverse=f["sort"] == "warmest")
         out = with_t + without
     return out
@@ -320,7 +300,7 @@ def view(job_id: int):
         pages = max(1, math.ceil(len(chosen) / PAGE_SIZE))
         f["page"] = min(f["page"], pages)
         start = (f["page"] - 1) * PAGE_SIZE
-        coldest = sorted((r for r in rows if _finite(r.get("t_screen_k")) is not None),
+        coldest = sorted((r for r in rows if finite_or_none(r.get("t_screen_k")) is not None),
                          key=lambda r: float(r["t_screen_k"]))[:10]
         counts = job.counts or {}
         context.update(show=show, rows=[_row_view(r, show) for r in chosen[start:start + PAGE_SIZE]],
@@ -373,7 +353,7 @@ def results_file(job_id: int, fmt: str):
     data = _results_file(job, fmt)
     mimetype = ("text/csv; charset=utf-8" if fmt == "csv"
                 else "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet")
-    return _attachment(data, mimetype, f"{_stem(job)}-results.{fmt}")
+    return attachment(data, mimetype, f"{_stem(job)}-results.{fmt}")
 
 
 @bp.get("/batches/<int:job_id>/bad-rows.csv")
@@ -383,7 +363,7 @@ def bad_rows(job_id: int):
     data = db_session().scalar(select(BatchJob.bad_rows).where(BatchJob.id == job.id))
     if not data:
         raise ApiError(404, f"batch {job.id} has no bad rows: every row of {job.filename} was read")
-    return _attachment(data, "text/csv; charset=utf-8", f"{_stem(job)}-bad-rows.csv")
+    return attachment(data, "text/csv; charset=utf-8", f"{_stem(job)}-bad-rows.csv")
 
 
 @bp.get("/batches/<int:job_id>/summary.pdf")
@@ -393,7 +373,7 @@ def summary_pdf(job_id: int):
 
     job = _done_job(job_id)
     rendered = render_batch_summary(summary_context(job, temperature_unit=_Display(job).temperature))
-    return _attachment(rendered.pdf, "application/pdf", f"{_stem(job)}-summary.pdf")
+    return attachment(rendered.pdf, "application/pdf", f"{_stem(job)}-summary.pdf")
 
 
 @bp.get("/batches/template.<fmt>")
@@ -405,4 +385,4 @@ def template_file(fmt: str):
 
     mimetype = ("text/csv; charset=utf-8" if fmt == "csv"
                 else "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet")
-    return _attachment(write_template(fmt), mimetype, f"jtcheck-letdown-list.{fmt}")
+    return attachment(write_template(fmt), mimetype, f"jtcheck-letdown-list.{fmt}")

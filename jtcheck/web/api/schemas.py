@@ -8,8 +8,8 @@ from jtcheck.records.models import CaseKind, ReviewAction, RevisionStatus
 from jtcheck.records.workflow import MAX_COMMENT
 from jtcheck.screening.findings import Outcome, Severity, Topic
 from jtcheck.screening.hydrates import Inhibitor
-from jtcheck.web import caseinput
-from jtcheck.web.openapi import ApiRegistry
+from jtcheck.web.api.openapi import ApiRegistry
+from jtcheck.web.cases import inputs as case_inputs
 from jtcheck.web.quantities import CASE_QUANTITIES
 
 
@@ -132,7 +132,7 @@ def register(api: ApiRegistry) -> None:
         "fluid": {"type": "object"}, "screening": _ref("Screening"), "basis": {"type": "object"},
         "notes": {"type": "array", "items": {"type": "string"}}, "caution": {"type": "string"}}})
 
-    case_props = {key: _case_property(key) for key in caseinput.INPUT_FIELDS}
+    case_props = {key: _case_property(key) for key in case_inputs.INPUT_FIELDS}
     s("CaseInput", {"type": "object", "additionalProperties": False, "properties": case_props,
                     "required": ["unit_id", "tag", "kind", "fluid_id", "inlet_pressure", "inlet_temperature",
                                  "outlet_pressure"]})
@@ -281,7 +281,7 @@ _CASE_TEXT = {
 
 
 def _case_property(key: str) -> dict[str, Any]:
-    """The schema of one case-body field (every key :data:`caseinput.INPUT_FIELDS` accepts)."""
+    """The schema of one case-body field (every key :data:`case_inputs.INPUT_FIELDS` accepts)."""
     if key in _CASE_TEXT:
         return _CASE_TEXT[key]
     q = next((q for q in CASE_QUANTITIES if q.name == key), None)

@@ -6,11 +6,12 @@ their API addresses (so these functions need a request context, as every API ans
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from flask import url_for
 
+from jtcheck.notices import CAUTION
 from jtcheck.records.models import (
     AuditEntry,
     Case,
@@ -27,8 +28,9 @@ from jtcheck.records.models import (
     User,
 )
 from jtcheck.records.snapshot import record_number
+from jtcheck.reports.screening_display import ConditionView, DisplayUnits, key_numbers
 from jtcheck.screening.findings import Outcome
-from jtcheck.web import results
+from jtcheck.web.cases import results
 from jtcheck.web.quantities import CASE_QUANTITIES, display_unit, to_display
 
 
@@ -148,16 +150,57 @@ def outcome_sentence(outcome: str | None) -> str | None:
         return None
 
 
-def result_json(result: CaseResult, current: bool | None = None) -> dict[str, Any]:
-    """A stored result for the API (:func:`jtcheck.web.results.result_json`), with its outcome and screening.
+def _condition_display(units: DisplayUnits, c: ConditionView) -> dict[str, Any]:
+    return {"p_in": units.P(c.p_in_pa, "inlet_pressure"), "t_in": units.T(c.t_in_k),
+            "p_out": units.P(c.p_out_pa, "outlet_pressure"), "t_out": units.T(c.t_out_k),
+            "t_screen": units.T(c.t_screen_k), "temperature_drop": units.DT(c.drop_k),
+            "margin_to_cold_limit": units.DT(c.margin_to_cold_limit_k), "margin_to_mdmt": units.DT(c.margin_to_mdmt_k)}
 
-    The screening is passed through as stored (``Screening.to_dict()``, SI); results stored before
-    screening existed have ``"screening": null`` and the outcome they were stored with.
+
+def screening_json(result: CaseResult) -> dict[str, Any] | None:
+    """The stored screening (SI) plus ``display``: its main numbers in the case's units; None before screening."""
+    if not isinstance(result.screening, Mapping):
+        return None
+    return {**dict(result.screening), "display": key_numbers(result.screening, results.units_of(result))}
+
+
+def result_json(result: CaseResult, current: bool | None = None) -> dict[str, Any]:
+    """A stored result for the API: SI values and the same values in the case's units, its outcome and screening.
+
+    The screening is passed through as stored (``Screening.to_dict()``, SI) with its main numbers in the case's
+    units added as ``display``; results stored before screening existed have ``"screening": null`` and the
+    outcome they were stored with.
     """
-    out = results.result_json(result, current)
-    out.setdefault("outcome", result.outcome)
-    out.setdefault("outcome_sentence", outcome_sentence(result.outcome))
-    out.setdefault("screening", getattr(result, "screening", None))
+    units = results.units_of(result)
+    limits = results.limits_of(result)
+    conditions = []
+    for c in results.conditions_of(result):
+        conditions.append({
+            "condition": c.name, "converged": c.converged, "message": c.message, "inlet_phase": c.inlet_phase,
+            "phase": c.phase, "inlet_vapor_fraction": c.inlet_vapor_fraction, "vapor_fraction": c.vapor_fraction,
+            "warnings": list(c.warnings), "standing": c.standing, "band": c.band,
+            "governing_model": c.governing_model, "solids": None if c.solids is None else dict(c.solids),
+            "si": {"p_in_pa": c.p_in_pa, "t_in_k": c.t_in_k, "p_out_pa": c.p_out_pa, "t_out_k": c.t_out_k,
+                   "t_screen_k": c.t_screen_k, "t_out_by_model_k": dict(c.t_out_by_model),
+                   "temperature_drop_k": c.drop_k, "margin_to_cold_limit_k": c.margin_to_cold_limit_k,
+                   "margin_to_mdmt_k": c.margin_to_mdmt_k},
+            "display": _condition_display(units, c)})
+    out: dict[str, Any] = {
+        "id": result.id, "case_id": result.case_id, "case_version": result.case_version,
+        "computed_at": _iso(result.computed_at),
+        "computed_by": result.computed_by.name if result.computed_by else None,
+        "converged": result.converged, "message": result.message, "warnings": list(result.warnings or []),
+        "outcome": result.outcome, "t_out_min_k": result.t_out_min_k,
+        "limits": {"mdmt_k": limits.mdmt_k, "mdmt_source": limits.mdmt_source, "cold_limit_k": limits.governing_k,
+                   "cold_limit_basis": limits.basis, "margin_k": limits.margin_k,
+                   "user_limit_k": limits.user_limit_k, "governing_k": limits.governing_k,
+                   "target_k": limits.target_k},
+        "p_atm_pa": units.p_atm_pa, "conditions": conditions, "basis": results.basis_of(result),
+        "screening": screening_json(result), "caution": CAUTION,
+    }
+    if current is not None:
+        out["current"] = current
+    out["outcome_sentence"] = outcome_sentence(result.outcome)
     return out
 
 
@@ -185,4 +228,4 @@ def audit_json(entry: AuditEntry) -> dict[str, Any]:
 
 
 __all__ = ["UNSET", "audit_json", "case_json", "current_revision_json", "fluid_json", "material_json", "person_json",
-           "result_json", "review_step_json", "revision_json", "revision_links", "site_json"]
+           "result_json", "review_step_json", "screening_json", "revision_json", "revision_links", "site_json"]

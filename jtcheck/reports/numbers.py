@@ -1,0 +1,67 @@
+"""Stored numbers as text for pages and records: finite floats or nothing, and the one way each kind is rounded.
+
+Shared by the calculation record, the batch summary and (through Jinja filters) the web pages, so that a
+number reads the same on the screen and on paper.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from typing import Any
+
+from jtcheck.units import temperature_from_k
+
+#: Symbols of the temperature units on one-line summaries (batch pages and the batch summary).
+UNIT_LABELS = {"degc": "°C", "degf": "°F", "k": "K", "degr": "°R"}
+
+
+def finite_or_none(value: Any) -> float | None:
+    """A stored number as a finite float; None for None, booleans, text that is no number, NaN and infinities."""
+    if value is None or isinstance(value, bool):
+        return None
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return None
+    return v if math.isfinite(v) else None
+
+
+def fmt_number(value: Any, kind: str = "pressure") -> str:
+    """A number for a page or the record: temperatures and differences to 0.01, fractions to 0.0001, others to
+    6 significant digits ("–" without a number)."""
+    v = finite_or_none(value)
+    if v is None:
+        return "–"
+    if kind in ("temperature", "difference"):
+        text = f"{v:.2f}"
+        return "0.00" if text == "-0.00" else text
+    if kind == "fraction":
+        return f"{v:.4f}"
+    if abs(v) >= 1e6:
+        return f"{v:.0f}"
+    return f"{v:.6g}"
+
+
+def fmt_quantity(q: Mapping[str, Any] | None, kind: str = "pressure") -> str:
+    """``{"value", "unit"}`` as "12.5 barg" ("–" without a value)."""
+    if not q or finite_or_none(q.get("value")) is None:
+        return "–"
+    return f"{fmt_number(q['value'], kind)} {q['unit']}"
+
+
+def fmt_signed(q: Mapping[str, Any] | None) -> str:
+    """A difference with its sign: "+3.20 K"."""
+    v = finite_or_none((q or {}).get("value"))
+    if v is None:
+        return "–"
+    text = f"{v:+.2f}"
+    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {q['unit']}"
+
+
+def temperature_text(value_k: Any, unit: str) -> str:
+    """A temperature [K] in ``unit`` to 0.1 with the unit's symbol ("-27.4 °C"; "–" without a number)."""
+    v = finite_or_none(value_k)
+    if v is None:
+        return "–"
+    text = f"{temperature_from_k(v, unit):.1f}"
+    return f"{'0.0' if text == '-0.0' else text} {UNIT_LABELS.get(unit.lower(), unit)}"

@@ -1,0 +1,76 @@
+"""The API's blueprint (``/api/v1``) and its OpenAPI registry, the helpers every resource module uses to read a
+request and answer it, and the OpenAPI document itself (``GET /api/v1/openapi.json``)."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from flask import Blueprint, Response, jsonify, request
+
+from jtcheck import __version__
+from jtcheck.errors import InputError
+from jtcheck.notices import CAUTION
+from jtcheck.web.api import schemas
+from jtcheck.web.api.openapi import ApiRegistry
+from jtcheck.web.cases.inputs import FieldInputError
+from jtcheck.web.errors import ApiError
+from jtcheck.web.security import require_viewer
+
+bp = Blueprint("api", __name__, url_prefix="/api/v1")
+api = ApiRegistry(bp, "jtcheck API", __version__,
+                  "Low-temperature screening of pressure letdowns. Quantities carry explicit units; answers give "
+                  "SI values (unit in the key) and the same values in the units chosen. Each case has "
+                  "calculation records (revisions A, B ...; numbered 0, 1 ... when approved) that go through a "
+                  "four-eyes review and are issued as signed PDFs. " + CAUTION)
+schemas.register(api)
+
+
+# -- helpers -------------------------------------------------------------------------------------
+def body() -> dict[str, Any]:
+    """The request's JSON object; 400 if the body is not JSON or not an object."""
+    if not request.is_json:
+        raise ApiError(400, "send a JSON object with 'Content-Type: application/json'")
+    data = request.get_json(silent=True)
+    if not isinstance(data, dict):
+        raise ApiError(400, "the body is not a JSON object")
+    return data
+
+
+def unknown_keys(data: Mapping[str, Any], allowed: tuple[str, ...]) -> None:
+    """Refuse a body with a key outside ``allowed`` (InputError naming the key and listing the allowed ones)."""
+    for key in data:
+        if key not in allowed:
+            raise InputError(str(key), f"unknown field; allowed: {', '.join(allowed)}")
+
+
+def field_errors(exc: FieldInputError) -> ApiError:
+    """The first of a case body's field errors as a 422 answer naming its field."""
+    field, message = exc.first()
+    return ApiError(422, message, field)
+
+
+def int_arg(name: str) -> int | None:
+    """The integer query parameter ``name`` (None when absent or empty)."""
+    raw = request.args.get(name)
+    if raw is None or raw == "":
+        return None
+    try:
+        return int(raw)
+    except ValueError:
+        raise InputError(name, f"must be an integer, got {raw!r}") from None
+
+
+def created(payload: dict[str, Any], location: str) -> Response:
+    """A 201 answer with ``payload`` and the new resource's address in ``Location``."""
+    resp = jsonify(payload)
+    resp.status_code = 201
+    resp.headers["Location"] = location
+    return resp
+
+
+# -- document ------------------------------------------------------------------------------------
+@api.route("/openapi.json", "GET", summary="This OpenAPI document", tag="meta", response="OpenAPI")
+def openapi():
+    """The OpenAPI 3.1 description of this API, generated from the routes."""
+    require_viewer("read the API description")
+    return jsonify(api.document(request.host_url.rstrip("/") + bp.url_prefix))

@@ -1,0 +1,261 @@
+"""``POST /api/v1/letdown``: compute and screen one letdown without storing it."""
+from __future__ import annotations
+
+import math
+import numbers
+from collections.abc import Mapping
+from typing import Any
+
+from flask import jsonify
+
+from jtcheck import Fluid, letdown
+from jtcheck.errors import InputError
+from jtcheck.letdown.throttle import check_letdown_inputs
+from jtcheck.notices import CAUTION
+from jtcheck.records import service
+from jtcheck.records.errors import NotFound
+from jtcheck.records.models import FluidRecord, KijMode
+from jtcheck.reports.screening_display import DisplayUnits, key_numbers
+from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.screening.hydrates import Inhibitor
+from jtcheck.screening.screen import OperatingRanges, Screening, ScreeningOptions, credible_conditions, screen_letdown
+from jtcheck.units import (
+    parse_pressure,
+    parse_temperature,
+    parse_temperature_difference,
+    pressure_from_pa,
+    temperature_from_k,
+)
+from jtcheck.web.api.blueprint import api, body, unknown_keys
+from jtcheck.web.database import db_session
+from jtcheck.web.quantities import MASS_FLOW_UNIT, canonical_unit, parse_p_atm, quantity_text, unit_word
+from jtcheck.web.security import require_viewer
+
+
+# -- computing without storing -------------------------------------------------------------------
+def _fluid_from_spec(spec: Any) -> tuple[Fluid, str]:
+    if not isinstance(spec, Mapping):
+        raise InputError("fluid", "must be an object {\"composition\": ..., \"eos\": \"PR\", \"kij\": \"table\"}")
+    unknown_keys(spec, ("composition", "eos", "kij"))
+    composition = spec.get("composition")
+    if composition is None:
+        raise InputError("fluid.composition", "a composition is required, e.g. {\"methane\": 0.9, \"ethane\": 0.1}")
+    if isinstance(composition, list):
+        if not all(isinstance(p, list | tuple) and len(p) == 2 for p in composition):
+            raise InputError("fluid.composition", "a list must hold [name, amount] pairs")
+        composition = [tuple(p) for p in composition]
+    elif not isinstance(composition, Mapping | str):
+        raise InputError("fluid.composition", "give an object of name: amount, a list of [name, amount] pairs or "
+                                              "'name=amount, ...' text")
+    kij_text = spec.get("kij", "table")
+    try:
+        kij_mode = KijMode(kij_text)
+    except ValueError:
+        raise InputError("fluid.kij", f"unknown kij choice {kij_text!r}; allowed: table, zero") from None
+    try:
+        fluid = Fluid(composition, eos=spec.get("eos", "PR"), kij=kij_mode.fluid_kij())
+    except InputError as exc:
+        raise InputError(f"fluid.{exc.field}", exc.message) from None
+    return fluid, kij_mode.value
+
+
+def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -> str | None:
+    text = quantity_text(data.get(key), key, example)
+    if text is None and required:
+        raise InputError(key, f"required, with its unit, e.g. {example!r}")
+    return text
+
+
+#: Every key of a letdown request.
+_LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
+                 "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models")
+
+
+def _flag(data: Mapping[str, Any], key: str, default: bool) -> bool:
+    value = data.get(key)
+    if value is None:
+        return default
+    if not isinstance(value, bool):
+        raise InputError(key, f"must be true or false, got {value!r}")
+    return value
+
+
+def _inhibitor(value: Any) -> str:
+    if value is None:
+        return Inhibitor.METHANOL.value
+    allowed = [i.value for i in Inhibitor]
+    if isinstance(value, str):
+        for name in allowed:
+            if value.strip().lower() == name.lower():
+                return name
+    raise InputError("inhibitor", f"unknown hydrate inhibitor {value!r}; allowed: {', '.join(allowed)}")
+
+
+def _mass_flow(value: Any) -> float | None:
+    """Mass flow [kg/s] from a number (kg/s), ``"12 kg/s"`` or ``{"value": 12, "unit": "kg/s"}``; None if absent."""
+    if value is None:
+        return None
+    number: Any = value
+    if isinstance(value, Mapping):
+        if set(value) != {"value", "unit"} or str(value.get("unit", "")).strip() != MASS_FLOW_UNIT:
+            raise InputError("mass_flow", f"give {{\"value\": number, \"unit\": \"{MASS_FLOW_UNIT}\"}}; "
+                                          f"{MASS_FLOW_UNIT} is the only unit")
+        number = value["value"]
+    elif isinstance(value, str):
+        text = value.strip()
+        if text.endswith(MASS_FLOW_UNIT):
+            text = text[: -len(MASS_FLOW_UNIT)].strip()
+        try:
+            number = float(text)
+        except ValueError:
+            raise InputError("mass_flow", f"{value!r} is not a mass flow in {MASS_FLOW_UNIT} (e.g. '12 kg/s'); "
+                                          f"{MASS_FLOW_UNIT} is the only unit") from None
+    if isinstance(number, bool) or not isinstance(number, numbers.Real):
+        raise InputError("mass_flow", f"must be a number in {MASS_FLOW_UNIT} or text such as '12 kg/s', "
+                                      f"got {value!r}")
+    flow = float(number)
+    lo, hi, _ = service.MASS_FLOW_RANGE_KG_PER_S
+    if not math.isfinite(flow) or not lo < flow < hi:
+        raise InputError("mass_flow", f"mass flow {value!r} is out of range; allowed: above {lo:g} and below "
+                                      f"{hi:g} {MASS_FLOW_UNIT}")
+    return flow
+
+
+def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
+    limit = _q(data, "limit", "-29 degC", required=False)
+    mdmt = _q(data, "mdmt", "-46 degC", required=False)
+    margin = _q(data, "margin", "5 K", required=False) or "0 K"
+    return ColdLimits(mdmt_k=None if mdmt is None else parse_temperature(mdmt, "mdmt"),
+                      user_limit_k=None if limit is None else parse_temperature(limit, "limit"),
+                      margin_k=parse_temperature_difference(margin, "margin"),
+                      mdmt_source="entered" if mdmt is not None else "")
+
+
+def _ranges(data: Mapping[str, Any], p_in_pa: float, t_in_k: float, p_out_pa: float, p_atm_pa: float
+            ) -> tuple[float | None, float | None, float | None]:
+    """The credible extremes (p_in_max, t_in_min, p_out_min) [Pa, K, Pa], each None when not given."""
+    text = _q(data, "p_in_max", "120 bara", required=False)
+    p_in_max = None if text is None else parse_pressure(text, "p_in_max", p_atm_pa).pa
+    text = _q(data, "t_in_min", "0 degC", required=False)
+    t_in_min = None if text is None else parse_temperature(text, "t_in_min")
+    text = _q(data, "p_out_min", "5 barg", required=False)
+    p_out_min = None if text is None else parse_pressure(text, "p_out_min", p_atm_pa).pa
+    if p_in_max is not None and p_in_max < p_in_pa:
+        raise InputError("p_in_max", f"maximum inlet pressure {p_in_max:g} Pa is below the inlet pressure "
+                                     f"{p_in_pa:g} Pa; allowed: >= p_in")
+    if t_in_min is not None and t_in_min > t_in_k:
+        raise InputError("t_in_min", f"minimum inlet temperature {t_in_min:g} K is above the inlet temperature "
+                                     f"{t_in_k:g} K; allowed: <= t_in")
+    if p_out_min is not None and p_out_min > p_out_pa:
+        raise InputError("p_out_min", f"minimum outlet pressure {p_out_min:g} Pa is above the outlet pressure "
+                                      f"{p_out_pa:g} Pa; allowed: <= p_out")
+    return p_in_max, t_in_min, p_out_min
+
+
+def _screening_notes(screening: Screening) -> list[str]:
+    notes = []
+    if screening.limits.governing_k is None:
+        notes.append("no cold limit given ('limit' or 'mdmt'): the outcome is not screened; the findings stand")
+    for key, what in (("preheat", "preheat"), ("outlet_pressure_limit", "outlet-pressure limit")):
+        part = screening.answers.get(key)
+        if part and not part.get("all_converged"):
+            notes.append(f"the {what} answer is incomplete: a calculation did not converge for at least one "
+                         "condition or model; check the cases listed under screening.answers")
+    return notes
+
+
+@api.route("/letdown", "POST", summary="Compute and screen one letdown without storing it", tag="compute",
+           request="LetdownRequest", response="LetdownResponse", errors=(403, 404))
+def compute_letdown():
+    """Isenthalpic letdown from the inlet state to the outlet pressure, screened for cold hazards.
+
+    The credible conditions (normal; with "t_in_min" and "p_in_max" also the minimum inlet temperature,
+    the maximum inlet pressure and both) are let down with the chosen EOS and, unless "compare_models"
+    is false, the other of PR and SRK; the colder outlet is screened.  With a range ("p_in_max",
+    "t_in_min", "p_out_min") a sweep adds the coldest combination inside it.  "limit" and/or "mdmt"
+    (the warmer governs) plus "margin" give the outcome: pass, margin eroded, fail, or not screened
+    (no limit, or a calculation did not converge: never pass).  On fail or margin eroded the answers
+    give the preheat and the lowest outlet pressure that bring the outlet to limit + margin.
+    Nothing is stored.
+    """
+    require_viewer("compute letdowns")
+    data = body()
+    unknown_keys(data, _LETDOWN_KEYS)
+    if ("fluid" in data) == ("fluid_id" in data):
+        raise InputError("fluid", "give either 'fluid' (a composition) or 'fluid_id' (a stored fluid)")
+    if "fluid_id" in data:
+        fid = data["fluid_id"]
+        if isinstance(fid, bool) or not isinstance(fid, int):
+            raise InputError("fluid_id", f"must be the integer id of a stored fluid, got {fid!r}")
+        record = db_session().get(FluidRecord, fid)
+        if record is None:
+            raise NotFound("fluid", fid, "fluid_id")
+        fluid, kij = record.to_fluid(), KijMode(record.kij_mode).value
+    else:
+        fluid, kij = _fluid_from_spec(data["fluid"])
+    p_atm_text = _q(data, "p_atm", "1.01325 bar", required=False)
+    p_atm_pa = parse_p_atm(p_atm_text)
+    lo, hi, _ = service.P_ATM_RANGE_PA
+    if not lo <= p_atm_pa <= hi:
+        raise InputError("p_atm", f"atmospheric pressure {p_atm_pa:g} Pa is out of range; allowed: {lo:g} to {hi:g} Pa")
+    p_in_text = _q(data, "p_in", "100 bara")
+    t_in_text = _q(data, "t_in", "40 degC")
+    p_out_text = _q(data, "p_out", "10 barg")
+    p_in = parse_pressure(p_in_text, "p_in", p_atm_pa)
+    t_in_k = parse_temperature(t_in_text, "t_in")
+    p_out = parse_pressure(p_out_text, "p_out", p_atm_pa)
+    check_letdown_inputs(p_in.pa, t_in_k, p_out.pa)
+    units = data.get("units") or {}
+    if not isinstance(units, Mapping):
+        raise InputError("units", "must be an object {\"pressure\": \"barg\", \"temperature\": \"degC\"}")
+    unknown_keys(units, ("pressure", "temperature"))
+    p_unit = str(units.get("pressure") or canonical_unit(p_in.unit, "pressure"))
+    t_unit = str(units.get("temperature") or canonical_unit(unit_word(t_in_text), "temperature"))
+    try:
+        pressure_from_pa(p_in.pa, p_unit, p_atm_pa)
+    except InputError as exc:
+        raise InputError("units.pressure", exc.message) from None
+    try:
+        temperature_from_k(t_in_k, t_unit)
+    except InputError as exc:
+        raise InputError("units.temperature", exc.message) from None
+    limits = _cold_limits(data)
+    p_in_max, t_in_min, p_out_min = _ranges(data, p_in.pa, t_in_k, p_out.pa, p_atm_pa)
+    ranges = OperatingRanges((p_in.pa, p_in_max or p_in.pa), (t_in_min or t_in_k, t_in_k),
+                             (p_out_min or p_out.pa, p_out.pa))
+    options = ScreeningOptions(limits=limits, compare_models=_flag(data, "compare_models", True),
+                               water_saturated=True if _flag(data, "water_saturated", False) else None,
+                               inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
+                                   data.get("mass_flow")), ranges=ranges if ranges.varies else None)
+    screening = screen_letdown(fluid, credible_conditions(p_in.pa, t_in_k, p_out.pa, p_in_max, t_in_min), options)
+    result = screening.conditions[0].results.get(fluid.eos.value)
+    if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
+        result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
+    ok = bool(result.converged)
+    shown = DisplayUnits(temperature=t_unit, inlet_pressure=p_unit, outlet_pressure=p_unit, p_atm_pa=p_atm_pa)
+    p, t, dt = shown.P, shown.T, shown.DT
+
+    gauge = p_in.gauge or p_out.gauge or p_unit.lower().endswith("g")
+    notes = []
+    if gauge:
+        notes.append(f"gauge pressures converted with atmospheric pressure {p_atm_pa / 1e5:.6g} bar "
+                     + ("(given)" if p_atm_text else "(default: standard atmosphere)"))
+    notes += _screening_notes(screening)
+    d = result.to_dict()
+    screened = screening.to_dict()
+    screened["display"] = key_numbers(screened, shown)
+    si = {"p_in_pa": p_in.pa, "t_in_k": t_in_k, "p_out_pa": p_out.pa, "t_out_k": d["t_out"] if ok else None,
+          "dt_k": d["dt"] if ok else None, "h_j_per_mol": d["h"], "p_atm_pa": p_atm_pa,
+          "p_in_max_pa": p_in_max, "t_in_min_k": t_in_min, "p_out_min_pa": p_out_min}
+    display = {"p_in": p(p_in.pa), "t_in": t(t_in_k), "p_out": p(p_out.pa), "t_out": t(d["t_out"] if ok else None),
+               "dt": dt(d["dt"] if ok else None), "p_in_max": p(p_in_max), "t_in_min": t(t_in_min),
+               "p_out_min": p(p_out_min)}
+    return jsonify({
+        "converged": ok, "message": result.message, "phase": result.phase, "inlet_phase": result.inlet_phase,
+        "vapor_fraction": d["vapor_fraction"] if ok else None, "inlet_vapor_fraction": d["inlet_vapor_fraction"],
+        "warnings": list(result.warnings),
+        "outcome": screening.outcome.value, "outcome_sentence": screening.outcome.sentence,
+        "si": si, "display": display,
+        "fluid": {"composition": {i: float(z) for i, z in zip(fluid.ids, fluid.zs, strict=True)},
+                  "eos": fluid.eos.value, "kij": kij},
+        "screening": screened, "basis": d["basis"], "notes": notes, "caution": CAUTION})
