@@ -62,12 +62,6 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     "cli": Row(Layer.EDGE, BELOW_EDGE),   # never web
 }
 
-#: Import circles known today, allowed only while each is present exactly as listed (a fix is under way on
-#: other branches).  Any other circle fails; a listed circle that is gone must be removed from here.
-KNOWN_CIRCLES: set[frozenset[str]] = {
-    frozenset({"jtcheck.web.cases", "jtcheck.web.records_views"}),
-}
-
 #: Flask and the libraries that come with it: only jtcheck.web imports them.
 FLASK_LIBRARIES = frozenset({"flask", "flask_wtf", "flask_limiter", "werkzeug"})
 
@@ -121,17 +115,10 @@ def test_the_graph_sees_the_whole_package():
     assert "jtcheck.thermo.flash" in graph.edges["jtcheck.letdown.throttle"]
 
 
-def test_no_new_import_circle():
-    new = [c for c in import_graph.circles(import_graph.jtcheck().edges) if c not in KNOWN_CIRCLES]
+def test_no_import_circle():
+    new = import_graph.circles(import_graph.jtcheck().edges)
     assert not new, ("import circles (break each: move the shared piece down into a module both can import, "
                      "or pass it in):\n" + "\n".join(_describe_circle(c) for c in new))
-
-
-def test_known_circles_are_still_present():
-    """A known circle is allowed only while it exists: once it is broken, its allowance goes too."""
-    gone = KNOWN_CIRCLES - set(import_graph.circles(import_graph.jtcheck().edges))
-    assert not gone, ("these circles in KNOWN_CIRCLES (tests/test_structure.py) are gone or have changed shape; "
-                      "remove them from KNOWN_CIRCLES: " + "; ".join(", ".join(sorted(c)) for c in gone))
 
 
 def test_every_package_has_a_layer():

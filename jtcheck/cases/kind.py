@@ -9,8 +9,9 @@ particular to it, so that nothing above the engineering layer knows one kind's f
   :class:`~jtcheck.screening.screen.Screening` (conditions, outcome, findings, answers);
 * its findings for screening (:meth:`CaseKind.findings`) and a summary for lists (:meth:`CaseKind.summary`);
 * the sections it contributes to the case form, the result page and the PDF record: template names
-  under ``templates/`` (:attr:`CaseKind.form_sections`, :attr:`CaseKind.page_sections`,
-  :attr:`CaseKind.record_sections`).
+  under ``templates/web/`` for the form and the page (:attr:`CaseKind.input_sections`,
+  :attr:`CaseKind.screening_sections`, :attr:`CaseKind.page_sections`) and under ``templates/reports/``
+  for the record (:attr:`CaseKind.record_sections`).
 
 Values travel as a plain mapping of register keys in SI (``{"inlet_pressure_pa": 72e5, ...}``); the
 edges convert units.  A kind covers one or more *devices*, the values of ``Case.kind`` that users pick
@@ -47,8 +48,12 @@ class CaseKind:
         Non-quantity inputs the kind reads (``water_saturated``, ``hydrate_inhibitor``).
     method : str
         One sentence on the method, stored with every result.
-    form_sections, page_sections, record_sections : tuple of str
-        Templates the kind adds to the case form, the result page and the record.
+    input_sections, screening_sections : tuple of str
+        Templates the kind adds to the case form: its operating inputs (before the common cold limits)
+        and its screening inputs (after them).  The form shows the sections of every kind, since the kind
+        is chosen on the same form.
+    page_sections, record_sections : tuple of str
+        Templates the kind adds to the result page (after the answers) and to the record's answers section.
     vectorised : bool
         Whether batch lists may screen this kind on the vectorised path.
     """
@@ -60,7 +65,8 @@ class CaseKind:
     fields: tuple[Field, ...] = ()
     flags: tuple[str, ...] = ()
     method: str = ""
-    form_sections: tuple[str, ...] = ()
+    input_sections: tuple[str, ...] = ()
+    screening_sections: tuple[str, ...] = ()
     page_sections: tuple[str, ...] = ()
     record_sections: tuple[str, ...] = ()
     vectorised: bool = False

@@ -53,9 +53,19 @@ def foreign_fields(kind: CaseKind, values: dict) -> list[Field]:
     return [f for f in all_fields() if f.key not in own and values.get(f.key) is not None]
 
 
+def form_sections() -> tuple[list[str], list[str]]:
+    """The case form's kind sections, each once, in kind order: (operating inputs, screening inputs)."""
+    inputs: list[str] = []
+    screening: list[str] = []
+    for kind in KINDS.values():
+        inputs += [t for t in kind.input_sections if t not in inputs]
+        screening += [t for t in kind.screening_sections if t not in screening]
+    return inputs, screening
+
+
 def kinds_with(key: str) -> list[CaseKind]:
     """The kinds that have the field ``key``."""
     return [k for k in KINDS.values() if k.field_named(key) is not None]
 
 
-__all__ = ["KINDS", "P_ATM", "all_fields", "foreign_fields", "kind_named", "kind_of", "kinds_with"]
+__all__ = ["KINDS", "P_ATM", "all_fields", "foreign_fields", "form_sections", "kind_named", "kind_of", "kinds_with"]

@@ -119,8 +119,8 @@ class LetdownKind(CaseKind):
     flags = ("water_saturated", "hydrate_inhibitor")
     method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
               "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
-    page_sections = ()
-    record_sections = ()
+    input_sections = ("cases/kinds/letdown_inputs.html",)
+    screening_sections = ("cases/kinds/letdown_hydrates.html",)
     vectorised = True
 
     def check(self, values: Mapping[str, Any]) -> None:

@@ -93,7 +93,9 @@ class ReliefValveKind(LetdownKind):
     cases_phrase = "relief-valve cases"
     devices = ("relief_valve",)
     fields = (*LETDOWN_FIELDS, *RELIEF_FIELDS)
-    form_sections = ("web/cases/kinds/relief_form.html",)
+    screening_sections = (*LetdownKind.screening_sections, "cases/kinds/relief_inputs.html")
+    page_sections = ("cases/kinds/relief_result.html",)
+    record_sections = ("kinds/relief_record.html",)
     #: Batch lists carry no set-pressure data yet, so a relief row is a letdown there and may be vectorised.
     vectorised = True
 
