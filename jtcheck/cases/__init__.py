@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from jtcheck.cases.fields import COMMON_FIELDS, P_ATM, Field
 from jtcheck.cases.kind import CaseKind
-from jtcheck.cases.registry import KINDS, all_fields, kind_named, kind_of, kinds_with
+from jtcheck.cases.registry import KINDS, all_fields, form_sections, kind_named, kind_of, kinds_with
 
-__all__ = ["COMMON_FIELDS", "KINDS", "P_ATM", "CaseKind", "Field", "all_fields", "kind_named", "kind_of",
-           "kinds_with"]
+__all__ = ["COMMON_FIELDS", "KINDS", "P_ATM", "CaseKind", "Field", "all_fields", "form_sections", "kind_named",
+           "kind_of", "kinds_with"]

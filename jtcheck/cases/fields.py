@@ -88,6 +88,8 @@ class Field:
         Words in messages (``"inlet pressure"``).
     form_label : str
         Words beside the input on a form (``"Inlet pressure"``).
+    record_label : str
+        Words in the record's inputs table; the form's words when empty.
     si_range : (float, float, bool)
         Allowed SI range: low, high, low end allowed.
     required : bool
@@ -104,6 +106,7 @@ class Field:
     si_range: tuple[float, float, bool]
     required: bool = False
     message_unit: str = ""
+    record_label: str = ""
 
     @property
     def si_unit(self) -> str:
@@ -119,8 +122,10 @@ class Field:
 #: Fields every case kind has: the cold limits of the downstream steel and the atmospheric pressure for gauge
 #: units (the web and the API treat the last apart: it is entered with its own units, ``p_atm``).
 MDMT = Field("mdmt", "mdmt_k", "temperature", "MDMT", "MDMT", LIMIT_TEMPERATURE_RANGE_K)
-COLD_LIMIT = Field("cold_limit", "cold_limit_k", "temperature", "cold limit", "Cold limit", LIMIT_TEMPERATURE_RANGE_K)
-MARGIN = Field("margin", "margin_k", "difference", "margin", "Required margin", MARGIN_RANGE_K, required=True)
+COLD_LIMIT = Field("cold_limit", "cold_limit_k", "temperature", "cold limit", "Cold limit", LIMIT_TEMPERATURE_RANGE_K,
+                   record_label="Cold limit entered")
+MARGIN = Field("margin", "margin_k", "difference", "margin", "Required margin", MARGIN_RANGE_K, required=True,
+               record_label="Required margin above the cold limit")
 P_ATM = Field("p_atm", "p_atm_pa", "pressure", "atmospheric pressure for gauge units",
               "Atmospheric pressure for gauge units", P_ATM_RANGE_PA, required=True)
 COMMON_FIELDS: tuple[Field, ...] = (MDMT, COLD_LIMIT, MARGIN, P_ATM)

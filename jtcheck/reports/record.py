@@ -36,6 +36,7 @@ from typing import Any
 
 import jinja2
 
+from jtcheck.cases import COMMON_FIELDS, CaseKind, all_fields, kind_of
 from jtcheck.errors import InputError, JtcheckError
 from jtcheck.notices import CAUTION
 from jtcheck.records.snapshot import snapshot_digest
@@ -152,44 +153,26 @@ def _sentence_case(text: str) -> str:
 
 
 # -- the view of a snapshot -----------------------------------------------------------------------------------
-_INPUT_FIELDS: tuple[tuple[str, str, str, bool], ...] = (
-    # SI key, label, kind, shown even when not given
-    ("inlet_pressure_pa", "Inlet pressure", "pressure", True),
-    ("inlet_temperature_k", "Inlet temperature", "temperature", True),
-    ("outlet_pressure_pa", "Outlet pressure", "pressure", True),
-    ("inlet_temperature_min_k", "Minimum credible inlet temperature", "temperature", True),
-    ("inlet_pressure_max_pa", "Maximum credible inlet pressure", "pressure", True),
-    ("outlet_pressure_min_pa", "Minimum credible outlet pressure", "pressure", True),
-    ("mass_flow_kg_per_s", "Mass flow", "mass_flow", True),
-    ("mdmt_k", "MDMT", "temperature", True),
-    ("cold_limit_k", "Cold limit entered", "temperature", True),
-    ("margin_k", "Required margin above the cold limit", "difference", True),
-    ("set_pressure_pa", "Relief valve set pressure", "pressure", False),
-    ("overpressure_fraction", "Allowable overpressure", "percent", False),
-    ("superimposed_back_pressure_pa", "Superimposed back pressure", "pressure", False),
-    ("built_up_back_pressure_pa", "Built-up back pressure", "pressure_difference", False),
-    ("header_limit_k", "Flare header temperature limit", "temperature", False),
-)
-_SUFFIXES = ("_kg_per_s", "_fraction", "_pa", "_k")
-
-
-def _display_key(si_key: str) -> str:
-    for suffix in _SUFFIXES:
-        if si_key.endswith(suffix):
-            return si_key[: -len(suffix)]
-    return si_key
+def _kind_of(case: Mapping[str, Any]) -> CaseKind:
+    """The case kind of a snapshot's case (a letdown when the snapshot names no known device)."""
+    try:
+        return kind_of(str(case.get("kind") or "control_valve"))
+    except InputError:
+        return kind_of("control_valve")
 
 
 def _inputs(case: Mapping[str, Any], units: DisplayUnits) -> list[dict[str, Any]]:
     """Rows of the inputs table: label, as entered (the unit typed), SI."""
     values = case.get("values") or {}
-    relief = case.get("kind") == "relief_valve"
+    kind = _kind_of(case)
+    own = {f.key for f in (*kind.fields, *COMMON_FIELDS)}
     rows: list[dict[str, Any]] = []
-    for key, label, kind, always in _INPUT_FIELDS:
-        v = finite_or_none(values.get(key))
-        if v is None and not (always or relief):
+    for f in all_fields():      # the case kind's fields and the common ones, in the register's order
+        if f.name == "p_atm" or f.key not in own:
             continue
-        name = _display_key(key)
+        key, label, kind = f.key, f.record_label or f.form_label, f.quantity
+        v = finite_or_none(values.get(key))
+        name = f.name
         if v is None:
             rows.append({"label": label, "entered": "not given", "si": "–"})
             continue
@@ -413,6 +396,7 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
                   "outlet_pressure": units.outlet_pressure, "difference": units.difference,
                   "p_atm_bar": p_atm / 1e5},
         "inputs": _inputs(case, units),
+        "kind_sections": list(_kind_of(case).record_sections),
         "fluid": {"name": str(fluid.get("name") or ""), "eos": eos, "kij_mode": kij_mode, "rows": comp_rows,
                   "total": sum(finite_or_none(z) or 0.0 for _, z in comp), "crit_sources": crit_sources,
                   "data_matched": comp_matched},

@@ -26,6 +26,7 @@ from flask_wtf.csrf import CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
 from jtcheck import __version__
+from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
 from jtcheck.reports.numbers import fmt_number
@@ -104,7 +105,8 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
 
     app.jinja_env.filters["num"] = fmt_number
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
-                                 CaseKind=CaseKind, current_user=security.current_user, result_units=units_of)
+                                 CaseKind=CaseKind, current_user=security.current_user, result_units=units_of,
+                                 case_kind=kind_of)
     return app
 
 

@@ -22,6 +22,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from jtcheck.cases import all_fields
 from jtcheck.errors import InputError
 from jtcheck.units import (
     P_ATM_DEFAULT_PA,
@@ -107,29 +108,10 @@ class QuantityField:
                 "percent": PERCENT_UNIT, "pressure_difference": "bar"}[self.kind]
 
 
-CASE_QUANTITIES: tuple[QuantityField, ...] = (
-    QuantityField("inlet_pressure", "inlet_pressure_pa", "pressure", "Inlet pressure", True),
-    QuantityField("inlet_temperature", "inlet_temperature_k", "temperature", "Inlet temperature", True),
-    QuantityField("outlet_pressure", "outlet_pressure_pa", "pressure", "Outlet pressure", True),
-    QuantityField("inlet_temperature_min", "inlet_temperature_min_k", "temperature",
-                  "Minimum credible inlet temperature"),
-    QuantityField("inlet_pressure_max", "inlet_pressure_max_pa", "pressure", "Maximum credible inlet pressure"),
-    QuantityField("outlet_pressure_min", "outlet_pressure_min_pa", "pressure", "Minimum credible outlet pressure"),
-    QuantityField("mass_flow", "mass_flow_kg_per_s", "mass_flow", "Mass flow"),
-    QuantityField("mdmt", "mdmt_k", "temperature", "MDMT"),
-    QuantityField("cold_limit", "cold_limit_k", "temperature", "Cold limit"),
-    QuantityField("margin", "margin_k", "difference", "Required margin"),
-    QuantityField("set_pressure", "set_pressure_pa", "pressure", "Set pressure"),
-    QuantityField("overpressure", "overpressure_fraction", "percent", "Allowable overpressure"),
-    QuantityField("superimposed_back_pressure", "superimposed_back_pressure_pa", "pressure",
-                  "Superimposed back pressure"),
-    QuantityField("built_up_back_pressure", "built_up_back_pressure_pa", "pressure_difference",
-                  "Built-up back pressure"),
-    QuantityField("header_limit", "header_limit_k", "temperature", "Flare header cold limit"),
-)
-#: The relief-valve inputs (used only for cases of kind relief_valve).
-RELIEF_QUANTITIES = ("set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
-                     "header_limit")
+#: The quantity inputs of every case kind (:mod:`jtcheck.cases`), in the register's order; the atmospheric
+#: pressure for gauge units is entered apart (``p_atm``, absolute units only).
+CASE_QUANTITIES: tuple[QuantityField, ...] = tuple(
+    QuantityField(f.name, f.key, f.quantity, f.form_label, f.required) for f in all_fields() if f.name != "p_atm")
 QUANTITY_BY_NAME = {q.name: q for q in CASE_QUANTITIES}
 QUANTITY_BY_KEY = {q.key: q for q in CASE_QUANTITIES}
 

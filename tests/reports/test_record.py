@@ -300,3 +300,14 @@ def test_print_charts_use_no_colour_and_keep_text_as_text():
     assert "<text" in svg and " style=" not in svg and "normal" in svg and "MDMT" in svg
     screen = charts.draw_pt_diagram(data)              # the web's: coloured, letters as outlines
     assert "<text" not in screen and "#1b6f8f" in screen.lower()
+
+
+def test_the_case_kind_adds_its_sections_to_the_record(records, tmp_path):
+    """The relief-valve kind contributes its inputs and its relieving-case block (jtcheck.cases); a letdown's
+    record has neither."""
+    relief = " ".join(pdf_pages_text(records[("PSV-2101", "A4")].pdf, tmp_path))
+    letdown = " ".join(pdf_pages_text(records[("PCV-1101", "A4")].pdf, tmp_path))
+    for words in ("Relief valve set pressure", "Flare header temperature limit", "Relieving pressure",
+                  "Nozzle throat", "Downstream of the valve"):
+        assert words in relief
+        assert words not in letdown

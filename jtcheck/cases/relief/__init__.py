@@ -25,7 +25,7 @@ from jtcheck.screening.screen import ReliefInputs, ScreeningOptions
 #: The relief-valve inputs beyond the letdown's.
 RELIEF_FIELDS: tuple[Field, ...] = (
     Field("set_pressure", "set_pressure_pa", "pressure", "relief valve set pressure", "Set pressure",
-          PRESSURE_RANGE_PA),
+          PRESSURE_RANGE_PA, record_label="Relief valve set pressure"),
     Field("overpressure", "overpressure_fraction", "percent",
           "allowable overpressure (fraction of the set gauge pressure)", "Allowable overpressure",
           OVERPRESSURE_RANGE, message_unit="-"),
@@ -34,7 +34,7 @@ RELIEF_FIELDS: tuple[Field, ...] = (
     Field("built_up_back_pressure", "built_up_back_pressure_pa", "pressure_difference", "built-up back pressure",
           "Built-up back pressure", BUILT_UP_RANGE_PA, message_unit="Pa (difference)"),
     Field("header_limit", "header_limit_k", "temperature", "flare header cold limit", "Flare header cold limit",
-          LIMIT_TEMPERATURE_RANGE_K),
+          LIMIT_TEMPERATURE_RANGE_K, record_label="Flare header temperature limit"),
 )
 _COMPANIONS = ("overpressure_fraction", "superimposed_back_pressure_pa", "built_up_back_pressure_pa",
                "header_limit_k")

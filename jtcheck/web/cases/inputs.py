@@ -18,6 +18,7 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
+from jtcheck.cases.letdown import HYDRATE_INHIBITORS
 from jtcheck.errors import InputError
 from jtcheck.records.models import Case
 from jtcheck.web.quantities import (
@@ -32,8 +33,6 @@ TEXT_FIELDS = ("tag", "service", "basis", "references")
 ID_FIELDS = ("unit_id", "fluid_id", "material_id")
 #: Screening choices that are not quantities: a flag and a choice of inhibitor.
 SCREENING_FIELDS = ("water_saturated", "hydrate_inhibitor")
-#: Hydrate inhibitors, as the records service spells them.
-HYDRATE_INHIBITORS = ("methanol", "MEG")
 #: Every key a case body may hold (API and form alike).
 INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm",
                 *SCREENING_FIELDS, "basis", "references")

@@ -12,6 +12,7 @@ from typing import Any
 from flask import Blueprint, flash, redirect, render_template, request, url_for
 from sqlalchemy import select
 
+from jtcheck.cases import form_sections
 from jtcheck.errors import InputError
 from jtcheck.records import service, workflow
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
@@ -40,7 +41,6 @@ from jtcheck.web.forms import FormState
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
     P_ATM_CHOICES,
-    RELIEF_QUANTITIES,
     display_unit,
     input_number,
     p_atm_unit_for,
@@ -96,7 +96,7 @@ def _revision_notices(case: Case | None) -> dict[str, str | None]:
 
 def _render_form(form: FormState, user, case: Case | None, status: int = 200):
     return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
-                           relief_quantities=RELIEF_QUANTITIES, unit_options=_allowed_units(case),
+                           kind_sections=form_sections(), unit_options=_allowed_units(case),
                            **_revision_notices(case), **_choices(user)), status
 
 
