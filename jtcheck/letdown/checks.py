@@ -23,6 +23,19 @@ def check_fluid(fluid: Any) -> Fluid:
     return fluid
 
 
+def finite(name: str, value: Any, what: str, unit: str) -> float:
+    """A single finite number, else InputError naming ``name`` (``what``, ``unit``: words for the message)."""
+    if isinstance(value, bool) or np.ndim(value) != 0:
+        raise InputError(name, f"{what} must be a single number [{unit}], got {value!r}")
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(name, f"{what} must be a number [{unit}], got {value!r}") from None
+    if not math.isfinite(v):
+        raise InputError(name, f"{what} must be a finite number [{unit}], got {value!r}")
+    return v
+
+
 def positive(name: str, value: Any, what: str, unit: str, upper: float | None = None) -> float:
     """A single finite number > 0 (and below ``upper`` when given), else InputError naming ``name``.
 
@@ -37,14 +50,7 @@ def positive(name: str, value: Any, what: str, unit: str, upper: float | None = 
     upper : float, optional
         Exclusive upper bound in ``unit``.
     """
-    if isinstance(value, bool) or np.ndim(value) != 0:
-        raise InputError(name, f"{what} must be a single number [{unit}], got {value!r}")
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(name, f"{what} must be a number [{unit}], got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(name, f"{what} must be a finite number [{unit}], got {value!r}")
+    v = finite(name, value, what, unit)
     if v <= 0.0:
         raise InputError(name, f"{what} must be greater than 0 {unit} (absolute), got {v:g}")
     if upper is not None and v >= upper:

@@ -38,7 +38,7 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from jtcheck.errors import InputError
-from jtcheck.letdown.checks import check_fluid
+from jtcheck.letdown.checks import check_fluid, finite, positive
 from jtcheck.letdown.plain import plain as _plain
 from jtcheck.letdown.throttle import LetdownResult, letdown
 from jtcheck.thermo.flash import FlashResult
@@ -69,25 +69,8 @@ P_CRITICAL_XTOL = 1.0e-7
 # input checks and JSON
 # ---------------------------------------------------------------------------------------------
 
-def _finite(name: str, value: Any, what: str, unit: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(name, f"{what} must be a number [{unit}], got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(name, f"{what} must be a finite number [{unit}], got {value!r}")
-    return v
-
-
-def _positive(name: str, value: Any, what: str, unit: str) -> float:
-    v = _finite(name, value, what, unit)
-    if v <= 0.0:
-        raise InputError(name, f"{what} must be greater than 0 {unit}, got {v:g}")
-    return v
-
-
 def _temperature(name: str, value: Any, what: str) -> float:
-    v = _positive(name, value, what, "K")
+    v = positive(name, value, what, "K")
     if v > 2000.0:
         raise InputError(name, f"{what} must be between 0 and 2000 K (the range of the heat-capacity data), "
                                f"got {v:g}")
@@ -136,15 +119,15 @@ def relieving_pressure_pa(set_pressure_pa: float, overpressure_fraction: float,
     >>> round((relieving_pressure_pa(95e5 + 101325.0, 0.10) - 101325.0) / 1e5, 6)
     104.5
     """
-    p_atm = _finite("p_atm_pa", p_atm_pa, "atmospheric pressure", "Pa")
+    p_atm = finite("p_atm_pa", p_atm_pa, "atmospheric pressure", "Pa")
     if not P_ATM_RANGE_PA[0] <= p_atm <= P_ATM_RANGE_PA[1]:
         raise InputError("p_atm_pa", f"atmospheric pressure must be between {P_ATM_RANGE_PA[0]:g} and "
                                      f"{P_ATM_RANGE_PA[1]:g} Pa, got {p_atm:g}")
-    p_set = _finite("set_pressure_pa", set_pressure_pa, "set pressure (absolute)", "Pa")
+    p_set = finite("set_pressure_pa", set_pressure_pa, "set pressure (absolute)", "Pa")
     if p_set <= p_atm:
         raise InputError("set_pressure_pa", f"set pressure is absolute and must be above the atmospheric pressure "
                                             f"{p_atm:g} Pa (a positive gauge set pressure), got {p_set:g} Pa")
-    frac = _finite("overpressure_fraction", overpressure_fraction, "overpressure fraction", "-")
+    frac = finite("overpressure_fraction", overpressure_fraction, "overpressure fraction", "-")
     if not 0.0 <= frac <= OVERPRESSURE_MAX:
         raise InputError("overpressure_fraction", f"overpressure fraction of the set gauge pressure must be between "
                                                   f"0 and {OVERPRESSURE_MAX:g} (0.10 single valve, 0.16 multiple "
@@ -175,8 +158,8 @@ def back_pressure_pa(superimposed_pa: float, built_up_pa: float) -> float:
         For a non-finite input, a superimposed back pressure not above 0 or a negative built-up
         back pressure; the message names the field.
     """
-    sup = _positive("superimposed_pa", superimposed_pa, "superimposed back pressure (absolute)", "Pa")
-    built = _finite("built_up_pa", built_up_pa, "built-up back pressure (a difference)", "Pa")
+    sup = positive("superimposed_pa", superimposed_pa, "superimposed back pressure (absolute)", "Pa")
+    built = finite("built_up_pa", built_up_pa, "built-up back pressure (a difference)", "Pa")
     if built < 0.0:
         raise InputError("built_up_pa", f"built-up back pressure is a pressure rise and must be 0 Pa or more, "
                                         f"got {built:g}")
@@ -416,9 +399,9 @@ def nozzle_flow(fluid: Fluid, p0_pa: float, t0_k: float, p_back_pa: float) -> No
         For bad input; the message names the field.
     """
     fluid = check_fluid(fluid)
-    p0 = _positive("p0_pa", p0_pa, "stagnation pressure (absolute)", "Pa")
+    p0 = positive("p0_pa", p0_pa, "stagnation pressure (absolute)", "Pa")
     t0 = _temperature("t0_k", t0_k, "stagnation temperature")
-    pb = _positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
+    pb = positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
     if pb >= p0:
         raise InputError("p_back_pa", f"back pressure {pb:g} Pa must be below the stagnation pressure {p0:g} Pa "
                                       "(no flow otherwise)")
@@ -578,9 +561,9 @@ def downstream_of_relief(fluid: Fluid, p_relieving_pa: float, t_relieving_k: flo
         For bad input; the message names the field.
     """
     fluid = check_fluid(fluid)
-    p1 = _positive("p_relieving_pa", p_relieving_pa, "relieving pressure (absolute)", "Pa")
+    p1 = positive("p_relieving_pa", p_relieving_pa, "relieving pressure (absolute)", "Pa")
     t1 = _temperature("t_relieving_k", t_relieving_k, "relieving temperature")
-    pb = _positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
+    pb = positive("p_back_pa", p_back_pa, "back pressure (absolute)", "Pa")
     if pb >= p1:
         raise InputError("p_back_pa", f"back pressure {pb:g} Pa must be below the relieving pressure {p1:g} Pa")
     return letdown(fluid, p1, t1, pb)
