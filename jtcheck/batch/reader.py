@@ -48,7 +48,7 @@ from jtcheck.batch.layout import (
     split_header,
     unit_problem,
 )
-from jtcheck.cases.batch import with_kind
+from jtcheck.cases.batch import kind_hooks
 from jtcheck.errors import InputError, UnknownComponentError
 from jtcheck.screening.batch import BatchCase
 from jtcheck.screening.cold_metal import ColdLimits
@@ -810,9 +810,10 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
     if limits.governing_k is None:
         warnings.append(RowWarning(row, where("mdmt"), "", "neither an MDMT nor a cold limit: the row is read but "
                                                            "will come out 'not screened'"))
-    case = with_kind(BatchCase(row=row, tag=texts["tag"], fluid=fluid, p_in_pa=p_in, t_in_k=t_in, p_out_pa=p_out,
-                               limits=limits, t_in_min_k=t_min, p_in_max_pa=p_max, water_saturated=water,
-                               service=texts["service"], kind=kind or "control_valve"))
+    device = kind or "control_valve"
+    case = BatchCase(row=row, tag=texts["tag"], fluid=fluid, p_in_pa=p_in, t_in_k=t_in, p_out_pa=p_out,
+                     limits=limits, t_in_min_k=t_min, p_in_max_pa=p_max, water_saturated=water,
+                     service=texts["service"], kind=device, **kind_hooks(device))
     source = CaseSource(row=row, fluid_name=fluid_name, fluid_from_library=from_library, eos=fluid.eos.value,
                         p_atm_pa=p_atm_pa, cells={k: v for k, v in texts.items() if v != ""})
     return case, source, [], warnings

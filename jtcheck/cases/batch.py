@@ -1,7 +1,7 @@
 """Letdown-list rows screened by their case kind: whether a row may take the vectorised path, and its scalar
 screening.
 
-:func:`with_kind` gives a :class:`~jtcheck.screening.batch.BatchCase` its kind's
+:func:`kind_hooks` gives a :class:`~jtcheck.screening.batch.BatchCase` its kind's
 :attr:`~jtcheck.cases.kind.CaseKind.vectorised` flag and scalar screening (the kind's
 :meth:`~jtcheck.cases.kind.CaseKind.compute` at the credible conditions, without sweep and answers, as the
 vectorised path); :func:`jtcheck.screening.batch.screen_batch` then honours both.  The reader of letdown
@@ -30,9 +30,14 @@ def row_values(case: BatchCase) -> dict[str, Any]:
             "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated}
 
 
+def device_kind(device: str) -> CaseKind:
+    """The kind of a device as a list spells it ("control valve", "control_valve"; empty: a control valve)."""
+    return kind_of("_".join(device.split()) or DEFAULT_DEVICE)
+
+
 def row_kind(case: BatchCase) -> CaseKind:
-    """The kind of a row; its device as the list spells it ("control valve" or "control_valve")."""
-    return kind_of("_".join(case.kind.split()) or DEFAULT_DEVICE)
+    """The kind of a row."""
+    return device_kind(case.kind)
 
 
 def row_screening(case: BatchCase, compare_models: bool) -> Screening:
@@ -41,6 +46,12 @@ def row_screening(case: BatchCase, compare_models: bool) -> Screening:
                                   sweep=False)
 
 
+def kind_hooks(device: str) -> dict[str, Any]:
+    """The :class:`BatchCase` fields that make a row of ``device`` screen as its kind says: the kind's
+    vectorised flag and its scalar screening (``BatchCase(..., **kind_hooks(device))``)."""
+    return {"vectorised": device_kind(device).vectorised, "screen": row_screening}
+
+
 def with_kind(case: BatchCase) -> BatchCase:
-    """``case`` screened as its kind says: the kind's vectorised flag and its scalar screening."""
-    return dataclasses.replace(case, vectorised=row_kind(case).vectorised, screen=row_screening)
+    """``case`` screened as its kind says (:func:`kind_hooks`)."""
+    return dataclasses.replace(case, **kind_hooks(case.kind))

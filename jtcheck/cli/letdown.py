@@ -133,32 +133,15 @@ def _parse_mass_flow(mass_flow: str | None) -> float | None:
     return flow
 
 
-#: The option of this command that carries each register field (errors name the option the user typed).
-OPTION_OF_FIELD = {"inlet_pressure_pa": "p_in", "inlet_temperature_k": "t_in", "outlet_pressure_pa": "p_out",
-                   "inlet_temperature_min_k": "t_in_min", "inlet_pressure_max_pa": "p_in_max",
-                   "outlet_pressure_min_pa": "p_out_min", "mass_flow_kg_per_s": "mass_flow",
-                   "hydrate_inhibitor": "inhibitor"}
-
-
 def case_values(args: LetdownArgs, inputs: LetdownInputs) -> dict:
     """The letdown as the case register holds one (register keys, SI): the input of the letdown case kind."""
-    lim = inputs.limits
-    return {"inlet_pressure_pa": inputs.p_in.pa, "inlet_temperature_k": inputs.t_in_k,
-            "outlet_pressure_pa": inputs.p_out.pa, "inlet_temperature_min_k": inputs.t_in_min_k,
-            "inlet_pressure_max_pa": inputs.p_in_max_pa, "outlet_pressure_min_pa": inputs.p_out_min_pa,
-            "mass_flow_kg_per_s": inputs.mass_flow_kg_per_s, "mdmt_k": lim.mdmt_k, "cold_limit_k": lim.user_limit_k,
-            "margin_k": lim.margin_k, "mdmt_source": lim.mdmt_source, "p_atm_pa": inputs.p_atm_pa,
-            "water_saturated": args.water_saturated, "hydrate_inhibitor": args.inhibitor}
+    from jtcheck.cases.letdown import letdown_values
 
-
-def _check_by_kind(values: dict) -> None:
-    """The letdown kind's checks of how the inputs relate, naming this command's options."""
-    from jtcheck.cases.letdown import LETDOWN
-
-    try:
-        LETDOWN.check(values)
-    except InputError as err:
-        raise InputError(OPTION_OF_FIELD.get(err.field, err.field), err.message) from None
+    return letdown_values(p_in_pa=inputs.p_in.pa, t_in_k=inputs.t_in_k, p_out_pa=inputs.p_out.pa,
+                          limits=inputs.limits, p_atm_pa=inputs.p_atm_pa, p_in_max_pa=inputs.p_in_max_pa,
+                          t_in_min_k=inputs.t_in_min_k, p_out_min_pa=inputs.p_out_min_pa,
+                          mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, water_saturated=args.water_saturated,
+                          inhibitor=args.inhibitor)
 
 
 def parse_inputs(args: LetdownArgs) -> LetdownInputs:
@@ -176,7 +159,9 @@ def parse_inputs(args: LetdownArgs) -> LetdownInputs:
     inputs = LetdownInputs(p_atm_pa=p_atm_pa, p_in=p_in, p_out=p_out, t_in_k=t_in_k, limits=limits,
                            p_in_max_pa=p_in_max_pa, t_in_min_k=t_in_min_k, p_out_min_pa=p_out_min_pa,
                            mass_flow_kg_per_s=_parse_mass_flow(args.mass_flow))
-    _check_by_kind(case_values(args, inputs))
+    from jtcheck.cases.letdown import check_short
+
+    check_short(case_values(args, inputs))    # the letdown kind's checks, naming this command's options
     return inputs
 
 

@@ -49,31 +49,73 @@ LETDOWN_FIELDS: tuple[Field, ...] = (
 HYDRATE_INHIBITORS = ("methanol", "MEG")
 
 
-def check_letdown(values: Mapping[str, Any]) -> None:
-    """Relations between the letdown fields: outlet <= inlet pressure and the extremes on the right side."""
+def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = None) -> None:
+    """Relations between the letdown fields: outlet <= inlet pressure and the extremes on the right side.
+
+    ``names`` (register key -> name) words the "allowed" part in the caller's names (``"p_in"``);
+    by default in words (``"the normal inlet pressure"``).
+    """
+    def ref(key: str, words: str) -> str:
+        return names.get(key, words) if names else words
+
     p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
     if p_out > p_in:
         raise InputError("outlet_pressure_pa", f"outlet pressure {p_out:g} Pa is above the inlet pressure "
-                                               f"{p_in:g} Pa; allowed: outlet <= inlet pressure (a letdown)")
+                                               f"{p_in:g} Pa; allowed: {ref('outlet_pressure_pa', 'outlet')} <= "
+                                               f"{ref('inlet_pressure_pa', 'inlet pressure')} (a letdown)")
     t_min = values.get("inlet_temperature_min_k")
     if t_min is not None and t_min > values["inlet_temperature_k"]:
         raise InputError("inlet_temperature_min_k",
                          f"minimum credible inlet temperature {t_min:g} K is above the normal inlet temperature "
-                         f"{values['inlet_temperature_k']:g} K; allowed: <= the normal inlet temperature")
+                         f"{values['inlet_temperature_k']:g} K; allowed: <= "
+                         f"{ref('inlet_temperature_k', 'the normal inlet temperature')}")
     p_max = values.get("inlet_pressure_max_pa")
     if p_max is not None and p_max < p_in:
         raise InputError("inlet_pressure_max_pa",
                          f"maximum credible inlet pressure {p_max:g} Pa is below the normal inlet pressure "
-                         f"{p_in:g} Pa; allowed: >= the normal inlet pressure")
+                         f"{p_in:g} Pa; allowed: >= {ref('inlet_pressure_pa', 'the normal inlet pressure')}")
     p_out_min = values.get("outlet_pressure_min_pa")
     if p_out_min is not None and p_out_min > p_out:
         raise InputError("outlet_pressure_min_pa",
                          f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
-                         f"{p_out:g} Pa; allowed: <= the normal outlet pressure")
+                         f"{p_out:g} Pa; allowed: <= {ref('outlet_pressure_pa', 'the normal outlet pressure')}")
     inhibitor = values.get("hydrate_inhibitor", "methanol")
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
                                               f"{', '.join(HYDRATE_INHIBITORS)}")
+
+
+#: Short names of the letdown inputs, as the ``jtcheck letdown`` options and the JSON API's letdown request
+#: call them; errors found by :func:`check_short` name these.
+SHORT_NAMES = {"inlet_pressure_pa": "p_in", "inlet_temperature_k": "t_in", "outlet_pressure_pa": "p_out",
+               "inlet_temperature_min_k": "t_in_min", "inlet_pressure_max_pa": "p_in_max",
+               "outlet_pressure_min_pa": "p_out_min", "mass_flow_kg_per_s": "mass_flow",
+               "hydrate_inhibitor": "inhibitor"}
+
+
+def letdown_values(*, p_in_pa: float, t_in_k: float, p_out_pa: float, limits: ColdLimits, p_atm_pa: float,
+                   p_in_max_pa: float | None = None, t_in_min_k: float | None = None,
+                   p_out_min_pa: float | None = None, mass_flow_kg_per_s: float | None = None,
+                   water_saturated: bool = False, inhibitor: str = "methanol") -> dict[str, Any]:
+    """A letdown typed in directly (CLI, JSON API) as the register holds one: register keys, SI.
+
+    Pressures [Pa] absolute, temperatures [K], mass flow [kg/s]; ``limits`` gives the MDMT, the user's
+    cold limit and the margin.
+    """
+    return {"inlet_pressure_pa": p_in_pa, "inlet_temperature_k": t_in_k, "outlet_pressure_pa": p_out_pa,
+            "inlet_temperature_min_k": t_in_min_k, "inlet_pressure_max_pa": p_in_max_pa,
+            "outlet_pressure_min_pa": p_out_min_pa, "mass_flow_kg_per_s": mass_flow_kg_per_s,
+            "mdmt_k": limits.mdmt_k, "cold_limit_k": limits.user_limit_k, "margin_k": limits.margin_k,
+            "mdmt_source": limits.mdmt_source, "p_atm_pa": p_atm_pa, "water_saturated": water_saturated,
+            "hydrate_inhibitor": inhibitor}
+
+
+def check_short(values: Mapping[str, Any]) -> None:
+    """:func:`check_letdown`, with errors naming the short inputs (:data:`SHORT_NAMES`)."""
+    try:
+        check_letdown(values, SHORT_NAMES)
+    except InputError as err:
+        raise InputError(SHORT_NAMES.get(err.field, err.field), err.message) from None
 
 
 def letdown_conditions(values: Mapping[str, Any]) -> list[Condition]:

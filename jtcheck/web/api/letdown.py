@@ -9,6 +9,7 @@ from typing import Any
 from flask import jsonify
 
 from jtcheck import Fluid, letdown
+from jtcheck.cases.letdown import LETDOWN, check_short, letdown_values
 from jtcheck.errors import InputError
 from jtcheck.letdown.throttle import check_letdown_inputs
 from jtcheck.notices import CAUTION
@@ -18,7 +19,7 @@ from jtcheck.records.models import FluidRecord, KijMode
 from jtcheck.reports.screening_display import DisplayUnits, key_numbers
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.hydrates import Inhibitor
-from jtcheck.screening.screen import OperatingRanges, Screening, ScreeningOptions, credible_conditions, screen_letdown
+from jtcheck.screening.screen import Screening
 from jtcheck.units import (
     parse_pressure,
     parse_temperature,
@@ -131,24 +132,15 @@ def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
                       mdmt_source="entered" if mdmt is not None else "")
 
 
-def _ranges(data: Mapping[str, Any], p_in_pa: float, t_in_k: float, p_out_pa: float, p_atm_pa: float
-            ) -> tuple[float | None, float | None, float | None]:
-    """The credible extremes (p_in_max, t_in_min, p_out_min) [Pa, K, Pa], each None when not given."""
+def _ranges(data: Mapping[str, Any], p_atm_pa: float) -> tuple[float | None, float | None, float | None]:
+    """The credible extremes (p_in_max, t_in_min, p_out_min) [Pa, K, Pa], each None when not given (their
+    relations to the operating point are the letdown kind's checks, in :func:`compute_letdown`)."""
     text = _q(data, "p_in_max", "120 bara", required=False)
     p_in_max = None if text is None else parse_pressure(text, "p_in_max", p_atm_pa).pa
     text = _q(data, "t_in_min", "0 degC", required=False)
     t_in_min = None if text is None else parse_temperature(text, "t_in_min")
     text = _q(data, "p_out_min", "5 barg", required=False)
     p_out_min = None if text is None else parse_pressure(text, "p_out_min", p_atm_pa).pa
-    if p_in_max is not None and p_in_max < p_in_pa:
-        raise InputError("p_in_max", f"maximum inlet pressure {p_in_max:g} Pa is below the inlet pressure "
-                                     f"{p_in_pa:g} Pa; allowed: >= p_in")
-    if t_in_min is not None and t_in_min > t_in_k:
-        raise InputError("t_in_min", f"minimum inlet temperature {t_in_min:g} K is above the inlet temperature "
-                                     f"{t_in_k:g} K; allowed: <= t_in")
-    if p_out_min is not None and p_out_min > p_out_pa:
-        raise InputError("p_out_min", f"minimum outlet pressure {p_out_min:g} Pa is above the outlet pressure "
-                                      f"{p_out_pa:g} Pa; allowed: <= p_out")
     return p_in_max, t_in_min, p_out_min
 
 
@@ -220,14 +212,14 @@ def compute_letdown():
     except InputError as exc:
         raise InputError("units.temperature", exc.message) from None
     limits = _cold_limits(data)
-    p_in_max, t_in_min, p_out_min = _ranges(data, p_in.pa, t_in_k, p_out.pa, p_atm_pa)
-    ranges = OperatingRanges((p_in.pa, p_in_max or p_in.pa), (t_in_min or t_in_k, t_in_k),
-                             (p_out_min or p_out.pa, p_out.pa))
-    options = ScreeningOptions(limits=limits, compare_models=_flag(data, "compare_models", True),
-                               water_saturated=True if _flag(data, "water_saturated", False) else None,
-                               inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
-                                   data.get("mass_flow")), ranges=ranges if ranges.varies else None)
-    screening = screen_letdown(fluid, credible_conditions(p_in.pa, t_in_k, p_out.pa, p_in_max, t_in_min), options)
+    p_in_max, t_in_min, p_out_min = _ranges(data, p_atm_pa)
+    values = letdown_values(p_in_pa=p_in.pa, t_in_k=t_in_k, p_out_pa=p_out.pa, limits=limits, p_atm_pa=p_atm_pa,
+                            p_in_max_pa=p_in_max, t_in_min_k=t_in_min, p_out_min_pa=p_out_min,
+                            water_saturated=_flag(data, "water_saturated", False),
+                            inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
+                                data.get("mass_flow")))
+    check_short(values)     # the letdown kind's checks, naming the request's fields
+    screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
         result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
