@@ -1,39 +1,17 @@
-"""The shape of jtcheck.web: feature packages whose modules import each other without cycles."""
+"""The shape of jtcheck.web: one package per feature, its blueprint in views (no circles: tests/test_structure.py)."""
 from __future__ import annotations
 
-import importlib.util
+import importlib
 from pathlib import Path
+
+import import_graph
 
 REPO = Path(__file__).resolve().parents[2]
 
 
-def _import_cycles():
-    spec = importlib.util.spec_from_file_location("import_cycles", REPO / "tests" / "tools" / "import_cycles.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
-def test_no_module_of_the_web_package_imports_itself_through_others():
-    """Function-level imports count: deferring an import hides a cycle, it does not break it."""
-    tool = _import_cycles()
-    graph = tool.import_graph([REPO / "jtcheck" / "web"])
-    assert "jtcheck.web.case_page" in graph and "jtcheck.web.cases.views" in graph
-    cycles = [c for c in tool.strongly_connected(graph) if len(c) > 1]
-    assert not cycles, cycles
-
-
-def test_the_cycle_check_sees_function_level_imports(tmp_path, monkeypatch):
-    tool = _import_cycles()
-    pkg = tmp_path / "pkg"
-    pkg.mkdir()
-    (pkg / "__init__.py").write_text("")
-    (pkg / "a.py").write_text("from pkg import b\n")
-    (pkg / "b.py").write_text("def f():\n    from pkg.a import x\n    return x\n")
-    monkeypatch.setattr(tool, "REPO", tmp_path)
-    graph = tool.import_graph([pkg])
-    assert graph["pkg.a"] == {"pkg.b"} and graph["pkg.b"] == {"pkg.a"}
-    assert [c for c in tool.strongly_connected(graph) if len(c) > 1] == [["pkg.a", "pkg.b"]]
+def test_the_structure_check_sees_the_web_feature_modules():
+    modules = import_graph.jtcheck().modules
+    assert "jtcheck.web.case_page" in modules and "jtcheck.web.cases.views" in modules
 
 
 def test_each_feature_is_a_package_with_its_blueprint_in_views():
