@@ -38,6 +38,8 @@ Method
    it is at or above it and both flashes converged; ``not screened`` when a flash did not converge or
    no limit was given.  A flash that did not converge never passes.  Liquid in a section (vapour
    fraction below 1 at either end) is flagged: liquid carried over flashes at the section pressure.
+   A single phase that the flash labels "liquid" above the mixture's pseudo-critical temperature and
+   below its pseudo-critical pressure (Kay's rule) is counted as gas, with a note.
 
 Limits of the method
 --------------------
@@ -61,7 +63,7 @@ from __future__ import annotations
 import enum
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -521,6 +523,23 @@ def _source_enthalpy(mixed: Fluid, src: ReliefSource) -> tuple[float, tuple[floa
 # the header
 # ---------------------------------------------------------------------------------------------
 
+def _relabel_gas(mixed: Fluid, res: FlashResult, notes: list[str], where: str) -> FlashResult:
+    """A single phase labelled "liquid" above the mixture's pseudo-critical temperature and below its
+    pseudo-critical pressure (Kay's rule, sum z_i Tc_i and sum z_i Pc_i; Kay, Ind. Eng. Chem. 28 (1936)
+    1014) is a gas: the phase-identification label of the flash is not trusted there (helium at room
+    temperature and 1-2 bar comes out "liquid").  Relabelled vapour, vapour fraction 1, with a note."""
+    if not res.converged or res.phase != "liquid":
+        return res
+    t_pc = float(mixed.zs @ mixed.mixture.tcs)
+    p_pc = float(mixed.zs @ mixed.mixture.pcs)
+    if res.T <= t_pc or res.P >= p_pc:
+        return res
+    notes.append(f"{where}: the flash labelled the single phase at {res.T:.2f} K, {res.P:.6g} Pa 'liquid', above the "
+                 f"pseudo-critical temperature {t_pc:.2f} K (Kay's rule) and below the pseudo-critical pressure "
+                 f"{p_pc:.6g} Pa: counted as gas (vapour fraction 1)")
+    return replace(res, phase="vapour", beta=1.0)
+
+
 def _liquid(res: FlashResult | None) -> bool | None:
     if res is None or not res.converged:
         return None
@@ -644,7 +663,8 @@ def screen_header(sources: Sequence[ReliefSource], sections: Sequence[HeaderSect
             zs=z_i))
     h_mix = float(np.dot(molar_flows, [s.h_j_per_mol for s in src_results]) / n_total)
     basis = {**mixed.basis(), "method": METHOD, "pressure_tolerance_pa": PRESSURE_TOLERANCE_PA}
-    warnings = list(mixed.warnings)
+    warnings = [f"source {src.name!r}: {w}" for src in srcs for w in src.fluid.composition.warnings]
+    warnings += [w for w in mixed.warnings if w not in mixed.composition.warnings]
     common = dict(sources=tuple(src_results), component_ids=mixed.ids, zs=tuple(map(float, zs)),
                   mass_flow_kg_per_s=float(sum(s.mass_flow_kg_per_s for s in srcs)), molar_flow_mol_per_s=n_total,
                   molar_mass_kg_per_mol=mixed.molar_mass, h_j_per_mol=h_mix, basis=basis)
@@ -653,6 +673,7 @@ def screen_header(sources: Sequence[ReliefSource], sections: Sequence[HeaderSect
     temps = [s.t_k for s in srcs if s.t_k is not None]
     t_start = float(np.average(temps)) if temps else T_GUESS_DEFAULT_K
     flashes: dict[float, FlashResult] = {}
+    relabelled: list[str] = []
     if not failures:
         t_guess = t_start
         for p in sorted({p for s in secs for p in (s.p_inlet_pa, s.p_outlet_pa)}, reverse=True):
@@ -661,10 +682,10 @@ def screen_header(sources: Sequence[ReliefSource], sections: Sequence[HeaderSect
                 res = mixed.flash_ph(p, h_mix, t_guess_k=t_start)
             if res.converged:
                 t_guess = res.T
-            flashes[p] = res
+            flashes[p] = _relabel_gas(mixed, res, relabelled, f"{p:.6g} Pa")
 
-    t_header_in = flashes[secs[0].p_inlet_pa].T if flashes.get(secs[0].p_inlet_pa) is not None and \
-        flashes[secs[0].p_inlet_pa].converged else t_start
+    first = flashes.get(secs[0].p_inlet_pa)
+    t_header_in = first.T if first is not None and first.converged else t_start
     results = []
     for sec in secs:
         extra: list[str] = []
@@ -674,6 +695,7 @@ def screen_header(sources: Sequence[ReliefSource], sections: Sequence[HeaderSect
                 extra += [f"{sec.name}: {w}" for w in _state_warnings(mixed, p, r.T, t_header_in)[0]
                           if f"{sec.name}: {w}" not in extra]
         results.append(_section(sec, flashes.get(sec.p_inlet_pa), flashes.get(sec.p_outlet_pa), tuple(extra)))
+    warnings += relabelled
     for r in results:
         warnings += [w for w in r.warnings if w not in warnings]
 
