@@ -429,7 +429,7 @@ class HeaderResult(PlainResult):
 
 
 # ---------------------------------------------------------------------------------------------
-# mixing
+# checks across the inputs
 # ---------------------------------------------------------------------------------------------
 
 def _check_sections(sections: Any) -> tuple[HeaderSection, ...]:
@@ -477,6 +477,10 @@ def _check_sources(sources: Any, p_header_pa: float) -> tuple[ReliefSource, ...]
                                                    "of the header (at the valve outlet or the relieving state)")
     return srcs
 
+
+# ---------------------------------------------------------------------------------------------
+# mixing
+# ---------------------------------------------------------------------------------------------
 
 def _mixture_fluid(srcs: tuple[ReliefSource, ...], zs: np.ndarray, ids: list[str]) -> Fluid:
     """The mixture's Fluid: the sources' EOS and volume translation, every source's own kij kept."""
