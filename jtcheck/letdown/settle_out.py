@@ -30,7 +30,11 @@ u = h - P v at given (T, P) is then unchanged, but the amounts V / v and so the 
 
 A pure component's equilibrium volume jumps at its saturation pressure: when the inner search closes on
 that jump, the state is liquid and vapour at the saturation pressure with the vapour fraction from the
-lever rule on the two roots' molar volumes.
+lever rule on the two roots' molar volumes.  A nearly pure fluid (other components up to 1e-4 mol/mol)
+whose narrow two-phase region the PT flash does not resolve is treated the same way, with a warning; a
+mixture's volume that still jumps is reported as not converged.  A volume that is continuous but changes
+faster than the search resolves (a narrow two-phase region in pressure) is interpolated linearly in v across
+the closing bracket (ln P within 1e-13).
 """
 from __future__ import annotations
 
@@ -57,6 +61,17 @@ P_WINDOW_PA = (1.0, 1.0e9)
 #: The final state must reproduce V / n and U / n to this relative tolerance [-] (U / n relative to
 #: the scale |u| + R T).
 STATE_RTOL = 1e-9
+
+#: The inner search accepts a pressure whose equilibrium molar volume is within this of V / n [-] (ln v).
+V_RTOL = 1e-10
+
+#: Across the closing bracket of the inner search (ln P +- 1e-13) the molar volume may change by at most this
+#: [-] (ln v) to count as continuous (a steep narrow two-phase region, interpolated linearly in v).
+JUMP_CONTINUOUS = 1e-6
+
+#: A fluid whose minor components sum to at most this [mol/mol] is treated as pure where the PT flash does
+#: not resolve its two-phase region: liquid and vapour of the feed composition, lever rule.
+NEARLY_PURE = 1e-4
 
 _R = 8.314462618
 
@@ -158,6 +173,7 @@ class _State:
     u: float
     beta: float
     phase: str
+    note: str = ""
 
 
 class _UnsolvedError(Exception):
@@ -192,10 +208,6 @@ def _state_pt(fluid: Fluid, t_k: float, p_pa: float) -> _State:
     return _State(t_k, p_pa, v, u, float(res.beta), res.phase)
 
 
-def _is_pure(fluid: Fluid) -> bool:
-    return float(np.max(fluid.zs)) > 1.0 - 1e-12
-
-
 def _state_tv(fluid: Fluid, t_k: float, v_target: float, p_guess: float) -> _State:
     """Equilibrium state at temperature ``t_k`` [K] with molar volume ``v_target`` [m^3/mol].
 
@@ -206,9 +218,9 @@ def _state_tv(fluid: Fluid, t_k: float, v_target: float, p_guess: float) -> _Sta
     cache: dict[float, _State] = {}
 
     def g(ln_p: float) -> float:
-        s = _state_pt(fluid, t_k, math.exp(ln_p))
-        cache[ln_p] = s
-        return math.log(s.v / v_target)
+        if ln_p not in cache:      # remembered, so that the search sees one value per point
+            cache[ln_p] = _state_pt(fluid, t_k, math.exp(ln_p))
+        return math.log(cache[ln_p].v / v_target)
 
     x0 = min(max(math.log(p_guess), lo_lim), hi_lim)
     g0 = g(x0)
@@ -229,20 +241,53 @@ def _state_tv(fluid: Fluid, t_k: float, v_target: float, p_guess: float) -> _Sta
         x0, g0 = x1, g1
         step *= 2.0
     a, b = (x0, x1) if x0 < x1 else (x1, x0)
-    ln_p = brentq(g, a, b, xtol=1e-13, rtol=4.0 * np.finfo(float).eps, maxiter=200)
-    s = cache[ln_p] if ln_p in cache else _state_pt(fluid, t_k, math.exp(ln_p))
-    if abs(math.log(s.v / v_target)) <= 1e-10:
+    ln_p = _brent(g, a, b, 1e-13, f"the pressure search at {t_k:.6g} K")
+    g(ln_p)
+    s = cache[ln_p]
+    if abs(math.log(s.v / v_target)) <= V_RTOL:
         return s
-    # the volume jumps at ln_p: a pure component at its saturation pressure, liquid and vapour together
-    if _is_pure(fluid):
+    # the states on either side of ln_p, at the resolution of the search
+    eps = 1e-13
+    while True:
+        x_lo, x_hi = max(ln_p - eps, a), min(ln_p + eps, b)
+        s_lo, s_hi = _state_pt(fluid, t_k, math.exp(x_lo)), _state_pt(fluid, t_k, math.exp(x_hi))
+        if s_lo.v >= v_target >= s_hi.v or eps > 1e-9:
+            break
+        eps *= 2.0
+    if not s_lo.v >= v_target >= s_hi.v:
+        raise _UnsolvedError(f"at {t_k:.6g} K the pressure search for the molar volume {v_target:.6g} m3/mol "
+                             f"closed at {s.p_pa:.6g} Pa without bracketing it")
+    jump = math.log(s_lo.v / s_hi.v)
+    if jump <= JUMP_CONTINUOUS:
+        # steep but continuous (a narrow two-phase region): linear interpolation in v across the tiny bracket
+        w = (v_target - s_hi.v) / (s_lo.v - s_hi.v) if s_lo.v > s_hi.v else 0.5
+        near = s_lo if w >= 0.5 else s_hi
+        return _State(t_k, math.exp(w * x_lo + (1.0 - w) * x_hi), v_target, w * s_lo.u + (1.0 - w) * s_hi.u,
+                      w * s_lo.beta + (1.0 - w) * s_hi.beta, near.phase)
+    # the volume jumps at ln_p: a pure fluid at its saturation pressure, liquid and vapour together
+    impurity = 1.0 - float(np.max(fluid.zs))
+    if impurity <= NEARLY_PURE:
         p = s.p_pa
         v_l, u_l = _phase_vu(fluid, t_k, p, fluid.zs, "liquid")
         v_v, u_v = _phase_vu(fluid, t_k, p, fluid.zs, "vapour")
         if v_l < v_target < v_v:
             beta = (v_target - v_l) / (v_v - v_l)
-            return _State(t_k, p, v_target, beta * u_v + (1.0 - beta) * u_l, beta, "two-phase")
+            note = "" if impurity <= 1e-12 else (
+                f"the fluid is nearly pure (other components {impurity:.2g} mol/mol) and its narrow two-phase region "
+                "was not resolved by the PT flash: the settled-out state is taken as liquid and vapour of the feed "
+                "composition at the pressure where the volume jumps (lever rule, exact for a pure fluid)")
+            return _State(t_k, p, v_target, beta * u_v + (1.0 - beta) * u_l, beta, "two-phase", note)
     raise _UnsolvedError(f"at {t_k:.6g} K the equilibrium molar volume jumps across {v_target:.6g} m3/mol at "
-                    f"{s.p_pa:.6g} Pa (no state has that volume)")
+                         f"{s.p_pa:.6g} Pa ({s_lo.phase} {s_lo.v:.6g} to {s_hi.phase} {s_hi.v:.6g} m3/mol): the PT "
+                         "flash missed part of the two-phase region there")
+
+
+def _brent(fun, a: float, b: float, xtol: float, what: str) -> float:
+    """Brent's method on a bracket [a, b]; a failure of the search becomes _UnsolvedError naming ``what``."""
+    try:
+        return float(brentq(fun, a, b, xtol=xtol, rtol=4.0 * np.finfo(float).eps, maxiter=200))
+    except (ValueError, RuntimeError) as exc:
+        raise _UnsolvedError(f"{what} failed: {exc}") from None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -388,8 +433,12 @@ def settle_out(fluid: Fluid, volumes: Sequence[tuple[str, float, float, float]])
         last["t"], last["p"] = t_k, s.p_pa
         return s
 
+    memo: dict[float, float] = {}
+
     def f(t_k: float) -> float:
-        return state_at(t_k).u - u_target
+        if t_k not in memo:        # remembered: the warm start makes a repeat differ in the last digits
+            memo[t_k] = state_at(t_k).u - u_target
+        return memo[t_k]
 
     try:
         f0 = f(t0)
@@ -397,8 +446,7 @@ def settle_out(fluid: Fluid, volumes: Sequence[tuple[str, float, float, float]])
             t_f = t0
         else:
             a, fa, b, fb = _bracket_t(f, t0, f0)
-            t_f = a if fa == 0.0 else b if fb == 0.0 else brentq(f, a, b, xtol=1e-10, rtol=4.0 * np.finfo(float).eps,
-                                                                   maxiter=200)
+            t_f = a if fa == 0.0 else b if fb == 0.0 else _brent(f, a, b, 1e-10, "the temperature search")
         final = state_at(t_f)
     except _UnsolvedError as exc:
         return result(False, f"settle-out state not found: {exc}", n, u_total)
@@ -410,10 +458,13 @@ def settle_out(fluid: Fluid, volumes: Sequence[tuple[str, float, float, float]])
         return result(False, f"settle-out state not found: the state at {t_f:.6g} K misses the molar volume by "
                              f"{dv:.3g} and the internal energy by {du:.3g} (relative)", n, u_total)
 
+    if final.note:
+        warnings.append(final.note)
     t_min = min(vol.t_k for vol in vols)
     if final.t_k < t_min - 0.005:
         warnings.append(f"the settled-out temperature {final.t_k:.2f} K is below the coldest volume's "
-                        f"{t_min:.2f} K: gas expanding out of the high-pressure volumes cools")
+                        f"{t_min:.2f} K: the inventory of the high-pressure volumes cools as it expands (Joule "
+                        "expansion of gas, flashing of liquid)")
     if final.phase in ("two-phase", "liquid"):
         warnings.append(f"liquid at settle-out ({final.phase}, vapour fraction {final.beta:.4g})")
     msg = (f"settled out at {final.t_k:.2f} K and {final.p_pa:.6g} Pa ({final.phase}, vapour fraction "

@@ -251,6 +251,13 @@ def test_a_single_volume_settles_to_its_own_state(name, p_pa, t_k, phase, methan
     assert not any("colder" in w or "below the coldest" in w for w in r.warnings)
 
 
+def test_identical_volumes_settle_to_their_common_state(methane):
+    """Found by Hypothesis: the start of the temperature search is then the answer itself."""
+    r = settle_out(methane, [("a", 1.0, 4038825.0, 347.0), ("b", 1.0, 4038825.0, 347.0)])
+    assert r.converged
+    assert r.t_k == pytest.approx(347.0, abs=1e-8) and r.p_pa == pytest.approx(4038825.0, rel=1e-9)
+
+
 def test_the_order_of_the_volumes_does_not_matter(methane):
     volumes = [("a", 1.0, 100e5, 300.0), ("b", 2.0, 20e5, 280.0), ("c", 0.5, 50e5, 320.0)]
     r = settle_out(methane, volumes)
@@ -318,6 +325,20 @@ def test_propane_with_volume_translation_against_the_reference_equation():
     assert r.t_k == pytest.approx(t_ref, abs=0.5)
     assert r.p_pa == pytest.approx(p_ref, rel=0.02)
     assert r.vapor_fraction == pytest.approx(q_ref, abs=0.01)
+
+
+@pytest.mark.parametrize("impurity", [1e-5, 1e-9])
+def test_nearly_pure_propane_settles_like_pure_propane(propane, impurity):
+    """A trace of methane: at 1e-5 the PT flash resolves the narrow two-phase region (about 2e-4 of the
+    pressure wide), at 1e-9 it does not and the lever rule of the feed's liquid and vapour applies, with a
+    warning.  Either way the answer moves with the impurity by about -15 K per mol/mol, continuously from
+    the pure fluid's (allowed 0.001 K)."""
+    pure = settle_out(propane, PROPANE_CASE)
+    r = settle_out(Fluid({"propane": 1.0 - impurity, "methane": impurity}, eos="PR"), PROPANE_CASE)
+    assert r.converged and r.phase == "two-phase" and 0.0 < r.vapor_fraction < 1.0
+    assert r.t_k == pytest.approx(pure.t_k, abs=1e-3)
+    assert r.t_k <= pure.t_k
+    assert any("nearly pure" in w for w in r.warnings) == (impurity < 1e-6)
 
 
 def test_rich_gas_settles_two_phase_at_an_equilibrium_state(rich_gas):
