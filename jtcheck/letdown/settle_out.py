@@ -240,7 +240,7 @@ def _state_tv(fluid: Fluid, t_k: float, v_target: float, p_guess: float) -> _Sta
             break
         if x1 in (lo_lim, hi_lim):
             raise _UnsolvedError(f"at {t_k:.6g} K no pressure between {P_WINDOW_PA[0]:g} and {P_WINDOW_PA[1]:g} Pa "
-                            f"gives the molar volume {v_target:.6g} m3/mol")
+                                 f"gives the molar volume {v_target:.6g} m3/mol")
         x0, g0 = x1, g1
         step *= 2.0
     a, b = (x0, x1) if x0 < x1 else (x1, x0)
@@ -348,15 +348,15 @@ def _bracket_t(f, t0: float, f0: float) -> tuple[float, float, float, float]:
             # a failure out there: close in on it from the last good temperature before giving up
             if abs(t1 - t_good) < 0.01:
                 raise _UnsolvedError(f"no settle-out state between {min(t0, t_good):.6g} and {max(t0, t_good):.6g} K; "
-                                f"beyond that: {exc}") from None
+                                     f"beyond that: {exc}") from None
             step = 0.5 * abs(t1 - t_good)
             continue
         if (f1 > 0.0) != (f_good > 0.0) or f1 == 0.0:
             return (t_good, f_good, t1, f1) if t_good < t1 else (t1, f1, t_good, f_good)
         if t1 == limit:
             raise _UnsolvedError(f"no settle-out state between {min(t0, limit):.6g} and {max(t0, limit):.6g} K: the "
-                            f"internal energy at the final molar volume stays {'above' if f1 > 0 else 'below'} "
-                            "the inventory's")
+                                 f"internal energy at the final molar volume stays {'above' if f1 > 0 else 'below'} "
+                                 "the inventory's")
         t_good, f_good = t1, f1
         step *= 2.0
 
