@@ -46,6 +46,9 @@ class CaseKind:
         and the atmospheric pressure are the register's, not listed here).
     flags : tuple of str
         Non-quantity inputs the kind reads (``water_saturated``, ``hydrate_inhibitor``).
+    parameters : tuple of str
+        Structured inputs the kind reads (lists and mappings in SI, e.g. flare header sections), checked
+        by :meth:`check`; the register keeps them, and any field without a column, with the case.
     method : str
         One sentence on the method, stored with every result.
     input_sections, screening_sections : tuple of str
@@ -64,6 +67,7 @@ class CaseKind:
     devices: tuple[str, ...] = ()
     fields: tuple[Field, ...] = ()
     flags: tuple[str, ...] = ()
+    parameters: tuple[str, ...] = ()
     method: str = ""
     input_sections: tuple[str, ...] = ()
     screening_sections: tuple[str, ...] = ()

@@ -47,6 +47,14 @@ def all_fields() -> tuple[Field, ...]:
     return tuple(out.values())
 
 
+def all_parameters() -> tuple[str, ...]:
+    """The structured inputs of every kind, once each, in kind order."""
+    out: list[str] = []
+    for kind in KINDS.values():
+        out += [name for name in kind.parameters if name not in out]
+    return tuple(out)
+
+
 def foreign_fields(kind: CaseKind, values: dict) -> list[Field]:
     """The fields given a value in ``values`` that ``kind`` does not have (another kind's inputs)."""
     own = {f.key for f in (*kind.fields, *COMMON_FIELDS)}
@@ -68,4 +76,5 @@ def kinds_with(key: str) -> list[CaseKind]:
     return [k for k in KINDS.values() if k.field_named(key) is not None]
 
 
-__all__ = ["KINDS", "P_ATM", "all_fields", "foreign_fields", "form_sections", "kind_named", "kind_of", "kinds_with"]
+__all__ = ["KINDS", "P_ATM", "all_fields", "all_parameters", "foreign_fields", "form_sections", "kind_named", "kind_of",
+           "kinds_with"]

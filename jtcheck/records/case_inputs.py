@@ -5,14 +5,15 @@ the unit text the user typed travels in ``display_units``.
 """
 from __future__ import annotations
 
+import json
 from collections.abc import Mapping
 from typing import Any
 
 from sqlalchemy.orm import Session, joinedload
 
-from jtcheck.cases import all_fields, kind_of, kinds_with
+from jtcheck.cases import KINDS, all_fields, kind_of, kinds_with
 from jtcheck.cases.letdown import HYDRATE_INHIBITORS
-from jtcheck.cases.registry import foreign_fields
+from jtcheck.cases.registry import all_parameters, foreign_fields
 from jtcheck.errors import InputError
 from jtcheck.records.fields import (
     MAX_LONG_TEXT,
@@ -27,9 +28,13 @@ from jtcheck.records.models import P_ATM_STANDARD_PA, Case, CaseKind, FluidRecor
 
 #: The quantity fields of every case kind (:mod:`jtcheck.cases`), in the order they are checked.
 QUANTITY_FIELDS = all_fields()
+#: The structured inputs of every case kind (lists and mappings in SI), kept in ``Case.parameters``.
+KIND_PARAMETERS = all_parameters()
 #: Every field of a case that create_case/update_case accept.
 CASE_FIELDS = ("unit_id", "tag", "service", "kind", "fluid_id", *(f.key for f in QUANTITY_FIELDS), "material_id",
-               "basis", "references", "display_units", "water_saturated", "hydrate_inhibitor")
+               "basis", "references", "display_units", "water_saturated", "hydrate_inhibitor", *KIND_PARAMETERS)
+#: The register's case columns; a kind's field without a column is kept in ``Case.parameters``.
+CASE_COLUMNS = frozenset(Case.__table__.columns.keys())
 #: Keys allowed in ``display_units``: the quantity fields without their SI suffix (the atmospheric pressure
 #: is shown in its own unit).
 DISPLAY_UNIT_FIELDS = tuple(f.name for f in QUANTITY_FIELDS if f.name != "p_atm")
@@ -37,8 +42,9 @@ DISPLAY_UNIT_FIELDS = tuple(f.name for f in QUANTITY_FIELDS if f.name != "p_atm"
 CASE_DEFAULTS: dict[str, Any] = {"service": "", "margin_k": 0.0, "p_atm_pa": P_ATM_STANDARD_PA, "basis": "",
                                  "references": "", "display_units": {}, "water_saturated": False,
                                  "hydrate_inhibitor": "methanol"}
-__all__ = ["CASE_DEFAULTS", "CASE_FIELDS", "DISPLAY_UNIT_FIELDS", "HYDRATE_INHIBITORS", "QUANTITY_FIELDS",
-           "case_values", "none_to_default", "parse_kind", "validate_case"]
+__all__ = ["CASE_COLUMNS", "CASE_DEFAULTS", "CASE_FIELDS", "DISPLAY_UNIT_FIELDS", "HYDRATE_INHIBITORS",
+           "KIND_PARAMETERS", "QUANTITY_FIELDS", "case_values", "field_value", "none_to_default", "parse_kind",
+           "site_margin", "validate_case"]
 
 
 def parse_kind(value: Any, key: str = "kind") -> CaseKind:
@@ -67,6 +73,40 @@ def _display_units(value: Any) -> dict[str, str]:
     return out
 
 
+def _structured(name: str, value: Any) -> Any:
+    """A kind's structured input as JSON-safe lists and mappings (None and empty mean not given)."""
+    if value is None or value == [] or value == {}:
+        return None
+    if not isinstance(value, (list, dict)):
+        raise InputError(name, f"must be a list or a mapping (see the case kind's inputs), got {type(value).__name__}")
+    try:
+        return json.loads(json.dumps(value, allow_nan=False))
+    except (TypeError, ValueError) as exc:
+        raise InputError(name, f"must hold only numbers, text, lists and mappings (finite numbers): {exc}") from None
+
+
+def _keep_parameters(values: dict[str, Any]) -> None:
+    """Move the kind inputs without a column into ``values["parameters"]`` (None values left out)."""
+    params: dict[str, Any] = {}
+    for key in [k for k in values if k not in CASE_COLUMNS]:
+        v = values.pop(key)
+        if v is not None:
+            params[key] = v
+    values["parameters"] = params or None
+
+
+def field_value(case: Case, key: str) -> Any:
+    """A case input by its register key, from its column or from ``Case.parameters``."""
+    if key in CASE_COLUMNS:
+        return getattr(case, key)
+    return (case.parameters or {}).get(key)
+
+
+def site_margin(unit: PlantUnit) -> float | None:
+    """The default margin of the unit's site [K] (None when the site sets none)."""
+    return unit.site.default_margin_k if unit is not None and unit.site is not None else None
+
+
 def _check_for_kind(values: dict[str, Any]) -> None:
     """The kind's own checks, then no input of another kind: each named by its field."""
     kind = kind_of(values["kind"])
@@ -77,6 +117,10 @@ def _check_for_kind(values: dict[str, Any]) -> None:
         owner.check_group(values)   # the owner's own complaint first (e.g. relief data without a set pressure)
         raise InputError(foreign[0].key, f"a {foreign[0].label} is only for {owner.cases_phrase} (kind "
                                          f"{', '.join(owner.devices)})")
+    for name in KIND_PARAMETERS:
+        if values.get(name) is not None and name not in kind.parameters:
+            owners = [k for k in KINDS.values() if name in k.parameters]
+            raise InputError(name, f"{name} is only for {' and '.join(k.cases_phrase for k in owners)}")
 
 
 def validate_case(session: Session, data: Mapping[str, Any], *, current: Case | None = None,
@@ -104,7 +148,10 @@ def validate_case(session: Session, data: Mapping[str, Any], *, current: Case | 
 
     values["water_saturated"] = parse_flag("water_saturated", data.get("water_saturated"), "water-saturated gas")
     values["hydrate_inhibitor"] = data.get("hydrate_inhibitor")
+    for name in KIND_PARAMETERS:
+        values[name] = _structured(name, data.get(name))
     _check_for_kind(values)
+    _keep_parameters(values)
 
     # material and MDMT: an entered MDMT wins; without one the material's limit is copied
     material = None
@@ -142,7 +189,7 @@ def none_to_default(data: Mapping[str, Any]) -> dict[str, Any]:
 
 def case_values(case: Case) -> dict[str, Any]:
     """The user-entered fields of a case (the keys of :data:`CASE_FIELDS`), e.g. to fill an edit form."""
-    out = {key: getattr(case, key) for key in CASE_FIELDS}
+    out = {key: field_value(case, key) for key in CASE_FIELDS}
     out["kind"] = CaseKind(case.kind).value
     out["display_units"] = dict(case.display_units or {})
     return out

@@ -21,6 +21,7 @@ from jtcheck.records.case_inputs import (
     case_values,
     none_to_default,
     parse_kind,
+    site_margin,
     validate_case,
 )
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
@@ -76,7 +77,13 @@ def add_case(session: Session, user: User | None, data: Mapping[str, Any]) -> Ca
     """Add a case and its revision A within the caller's transaction (no permission check)."""
     refuse_unknown_keys(data, CASE_FIELDS, "case")
     loaded: dict[str, Any] = {}
-    values = validate_case(session, {**CASE_DEFAULTS, **none_to_default(data)}, loaded=loaded)
+    defaults = dict(CASE_DEFAULTS)
+    unit_id = data.get("unit_id")
+    unit = session.get(PlantUnit, unit_id) if isinstance(unit_id, int) and not isinstance(unit_id, bool) else None
+    margin = site_margin(unit)
+    if margin is not None:    # a case without a margin of its own takes its site's
+        defaults["margin_k"] = margin
+    values = validate_case(session, {**defaults, **none_to_default(data)}, loaded=loaded)
     # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
     case = Case(**values, **loaded, status=RevisionStatus.DRAFT.value, created_by=user, updated_by=user)
     session.add(case)

@@ -22,6 +22,11 @@ from jtcheck.records.sites import add_site, add_unit
 from jtcheck.records.transactions import transaction
 
 SITE_NAME = "Kestrel Ridge gas terminal (invented)"
+#: The demo site's default margin [K] and its reason (invented site practice, of the common size).
+SITE_MARGIN_K = 5.0
+SITE_MARGIN_BASIS = ("Site practice (invented): 5 K above the cold limit, covering the instrument error of the "
+                     "inlet temperature and pressure and the scatter of a cubic equation of state against "
+                     "measured Joule-Thomson cooling for lean gas; the model spread is shown beside it.")
 SITE_DESCRIPTION = ("Fictional gas receiving terminal used for jtcheck's demonstration data. "
                     "Every name and number is invented.")
 #: The owner of demo records when no user is given: cannot sign in (inactive, unusable password hash).
@@ -168,6 +173,7 @@ def load_demo(session: Session, user: User | None = None) -> Site:
         owner = user if user is not None else _demo_user(session)
         add_seed_materials(session)
         site = add_site(session, owner, SITE_NAME, SITE_DESCRIPTION)
+        site.default_margin_k, site.default_margin_basis = SITE_MARGIN_K, SITE_MARGIN_BASIS
         units = {name: add_unit(session, owner, site.id, name, text) for name, text in UNITS}
         fluids = {f["name"]: add_fluid(session, owner, f["name"], f["composition"], "PR", "table", DEMO_NOTE)
                   for f in FLUIDS}

@@ -166,6 +166,9 @@ class Site(Base):
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(200), unique=True)
     description: Mapped[str] = mapped_column(Text, default="")
+    #: the margin a new case of the site takes when none is entered [K], and the site's reason for it
+    default_margin_k: Mapped[float | None] = mapped_column(Float)
+    default_margin_basis: Mapped[str] = mapped_column(Text, default="", server_default="")
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
 
     units: Mapped[list[PlantUnit]] = relationship(back_populates="site", order_by="PlantUnit.name")
@@ -295,6 +298,9 @@ class Case(Base):
     references: Mapped[str] = mapped_column(Text, default="")
     #: field (without unit suffix) -> unit text the user typed, e.g. ``{"inlet_pressure": "barg"}``.
     display_units: Mapped[dict[str, str]] = mapped_column(JSON, default=dict)
+    #: the case kind's inputs that have no column of their own (SI; see jtcheck.cases): scalar fields by key
+    #: and structured inputs (header sections, other relief sources, settle-out volumes, cases switched off)
+    parameters: Mapped[dict[str, Any] | None] = mapped_column(JSON)
     #: atmospheric pressure used for gauge units [Pa].
     p_atm_pa: Mapped[float] = mapped_column(Float, default=P_ATM_STANDARD_PA)
     status: Mapped[str] = mapped_column(String(32), default="draft", index=True)

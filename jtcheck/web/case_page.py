@@ -13,6 +13,7 @@ from flask import current_app, render_template
 
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service
+from jtcheck.records.case_inputs import field_value
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.models import Case, CaseResult
 from jtcheck.web import removal
@@ -43,7 +44,7 @@ def _case_context(case: Case, review_form: FormState | None = None, review_step:
     shown = dict(case.display_units or {})
     inputs = []
     for q in CASE_QUANTITIES:
-        value = getattr(case, q.key)
+        value = field_value(case, q.key)
         if value is None:
             continue
         unit = display_unit(q, shown)

@@ -12,6 +12,7 @@ from typing import Any
 from flask import url_for
 
 from jtcheck.notices import CAUTION
+from jtcheck.records.case_inputs import field_value
 from jtcheck.records.models import (
     AuditEntry,
     Case,
@@ -49,12 +50,12 @@ def case_json(case: Case, latest: CaseResult | None = None, current: bool | None
     if revision is UNSET:
         revision = case.current_revision
     shown = dict(case.display_units or {})
-    si: dict[str, Any] = {q.key: getattr(case, q.key) for q in CASE_QUANTITIES}
+    si: dict[str, Any] = {q.key: field_value(case, q.key) for q in CASE_QUANTITIES}
     si["p_atm_pa"] = case.p_atm_pa
     display = {}
     for q in CASE_QUANTITIES:
         unit = display_unit(q, shown)
-        value = getattr(case, q.key)
+        value = field_value(case, q.key)
         display[q.name] = None if value is None else {"value": to_display(q, value, unit, case.p_atm_pa),
                                                       "unit": unit}
     out: dict[str, Any] = {

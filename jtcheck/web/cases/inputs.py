@@ -20,6 +20,7 @@ from typing import Any
 
 from jtcheck.cases.letdown import HYDRATE_INHIBITORS
 from jtcheck.errors import InputError
+from jtcheck.records.case_inputs import field_value
 from jtcheck.records.models import Case
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
@@ -201,7 +202,7 @@ def changed_only(case: Case, values: Mapping[str, Any]) -> dict[str, Any]:
     """
     out: dict[str, Any] = {}
     for key, value in values.items():
-        old = getattr(case, key) if hasattr(case, key) else None
+        old = field_value(case, key)
         if key == "display_units":
             if dict(old or {}) != dict(value):
                 out[key] = value

@@ -15,6 +15,7 @@ from sqlalchemy import select
 from jtcheck.cases import form_sections
 from jtcheck.errors import InputError
 from jtcheck.records import service, workflow
+from jtcheck.records.case_inputs import field_value
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
 from jtcheck.records.models import Case, CaseKind, RevisionStatus
 from jtcheck.units import pressure_from_pa
@@ -118,7 +119,7 @@ def _form_of(case: Case) -> FormState:
               "hydrate_inhibitor": case.hydrate_inhibitor or HYDRATE_INHIBITORS[0]}
     for q in CASE_QUANTITIES:
         unit = display_unit(q, shown)
-        values[q.name] = input_number(to_display(q, getattr(case, q.key), unit, case.p_atm_pa))
+        values[q.name] = input_number(to_display(q, field_value(case, q.key), unit, case.p_atm_pa))
         values[f"{q.name}_unit"] = unit
     p_unit = p_atm_unit_for(shown)
     values["p_atm"] = input_number(pressure_from_pa(case.p_atm_pa, p_unit))
