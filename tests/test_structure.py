@@ -34,7 +34,7 @@ class Row(NamedTuple):
     libraries: frozenset[str] | None = None
 
 
-CORE_PACKAGES = frozenset({"errors", "units", "notices"})
+CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
 #: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown)
@@ -48,6 +48,8 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     "errors": Row(Layer.CORE, frozenset()),
     "notices": Row(Layer.CORE, frozenset()),
     "units": Row(Layer.CORE, frozenset({"errors"})),
+    # lists of items typed as text (header sections, settle-out volumes), read at the edges like units
+    "itemlists": Row(Layer.CORE, frozenset({"errors", "units"})),
     "thermo": Row(Layer.THERMO, frozenset({"errors"}), NUMERIC),
     "letdown": Row(Layer.ENGINEERING, frozenset({"errors", "thermo"}), NUMERIC),
     # screening may import letdown; letdown never imports screening
