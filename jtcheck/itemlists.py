@@ -30,7 +30,7 @@ import re
 from typing import Any
 
 from jtcheck.errors import InputError
-from jtcheck.units import P_ATM_DEFAULT_PA, parse_pressure, parse_temperature
+from jtcheck.units import P_ATM_DEFAULT_PA, parse_pressure, parse_temperature, pressure_from_pa, temperature_from_k
 
 #: The generated credible cases a user may switch off (with a reason).
 CREDIBLE_CASES = ("settle_out", "start_up", "heater_loss", "ambient")
@@ -96,6 +96,8 @@ def settle_out_volumes(text: Any, field: str = "settle_out_volumes", p_atm_pa: f
 
 def credible_off(text: Any, field: str = "credible_off") -> dict[str, str]:
     """Generated credible cases switched off: ``case: reason`` a line (cases: :data:`CREDIBLE_CASES`)."""
+    if isinstance(text, dict):      # already a mapping case -> reason (JSON)
+        text = [f"{k}: {v}" for k, v in text.items()]
     out: dict[str, str] = {}
     for line in lines_of(text, field):
         case, _, reason = line.partition(":")
@@ -107,3 +109,30 @@ def credible_off(text: Any, field: str = "credible_off") -> dict[str, str]:
                                                 f"'{case}: <reason>'")
         out[case] = reason.strip()
     return out
+
+
+def _num(x: float) -> str:
+    return f"{x:.6g}"
+
+
+def header_sections_text(rows: Any, p_unit: str = "barg", t_unit: str = "degC",
+                         p_atm_pa: float = P_ATM_DEFAULT_PA) -> str:
+    """Stored header sections (SI) as the lines :func:`header_sections` reads, in the given units."""
+    lines = []
+    for r in rows or ():
+        limit = "-" if r.get("limit_k") is None else f"{_num(temperature_from_k(r['limit_k'], t_unit))} {t_unit}"
+        p = f"{_num(pressure_from_pa(r['p_pa'], p_unit, p_atm_pa))} {p_unit}"
+        lines.append("; ".join([r["name"], p, limit] + ([r["material"]] if r.get("material") else [])))
+    return "\n".join(lines)
+
+
+def settle_out_volumes_text(rows: Any, p_unit: str = "barg", t_unit: str = "degC",
+                            p_atm_pa: float = P_ATM_DEFAULT_PA) -> str:
+    """Stored settle-out volumes (SI) as the lines :func:`settle_out_volumes` reads."""
+    return "\n".join(f"{r['name']}; {_num(r['volume_m3'])} m3; {_num(pressure_from_pa(r['p_pa'], p_unit, p_atm_pa))} "
+                     f"{p_unit}; {_num(temperature_from_k(r['t_k'], t_unit))} {t_unit}" for r in rows or ())
+
+
+def credible_off_text(cases: Any) -> str:
+    """Stored switched-off cases as the lines :func:`credible_off` reads."""
+    return "\n".join(f"{k}: {v}" for k, v in (cases or {}).items())

@@ -55,3 +55,16 @@ def test_credible_cases_switched_off_need_a_reason():
     assert err.value.field == "credible_off.heater_loss"
     with pytest.raises(InputError, match="allowed: settle_out, start_up, heater_loss, ambient"):
         itemlists.credible_off("blackout: no")
+
+
+def test_stored_items_read_back_as_the_same_lines():
+    text = "tailpipe; 2 barg; -46 degC; stainless\nknock-out drum; 0.2 barg; -"
+    rows = itemlists.header_sections(text)
+    again = itemlists.header_sections(itemlists.header_sections_text(rows))
+    assert [r["p_pa"] for r in again] == pytest.approx([r["p_pa"] for r in rows])
+    assert itemlists.header_sections_text(rows) == text
+    vols = itemlists.settle_out_volumes("V-1; 40 m3; 72 barg; 15 degC")
+    assert itemlists.settle_out_volumes_text(vols) == "V-1; 40 m3; 72 barg; 15 degC"
+    off = {"start_up": "never depressured"}
+    assert itemlists.credible_off(itemlists.credible_off_text(off)) == off
+    assert itemlists.credible_off(off) == off

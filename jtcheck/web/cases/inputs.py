@@ -18,9 +18,10 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
+from jtcheck import itemlists
 from jtcheck.cases.letdown import HYDRATE_INHIBITORS
 from jtcheck.errors import InputError
-from jtcheck.records.case_inputs import field_value
+from jtcheck.records.case_inputs import KIND_PARAMETERS, field_value
 from jtcheck.records.models import Case
 from jtcheck.web.quantities import (
     CASE_QUANTITIES,
@@ -34,9 +35,12 @@ TEXT_FIELDS = ("tag", "service", "basis", "references")
 ID_FIELDS = ("unit_id", "fluid_id", "material_id")
 #: Screening choices that are not quantities: a flag and a choice of inhibitor.
 SCREENING_FIELDS = ("water_saturated", "hydrate_inhibitor")
+#: Structured inputs of the case kinds, typed one item a line (jtcheck.itemlists): name -> reader.
+LIST_FIELDS = {"header_sections": itemlists.header_sections, "settle_out_volumes": itemlists.settle_out_volumes,
+               "credible_off": itemlists.credible_off}
 #: Every key a case body may hold (API and form alike).
 INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm",
-                *SCREENING_FIELDS, "basis", "references")
+                *SCREENING_FIELDS, *(k for k in LIST_FIELDS if k in KIND_PARAMETERS), "basis", "references")
 _EXAMPLES = {"pressure": "72 barg", "temperature": "9 degC", "difference": "5 K", "mass_flow": "12 kg/s",
              "percent": "10 %", "pressure_difference": "3 bar"}
 _TRUE_WORDS = ("on", "true", "yes", "1")
@@ -174,6 +178,14 @@ def convert(raw: Mapping[str, Any], *, current: Case | None = None, form: bool =
         inhibitor = _inhibitor(raw["hydrate_inhibitor"])
         if not (form and inhibitor is None and current is not None):   # an empty form field keeps what is stored
             out["hydrate_inhibitor"] = inhibitor
+    for key, reader in LIST_FIELDS.items():
+        if key in raw and key in INPUT_FIELDS:
+            try:
+                value = raw[key]
+                items = reader(value, key) if key == "credible_off" else reader(value, key, p_atm_pa)
+                out[key] = items or None
+            except InputError as exc:
+                errors[exc.field] = exc.message
     if "kind" in raw:
         out["kind"] = raw["kind"]
     for key in ID_FIELDS:
