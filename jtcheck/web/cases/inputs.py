@@ -198,6 +198,17 @@ def convert(raw: Mapping[str, Any], *, current: Case | None = None, form: bool =
     return out
 
 
+def list_text(name: str, rows: Any, shown: Mapping[str, str], p_atm_pa: float) -> str:
+    """A stored list input as the lines the form shows, pressures and temperatures in the case's units."""
+    p_unit = shown.get("inlet_pressure") or "barg"
+    t_unit = shown.get("inlet_temperature") or "degC"
+    if name == "header_sections":
+        return itemlists.header_sections_text(rows, p_unit, t_unit, p_atm_pa)
+    if name == "settle_out_volumes":
+        return itemlists.settle_out_volumes_text(rows, p_unit, t_unit, p_atm_pa)
+    return itemlists.credible_off_text(rows)
+
+
 def _same(old: Any, new: Any) -> bool:
     if isinstance(old, float) and isinstance(new, float):
         return math.isclose(old, new, rel_tol=1e-10, abs_tol=1e-12)

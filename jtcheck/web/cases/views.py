@@ -23,12 +23,15 @@ from jtcheck.web import removal
 from jtcheck.web.case_page import render_case_page
 from jtcheck.web.cases.inputs import (
     HYDRATE_INHIBITORS,
+    INPUT_FIELDS,
+    LIST_FIELDS,
     SCREENING_FIELDS,
     FieldInputError,
     changed_only,
     convert,
     field_message,
     form_field,
+    list_text,
 )
 from jtcheck.web.cases.results import (
     NOT_COMPUTED,
@@ -52,7 +55,10 @@ from jtcheck.web.security import current_user, require_editor, require_viewer
 bp = Blueprint("cases", __name__)
 
 _TEXT_FIELDS = ("tag", "service", "kind", "unit_id", "fluid_id", "material_id", "basis", "references")
-CASE_FORM_FIELDS = (*_TEXT_FIELDS, *(q.name for q in CASE_QUANTITIES), *(f"{q.name}_unit" for q in CASE_QUANTITIES),
+#: The kinds' list inputs the form shows as text areas (one item a line).
+_LIST_FIELDS = tuple(k for k in LIST_FIELDS if k in INPUT_FIELDS)
+CASE_FORM_FIELDS = (*_TEXT_FIELDS, *_LIST_FIELDS, *(q.name for q in CASE_QUANTITIES),
+                    *(f"{q.name}_unit" for q in CASE_QUANTITIES),
                     "p_atm", "p_atm_unit", *SCREENING_FIELDS, "version")
 #: Values of the outcome filter of the case list.
 OUTCOME_FILTERS = (*OUTCOMES, NOT_COMPUTED)
@@ -124,12 +130,14 @@ def _form_of(case: Case) -> FormState:
     p_unit = p_atm_unit_for(shown)
     values["p_atm"] = input_number(pressure_from_pa(case.p_atm_pa, p_unit))
     values["p_atm_unit"] = p_unit
+    for name in _LIST_FIELDS:
+        values[name] = list_text(name, field_value(case, name), shown, case.p_atm_pa)
     return FormState.of(values)
 
 
 def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict[str, Any]:
     """The posted case as the mapping :func:`jtcheck.web.cases.inputs.convert` takes (quantities as "72 barg")."""
-    raw: dict[str, Any] = {k: form.get(k) for k in (*_TEXT_FIELDS, *SCREENING_FIELDS)}
+    raw: dict[str, Any] = {k: form.get(k) for k in (*_TEXT_FIELDS, *SCREENING_FIELDS, *_LIST_FIELDS)}
     for name in (*(q.name for q in CASE_QUANTITIES), "p_atm"):
         value, unit = form.get(name).strip(), form.get(f"{name}_unit").strip()
         if not value and not unit:     # an optional field the form did not send
