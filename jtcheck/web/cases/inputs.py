@@ -184,8 +184,8 @@ def convert(raw: Mapping[str, Any], *, current: Case | None = None, form: bool =
                 value = raw[key]
                 items = reader(value, key) if key == "credible_off" else reader(value, key, p_atm_pa)
                 out[key] = items or None
-            except InputError as exc:
-                errors[exc.field] = exc.message
+            except InputError as exc:    # named by the list field; the message says which line and entry
+                errors[key] = exc.message if exc.field == key else f"{exc.field}: {exc.message}"
     if "kind" in raw:
         out["kind"] = raw["kind"]
     for key in ID_FIELDS:

@@ -152,6 +152,9 @@ def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict
 
 def _apply_input_error(form: FormState, exc: InputError) -> None:
     field, message = form_field(exc.field), field_message(exc.field, exc.message)
+    base = field.split("[")[0].split(".")[0]
+    if base != field and base in CASE_FORM_FIELDS:   # an item of a list input: shown at the list
+        field, message = base, f"{field}: {message}"
     if field in CASE_FORM_FIELDS:
         form.add(field, message)
     else:
