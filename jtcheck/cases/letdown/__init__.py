@@ -4,14 +4,31 @@ Each credible condition (normal; minimum inlet temperature; maximum inlet pressu
 isenthalpically to the outlet pressure and screened by :func:`jtcheck.screening.screen.screen_letdown`,
 with the operating sweep over the entered ranges and, for a failing case, the preheat and the
 outlet-pressure limit as answers.
+
+To the user's conditions :meth:`LetdownKind.compute` adds the credible cases generated from the operating
+data (:mod:`jtcheck.cases.credible`): settle-out after shutdown, start-up into a depressured outlet (always),
+loss of the upstream heater and the minimum ambient for an uninsulated inlet.  What was generated, switched
+off or not generated, each with its reasoning or reason, is in ``answers["generated_cases"]``.
+
+Kind parameters beside the quantity fields (:data:`LETDOWN_FIELDS`), structured values in SI:
+
+``settle_out_volumes``
+    list of ``{"name": str, "volume_m3": float [m^3], "p_pa": float [Pa abs], "t_k": float [K]}``: the volumes
+    connected to the inlet after a shutdown, with their states before they settle out.
+``credible_off``
+    ``{"settle_out" | "start_up" | "heater_loss" | "ambient": reason}``: generated cases switched off, each with
+    the reason (required); they are listed in the result and not computed.
 """
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import replace
 from typing import Any
 
+from jtcheck.cases.credible import GeneratedCases, check_credible_off, check_settle_out_volumes, generated_conditions
 from jtcheck.cases.fields import (
     INLET_TEMPERATURE_RANGE_K,
+    LIMIT_TEMPERATURE_RANGE_K,
     MASS_FLOW_RANGE_KG_PER_S,
     PRESSURE_RANGE_PA,
     Field,
@@ -19,6 +36,7 @@ from jtcheck.cases.fields import (
 from jtcheck.cases.kind import CaseKind
 from jtcheck.errors import InputError
 from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.screening.findings import Topic
 from jtcheck.screening.screen import (
     Condition,
     OperatingRanges,
@@ -44,6 +62,11 @@ LETDOWN_FIELDS: tuple[Field, ...] = (
     Field("outlet_pressure_min", "outlet_pressure_min_pa", "pressure", "minimum credible outlet pressure",
           "Minimum credible outlet pressure", PRESSURE_RANGE_PA),
     Field("mass_flow", "mass_flow_kg_per_s", "mass_flow", "mass flow", "Mass flow", MASS_FLOW_RANGE_KG_PER_S),
+    Field("heater_upstream_temperature", "heater_upstream_temperature_k", "temperature",
+          "temperature upstream of the heater (heater off)", "Temperature upstream of the heater (heater off)",
+          INLET_TEMPERATURE_RANGE_K),
+    Field("ambient_temperature_min", "ambient_temperature_min_k", "temperature", "minimum ambient temperature",
+          "Minimum ambient temperature", LIMIT_TEMPERATURE_RANGE_K),
 )
 #: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
 HYDRATE_INHIBITORS = ("methanol", "MEG")
@@ -83,6 +106,8 @@ def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = N
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
                                               f"{', '.join(HYDRATE_INHIBITORS)}")
+    check_settle_out_volumes(values.get("settle_out_volumes"))
+    check_credible_off(values.get("credible_off"))
 
 
 #: Short names of the letdown inputs, as the ``jtcheck letdown`` options and the JSON API's letdown request
@@ -177,8 +202,25 @@ class LetdownKind(CaseKind):
 
     def compute(self, fluid: Fluid, values: Mapping[str, Any], *, compare_models: bool = True,
                 answers: bool = True, sweep: bool = True) -> Screening:
+        """Screen the user's conditions (:meth:`conditions`) and the generated credible cases
+        (:func:`jtcheck.cases.credible.generated_conditions`); ``answers["generated_cases"]`` lists the latter."""
         options = self.options(values, compare_models=compare_models, answers=answers, sweep=sweep)
-        return screen_letdown(fluid, self.conditions(values), options)
+        generated = generated_conditions(fluid, values)
+        screening = screen_letdown(fluid, [*self.conditions(values), *generated.conditions], options)
+        return with_generated(screening, generated)
+
+
+def with_generated(screening: Screening, generated: GeneratedCases) -> Screening:
+    """``screening`` with ``answers["generated_cases"]`` (:meth:`GeneratedCases.entries`) and, for a generated
+    condition whose starting state was not found (settle-out), its reason in the condition and the finding
+    in place of the letdown's refusal of the missing state."""
+    why = {g.condition.name: g.message for g in generated.unconverged}
+    conditions = tuple(replace(cs, message=f"not converged: {why[cs.condition.name]}")
+                       if cs.condition.name in why else cs for cs in screening.conditions)
+    findings = tuple(replace(f, message=f"{f.condition}: not converged: {why[f.condition]}")
+                     if f.topic is Topic.CONVERGENCE and f.condition in why else f for f in screening.findings)
+    return replace(screening, conditions=conditions, findings=findings,
+                   answers={**screening.answers, "generated_cases": generated.entries()})
 
 
 LETDOWN = LetdownKind()

@@ -1,0 +1,31 @@
+"""Generated credible cases: the heater-off inlet temperature and the minimum ambient temperature on cases.
+
+Revision ID: 0005
+Revises: 0004
+Create Date: 2026-12-05
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import sqlalchemy as sa
+from alembic import op
+
+revision: str = "0005"
+down_revision: str | None = "0004"
+branch_labels: str | Sequence[str] | None = None
+depends_on: str | Sequence[str] | None = None
+
+CASE_FLOATS = ("heater_upstream_temperature_k", "ambient_temperature_min_k")
+
+
+def upgrade() -> None:
+    with op.batch_alter_table("cases") as batch:
+        for name in CASE_FLOATS:
+            batch.add_column(sa.Column(name, sa.Float(), nullable=True))
+
+
+def downgrade() -> None:
+    with op.batch_alter_table("cases") as batch:
+        for name in reversed(CASE_FLOATS):
+            batch.drop_column(name)
