@@ -277,8 +277,6 @@ class Case(Base):
     mass_flow_kg_per_s: Mapped[float | None] = mapped_column(Float)
     # generated credible cases (optional, jtcheck.cases.credible): the inlet temperature with the upstream
     # heater off [K] and the minimum ambient temperature an uninsulated inlet reaches [K]
-    heater_upstream_temperature_k: Mapped[float | None] = mapped_column(Float)
-    ambient_temperature_min_k: Mapped[float | None] = mapped_column(Float)
     # hydrates: the user can declare the gas water-saturated (water in the composition always counts)
     water_saturated: Mapped[bool] = mapped_column(Boolean, default=False)
     hydrate_inhibitor: Mapped[str] = mapped_column(String(32), default="methanol")

@@ -57,7 +57,7 @@ def test_start_up_lets_down_to_atmospheric_and_is_colder_than_normal():
                                         "start-up into depressured outlet (min inlet temperature)"]
     assert all(c.p_out_pa == P_ATM for c in starts)
     assert [(c.p_in_pa, c.t_in_k) for c in starts] == [(70 * BAR, 290.0), (70 * BAR, 280.0)]
-    screening = LETDOWN.compute(METHANE, values(), answers=False)
+    screening = LETDOWN.compute(METHANE, values(ambient_temperature_min_k=250.0), answers=False)
     t = {cs.condition.name: cs.t_screen_k for cs in screening.conditions}
     assert t["start-up into depressured outlet"] < t["normal"]   # methane cools on letdown (JT > 0)
 
@@ -124,3 +124,13 @@ def test_with_no_extra_inputs_only_the_start_up_case_is_added():
     assert [g.condition.name for g in gen.generated] == [CASE_NAMES[credible.START_UP]]
     assert {s.case: s.status for s in gen.skipped} == {"settle_out": "not generated", "heater_loss": "not generated",
                                                        "ambient": "not generated"}
+
+
+def test_a_letdown_that_gives_no_generated_input_is_screened_as_before():
+    """Until the vectorised batch path adds them, the generated cases run only for a case that asks for them,
+    so that a case gives the same answer from the register, the CLI, the API and a letdown list."""
+    plain = LETDOWN.compute(METHANE, values(), answers=False)
+    assert [cs.condition.name for cs in plain.conditions] == ["normal"]
+    assert "generated_cases" not in plain.answers
+    asked = LETDOWN.compute(METHANE, values(credible_off={"ambient": "buried line (invented)"}), answers=False)
+    assert "start-up into depressured outlet" in [cs.condition.name for cs in asked.conditions]

@@ -7,7 +7,6 @@ import pytest
 
 import jtcheck
 from jtcheck import Fluid, letdown
-from jtcheck.cases.credible import CASE_NAMES, START_UP
 from jtcheck.errors import InputError
 from jtcheck.letdown import LetdownResult
 from jtcheck.records import service
@@ -19,9 +18,6 @@ from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION
 
 from .register_helpers import BAR, T0, count
 
-#: The start-up into a depressured outlet that every letdown adds (jtcheck.cases.credible), per inlet state.
-STARTS = [CASE_NAMES[START_UP], *(f"{CASE_NAMES[START_UP]} ({c})" for c in service.CONDITIONS[1:])]
-
 
 @pytest.fixture
 def case(session, engineer, case_data):
@@ -30,7 +26,7 @@ def case(session, engineer, case_data):
 
 def test_all_four_conditions_and_the_sweep_are_computed_and_converge(session, engineer, case):
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == [*service.CONDITIONS, *STARTS, SWEEP_CONDITION]
+    assert [e["condition"] for e in result.results] == [*service.CONDITIONS, SWEEP_CONDITION]
     assert result.converged is True
     assert all(e["converged"] and e["t_out"] < e["t_in"] for e in result.results)
     # the screened temperature is the colder of the two models, never warmer than the case model's
@@ -48,14 +44,13 @@ def test_all_four_conditions_and_the_sweep_are_computed_and_converge(session, en
 def test_only_the_given_extremes_are_computed(session, engineer, case_data):
     case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None))
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature", *STARTS[:2],
-                                                         SWEEP_CONDITION]
+    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature", SWEEP_CONDITION]
 
 
 def test_without_ranges_there_is_no_sweep(session, engineer, case_data):
     case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None, inlet_temperature_min_k=None))
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == ["normal", STARTS[0]]
+    assert [e["condition"] for e in result.results] == ["normal"]
     assert "sweep" not in result.screening["answers"]
 
 
@@ -138,7 +133,7 @@ def test_a_condition_that_does_not_converge_is_stored_as_such(session, engineer,
     assert result.outcome == "not screened"     # never pass with a condition missing
     failed = [e for e in result.results if not e["converged"]]
     assert [e["condition"] for e in failed] == ["min inlet temperature", "min temperature + max pressure",
-                                                STARTS[1], STARTS[3], SWEEP_CONDITION]
+                                                SWEEP_CONDITION]
     assert all(e["t_out"] is None and e["dt"] is None for e in failed)
     assert "not converged" in result.message and "min inlet temperature" in result.message
     converged = [e["t_screen_k"] for e in result.results if e["converged"]]

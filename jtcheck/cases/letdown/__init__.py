@@ -184,6 +184,7 @@ class LetdownKind(CaseKind):
     devices = ("control_valve", "blowdown_valve", "choke", "other")
     fields = LETDOWN_FIELDS
     flags = ("water_saturated", "hydrate_inhibitor")
+    parameters = ("settle_out_volumes", "credible_off")
     method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
               "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
     input_sections = ("cases/kinds/letdown_inputs.html",)
@@ -205,9 +206,25 @@ class LetdownKind(CaseKind):
         """Screen the user's conditions (:meth:`conditions`) and the generated credible cases
         (:func:`jtcheck.cases.credible.generated_conditions`); ``answers["generated_cases"]`` lists the latter."""
         options = self.options(values, compare_models=compare_models, answers=answers, sweep=sweep)
+        if not asks_for_generated(values):
+            return screen_letdown(fluid, self.conditions(values), options)
         generated = generated_conditions(fluid, values)
         screening = screen_letdown(fluid, [*self.conditions(values), *generated.conditions], options)
         return with_generated(screening, generated)
+
+
+#: The inputs that ask for the generated credible cases (start-up is generated with any of them).
+GENERATED_INPUTS = ("settle_out_volumes", "heater_upstream_temperature_k", "ambient_temperature_min_k",
+                    "credible_off")
+
+
+def asks_for_generated(values: Mapping[str, Any]) -> bool:
+    """Whether the case gives any input of the generated credible cases (:data:`GENERATED_INPUTS`).
+
+    Until the vectorised batch path adds them too, the generated cases (start-up included) run only for a
+    case that asks for them, so that a case gives the same answer from every entry point.
+    """
+    return any(values.get(k) not in (None, [], {}) for k in GENERATED_INPUTS)
 
 
 def with_generated(screening: Screening, generated: GeneratedCases) -> Screening:

@@ -278,12 +278,25 @@ _CASE_TEXT = {
     "hydrate_inhibitor": {"type": "string", "enum": list(service.HYDRATE_INHIBITORS), "default": "methanol",
                           "description": "Hydrate inhibitor for the Hammerschmidt dose."},
 }
+#: The kinds' list inputs: text with one item a line (jtcheck.itemlists), or a list of such lines.
+_LINES = {"oneOf": [{"type": "string"}, {"type": "array", "items": {"type": "string"}}, {"type": "null"}]}
+_CASE_LISTS = {
+    "header_sections": {**_LINES, "description": "Flare header sections in flow order, one a line: "
+                                                 "'name; lowest pressure; cold limit or -; material'"},
+    "settle_out_volumes": {**_LINES, "description": "Volumes that settle out after a shutdown, one a line: "
+                                                    "'name; volume m3; pressure; temperature'"},
+    "credible_off": {"oneOf": [*_LINES["oneOf"], {"type": "object", "additionalProperties": {"type": "string"}}],
+                     "description": "Generated credible cases switched off, one a line: 'case: reason' (cases: "
+                                    "settle_out, start_up, heater_loss, ambient)"},
+}
 
 
 def _case_property(key: str) -> dict[str, Any]:
     """The schema of one case-body field (every key :data:`case_inputs.INPUT_FIELDS` accepts)."""
     if key in _CASE_TEXT:
         return _CASE_TEXT[key]
+    if key in _CASE_LISTS:
+        return _CASE_LISTS[key]
     q = next((q for q in CASE_QUANTITIES if q.name == key), None)
     if q is None:   # a field the case input accepts but this module does not know yet
         return {"description": key.replace("_", " ")}
