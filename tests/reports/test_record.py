@@ -27,7 +27,6 @@ from jtcheck.records.models import Case
 from jtcheck.records.snapshot import case_snapshot
 from jtcheck.reports import charts
 from jtcheck.reports.record import SIGNATURE_ROLES, RenderedRecord, SignatureBox, render_html, render_record
-from jtcheck.units import temperature_from_k
 
 PDFTOTEXT = shutil.which("pdftotext")
 PDFTOPPM = shutil.which("pdftoppm")

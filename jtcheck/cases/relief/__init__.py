@@ -103,7 +103,7 @@ def _entries(key: str, items: Any, keys: tuple[str, ...]) -> list[Mapping[str, A
             raise InputError(f"{key}[{k}].{unknown[0]}", f"unknown key; allowed: {', '.join(keys)}")
         name = item.get("name")
         if not isinstance(name, str) or not name.strip():
-            raise InputError(f"{key}[{k}].name", f"a name is required (a non-empty text), got {name!r}")
+            raise InputError(f"{key}[{k}].name", f"a name is required, got {name!r}; allowed: a non-empty text")
         if any(o.get("name") == name for o in items[:k]):
             raise InputError(f"{key}[{k}].name", f"the name {name!r} is used twice; names must differ")
     return list(items)
@@ -145,7 +145,8 @@ def _check_sources(items: Any, p_back: float) -> None:
     for k, src in enumerate(_entries("other_sources", items, OTHER_SOURCE_KEYS)):
         key = f"other_sources[{k}]"
         if not isinstance(src.get("fluid"), Fluid):
-            raise InputError(f"{key}.fluid", f"expected a jtcheck Fluid, got {type(src.get('fluid')).__name__}")
+            raise InputError(f"{key}.fluid", f"got {type(src.get('fluid')).__name__}; allowed: a jtcheck Fluid "
+                                              "(composition and EOS of the other valve's fluid)")
         lo, hi, _ = MASS_FLOW_RANGE_KG_PER_S
         _number(f"{key}.mass_flow_kg_per_s", src.get("mass_flow_kg_per_s"), "mass flow", "kg/s", lo, hi)
         p = _number(f"{key}.p_pa", src.get("p_pa"), "relieving pressure (absolute)", "Pa", 0.0, 1e9)
