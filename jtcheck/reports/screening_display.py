@@ -468,11 +468,57 @@ def sweep_of(units: DisplayUnits, answer: Any, limits: Limits) -> dict[str, Any]
                        "p_out": [units.P(v, "outlet_pressure") for v in ranges.get("p_out_pa") or ()]}}
 
 
-def relief_of(units: DisplayUnits, answer: Any) -> dict[str, Any] | None:
-    """The relief-valve answer: each model's nozzle and downstream state, and the governing (coldest) model's
-    relieving, back-pressure, throat and downstream conditions against the outlet and flare-header limits."""
+def _relief_limit_row(units: DisplayUnits, r: Mapping[str, Any]) -> dict[str, Any]:
+    return {"limit": str(r.get("limit") or ""), "where": str(r.get("where") or ""),
+            "material": str(r.get("material") or ""), "p": units.P(r.get("p_pa"), "superimposed_back_pressure"),
+            "t": units.T(r.get("t_k")), "limit_t": units.T(r.get("limit_k")), "margin": units.DT(r.get("margin_k")),
+            "band": str(r.get("band") or Outcome.NOT_SCREENED.value), "t_relieving": units.T(r.get("t_relieving_k")),
+            "model": str(r.get("model") or ""), "message": str(r.get("message") or "")}
+
+
+def _header_section_row(units: DisplayUnits, s: Mapping[str, Any]) -> dict[str, Any]:
+    return {"name": str(s.get("name") or ""), "material": str(s.get("material") or ""),
+            "p_inlet": units.P(s.get("p_inlet_pa"), "superimposed_back_pressure"),
+            "p_outlet": units.P(s.get("p_outlet_pa"), "superimposed_back_pressure"),
+            "t_inlet": units.T(s.get("t_inlet_k")), "t_outlet": units.T(s.get("t_outlet_k")),
+            "phase": str(s.get("phase") or ""), "liquid": bool(s.get("liquid_present")),
+            "limit_t": units.T(s.get("limit_k")), "margin": units.DT(s.get("margin_k")),
+            "band": str(s.get("band") or Outcome.NOT_SCREENED.value), "message": str(s.get("message") or "")}
+
+
+def _relief_remedies(units: DisplayUnits, remedies: Any) -> dict[str, Any] | None:
+    if not isinstance(remedies, Mapping):
+        return None
+    temp = remedies.get("min_relieving_temperature") if isinstance(remedies.get("min_relieving_temperature"),
+                                                                   Mapping) else {}
+    return {"found": bool(temp.get("found")), "already_met": bool(temp.get("already_met")),
+            "t_relieving_min": units.T(temp.get("t_relieving_min_k")), "sentence": str(temp.get("sentence") or ""),
+            "reason": str(temp.get("reason") or ""),
+            "materials": [{"where": str(m.get("where") or ""), "mdmt_needed": units.T(m.get("mdmt_needed_k")),
+                           "t_coldest": units.T(m.get("t_coldest_k")),
+                           "current_limit": units.T(m.get("current_limit_k")),
+                           "sentence": str(m.get("sentence") or "")}
+                          for m in remedies.get("materials") or () if isinstance(m, Mapping)]}
+
+
+def relief_of(units: DisplayUnits, answer: Any, remedies: Any = None) -> dict[str, Any] | None:
+    """The relief-valve answer: each model's nozzle and downstream state, the governing (coldest) model's
+    relieving, back-pressure, throat and downstream conditions, one row per limit (outlet piping, each flare
+    header section: the worst over the relieving temperatures and models), the header's sections, and the
+    remedies that fit a relief valve (``answers["relief_remedies"]``)."""
     if not isinstance(answer, Mapping):
         return None
+    header = answer.get("header") if isinstance(answer.get("header"), Mapping) else None
+    common: dict[str, Any] = {
+        "limits": [_relief_limit_row(units, r) for r in answer.get("limits") or () if isinstance(r, Mapping)],
+        "header_sections": [_header_section_row(units, s) for s in (header or {}).get("sections") or ()
+                            if isinstance(s, Mapping)],
+        "header_message": str((header or {}).get("message") or ""),
+        "header_at_tip": bool(answer.get("header_at_tip")),
+        "relieving_temperatures": [units.T(t) for t in answer.get("relieving_temperatures_k") or ()],
+        "mass_flow_given": bool(answer.get("mass_flow_given")),
+        "other_sources": [str(n) for n in answer.get("other_sources") or ()],
+        "relief_outcome": str(answer.get("outcome") or ""), "remedies": _relief_remedies(units, remedies)}
     models = {str(m): d for m, d in (answer.get("models") or {}).items() if isinstance(d, Mapping)}
     per_model = []
     for m, d in models.items():
@@ -484,7 +530,7 @@ def relief_of(units: DisplayUnits, answer: Any) -> dict[str, Any] | None:
                           "message": str(d.get("message") or "")})
     gm = str(answer.get("governing_model") or "")
     d = models.get(gm) if gm else None
-    out: dict[str, Any] = {"governing_model": gm, "models": per_model, "converged": d is not None}
+    out: dict[str, Any] = {"governing_model": gm, "models": per_model, "converged": d is not None, **common}
     if d is None:
         return out
     nz = d.get("nozzle") if isinstance(d.get("nozzle"), Mapping) else {}
@@ -580,7 +626,8 @@ def screening_display(stored: StoredResult, units: DisplayUnits) -> ScreeningDis
         limits=limits, t_out_min=units.T(t_min), coldest_condition=coldest, models=models, conditions=conditions,
         findings=findings_of(screening), preheat=preheat_of(units, answers.get("preheat")),
         outlet_limit=outlet_limit_of(units, answers.get("outlet_pressure_limit")),
-        sweep=sweep_of(units, answers.get("sweep"), limits), relief=relief_of(units, answers.get("relief_valve")))
+        sweep=sweep_of(units, answers.get("sweep"), limits),
+        relief=relief_of(units, answers.get("relief_valve"), answers.get("relief_remedies")))
 
 
 def _governing(answers: Mapping[str, Any], key: str) -> Mapping[str, Any]:

@@ -11,10 +11,14 @@
    the conditions as "coldest in the operating ranges";
 4. the coldest screened outlet is classified against the cold limits (:mod:`.cold_metal`), and
    liquid dropout, hydrates, CO2 solids, icing and inverse Joule-Thomson are reported as findings;
-5. when the outcome is fail or margin eroded, the answers: the preheat that brings every condition
-   to the limit plus margin, and the lowest outlet pressure that keeps it there;
-6. a relief-valve case adds the nozzle throat and the downstream state after expansion to the back
-   pressure, against the outlet piping's and the flare header's limits.
+5. a relief-valve case adds the relieving case (:mod:`jtcheck.screening.relief_screen`): every
+   relieving temperature from the minimum credible to the normal, the outlet piping at the back
+   pressure and the flare header as a path, each limit in the same bands; the worst of the letdown
+   and the relief outcome governs (fail > not screened > margin eroded > pass);
+6. when the outcome is fail or margin eroded, the remedies that fit the kind: for a letdown the
+   preheat that brings every condition to the limit plus margin and the lowest outlet pressure that
+   keeps it there; for a relief valve (``remedies="relief"``) the lowest relieving temperature that
+   keeps every limit and the material cold limit (MDMT) each part needs, never a heater.
 
 Everything here is SI; units are converted at the edges (web, API, CLI).
 """
@@ -28,7 +32,6 @@ from typing import Any
 from jtcheck.errors import InputError, JtcheckError
 from jtcheck.letdown.outlet_limit import outlet_pressure_limit
 from jtcheck.letdown.preheat import required_preheat
-from jtcheck.letdown.relief import relief_valve_case
 from jtcheck.letdown.sweep import operating_sweep
 from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, LetdownResult, letdown
 from jtcheck.screening.co2_solids import screen_co2_solids
@@ -36,9 +39,22 @@ from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, plain, sort_findings
 from jtcheck.screening.hydrates import Inhibitor, assess_hydrates
 from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
+from jtcheck.screening.relief_screen import (
+    HeaderSpec,
+    OtherSource,
+    ReliefInputs,
+    relief_remedies,
+    screen_relief,
+    worst_outcome,
+)
 from jtcheck.thermo.eos import EOS
 from jtcheck.thermo.fluid import Fluid
 
+#: The public names; the relief-valve inputs (HeaderSpec, OtherSource, ReliefInputs) live in
+#: :mod:`jtcheck.screening.relief_screen` and are re-exported here.
+__all__ = ["CONDITION_MAX_P", "CONDITION_MIN_T", "CONDITION_MIN_T_MAX_P", "CONDITION_NORMAL", "REMEDIES",
+           "SWEEP_CONDITION", "Condition", "ConditionScreen", "HeaderSpec", "OperatingRanges", "OtherSource",
+           "ReliefInputs", "Screening", "ScreeningOptions", "credible_conditions", "model_fluids", "screen_letdown"]
 #: Names of the credible conditions, in order, and of the one the operating sweep adds.
 CONDITION_NORMAL = "normal"
 CONDITION_MIN_T = "min inlet temperature"
@@ -47,6 +63,9 @@ CONDITION_MIN_T_MAX_P = "min temperature + max pressure"
 SWEEP_CONDITION = "coldest in the operating ranges"
 #: Spread between models above which the finding becomes a caution [K].
 MODEL_SPREAD_CAUTION_K = 3.0
+#: The remedies a screening may offer: a letdown's (preheat, outlet-pressure limit) or a relief valve's
+#: (minimum relieving temperature, material cold limit; never a heater or an outlet-pressure limit).
+REMEDIES = ("letdown", "relief")
 #: Letdown warnings that a finding already covers (not repeated as model-validity notes).
 _COVERED_WARNINGS = ("the fluid warms on letdown", "CO2-rich fluid let down below")
 
@@ -92,19 +111,6 @@ class OperatingRanges:
 
 
 @dataclass(frozen=True)
-class ReliefInputs:
-    """Relief-valve data of a case (SI; pressures absolute except the built-up back pressure, a difference)."""
-
-    set_pressure_pa: float
-    overpressure_fraction: float
-    t_relieving_k: float
-    superimposed_back_pressure_pa: float
-    built_up_back_pressure_pa: float
-    p_atm_pa: float = 101325.0
-    header_limit_k: float | None = None
-
-
-@dataclass(frozen=True)
 class ScreeningOptions:
     """What to screen against and which answers to find."""
 
@@ -116,6 +122,11 @@ class ScreeningOptions:
     ranges: OperatingRanges | None = None
     relief: ReliefInputs | None = None
     answers: bool = True
+    remedies: str = "letdown"
+
+    def __post_init__(self) -> None:
+        if self.remedies not in REMEDIES:
+            raise InputError("remedies", f"unknown remedies {self.remedies!r}; allowed: {', '.join(REMEDIES)}")
 
 
 @dataclass(frozen=True)
@@ -408,54 +419,6 @@ def _answers(models: list[Fluid], screens: list[ConditionScreen], options: Scree
     return {"preheat": preheat, "outlet_pressure_limit": pressure}
 
 
-def _relief(models: list[Fluid], relief: ReliefInputs, limits: ColdLimits) -> tuple[dict[str, Any], list[Finding]]:
-    per_model: dict[str, Any] = {}
-    coldest: tuple[float, str] | None = None
-    findings: list[Finding] = []
-    for fl in models:
-        try:
-            rv = relief_valve_case(fl, relief.set_pressure_pa, relief.overpressure_fraction, relief.t_relieving_k,
-                                   relief.superimposed_back_pressure_pa, relief.built_up_back_pressure_pa,
-                                   p_atm_pa=relief.p_atm_pa, outlet_limit_k=limits.governing_k,
-                                   header_limit_k=relief.header_limit_k)
-        except JtcheckError as exc:
-            per_model[fl.eos.value] = {"converged": False, "message": str(exc)}
-            continue
-        d = rv.to_dict()
-        per_model[fl.eos.value] = d
-        t = d.get("t_downstream_k")
-        if rv.converged and t is not None and (coldest is None or t < coldest[0]):
-            coldest = (t, fl.eos.value)
-    data = {"models": per_model, "governing_model": None if coldest is None else coldest[1]}
-    if coldest is None:
-        findings.append(Finding(Topic.RELIEF, Severity.HAZARD, "Relief-valve calculation did not converge: "
-                                "the relieving case is not screened.", {}, "API 520 Part I"))
-        return data, findings
-    rv = per_model[coldest[1]]
-    nz = rv.get("nozzle") or {}
-    choke = "choked" if nz.get("choked") else "not choked"
-    findings.append(Finding(
-        Topic.RELIEF, Severity.INFORMATION,
-        f"Relieving at {rv['p_relieving_pa'] / 1e5:.2f} bar abs: flow {choke}; nozzle throat "
-        f"{rv['t_throat_k'] - 273.15:.1f} degC at {nz['p_throat_pa'] / 1e5:.2f} bar abs; after expansion to the "
-        f"back pressure {rv['p_back_pa'] / 1e5:.2f} bar abs the flow reaches the outlet piping at "
-        f"{coldest[0] - 273.15:.1f} degC ({coldest[1]}).",
-        {"p_relieving_pa": rv["p_relieving_pa"], "p_back_pa": rv["p_back_pa"], "p_throat_pa": nz.get("p_throat_pa"),
-         "t_throat_k": rv["t_throat_k"], "t_downstream_k": coldest[0], "choked": nz.get("choked"),
-         "critical_pressure_ratio": nz.get("critical_pressure_ratio"),
-         "ideal_critical_pressure_ratio": nz.get("ideal_critical_pressure_ratio")},
-        "API 520 Part I: isentropic nozzle (direct integration), isenthalpic expansion downstream"))
-    if relief.header_limit_k is not None and coldest[0] < relief.header_limit_k:
-        findings.append(Finding(
-            Topic.RELIEF, Severity.HAZARD,
-            f"The relieving flow reaches the flare header at {coldest[0] - 273.15:.1f} degC, "
-            f"{relief.header_limit_k - coldest[0]:.1f} K below the header's limit "
-            f"({relief.header_limit_k - 273.15:.1f} degC).",
-            {"t_downstream_k": coldest[0], "header_limit_k": relief.header_limit_k}, "flare header limit"))
-    data["t_downstream_k"] = coldest[0]
-    return data, findings
-
-
 def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: ScreeningOptions) -> Screening:
     """Screen a case's credible conditions; see the module text for the steps.
 
@@ -499,18 +462,22 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
     spread = _model_spread(screens, models)
     if spread is not None:
         findings.append(spread)
-    answers = _answers(models, screens, options, outcome) if options.answers else {}
+    relief_data: dict[str, Any] | None = None
+    if options.relief is not None:
+        relief_data, rf, relief_outcome = screen_relief(models, options.relief, options.limits)
+        findings += rf
+        outcome = worst_outcome(outcome, relief_outcome)
+    answers: dict[str, Any] = {}
+    if options.answers and options.remedies == "relief":
+        if outcome in (Outcome.FAIL, Outcome.MARGIN_ERODED):
+            t_min = min((cs.t_screen_k for cs in screens if cs.converged), default=None)
+            answers["relief_remedies"] = relief_remedies(models, options.relief, options.limits, relief_data, t_min)
+    elif options.answers:
+        answers = _answers(models, screens, options, outcome)
     if sweep_data is not None:
         answers["sweep"] = sweep_data
-    if options.relief is not None:
-        answers["relief_valve"], rf = _relief(models, options.relief, options.limits)
-        findings += rf
-        t_header = answers["relief_valve"].get("t_downstream_k")
-        header = options.relief.header_limit_k
-        if t_header is None and outcome is not Outcome.FAIL:
-            outcome = Outcome.NOT_SCREENED      # the relieving case did not converge
-        elif header is not None and t_header is not None and t_header < header:
-            outcome = Outcome.FAIL              # the flare header is too cold
+    if relief_data is not None:
+        answers["relief_valve"] = relief_data
     done = [cs for cs in screens if cs.converged]
     coldest = min(done, key=lambda c: c.t_screen_k) if done else None
     return Screening(outcome=outcome, limits=options.limits,

@@ -27,7 +27,6 @@ from jtcheck.records.models import Case
 from jtcheck.records.snapshot import case_snapshot
 from jtcheck.reports import charts
 from jtcheck.reports.record import SIGNATURE_ROLES, RenderedRecord, SignatureBox, render_html, render_record
-from jtcheck.units import temperature_from_k
 
 PDFTOTEXT = shutil.which("pdftotext")
 PDFTOPPM = shutil.which("pdftoppm")
@@ -164,11 +163,15 @@ def test_record_text_has_the_case_outcome_caution_findings_and_answers(records, 
     for f in screening["findings"]:
         assert f["topic"].lower() in text.lower(), f["topic"]
     assert "HAZARD Cold metal" in text
-    # the required preheat, in the unit the case was entered in
-    unit = snap["case"]["display_units"]["inlet_temperature"]
-    gov = screening["answers"]["preheat"]["governing"]
-    assert gov["needed"]
-    assert f"Heat the inlet to {temperature_from_k(gov['t_in_required_k'], unit):.2f} {unit}" in text
+    # a relief valve's remedies (no heater): the relieving temperature to keep and the MDMT each part needs
+    remedies = screening["answers"]["relief_remedies"]
+    assert "preheat" not in screening["answers"] and "Heat the inlet to" not in text
+    assert "What keeps a relief valve's discharge above its limits" in text
+    assert remedies["materials"] and "a material whose MDMT is at or below" in text
+    temp = remedies["min_relieving_temperature"]
+    assert ("Keep the relieving temperature at or above" in text) if temp["found"] else (temp["reason"][:30] in text)
+    # the per-limit table of the relieving case
+    assert "Relieving case against each limit" in text
     # inputs as entered and in SI, the composition with its data version, the method and versions
     assert "104.5 barg" in text and "10551325 Pa abs" in text
     assert snap["result"]["component_data_version"] in text and snap["result"]["kij_data_version"] in text

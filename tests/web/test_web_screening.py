@@ -277,7 +277,10 @@ def test_relief_valve_block(app, engineer, world):
     assert f"{d['nozzle']['critical_pressure_ratio']:.6g}" in page
     assert f"ideal-gas value {d['nozzle']['ideal_critical_pressure_ratio']:.6g}" in page
     assert f"<strong>{temperature_from_k(d['t_downstream_k'], 'degC'):.2f} degC</strong>" in page
-    assert "Against the flare header limit" in page and "limit -46.00 degC" in page
+    # the header limit is screened at the tip (atmospheric) in the per-limit table, and the page says so
+    assert 'id="relief-limits"' in page and "-46.00 degC" in page
+    assert "flare header (at the tip, atmospheric)" in page and "a conservative default" in page
+    assert "Required preheat" not in page                      # a relief valve is never offered a heater
 
 
 # -- the case form: new inputs ------------------------------------------------------------------------------

@@ -8,19 +8,24 @@ case is screened as a letdown.
 """
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from typing import Any
 
 from jtcheck.cases.fields import (
     BUILT_UP_RANGE_PA,
+    INLET_TEMPERATURE_RANGE_K,
     LIMIT_TEMPERATURE_RANGE_K,
+    MASS_FLOW_RANGE_KG_PER_S,
     OVERPRESSURE_RANGE,
     PRESSURE_RANGE_PA,
     Field,
 )
 from jtcheck.cases.letdown import LETDOWN_FIELDS, LetdownKind, letdown_options
 from jtcheck.errors import InputError
-from jtcheck.screening.screen import ReliefInputs, ScreeningOptions
+from jtcheck.letdown.flare_header import PRESSURE_TOLERANCE_PA
+from jtcheck.screening.screen import HeaderSpec, OtherSource, ReliefInputs, ScreeningOptions
+from jtcheck.thermo.fluid import Fluid
 
 #: The relief-valve inputs beyond the letdown's.
 RELIEF_FIELDS: tuple[Field, ...] = (
@@ -35,9 +40,15 @@ RELIEF_FIELDS: tuple[Field, ...] = (
           "Built-up back pressure", BUILT_UP_RANGE_PA, message_unit="Pa (difference)"),
     Field("header_limit", "header_limit_k", "temperature", "flare header cold limit", "Flare header cold limit",
           LIMIT_TEMPERATURE_RANGE_K, record_label="Flare header temperature limit"),
+    Field("relieving_temperature_min", "relieving_temperature_min_k", "temperature",
+          "minimum credible relieving temperature", "Minimum credible relieving temperature",
+          INLET_TEMPERATURE_RANGE_K, record_label="Minimum credible relieving temperature"),
 )
 _COMPANIONS = ("overpressure_fraction", "superimposed_back_pressure_pa", "built_up_back_pressure_pa",
-               "header_limit_k")
+               "header_limit_k", "relieving_temperature_min_k")
+#: Keys of one header section and of one other relieving source in ``values``.
+HEADER_SECTION_KEYS = ("name", "p_pa", "limit_k", "material")
+OTHER_SOURCE_KEYS = ("name", "fluid", "mass_flow_kg_per_s", "p_pa", "t_k")
 
 
 def check_relief_group(values: Mapping[str, Any]) -> None:
@@ -70,6 +81,80 @@ def check_relief(values: Mapping[str, Any]) -> None:
         raise InputError("built_up_back_pressure_pa" if built_up else "superimposed_back_pressure_pa",
                          f"total back pressure {p_back:g} Pa abs is not below the relieving pressure "
                          f"{p_relieving:g} Pa abs; allowed: below the relieving pressure")
+    t_min = values.get("relieving_temperature_min_k")
+    if t_min is not None and t_min > values["inlet_temperature_k"]:
+        raise InputError("relieving_temperature_min_k",
+                         f"minimum credible relieving temperature {t_min:g} K is above the normal relieving (inlet) "
+                         f"temperature {values['inlet_temperature_k']:g} K; allowed: <= the inlet temperature")
+    _check_sections(values.get("header_sections"), p_relieving, p_back)
+    _check_sources(values.get("other_sources"), p_back)
+
+
+def _entries(key: str, items: Any, keys: tuple[str, ...]) -> list[Mapping[str, Any]]:
+    if items is None:
+        return []
+    if isinstance(items, (str, bytes, Mapping)) or not isinstance(items, (list, tuple)):
+        raise InputError(key, f"expected a list of entries, each with {', '.join(keys)}; got {type(items).__name__}")
+    for k, item in enumerate(items):
+        if not isinstance(item, Mapping):
+            raise InputError(f"{key}[{k}]", f"expected an entry with {', '.join(keys)}; got {type(item).__name__}")
+        unknown = sorted(set(item) - set(keys))
+        if unknown:
+            raise InputError(f"{key}[{k}].{unknown[0]}", f"unknown key; allowed: {', '.join(keys)}")
+        name = item.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise InputError(f"{key}[{k}].name", f"a name is required, got {name!r}; allowed: a non-empty text")
+        if any(o.get("name") == name for o in items[:k]):
+            raise InputError(f"{key}[{k}].name", f"the name {name!r} is used twice; names must differ")
+    return list(items)
+
+
+def _number(key: str, value: Any, what: str, unit: str, lo: float, hi: float) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        raise InputError(key, f"{what} must be a finite number [{unit}], got {value!r}")
+    if not lo < value <= hi:
+        raise InputError(key, f"{what} {value:g} {unit} is out of range; allowed: {lo:g} < value <= {hi:g} {unit}")
+    return float(value)
+
+
+def _check_sections(items: Any, p_relieving: float, p_back: float) -> None:
+    """Header sections in flow order: each lowest pressure above 0, below the relieving pressure, not above
+    the back pressure at the valve nor the section before it; limits 0-1000 K."""
+    previous = p_back
+    for k, sec in enumerate(_entries("header_sections", items, HEADER_SECTION_KEYS)):
+        key = f"header_sections[{k}]"
+        p = _number(f"{key}.p_pa", sec.get("p_pa"), "lowest pressure of the section (absolute)", "Pa", 0.0,
+                    p_relieving)
+        if p >= p_relieving:
+            raise InputError(f"{key}.p_pa", f"{p:g} Pa abs is not below the relieving pressure {p_relieving:g} Pa abs")
+        if p > previous + PRESSURE_TOLERANCE_PA:
+            before = "the total back pressure at the valve" if k == 0 else f"section {k - 1}'s lowest pressure"
+            raise InputError(f"{key}.p_pa", f"{p:g} Pa abs is above {before} ({previous:g} Pa abs); allowed: "
+                                            "pressures falling in flow order, from the valve outlet to the tip")
+        previous = p
+        if sec.get("limit_k") is not None:
+            lo, hi, _ = LIMIT_TEMPERATURE_RANGE_K
+            _number(f"{key}.limit_k", sec["limit_k"], "temperature limit", "K", lo, hi)
+        if not isinstance(sec.get("material", ""), str):
+            raise InputError(f"{key}.material", f"the material must be a text, got {sec.get('material')!r}")
+
+
+def _check_sources(items: Any, p_back: float) -> None:
+    """Other relieving sources: a Fluid, a mass flow, their relieving pressure (not below the back pressure at
+    this valve) and temperature."""
+    for k, src in enumerate(_entries("other_sources", items, OTHER_SOURCE_KEYS)):
+        key = f"other_sources[{k}]"
+        if not isinstance(src.get("fluid"), Fluid):
+            raise InputError(f"{key}.fluid", f"got {type(src.get('fluid')).__name__}; allowed: a jtcheck Fluid "
+                                              "(composition and EOS of the other valve's fluid)")
+        lo, hi, _ = MASS_FLOW_RANGE_KG_PER_S
+        _number(f"{key}.mass_flow_kg_per_s", src.get("mass_flow_kg_per_s"), "mass flow", "kg/s", lo, hi)
+        p = _number(f"{key}.p_pa", src.get("p_pa"), "relieving pressure (absolute)", "Pa", 0.0, 1e9)
+        if p < p_back - PRESSURE_TOLERANCE_PA:
+            raise InputError(f"{key}.p_pa", f"{p:g} Pa abs is below the back pressure at this valve {p_back:g} Pa "
+                                            "abs; allowed: its relieving pressure, upstream of the header")
+        lo, hi, _ = INLET_TEMPERATURE_RANGE_K
+        _number(f"{key}.t_k", src.get("t_k"), "relieving temperature", "K", lo, hi)
 
 
 def relief_inputs(values: Mapping[str, Any]) -> ReliefInputs | None:
@@ -82,7 +167,18 @@ def relief_inputs(values: Mapping[str, Any]) -> ReliefInputs | None:
         t_relieving_k=values["inlet_temperature_k"],
         superimposed_back_pressure_pa=values.get("superimposed_back_pressure_pa") or p_atm,
         built_up_back_pressure_pa=values.get("built_up_back_pressure_pa") or 0.0, p_atm_pa=p_atm,
-        header_limit_k=values.get("header_limit_k"))
+        header_limit_k=values.get("header_limit_k"), t_relieving_min_k=relieving_temperature_min(values),
+        mass_flow_kg_per_s=values.get("mass_flow_kg_per_s"),
+        header_sections=tuple(HeaderSpec(d["name"].strip(), float(d["p_pa"]), d.get("limit_k"), d.get("material") or "")
+                              for d in values.get("header_sections") or ()),
+        other_sources=tuple(OtherSource(d["name"].strip(), d["fluid"], float(d["mass_flow_kg_per_s"]), float(d["p_pa"]),
+                                        float(d["t_k"])) for d in values.get("other_sources") or ()))
+
+
+def relieving_temperature_min(values: Mapping[str, Any]) -> float | None:
+    """The minimum credible relieving temperature [K]: as given, else the minimum credible inlet temperature."""
+    t = values.get("relieving_temperature_min_k")
+    return values.get("inlet_temperature_min_k") if t is None else t
 
 
 class ReliefValveKind(LetdownKind):
@@ -107,7 +203,8 @@ class ReliefValveKind(LetdownKind):
         check_relief_group(values)
 
     def options(self, values: Mapping[str, Any], **switches: bool) -> ScreeningOptions:
-        return letdown_options(values, relief=relief_inputs(values), **switches)
+        """The letdown's options with the relieving case and the remedies of a relief valve (no heater)."""
+        return letdown_options(values, relief=relief_inputs(values), remedies="relief", **switches)
 
 
 RELIEF_VALVE = ReliefValveKind()
