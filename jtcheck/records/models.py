@@ -288,8 +288,6 @@ class Case(Base):
     superimposed_back_pressure_pa: Mapped[float | None] = mapped_column(Float)
     built_up_back_pressure_pa: Mapped[float | None] = mapped_column(Float)
     header_limit_k: Mapped[float | None] = mapped_column(Float)
-    #: minimum credible relieving temperature [K] (empty: the minimum credible inlet temperature applies).
-    relieving_temperature_min_k: Mapped[float | None] = mapped_column(Float)
     # limits
     material_id: Mapped[int | None] = mapped_column(ForeignKey("materials.id"))
     mdmt_k: Mapped[float | None] = mapped_column(Float)

@@ -185,6 +185,8 @@ class LetdownKind(CaseKind):
     fields = LETDOWN_FIELDS
     flags = ("water_saturated", "hydrate_inhibitor")
     parameters = ("settle_out_volumes", "credible_off")
+    page_sections = ("cases/kinds/generated_cases.html",)
+    record_sections = ("kinds/generated_cases.html",)
     method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
               "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
     input_sections = ("cases/kinds/letdown_inputs.html",)

@@ -185,13 +185,15 @@ class ReliefValveKind(LetdownKind):
     """A relief valve: the letdown screening plus the relieving case into the outlet piping and flare header."""
 
     name = "relief_valve"
+    #: header sections are entered with the case; other relief sources (OtherSource) from Python only, for now
+    parameters = (*LetdownKind.parameters, "header_sections")
     label = "relief valve"
     cases_phrase = "relief-valve cases"
     devices = ("relief_valve",)
     fields = (*LETDOWN_FIELDS, *RELIEF_FIELDS)
     screening_sections = (*LetdownKind.screening_sections, "cases/kinds/relief_inputs.html")
-    page_sections = ("cases/kinds/relief_result.html",)
-    record_sections = ("kinds/relief_record.html",)
+    page_sections = (*LetdownKind.page_sections, "cases/kinds/relief_result.html")
+    record_sections = (*LetdownKind.record_sections, "kinds/relief_record.html")
     #: Batch lists carry no set-pressure data yet, so a relief row is a letdown there and may be vectorised.
     vectorised = True
 
