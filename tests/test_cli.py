@@ -264,3 +264,49 @@ def test_worker_burst_on_an_empty_queue_stops(monkeypatch):
     monkeypatch.setenv("REDIS_URL", "redis://127.0.0.1:6379/15")
     res = CliRunner().invoke(main, ["worker", "--burst"])
     assert res.exit_code == 0, res.output
+
+
+# -- relief valves and generated credible cases (issue 12) -------------------------------------------
+RELIEF = ["letdown", "--fluid", "methane=0.9,ethane=0.1", "--p-in", "66 barg", "--t-in", "5 degC", "--p-out", "3 barg",
+          "--limit", "-29 degC", "--margin", "5 K", "--set-pressure", "60 barg", "--overpressure", "10 %",
+          "--built-up-back-pressure", "2 bar"]   # invented relief valve
+
+
+def test_a_relief_valve_screens_every_header_section_and_offers_no_heater():
+    res = CliRunner().invoke(main, [*RELIEF, "--header-section", "main header; 1.5 barg; -46 degC; LTCS",
+                                    "--header-section", "knock-out drum; 0.2 barg; -46 degC; LTCS",
+                                    "--relieving-t-min", "0 degC"])
+    assert res.exit_code == 5, res.output      # fail: the discharge is below the limits
+    assert "knock-out drum" in res.output and "no heater on a relief line" in res.output
+    assert "preheat" not in res.output
+
+
+@pytest.mark.parametrize("extra, field", [
+    (["--header-section", "knock-out drum; lots"], "header_section[0].pressure"),
+    (["--overpressure", "10"], "overpressure"),
+    (["--header-section", "tip; 5 barg; -29 degC"], "header_section[0]")])
+def test_bad_relief_options_exit_2_naming_the_option(extra, field):
+    res = CliRunner().invoke(main, [*RELIEF, *extra])
+    assert res.exit_code == EXIT_INPUT
+    assert field in res.output
+
+
+def test_relief_options_need_a_set_pressure():
+    res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "100 barg", "--t-in", "10 degC",
+                                    "--p-out", "10 barg", "--header-limit", "-46 degC"])
+    assert res.exit_code == EXIT_INPUT and "set_pressure" in res.output
+
+
+def test_generated_cases_from_the_options():
+    res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "70 barg", "--t-in", "20 degC",
+                                    "--p-out", "10 barg", "--limit", "-29 degC", "--heater-off-t", "2 degC",
+                                    "--case-off", "start_up: the outlet header is never depressured (invented)",
+                                    "--json"])
+    data = json.loads(res.output)
+    names = [c["condition"] for c in data["screening"]["conditions"]]
+    assert "loss of upstream heater" in names
+    off = {g["case"]: g for g in data["screening"]["answers"]["generated_cases"]}
+    assert off["start_up"]["status"] == "off" and "never depressured" in off["start_up"]["reason"]
+    res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "70 barg", "--t-in", "20 degC",
+                                    "--p-out", "10 barg", "--case-off", "start_up:"])
+    assert res.exit_code == EXIT_INPUT and "case_off.start_up" in res.output

@@ -58,6 +58,69 @@ class LetdownArgs:
     inhibitor: str = "methanol"
     mass_flow: str | None = None
     compare_models: bool = True
+    # a relief valve (with a set pressure the relief-valve case kind screens it)
+    set_pressure: str | None = None
+    overpressure: str | None = None
+    superimposed_back_pressure: str | None = None
+    built_up_back_pressure: str | None = None
+    header_limit: str | None = None
+    relieving_t_min: str | None = None
+    header_sections: tuple[str, ...] = ()
+    # generated credible cases
+    heater_off_t: str | None = None
+    ambient_t_min: str | None = None
+    settle_out_volumes: tuple[str, ...] = ()
+    cases_off: tuple[str, ...] = ()
+
+
+#: The option of this command that carries each register key (errors name the option the user typed).
+OPTION_OF = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpressure",
+             "superimposed_back_pressure_pa": "superimposed_back_pressure",
+             "built_up_back_pressure_pa": "built_up_back_pressure", "header_limit_k": "header_limit",
+             "relieving_temperature_min_k": "relieving_t_min", "heater_upstream_temperature_k": "heater_off_t",
+             "ambient_temperature_min_k": "ambient_t_min", "settle_out_volumes": "settle_out_volume",
+             "credible_off": "case_off", "header_sections": "header_section"}
+
+
+def _percent(text: str, field: str) -> float:
+    """A fraction from text in percent (``"10 %"`` -> 0.10); the unit is required, as on the form."""
+    number, _, unit = text.strip().partition("%")
+    try:
+        value = float(number)
+    except ValueError:
+        raise InputError(field, f"give a percentage with its unit, e.g. '10 %', got {text!r}") from None
+    if unit.strip() or "%" not in text:
+        raise InputError(field, f"give a percentage with its unit, e.g. '10 %', got {text!r}")
+    return value / 100.0
+
+
+def kind_extras(args: LetdownArgs, p_atm_pa: float) -> dict:
+    """The relief-valve and generated-case inputs of the options (register keys, SI); only those given."""
+    from jtcheck import itemlists
+
+    out: dict = {}
+    for key, text in (("set_pressure_pa", args.set_pressure), ("superimposed_back_pressure_pa",
+                                                                args.superimposed_back_pressure)):
+        if text is not None:
+            out[key] = parse_pressure(text, OPTION_OF[key], p_atm_pa).pa
+    if args.built_up_back_pressure is not None:    # a difference: no atmospheric offset
+        out["built_up_back_pressure_pa"] = parse_pressure(args.built_up_back_pressure, "built_up_back_pressure",
+                                                          0.0).pa
+    if args.overpressure is not None:
+        out["overpressure_fraction"] = _percent(args.overpressure, "overpressure")
+    for key, text in (("header_limit_k", args.header_limit), ("relieving_temperature_min_k", args.relieving_t_min),
+                      ("heater_upstream_temperature_k", args.heater_off_t),
+                      ("ambient_temperature_min_k", args.ambient_t_min)):
+        if text is not None:
+            out[key] = parse_temperature(text, OPTION_OF[key])
+    if args.header_sections:
+        out["header_sections"] = itemlists.header_sections(list(args.header_sections), "header_section", p_atm_pa)
+    if args.settle_out_volumes:
+        out["settle_out_volumes"] = itemlists.settle_out_volumes(list(args.settle_out_volumes), "settle_out_volume",
+                                                                 p_atm_pa)
+    if args.cases_off:
+        out["credible_off"] = itemlists.credible_off(list(args.cases_off), "case_off")
+    return out
 
 
 @dataclass(frozen=True)
@@ -134,14 +197,23 @@ def _parse_mass_flow(mass_flow: str | None) -> float | None:
 
 
 def case_values(args: LetdownArgs, inputs: LetdownInputs) -> dict:
-    """The letdown as the case register holds one (register keys, SI): the input of the letdown case kind."""
+    """The letdown as the case register holds one (register keys, SI): the input of its case kind."""
     from jtcheck.cases.letdown import letdown_values
 
-    return letdown_values(p_in_pa=inputs.p_in.pa, t_in_k=inputs.t_in_k, p_out_pa=inputs.p_out.pa,
+    base = letdown_values(p_in_pa=inputs.p_in.pa, t_in_k=inputs.t_in_k, p_out_pa=inputs.p_out.pa,
                           limits=inputs.limits, p_atm_pa=inputs.p_atm_pa, p_in_max_pa=inputs.p_in_max_pa,
                           t_in_min_k=inputs.t_in_min_k, p_out_min_pa=inputs.p_out_min_pa,
                           mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, water_saturated=args.water_saturated,
                           inhibitor=args.inhibitor)
+    return {**base, **kind_extras(args, inputs.p_atm_pa)}
+
+
+def case_kind(args: LetdownArgs):
+    """The case kind that screens the options: a relief valve with --set-pressure, else a letdown."""
+    from jtcheck.cases.letdown import LETDOWN
+    from jtcheck.cases.relief import RELIEF_VALVE
+
+    return RELIEF_VALVE if args.set_pressure is not None else LETDOWN
 
 
 def parse_inputs(args: LetdownArgs) -> LetdownInputs:
@@ -161,7 +233,17 @@ def parse_inputs(args: LetdownArgs) -> LetdownInputs:
                            mass_flow_kg_per_s=_parse_mass_flow(args.mass_flow))
     from jtcheck.cases.letdown import check_short
 
-    check_short(case_values(args, inputs))    # the letdown kind's checks, naming this command's options
+    values = case_values(args, inputs)
+    check_short(values)    # the letdown kind's checks, naming this command's options
+    try:
+        case_kind(args).check(values)
+        if args.set_pressure is None and any(k in values for k in OPTION_OF if k.startswith(("set_", "over",
+                                                                                             "super", "built",
+                                                                                             "header_", "reliev"))):
+            raise InputError("set_pressure", "relief-valve options need --set-pressure as well")
+    except InputError as err:
+        name = err.field.split("[")[0]
+        raise InputError(OPTION_OF.get(name, name) + err.field[len(name):], err.message) from None
     return inputs
 
 
@@ -177,13 +259,13 @@ def build_fluid(args: LetdownArgs) -> Fluid:
 
 
 def screen(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid) -> Screening:
-    """The letdown screened by the letdown case kind, as the register screens one: each credible condition
-    (operating point and credible extremes), the sweep over the ranges and the answers."""
-    from jtcheck.cases.letdown import LETDOWN
+    """The letdown screened by its case kind, as the register screens one: each credible condition (operating
+    point and credible extremes, the generated cases asked for), the sweep over the ranges, the relieving case
+    of a relief valve and the answers."""
     from jtcheck.letdown.throttle import check_letdown_inputs
 
     check_letdown_inputs(inputs.p_in.pa, inputs.t_in_k, inputs.p_out.pa)
-    return LETDOWN.compute(fluid, case_values(args, inputs), compare_models=args.compare_models)
+    return case_kind(args).compute(fluid, case_values(args, inputs), compare_models=args.compare_models)
 
 
 def exit_code(screening: Screening, limits_given: bool) -> int:
@@ -317,8 +399,32 @@ def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnit
         click.echo(f"  [{f.severity.value}] {f.topic.value}: {f.message}")
 
 
+def print_kind_answers(answers: dict, units: DisplayUnits) -> None:
+    """The relief valve's limits and remedies, and the generated credible cases, where the screening has them."""
+    rv = answers.get("relief_valve") or {}
+    if rv.get("limits"):
+        click.echo("\nrelief valve: every limit of the discharge (worst relieving temperature and model)")
+        for row in rv["limits"]:
+            t = units.temperature(row["t_k"]) if row.get("t_k") is not None else "not converged"
+            lim = units.temperature(row["limit_k"]) if row.get("limit_k") is not None else "no limit"
+            click.echo(f"  {row.get('limit') or row.get('where')}: {t} against {lim}: {row.get('band')}")
+    remedies = answers.get("relief_remedies")
+    if remedies:
+        click.echo("\nwhat keeps the discharge above its limits (no heater on a relief line)")
+        temp = remedies.get("min_relieving_temperature") or {}
+        click.echo(f"  {temp.get('sentence') or 'relieving temperature: ' + str(temp.get('reason') or 'not found')}")
+        for m in remedies.get("materials") or ():
+            click.echo(f"  {m['sentence']}")
+    generated = answers.get("generated_cases") or []
+    if generated:
+        click.echo("\ncredible cases generated from the operating data")
+        for g in generated:
+            click.echo(f"  {g['name']}: {g['status']}; {g.get('reasoning') or g.get('reason')}")
+
+
 def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
     """What keeps it safe: the preheat needed and the lowest outlet pressure, where the screening found them."""
+    print_kind_answers(answers, units)
     if not answers.get("preheat"):
         return
     click.echo("\nwhat keeps it safe (outlet at the limit plus margin, "
@@ -392,10 +498,33 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--inhibitor", default="methanol", show_default=True, type=click.Choice(["methanol", "MEG"]),
               help="Hydrate inhibitor for the Hammerschmidt dose.")
 @click.option("--mass-flow", default=None, help="Mass flow in kg/s, for the heater duty.")
+@click.option("--set-pressure", default=None, help="Relief valve set pressure (screens the relieving case), e.g. "
+                                                  '"75 barg".')
+@click.option("--overpressure", default=None, help='Allowable overpressure in percent of the set gauge pressure, '
+                                                  'e.g. "10 %".')
+@click.option("--superimposed-back-pressure", default=None, help="Back pressure before the valve opens "
+                                                                 "(default atmospheric).")
+@click.option("--built-up-back-pressure", default=None, help='Built-up back pressure, a difference, e.g. "3 bar".')
+@click.option("--header-limit", default=None, help="Cold limit of the flare header (screened at the tip unless "
+                                                   "--header-section gives the sections).")
+@click.option("--relieving-t-min", default=None, help="Minimum credible relieving temperature (default: --t-in-min).")
+@click.option("--header-section", "header_sections", multiple=True,
+              help='A flare header section, in flow order: "name; lowest pressure; cold limit or -; material" '
+                   '(repeat for each).')
+@click.option("--heater-off-t", default=None, help="Inlet temperature with the upstream heater off (adds the "
+                                                   "loss-of-heater case).")
+@click.option("--ambient-t-min", default=None, help="Minimum ambient temperature an uninsulated inlet reaches.")
+@click.option("--settle-out-volume", "settle_out_volumes", multiple=True,
+              help='A volume that settles out after a shutdown: "name; volume m3; pressure; temperature" (repeat).')
+@click.option("--case-off", "cases_off", multiple=True,
+              help='A generated case that does not apply, with the reason: "start_up: the outlet is never '
+                   'depressured" (settle_out, start_up, heater_loss, ambient).')
 @click.option("--single-model", is_flag=True, help="Use only the chosen EOS (no PR/SRK comparison).")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
 def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
-                water_saturated, inhibitor, mass_flow, single_model, as_json):
+                water_saturated, inhibitor, mass_flow, set_pressure, overpressure, superimposed_back_pressure,
+                built_up_back_pressure, header_limit, relieving_t_min, header_sections, heater_off_t, ambient_t_min,
+                settle_out_volumes, cases_off, single_model, as_json):
     """Temperature and phase downstream of an isenthalpic letdown, screened against a cold limit.
 
     Exit codes: 0 pass (or, without a limit, converged), 2 bad input, 3 not screened (a calculation did not
@@ -404,5 +533,10 @@ def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, mar
     args = LetdownArgs(fluid_text, p_in, t_in, p_out, eos=eos, kij=kij, p_atm=p_atm, limit=limit, mdmt=mdmt,
                        margin=margin, p_in_max=p_in_max, t_in_min=t_in_min, p_out_min=p_out_min,
                        water_saturated=water_saturated, inhibitor=inhibitor, mass_flow=mass_flow,
-                       compare_models=not single_model)
+                       compare_models=not single_model, set_pressure=set_pressure, overpressure=overpressure,
+                       superimposed_back_pressure=superimposed_back_pressure,
+                       built_up_back_pressure=built_up_back_pressure, header_limit=header_limit,
+                       relieving_t_min=relieving_t_min, header_sections=tuple(header_sections),
+                       heater_off_t=heater_off_t, ambient_t_min=ambient_t_min,
+                       settle_out_volumes=tuple(settle_out_volumes), cases_off=tuple(cases_off))
     sys.exit(run_letdown(args, as_json=as_json))
