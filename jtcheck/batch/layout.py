@@ -43,10 +43,14 @@ PRESSURE = "pressure"
 TEMPERATURE = "temperature"
 TEMPERATURE_DIFFERENCE = "temperature difference"
 ABSOLUTE_PRESSURE = "absolute pressure"
+PRESSURE_DIFFERENCE = "pressure difference"
+PERCENT = "percent"
 YES_NO = "yes/no"
+#: Items typed one a line in a cell, separated by '|' (jtcheck.itemlists).
+ITEMS = "items"
 
 #: Quantities whose header carries a unit in square brackets.
-UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE)
+UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE, PRESSURE_DIFFERENCE, PERCENT)
 
 #: Kinds of letdown (the case register's CaseKind values).
 KINDS = ("control_valve", "relief_valve", "blowdown_valve", "choke", "other")
@@ -109,6 +113,8 @@ class Column:
             return self.name
         if self.key == "margin":
             return f"{self.name} [K]"
+        if self.quantity == PERCENT:
+            return f"{self.name} [%]"
         if self.key == "atmospheric_pressure":
             return f"{self.name} [bar]"
         return f"{self.name} [unit]"
@@ -147,7 +153,42 @@ COLUMNS: tuple[Column, ...] = (
            "yes: screen for hydrates as if the gas were water-saturated; no (or empty): as given."),
     Column("atmospheric_pressure", "atmospheric pressure", ABSOLUTE_PRESSURE, False, "1.01325 bar", "bar",
            "Atmospheric pressure for the row's gauge pressures, in an absolute unit, 0.3 to 2 bar."),
+    # relief valves (kind relief_valve): the relieving case, screened by the relief-valve case kind
+    Column("set_pressure", "set pressure", PRESSURE, False, "", "barg",
+           "Relief valve set pressure (kind relief_valve): adds the relieving case; needs the overpressure."),
+    Column("overpressure", "overpressure", PERCENT, False, "", "%",
+           "Allowable overpressure in percent of the set gauge pressure, e.g. 10."),
+    Column("superimposed_back_pressure", "superimposed back pressure", PRESSURE, False, "", "barg",
+           "Back pressure at the valve outlet before it opens; empty: atmospheric."),
+    Column("built_up_back_pressure", "built-up back pressure", PRESSURE_DIFFERENCE, False, "", "bar",
+           "Back pressure added by the flow in the outlet system, a difference (bar, kPa, MPa, psi)."),
+    Column("header_limit", "header limit", TEMPERATURE, False, "", "degC",
+           "Cold limit of the flare header (sections without their own limit take it; without sections the "
+           "header is screened at the tip, at atmospheric pressure)."),
+    Column("min_relieving_temperature", "min relieving temperature", TEMPERATURE, False, "", "degC",
+           "Lowest credible relieving temperature; empty: the min inlet temperature."),
+    Column("header_sections", "header sections", ITEMS, False, "", "",
+           "Flare header sections in flow order, separated by '|': 'name; lowest pressure; cold limit or -; "
+           "material', e.g. 'main header; 1.5 barg; -46 degC | knock-out drum; 0.2 barg; -46 degC'."),
+    # generated credible cases (any of these adds them to the row, and the start-up into a depressured outlet)
+    Column("heater_off_temperature", "heater off temperature", TEMPERATURE, False, "", "degC",
+           "Inlet temperature with the upstream heater off (adds the loss-of-heater case)."),
+    Column("min_ambient_temperature", "min ambient temperature", TEMPERATURE, False, "", "degC",
+           "Minimum ambient temperature an uninsulated inlet reaches (adds that case)."),
+    Column("settle_out_volumes", "settle-out volumes", ITEMS, False, "", "",
+           "Volumes that settle out after a shutdown, separated by '|': 'name; volume m3; pressure; temperature'."),
+    Column("cases_off", "cases off", ITEMS, False, "", "",
+           "Generated cases that do not apply, separated by '|': 'case: reason' (settle_out, start_up, "
+           "heater_loss, ambient)."),
 )
+#: The register key of each relief-valve and generated-case column (the case kinds' inputs).
+KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",
+                "superimposed_back_pressure": "superimposed_back_pressure_pa",
+                "built_up_back_pressure": "built_up_back_pressure_pa", "header_limit": "header_limit_k",
+                "min_relieving_temperature": "relieving_temperature_min_k", "header_sections": "header_sections",
+                "heater_off_temperature": "heater_upstream_temperature_k",
+                "min_ambient_temperature": "ambient_temperature_min_k", "settle_out_volumes": "settle_out_volumes",
+                "cases_off": "credible_off"}
 
 COLUMN_BY_KEY: dict[str, Column] = {c.key: c for c in COLUMNS}
 REQUIRED_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if c.required)
@@ -194,6 +235,10 @@ def allowed_units(quantity: str) -> list[str]:
         return ["K", "degC", "degF", "degR"]
     if quantity == TEMPERATURE_DIFFERENCE:
         return ["K", "degC", "degF"]
+    if quantity == PRESSURE_DIFFERENCE:
+        return [u for u in pressure_unit_names() if not PRESSURE_UNITS[u.lower()][1]]
+    if quantity == PERCENT:
+        return ["%"]
     return []
 
 
@@ -211,6 +256,8 @@ def unit_problem(column: Column, unit: str | None) -> str | None:
         ABSOLUTE_PRESSURE: key in PRESSURE_UNITS and not PRESSURE_UNITS[key][1],
         TEMPERATURE: key in TEMPERATURE_UNITS,
         TEMPERATURE_DIFFERENCE: key in TEMPERATURE_DIFFERENCE_UNITS,
+        PRESSURE_DIFFERENCE: key in PRESSURE_UNITS and not PRESSURE_UNITS[key][1],
+        PERCENT: key == "%",
     }[column.quantity]
     if ok:
         return None

@@ -25,17 +25,22 @@ from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any, BinaryIO
 
+from jtcheck import itemlists
 from jtcheck.batch.layout import (
     ABSOLUTE_PRESSURE,
     CHOICE,
     COLUMN_BY_KEY,
     COLUMNS,
     EOS_CHOICES,
+    ITEMS,
+    KIND_COLUMNS,
     KINDS,
     MAX_BYTES,
     MAX_ROWS,
     NO_WORDS,
+    PERCENT,
     PRESSURE,
+    PRESSURE_DIFFERENCE,
     PROBLEMS_HEADER,
     REQUIRED_KEYS,
     TEMPERATURE,
@@ -48,6 +53,7 @@ from jtcheck.batch.layout import (
     split_header,
     unit_problem,
 )
+from jtcheck.cases import kind_of
 from jtcheck.cases.batch import kind_hooks
 from jtcheck.errors import InputError, UnknownComponentError
 from jtcheck.screening.batch import BatchCase
@@ -419,6 +425,18 @@ class _Reader:
             return parse_temperature(text, col.key)
         if col.quantity == TEMPERATURE_DIFFERENCE:
             return parse_temperature_difference(text, col.key)
+        if col.quantity == PRESSURE_DIFFERENCE:    # a difference: gauge or absolute makes no difference
+            return parse_pressure(text, col.key, 0.0).pa
+        if col.quantity == PERCENT:
+            number, _, rest = text.strip().partition("%")
+            try:
+                value = float(number)
+            except ValueError:
+                raise InputError(col.key, f"{text!r} is not a percentage (e.g. 10 with the header "
+                                          f"'{col.name} [%]', or '10 %')") from None
+            if rest.strip() or not math.isfinite(value):
+                raise InputError(col.key, f"{text!r} is not a percentage (e.g. '10 %')")
+            return value / 100.0
         if col.quantity == ABSOLUTE_PRESSURE:
             p = parse_pressure(text, col.key)
             if p.gauge:
@@ -710,6 +728,59 @@ def _display_units(header: _Header, data: list[tuple[int, list[Any]]], defaults:
     return units
 
 
+_ITEM_READERS = {"header_sections": itemlists.header_sections, "settle_out_volumes": itemlists.settle_out_volumes,
+                 "cases_off": itemlists.credible_off}
+#: Register keys of the letdown columns, for the case kind's checks (its errors are shown on these columns).
+_COLUMN_OF_KEY = {"inlet_pressure_pa": "inlet_pressure", "inlet_temperature_k": "inlet_temperature",
+                  "outlet_pressure_pa": "outlet_pressure", "inlet_temperature_min_k": "min_inlet_temperature",
+                  "inlet_pressure_max_pa": "max_inlet_pressure", **{v: k for k, v in KIND_COLUMNS.items()}}
+
+
+def _kind_extras(texts: Mapping[str, str], si: Mapping[str, Any], p_atm_pa: float, err: Any) -> dict[str, Any]:
+    """The row's relief-valve and generated-case inputs (register keys, SI); only those given."""
+    out: dict[str, Any] = {}
+    for col_key, key in KIND_COLUMNS.items():
+        col = COLUMN_BY_KEY[col_key]
+        if col.quantity == ITEMS:
+            if texts[col_key] == "":
+                continue
+            reader = _ITEM_READERS[col_key]
+            try:
+                out[key] = (reader(texts[col_key], col_key) if col_key == "cases_off"
+                            else reader(texts[col_key], col_key, p_atm_pa))
+            except InputError as exc:
+                err(col_key, exc.message if exc.field == col_key else f"{exc.field}: {exc.message}")
+        elif si.get(col_key) is not None:
+            out[key] = si[col_key]
+    return out
+
+
+def _check_by_kind(device: str, si: Mapping[str, Any], extras: Mapping[str, Any], p_atm_pa: float,
+                   err: Any) -> None:
+    """The row's case kind checks its inputs (relief data all or nothing, header pressures falling, ...)."""
+    kind = kind_of(device)
+    values = {"inlet_pressure_pa": si["inlet_pressure"], "inlet_temperature_k": si["inlet_temperature"],
+              "outlet_pressure_pa": si["outlet_pressure"], "inlet_temperature_min_k": si["min_inlet_temperature"],
+              "inlet_pressure_max_pa": si["max_inlet_pressure"], "p_atm_pa": p_atm_pa, **extras}
+    if any(v is None for v in (values["inlet_pressure_pa"], values["inlet_temperature_k"],
+                               values["outlet_pressure_pa"])):
+        return
+    relief_keys = [k for k in extras if k in _RELIEF_KEYS]
+    try:
+        if relief_keys and kind.name != "relief_valve":
+            raise InputError(relief_keys[0], "relief-valve columns are only for rows of kind relief_valve")
+        kind.check(values)
+    except InputError as exc:
+        name = exc.field.split("[")[0].split(".")[0]
+        column = _COLUMN_OF_KEY.get(name, "kind")
+        err(column, exc.message if exc.field == name else f"{exc.field}: {exc.message}")
+
+
+_RELIEF_KEYS = frozenset(KIND_COLUMNS[c] for c in ("set_pressure", "overpressure", "superimposed_back_pressure",
+                                                   "built_up_back_pressure", "header_limit",
+                                                   "min_relieving_temperature", "header_sections"))
+
+
 def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defaults: Mapping[str, str]
               ) -> tuple[BatchCase | None, CaseSource | None, list[RowError], list[RowWarning]]:
     errors: list[RowError] = []
@@ -790,6 +861,12 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
             except InputError as exc:
                 err(key, exc.message)
 
+    extras = _kind_extras(texts, si, p_atm_pa, err)
+    if extras:       # the kind's inputs beyond a plain letdown read gauge values with the row's atmosphere
+        extras["p_atm_pa"] = p_atm_pa
+    if not errors:
+        _check_by_kind(kind or "control_valve", si, extras, p_atm_pa, err)
+
     fluid = None
     fluid_name, from_library, fluid_notes = texts["fluid"], False, ()
     if texts["fluid"]:
@@ -813,7 +890,7 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
     device = kind or "control_valve"
     case = BatchCase(row=row, tag=texts["tag"], fluid=fluid, p_in_pa=p_in, t_in_k=t_in, p_out_pa=p_out,
                      limits=limits, t_in_min_k=t_min, p_in_max_pa=p_max, water_saturated=water,
-                     service=texts["service"], kind=device, **kind_hooks(device))
+                     service=texts["service"], kind=device, extras=extras, **kind_hooks(device, extras))
     source = CaseSource(row=row, fluid_name=fluid_name, fluid_from_library=from_library, eos=fluid.eos.value,
                         p_atm_pa=p_atm_pa, cells={k: v for k, v in texts.items() if v != ""})
     return case, source, [], warnings

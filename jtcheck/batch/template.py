@@ -64,6 +64,16 @@ def template_rows() -> list[dict[str, Any]]:
             "margin": _number(f.get("margin_k", 0.0)),
             "water_saturated": "yes" if f.get("water_saturated") else "no",
             "atmospheric_pressure": _number(P_ATM / 1e5),
+            # the relieving case of the demo's relief valves, as the register holds it
+            "set_pressure": barg(f.get("set_pressure_pa")),
+            "overpressure": "" if f.get("overpressure_fraction") is None else _number(100 * f["overpressure_fraction"]),
+            "superimposed_back_pressure": barg(f.get("superimposed_back_pressure_pa")),
+            "built_up_back_pressure": "" if f.get("built_up_back_pressure_pa") is None
+            else _number(f["built_up_back_pressure_pa"] / 1e5),
+            "header_limit": degc(f.get("header_limit_k")),
+            "min_relieving_temperature": degc(f.get("relieving_temperature_min_k")),
+            "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
+            "settle_out_volumes": "", "cases_off": "",
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})
     return rows

@@ -23,7 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from jtcheck import __version__
-from jtcheck.batch.layout import ABSOLUTE_PRESSURE, COLUMNS, PRESSURE, TEMPERATURE, Column
+from jtcheck.batch.layout import ABSOLUTE_PRESSURE, COLUMNS, KIND_COLUMNS, PRESSURE, TEMPERATURE, Column
 from jtcheck.batch.reader import CaseSource, ReadResult, canonical_unit
 from jtcheck.notices import CAUTION
 from jtcheck.screening.batch import BatchCase, BatchRowResult, BatchScreening
@@ -111,7 +111,8 @@ def _models(rows: Sequence[BatchRowResult]) -> list[str]:
 
 
 def _quantity_columns() -> list[Column]:
-    return [c for c in COLUMNS if c.has_unit]
+    """The letdown's quantity columns echoed in the results (the relief and generated-case inputs are not)."""
+    return [c for c in COLUMNS if c.has_unit and c.key not in KIND_COLUMNS]
 
 
 def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
@@ -119,7 +120,7 @@ def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
     d_unit = _difference_unit(t_unit)
     cols = [_Out("row"), _Out("tag"), _Out("service", "long"), _Out("kind"), _Out("fluid", "long"), _Out("eos")]
     for c in COLUMNS:
-        if c.has_unit:
+        if c.has_unit and c.key not in KIND_COLUMNS:
             cols.append(_Out(c.header(units[c.key]), "display"))
         elif c.key == "water_saturated":
             cols.append(_Out(c.name))
@@ -168,7 +169,7 @@ def _row_values(result: BatchRowResult, case: BatchCase | None, source: CaseSour
         fluid = eos = ""
     values: list[Any] = [result.row, result.tag, case.service if case else "", case.kind if case else "", fluid, eos]
     for c in COLUMNS:
-        if c.has_unit:
+        if c.has_unit and c.key not in KIND_COLUMNS:
             u = units[c.key]
             if c.quantity == TEMPERATURE:
                 values.append(_temperature(si[c.key], u))

@@ -10,6 +10,7 @@ lists (:mod:`jtcheck.batch.reader`) makes every row this way.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Mapping
 from typing import Any
 
 from jtcheck.cases.kind import CaseKind
@@ -27,7 +28,7 @@ def row_values(case: BatchCase) -> dict[str, Any]:
     return {"inlet_pressure_pa": case.p_in_pa, "inlet_temperature_k": case.t_in_k, "outlet_pressure_pa": case.p_out_pa,
             "inlet_temperature_min_k": case.t_in_min_k, "inlet_pressure_max_pa": case.p_in_max_pa,
             "mdmt_k": lim.mdmt_k, "cold_limit_k": lim.user_limit_k, "margin_k": lim.margin_k,
-            "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated}
+            "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated, **case.extras}
 
 
 def device_kind(device: str) -> CaseKind:
@@ -46,12 +47,17 @@ def row_screening(case: BatchCase, compare_models: bool) -> Screening:
                                   sweep=False)
 
 
-def kind_hooks(device: str) -> dict[str, Any]:
+def kind_hooks(device: str, extras: Mapping[str, Any] | None = None) -> dict[str, Any]:
     """The :class:`BatchCase` fields that make a row of ``device`` screen as its kind says: the kind's
-    vectorised flag and its scalar screening (``BatchCase(..., **kind_hooks(device))``)."""
-    return {"vectorised": device_kind(device).vectorised, "screen": row_screening}
+    vectorised flag and its scalar screening (``BatchCase(..., **kind_hooks(device, extras))``).
+
+    A row with inputs beyond a plain letdown (``extras``: a relieving case, generated credible cases) takes the
+    scalar path, where its kind computes them: the vectorised path screens plain letdowns only.
+    """
+    plain = not any(v not in (None, [], {}) for v in (extras or {}).values())
+    return {"vectorised": device_kind(device).vectorised and plain, "screen": row_screening}
 
 
 def with_kind(case: BatchCase) -> BatchCase:
     """``case`` screened as its kind says (:func:`kind_hooks`)."""
-    return dataclasses.replace(case, **kind_hooks(case.kind))
+    return dataclasses.replace(case, **kind_hooks(case.kind, case.extras))

@@ -15,7 +15,7 @@ from __future__ import annotations
 import gc
 import math
 import time
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
@@ -81,6 +81,9 @@ class BatchCase:
         Whether the row may take the vectorised path (its case kind says; :mod:`jtcheck.cases.batch`).
     screen : callable(BatchCase, bool) -> Screening, optional
         The row's scalar screening (its case kind's); :func:`letdown_row_screening` when None.
+    extras : mapping
+        The row's other inputs of its case kind (register keys, SI: relief-valve data, generated-case inputs),
+        read by ``screen``.
     """
 
     row: int
@@ -97,6 +100,7 @@ class BatchCase:
     kind: str = ""
     vectorised: bool = True
     screen: Callable[[BatchCase, bool], Screening] | None = field(default=None, compare=False, repr=False)
+    extras: Mapping[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
