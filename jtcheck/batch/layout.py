@@ -127,7 +127,7 @@ COLUMNS: tuple[Column, ...] = (
     Column("kind", "kind", CHOICE, False, "control_valve", "",
            "Kind of letdown: control_valve, relief_valve, blowdown_valve, choke or other (spaces for "
            "underscores are accepted). Every kind is screened as an isenthalpic letdown from the inlet to the "
-           "outlet pressure.", KINDS),
+           "outlet pressure; a relief_valve row with a set pressure adds its relieving case.", KINDS),
     Column("fluid", "fluid", FLUID, True, "", "",
            "A fluid name from the case register's fluid library, or an inline composition "
            "'methane=0.9,ethane=0.1' (mole fractions or mole percent; quote it in a comma-delimited CSV)."),
