@@ -74,6 +74,8 @@ class CaseKind:
     page_sections: tuple[str, ...] = ()
     record_sections: tuple[str, ...] = ()
     vectorised: bool = False
+    #: What the kind offers when a case is too cold, in one sentence (the record's purpose says it).
+    remedies_sentence: str = ""
 
     def field_named(self, name: str) -> Field | None:
         """The field of this kind with form/API name or SI key ``name``; None if the kind has none."""

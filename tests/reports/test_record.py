@@ -314,3 +314,11 @@ def test_the_case_kind_adds_its_sections_to_the_record(records, tmp_path):
                   "Nozzle throat", "Downstream of the valve"):
         assert words in relief
         assert words not in letdown
+
+
+def test_the_records_purpose_names_the_remedies_of_the_case_kind(snapshots):
+    """A relief valve's record offers no heater; a letdown's offers preheat and an outlet-pressure limit."""
+    relief = render_html(snapshots["PSV-2101"], "A4")
+    letdown = render_html(snapshots["PCV-1101"], "A4")
+    assert "no heater on a relief line" in relief and "gives the preheat" not in relief
+    assert "gives the preheat and the outlet-pressure limit" in letdown

@@ -185,6 +185,8 @@ class LetdownKind(CaseKind):
     fields = LETDOWN_FIELDS
     flags = ("water_saturated", "hydrate_inhibitor")
     parameters = ("settle_out_volumes", "credible_off")
+    remedies_sentence = ("Where the outlet is too cold it gives the preheat and the outlet-pressure limit that would "
+                         "keep it above the limit plus margin.")
     page_sections = ("cases/kinds/generated_cases.html",)
     record_sections = ("kinds/generated_cases.html",)
     method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "

@@ -189,6 +189,8 @@ class ReliefValveKind(LetdownKind):
     parameters = (*LetdownKind.parameters, "header_sections")
     label = "relief valve"
     cases_phrase = "relief-valve cases"
+    remedies_sentence = ("Where the discharge is too cold it gives the lowest relieving temperature and the material "
+                         "limits that would keep every part above its limit plus margin (no heater on a relief line).")
     devices = ("relief_valve",)
     fields = (*LETDOWN_FIELDS, *RELIEF_FIELDS)
     screening_sections = (*LetdownKind.screening_sections, "cases/kinds/relief_inputs.html")
