@@ -14,6 +14,11 @@ plain form (one parser, so that one item reads the same everywhere):
       separator V-2100; 40 m3; 72 barg; 15 degC
 
   name; volume in m3; pressure; temperature.
+* **other relief valves discharging at the same time** into the header::
+
+      PSV-4101; propane=0.95,n-butane=0.05; 25 kg/s; 18 barg; 15 degC
+
+  name; composition; mass flow in kg/s; relieving pressure; relieving temperature.
 * **credible cases switched off**, each with its reason::
 
       start_up: the downstream is never depressured (permanently pressurised header)
@@ -94,6 +99,28 @@ def settle_out_volumes(text: Any, field: str = "settle_out_volumes", p_atm_pa: f
     return out
 
 
+def other_sources(text: Any, field: str = "other_sources", p_atm_pa: float = P_ATM_DEFAULT_PA
+                  ) -> list[dict[str, Any]]:
+    """Other relief valves discharging at the same time:
+    ``name; composition; mass flow kg/s; relieving pressure; relieving temperature``."""
+    example = "PSV-4101; propane=0.95,n-butane=0.05; 25 kg/s; 18 barg; 15 degC"
+    out = []
+    for k, line in enumerate(lines_of(text, field)):
+        name, comp, flow_text, p_text, t_text = _cells(line, f"{field}[{k}]", 5, 5, example)
+        m = re.match(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(kg/s)?\s*$", flow_text)
+        if not name or not comp or m is None:
+            raise InputError(f"{field}[{k}]", f"{line!r}: give a name, a composition and a mass flow in kg/s, "
+                                              f"e.g. {example!r}")
+        flow = float(m.group(1))
+        if not math.isfinite(flow) or flow <= 0.0:
+            raise InputError(f"{field}[{k}].mass_flow_kg_per_s",
+                             f"the mass flow must be above 0 kg/s, got {flow_text!r}")
+        out.append({"name": name, "composition": comp, "mass_flow_kg_per_s": flow,
+                    "p_pa": parse_pressure(p_text, f"{field}[{k}].pressure", p_atm_pa).pa,
+                    "t_k": parse_temperature(t_text, f"{field}[{k}].temperature")})
+    return out
+
+
 def credible_off(text: Any, field: str = "credible_off") -> dict[str, str]:
     """Generated credible cases switched off: ``case: reason`` a line (cases: :data:`CREDIBLE_CASES`)."""
     if isinstance(text, dict):      # already a mapping case -> reason (JSON)
@@ -136,3 +163,11 @@ def settle_out_volumes_text(rows: Any, p_unit: str = "barg", t_unit: str = "degC
 def credible_off_text(cases: Any) -> str:
     """Stored switched-off cases as the lines :func:`credible_off` reads."""
     return "\n".join(f"{k}: {v}" for k, v in (cases or {}).items())
+
+
+def other_sources_text(rows: Any, p_unit: str = "barg", t_unit: str = "degC",
+                       p_atm_pa: float = P_ATM_DEFAULT_PA) -> str:
+    """Stored other relief sources (SI) as the lines :func:`other_sources` reads."""
+    return "\n".join(f"{r['name']}; {r['composition']}; {_num(r['mass_flow_kg_per_s'])} kg/s; "
+                     f"{_num(pressure_from_pa(r['p_pa'], p_unit, p_atm_pa))} {p_unit}; "
+                     f"{_num(temperature_from_k(r['t_k'], t_unit))} {t_unit}" for r in rows or ())

@@ -68,3 +68,13 @@ def test_stored_items_read_back_as_the_same_lines():
     off = {"start_up": "never depressured"}
     assert itemlists.credible_off(itemlists.credible_off_text(off)) == off
     assert itemlists.credible_off(off) == off
+
+
+def test_other_relief_sources():
+    rows = itemlists.other_sources("PSV-4101; propane=0.95,n-butane=0.05; 25 kg/s; 18 barg; 15 degC")
+    assert rows == [{"name": "PSV-4101", "composition": "propane=0.95,n-butane=0.05", "mass_flow_kg_per_s": 25.0,
+                     "p_pa": pytest.approx(18e5 + P_ATM), "t_k": pytest.approx(288.15)}]
+    assert itemlists.other_sources(itemlists.other_sources_text(rows))[0]["p_pa"] == pytest.approx(18e5 + P_ATM)
+    with pytest.raises(InputError) as err:
+        itemlists.other_sources("PSV-1; methane=1; -2 kg/s; 18 barg; 15 degC")
+    assert err.value.field == "other_sources[0].mass_flow_kg_per_s"

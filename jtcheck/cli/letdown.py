@@ -66,6 +66,7 @@ class LetdownArgs:
     header_limit: str | None = None
     relieving_t_min: str | None = None
     header_sections: tuple[str, ...] = ()
+    other_sources: tuple[str, ...] = ()
     # generated credible cases
     heater_off_t: str | None = None
     ambient_t_min: str | None = None
@@ -79,7 +80,12 @@ OPTION_OF = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpr
              "built_up_back_pressure_pa": "built_up_back_pressure", "header_limit_k": "header_limit",
              "relieving_temperature_min_k": "relieving_t_min", "heater_upstream_temperature_k": "heater_off_t",
              "ambient_temperature_min_k": "ambient_t_min", "settle_out_volumes": "settle_out_volume",
-             "credible_off": "case_off", "header_sections": "header_section"}
+             "credible_off": "case_off", "header_sections": "header_section", "other_sources": "other_source"}
+
+
+#: Register keys of the relief-valve options (they need --set-pressure).
+RELIEF_KEYS = ("set_pressure_pa", "overpressure_fraction", "superimposed_back_pressure_pa", "built_up_back_pressure_pa",
+               "header_limit_k", "relieving_temperature_min_k", "header_sections", "other_sources")
 
 
 def _percent(text: str, field: str) -> float:
@@ -115,6 +121,8 @@ def kind_extras(args: LetdownArgs, p_atm_pa: float) -> dict:
             out[key] = parse_temperature(text, OPTION_OF[key])
     if args.header_sections:
         out["header_sections"] = itemlists.header_sections(list(args.header_sections), "header_section", p_atm_pa)
+    if args.other_sources:
+        out["other_sources"] = itemlists.other_sources(list(args.other_sources), "other_source", p_atm_pa)
     if args.settle_out_volumes:
         out["settle_out_volumes"] = itemlists.settle_out_volumes(list(args.settle_out_volumes), "settle_out_volume",
                                                                  p_atm_pa)
@@ -237,9 +245,7 @@ def parse_inputs(args: LetdownArgs) -> LetdownInputs:
     check_short(values)    # the letdown kind's checks, naming this command's options
     try:
         case_kind(args).check(values)
-        if args.set_pressure is None and any(k in values for k in OPTION_OF if k.startswith(("set_", "over",
-                                                                                             "super", "built",
-                                                                                             "header_", "reliev"))):
+        if args.set_pressure is None and any(k in values for k in RELIEF_KEYS):
             raise InputError("set_pressure", "relief-valve options need --set-pressure as well")
     except InputError as err:
         name = err.field.split("[")[0]
@@ -511,6 +517,9 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--header-section", "header_sections", multiple=True,
               help='A flare header section, in flow order: "name; lowest pressure; cold limit or -; material" '
                    '(repeat for each).')
+@click.option("--other-source", "other_sources", multiple=True,
+              help='Another relief valve discharging at the same time: "name; composition; mass flow kg/s; '
+                   'relieving pressure; relieving temperature" (repeat).')
 @click.option("--heater-off-t", default=None, help="Inlet temperature with the upstream heater off (adds the "
                                                    "loss-of-heater case).")
 @click.option("--ambient-t-min", default=None, help="Minimum ambient temperature an uninsulated inlet reaches.")
@@ -523,8 +532,8 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
 def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
                 water_saturated, inhibitor, mass_flow, set_pressure, overpressure, superimposed_back_pressure,
-                built_up_back_pressure, header_limit, relieving_t_min, header_sections, heater_off_t, ambient_t_min,
-                settle_out_volumes, cases_off, single_model, as_json):
+                built_up_back_pressure, header_limit, relieving_t_min, header_sections, other_sources, heater_off_t,
+                ambient_t_min, settle_out_volumes, cases_off, single_model, as_json):
     """Temperature and phase downstream of an isenthalpic letdown, screened against a cold limit.
 
     Exit codes: 0 pass (or, without a limit, converged), 2 bad input, 3 not screened (a calculation did not
@@ -537,6 +546,7 @@ def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, mar
                        superimposed_back_pressure=superimposed_back_pressure,
                        built_up_back_pressure=built_up_back_pressure, header_limit=header_limit,
                        relieving_t_min=relieving_t_min, header_sections=tuple(header_sections),
+                       other_sources=tuple(other_sources),
                        heater_off_t=heater_off_t, ambient_t_min=ambient_t_min,
                        settle_out_volumes=tuple(settle_out_volumes), cases_off=tuple(cases_off))
     sys.exit(run_letdown(args, as_json=as_json))

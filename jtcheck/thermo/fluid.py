@@ -181,6 +181,15 @@ class Fluid:
         return Fluid(list(zip(self.ids, self.zs, strict=True)), eos=eos, kij=self._kij_choice,
                      volume_translation=self.volume_translation)
 
+    def with_composition(self, composition: Mapping[str, float] | Iterable[tuple[str, float]] | str) -> Fluid:
+        """Another composition on this fluid's model basis (EOS, kij choice, volume translation).
+
+        A kij matrix given for this fluid's components cannot fit another composition: the table is taken.
+        """
+        kij = self._kij_choice if self._kij_choice is None or np.ndim(self._kij_choice) == 0 or \
+            isinstance(self._kij_choice, Mapping) else None
+        return Fluid(composition, eos=self.eos, kij=kij, volume_translation=self.volume_translation)
+
     def __repr__(self) -> str:
         comp = ", ".join(f"{i}={z:.4g}" for i, z in zip(self.ids, self.zs, strict=True))
         return f"Fluid({comp}; eos={self.eos.value})"

@@ -95,3 +95,29 @@ def test_a_relief_valves_header_sections_are_kept_and_screened(session, engineer
     rv = result.screening["answers"]["relief_valve"]
     assert any("knock-out drum" in str(row) for row in rv["limits"])     # every section screened as a limit
     assert [s["name"] for s in rv["header"]["sections"]] == ["main header", "knock-out drum"]
+
+
+def test_other_relief_sources_are_kept_and_mixed_into_the_header(session, engineer, case_data):
+    """Another valve relieving at the same time, entered by its composition, joins the header's mix (invented)."""
+    sources = [{"name": "PSV-9", "composition": "propane=0.95,n-butane=0.05", "mass_flow_kg_per_s": 4.0,
+                "p_pa": 15e5, "t_k": 288.15}]
+    data = case_data(tag=unique("PSV"), kind="relief_valve", set_pressure_pa=60e5, overpressure_fraction=0.1,
+                     outlet_pressure_pa=3e5, built_up_back_pressure_pa=3e5, header_limit_k=227.15,
+                     other_sources=sources)
+    case = service.create_case(session, engineer, data)
+    assert service.case_values(case)["other_sources"] == sources
+    result = service.compute_case(session, engineer, case.id)
+    rv = result.screening["answers"]["relief_valve"]
+    assert rv["other_sources"] == ["PSV-9"]
+    assert {"propane", "n-butane"} <= set(rv["header"]["component_ids"])
+    assert [src["name"] for src in rv["header"]["sources"]] == ["this relief valve", "PSV-9"]
+
+
+def test_a_bad_other_source_composition_is_named(session, engineer, case_data):
+    sources = [{"name": "PSV-9", "composition": "unobtainium=1", "mass_flow_kg_per_s": 4.0, "p_pa": 15e5,
+                "t_k": 288.15}]
+    with pytest.raises(InputError) as err:
+        service.create_case(session, engineer, case_data(tag=unique("PSV"), kind="relief_valve",
+                                                         set_pressure_pa=60e5, overpressure_fraction=0.1,
+                                                         outlet_pressure_pa=3e5, other_sources=sources))
+    assert err.value.field == "other_sources[0].composition"

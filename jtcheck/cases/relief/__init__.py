@@ -24,7 +24,7 @@ from jtcheck.cases.fields import (
 from jtcheck.cases.letdown import LETDOWN_FIELDS, LetdownKind, letdown_options
 from jtcheck.errors import InputError
 from jtcheck.letdown.flare_header import PRESSURE_TOLERANCE_PA
-from jtcheck.screening.screen import HeaderSpec, OtherSource, ReliefInputs, ScreeningOptions
+from jtcheck.screening.screen import HeaderSpec, OtherSource, ReliefInputs, Screening, ScreeningOptions
 from jtcheck.thermo.fluid import Fluid
 
 #: The relief-valve inputs beyond the letdown's.
@@ -48,7 +48,7 @@ _COMPANIONS = ("overpressure_fraction", "superimposed_back_pressure_pa", "built_
                "header_limit_k", "relieving_temperature_min_k")
 #: Keys of one header section and of one other relieving source in ``values``.
 HEADER_SECTION_KEYS = ("name", "p_pa", "limit_k", "material")
-OTHER_SOURCE_KEYS = ("name", "fluid", "mass_flow_kg_per_s", "p_pa", "t_k")
+OTHER_SOURCE_KEYS = ("name", "fluid", "composition", "mass_flow_kg_per_s", "p_pa", "t_k")
 
 
 def check_relief_group(values: Mapping[str, Any]) -> None:
@@ -144,9 +144,14 @@ def _check_sources(items: Any, p_back: float) -> None:
     this valve) and temperature."""
     for k, src in enumerate(_entries("other_sources", items, OTHER_SOURCE_KEYS)):
         key = f"other_sources[{k}]"
-        if not isinstance(src.get("fluid"), Fluid):
+        if "composition" in src and "fluid" not in src:     # as entered with the case: checked by building it
+            try:
+                Fluid(src["composition"])
+            except InputError as exc:
+                raise InputError(f"{key}.composition", exc.message) from None
+        elif not isinstance(src.get("fluid"), Fluid):
             raise InputError(f"{key}.fluid", f"got {type(src.get('fluid')).__name__}; allowed: a jtcheck Fluid "
-                                              "(composition and EOS of the other valve's fluid)")
+                                              "(composition and EOS of the other valve's fluid) or a composition")
         lo, hi, _ = MASS_FLOW_RANGE_KG_PER_S
         _number(f"{key}.mass_flow_kg_per_s", src.get("mass_flow_kg_per_s"), "mass flow", "kg/s", lo, hi)
         p = _number(f"{key}.p_pa", src.get("p_pa"), "relieving pressure (absolute)", "Pa", 0.0, 1e9)
@@ -185,8 +190,7 @@ class ReliefValveKind(LetdownKind):
     """A relief valve: the letdown screening plus the relieving case into the outlet piping and flare header."""
 
     name = "relief_valve"
-    #: header sections are entered with the case; other relief sources (OtherSource) from Python only, for now
-    parameters = (*LetdownKind.parameters, "header_sections")
+    parameters = (*LetdownKind.parameters, "header_sections", "other_sources")
     label = "relief valve"
     cases_phrase = "relief-valve cases"
     remedies_sentence = ("Where the discharge is too cold it gives the lowest relieving temperature and the material "
@@ -202,6 +206,13 @@ class ReliefValveKind(LetdownKind):
     def check(self, values: Mapping[str, Any]) -> None:
         super().check(values)
         check_relief(values)
+
+    def compute(self, fluid: Fluid, values: Mapping[str, Any], **switches: bool) -> Screening:
+        """The letdown screening with the relieving case; other sources entered as compositions are put on the
+        case fluid's model basis (EOS, kij choice, volume translation) first."""
+        sources = [d if "fluid" in d else {**d, "fluid": fluid.with_composition(d["composition"])}
+                   for d in values.get("other_sources") or ()]
+        return super().compute(fluid, {**values, "other_sources": sources} if sources else values, **switches)
 
     def check_group(self, values: Mapping[str, Any]) -> None:
         check_relief_group(values)

@@ -283,6 +283,9 @@ _LINES = {"oneOf": [{"type": "string"}, {"type": "array", "items": {"type": "str
 _CASE_LISTS = {
     "header_sections": {**_LINES, "description": "Flare header sections in flow order, one a line: "
                                                  "'name; lowest pressure; cold limit or -; material'"},
+    "other_sources": {**_LINES, "description": "Other relief valves discharging at the same time, one a line: "
+                                               "'name; composition; mass flow kg/s; relieving pressure; "
+                                               "relieving temperature'"},
     "settle_out_volumes": {**_LINES, "description": "Volumes that settle out after a shutdown, one a line: "
                                                     "'name; volume m3; pressure; temperature'"},
     "credible_off": {"oneOf": [*_LINES["oneOf"], {"type": "object", "additionalProperties": {"type": "string"}}],
