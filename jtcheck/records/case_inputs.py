@@ -182,9 +182,9 @@ def validate_case(session: Session, data: Mapping[str, Any], *, current: Case | 
     return values
 
 
-def none_to_default(data: Mapping[str, Any]) -> dict[str, Any]:
+def none_to_default(data: Mapping[str, Any], defaults: Mapping[str, Any] = CASE_DEFAULTS) -> dict[str, Any]:
     """None for a field with a default (an empty form field) means the default."""
-    return {k: (CASE_DEFAULTS[k] if v is None and k in CASE_DEFAULTS else v) for k, v in data.items()}
+    return {k: (defaults[k] if v is None and k in defaults else v) for k, v in data.items()}
 
 
 def case_values(case: Case) -> dict[str, Any]:

@@ -83,7 +83,7 @@ def add_case(session: Session, user: User | None, data: Mapping[str, Any]) -> Ca
     margin = site_margin(unit)
     if margin is not None:    # a case without a margin of its own takes its site's
         defaults["margin_k"] = margin
-    values = validate_case(session, {**defaults, **none_to_default(data)}, loaded=loaded)
+    values = validate_case(session, {**defaults, **none_to_default(data, defaults)}, loaded=loaded)
     # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
     case = Case(**values, **loaded, status=RevisionStatus.DRAFT.value, created_by=user, updated_by=user)
     session.add(case)

@@ -23,6 +23,8 @@ def test_a_case_without_a_margin_takes_its_sites_default(session, engineer, worl
         assert site_margin(session.get(PlantUnit, world.unit_id)) == 7.5
         entered = service.create_case(session, engineer, case_data(tag=unique("PCV"), margin_k=2.0))
         assert entered.margin_k == 2.0       # an entered margin wins over the site's
+        empty = service.create_case(session, engineer, case_data(tag=unique("PCV"), margin_k=None))
+        assert empty.margin_k == 7.5         # an empty form field is no margin: the site's applies
     finally:
         site.default_margin_k, site.default_margin_basis = None, ""
         session.commit()
