@@ -1,7 +1,8 @@
 """Screen the relieving case of a relief valve: the outlet piping and the flare header, fail closed.
 
 A relief valve's discharge is screened like a letdown: every limit it meets gets the same bands
-(pass / margin eroded / fail / not screened, margin = :attr:`ColdLimits.total_margin_k`, the entered margin plus the model spread), and the worst band
+(pass / margin eroded / fail / not screened, margin = :attr:`ColdLimits.total_margin_k`, the entered
+margin plus the model spread), and the worst band
 over the limits, the relieving temperatures and the models governs.
 
 * **Relieving temperatures.**  From the minimum credible relieving temperature (when given) to the
