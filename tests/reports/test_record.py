@@ -6,9 +6,8 @@ pdftoppm (poppler-utils; tests/tools/ensure_chromium.sh installs it).
 """
 from __future__ import annotations
 
-import html
-
 import copy
+import html
 import io
 import re
 import shutil
