@@ -395,8 +395,10 @@ def print_conditions(screening: Screening, inputs: LetdownInputs, units: Display
 def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnits) -> None:
     """The limit and the outcome (or why there is none), then every finding."""
     if limits.governing_k is not None:
+        shown = screening.limits   # the screened limits carry the margin's terms (entered + model spread)
+        terms = " + ".join(f"{t['term']} {units.difference_text(t['k'])}" for t in shown.margin_terms)
         click.echo(f"\ncold limit {units.temperature(limits.governing_k)} ({limits.basis}); "
-                   f"margin {units.difference_text(limits.margin_k)}")
+                   f"margin {units.difference_text(shown.total_margin_k)} = {terms}")
         click.echo(f"OUTCOME: {screening.outcome.value.upper()} - {screening.outcome.sentence}")
     else:
         click.echo("\nno cold limit given (--limit or --mdmt): the outcome is not screened; findings follow")

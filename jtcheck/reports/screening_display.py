@@ -208,7 +208,9 @@ class StoredResult:
 class Limits:
     """The temperature limits a result was screened against [K].
 
-    ``governing_k`` is the warmer of the MDMT and the entered cold limit; ``target_k`` = governing + margin.
+    ``governing_k`` is the warmer of the MDMT and the entered cold limit; ``target_k`` = governing + the
+    total margin; ``margin_k`` is the entered margin and ``margin_terms`` each term of the total
+    (``{"term", "k", "basis"}``: the entered margin, the model spread when two models were compared).
     """
 
     mdmt_k: float | None
@@ -219,6 +221,15 @@ class Limits:
     target_k: float | None
     basis: str
     from_screening: bool = True
+    total_margin_k: float | None = None
+    margin_terms: tuple[Mapping[str, Any], ...] = ()
+
+    def __post_init__(self) -> None:
+        if self.total_margin_k is None:
+            object.__setattr__(self, "total_margin_k", self.margin_k)
+        if not self.margin_terms:   # a result stored before the terms: the entered margin was the whole margin
+            object.__setattr__(self, "margin_terms", ({"term": "entered margin", "k": self.margin_k,
+                                                       "basis": "the case's required margin"},))
 
     @property
     def cold_limit_k(self) -> float | None:
@@ -237,7 +248,8 @@ def limits_of(stored: StoredResult) -> Limits:
         return Limits(mdmt_k=_num(limits.get("mdmt_k")), mdmt_source=str(limits.get("mdmt_source") or ""),
                       user_limit_k=_num(limits.get("user_limit_k")), margin_k=_num(limits.get("margin_k")) or 0.0,
                       governing_k=_num(limits.get("governing_k")), target_k=_num(limits.get("target_k")),
-                      basis=str(limits.get("basis") or ""))
+                      basis=str(limits.get("basis") or ""), total_margin_k=_num(limits.get("total_margin_k")),
+                      margin_terms=tuple(t for t in limits.get("margin_terms") or () if isinstance(t, Mapping)))
     values = stored.case_values
     mdmt, user = _num(values.get("mdmt_k")), _num(values.get("cold_limit_k"))
     margin = _num(values.get("margin_k")) or 0.0

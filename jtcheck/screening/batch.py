@@ -50,8 +50,11 @@ from jtcheck.screening.screen import (
     Screening,
     ScreeningOptions,
     _model_spread,
+    _with_spread,
     _worst_of,
     credible_conditions,
+    hydrate_margin_numbers,
+    hydrate_outside,
     model_fluids,
     screen_letdown,
 )
@@ -423,7 +426,7 @@ def _run_group(fluid: Fluid, models: list[Fluid], pts: _Points) -> _GroupRun:
 
 
 def _hydrate_findings(gravity: float, p_out: np.ndarray, t_out: np.ndarray,
-                      names: list[str]) -> list[Finding]:
+                      names: list[str], margins: list[float]) -> list[Finding]:
     """The hydrate finding of each row (water present), vectorised: the same topic, severity, message and
     numbers as the scalar screening (:func:`jtcheck.screening.screen.screen_letdown`) gives for the row's
     coldest condition, which is the worst for hydrates (every condition of a row shares its outlet
@@ -457,9 +460,8 @@ def _hydrate_findings(gravity: float, p_out: np.ndarray, t_out: np.ndarray,
                          f"{inh.max_weight_percent:g} wt% {inh.value}); inhibitor lost to the gas and to any "
                          "hydrocarbon liquid comes on top")
         else:
-            msg = (f"Outside the hydrate region: the outlet ({tk - 273.15:.1f} degC) is {-sc:.1f} K warmer than "
-                   f"the hydrate temperature ({th - 273.15:.1f} degC).{validity}")
-            sev = Severity.INFORMATION if ok else Severity.CAUTION
+            msg, sev = hydrate_outside(tk, th, margins[k], ok, validity)
+        numbers.update(hydrate_margin_numbers(margins[k]))
         out.append(Finding(Topic.HYDRATES, sev, msg, numbers, "; ".join(basis), names[k]))
     return out
 
@@ -509,7 +511,8 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
         gravity = gas_specific_gravity(fluid)
         pick = coldest[wet]
         found = _hydrate_findings(gravity, pts.p_out[pick], run.t_min[pick],
-                                  [_CONDITION_NAMES[kinds[p]] for p in pick.tolist()])
+                                  [_CONDITION_NAMES[kinds[p]] for p in pick.tolist()],
+                                  [cases[g].limits.margin_k for g in rows[wet].tolist()])
         hydrates = dict(zip(np.flatnonzero(wet).tolist(), found, strict=True))
     dry = _no_hydrate_screen()
     out: dict[int, BatchRowResult] = {}
@@ -517,7 +520,16 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
         case = cases[g]
         s, n, c = int(starts[r]), int(n_pts[r]), int(coldest[r])
         names = [_CONDITION_NAMES[kinds[p]] for p in range(s, s + n)]
-        outcome, cold = screen_cold_metal([(names[j], t_min[s + j]) for j in range(n)], case.limits)
+        temps = t_all[c]
+        gov = min(range(len(models)), key=temps.__getitem__)
+        spread = None
+        if len(models) > 1:
+            cond = Condition(names[c - s], float(pts.p_in[c]), t_in[c], float(pts.p_out[c]))
+            cs = ConditionScreen(cond, {e: _Outlet(True, t_in[c], t) for e, t in zip(eos, temps, strict=True)},
+                                 t_min[c], eos[gov], None, "")
+            spread = _model_spread([cs], models)
+        limits = _with_spread(case.limits, spread)
+        outcome, cold = screen_cold_metal([(names[j], t_min[s + j]) for j in range(n)], limits)
         findings = [cold]
         ice, warm = [], []
         validity: dict[str, list[str]] = {}
@@ -541,15 +553,8 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
         for text, where in validity.items():
             suffix = "" if len(where) == n else f" ({', '.join(where)})"
             findings.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + suffix, {}, "model validity"))
-        temps = t_all[c]
-        gov = min(range(len(models)), key=temps.__getitem__)
-        if len(models) > 1:
-            cond = Condition(names[c - s], float(pts.p_in[c]), t_in[c], float(pts.p_out[c]))
-            cs = ConditionScreen(cond, {e: _Outlet(True, t_in[c], t) for e, t in zip(eos, temps, strict=True)},
-                                 t_min[c], eos[gov], None, "")
-            spread = _model_spread([cs], models)
-            if spread is not None:
-                findings.append(spread)
+        if spread is not None:
+            findings.append(spread)
         limit = case.limits.governing_k
         out[g] = BatchRowResult(
             case.row, case.tag, outcome.value, t_min[c], names[c - s], eos[gov],

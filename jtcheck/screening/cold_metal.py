@@ -6,9 +6,15 @@ company rule, or a lower limit justified by ASME B31.3 para. 323.2.2 or ASME BPV
 UCS-66.1 stress-ratio relief: the user then enters that limit as the MDMT).  The outcome:
 
 * fail            coldest outlet < governing limit
-* margin eroded   governing limit <= coldest outlet < governing limit + margin
-* pass            coldest outlet >= governing limit + margin
+* margin eroded   governing limit <= coldest outlet < governing limit + total margin
+* pass            coldest outlet >= governing limit + total margin
 * not screened    any credible condition did not converge, or no limit was given
+
+The total margin is the sum of its terms (:attr:`ColdLimits.margin_terms`): the margin entered for the
+case (or the site's default, which a case without its own takes) and, when PR and SRK both converged,
+the model spread |PR - SRK| of the outlet at the condition that governs.  The screened outlet is already
+the colder model; the spread is added on top as the model uncertainty the margin must also cover
+(issue 12: "the model spread ... added").
 
 Fail closed: a missing number never screens as pass.
 """
@@ -48,15 +54,22 @@ class ColdLimits:
     user_limit_k : float or None
         A cold limit entered by the user [K].
     margin_k : float
-        Required margin above the governing limit [K].
+        Required margin above the governing limit as entered (or the site's default) [K].
     mdmt_source : str
         Where the MDMT came from ("entered", "material: ...").
+    model_spread_k : float
+        |PR - SRK| outlet difference at the condition that governs [K]; 0 with a single model.  Set by
+        the screening (:func:`jtcheck.screening.screen.screen_letdown`), not entered.
+    spread_condition : str
+        The condition at which the spread was taken ("" when there is no spread term).
     """
 
     mdmt_k: float | None = None
     user_limit_k: float | None = None
     margin_k: float = 0.0
     mdmt_source: str = ""
+    model_spread_k: float = 0.0
+    spread_condition: str = ""
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "mdmt_k", _check_limit("mdmt", self.mdmt_k))
@@ -66,6 +79,28 @@ class ColdLimits:
         if not math.isfinite(m) or not lo <= m <= hi:
             raise InputError("margin", f"the margin must lie between {lo:g} and {hi:g} K, got {self.margin_k!r}")
         object.__setattr__(self, "margin_k", m)
+        d = float(self.model_spread_k)
+        if not math.isfinite(d) or d < 0.0:
+            raise InputError("model_spread", f"the model spread must be a finite difference >= 0 K, got "
+                                             f"{self.model_spread_k!r}")
+        object.__setattr__(self, "model_spread_k", d)
+
+    @property
+    def total_margin_k(self) -> float:
+        """The margin the bands and the answers use: entered margin + model spread [K]."""
+        return self.margin_k + self.model_spread_k
+
+    @property
+    def margin_terms(self) -> list[dict]:
+        """Each term of the total margin: ``{"term", "k", "basis"}``; the entered margin always, the
+        model spread when the screening compared two models (even when it is 0 K)."""
+        terms = [{"term": "entered margin", "k": self.margin_k,
+                  "basis": "the case's required margin (a case without its own takes its site's default margin)"}]
+        if self.spread_condition:
+            terms.append({"term": f"model spread (PR vs SRK at {self.spread_condition})", "k": self.model_spread_k,
+                          "basis": "|PR - SRK| outlet temperature at the condition that governs; the colder "
+                                   "model is screened and the difference is added as model uncertainty"})
+        return terms
 
     @property
     def governing_k(self) -> float | None:
@@ -75,9 +110,10 @@ class ColdLimits:
 
     @property
     def target_k(self) -> float | None:
-        """Governing limit plus margin: the outlet temperature an answer (preheat, pressure limit) aims at [K]."""
+        """Governing limit plus the total margin: the outlet temperature an answer (preheat, pressure limit)
+        aims at [K]."""
         g = self.governing_k
-        return None if g is None else g + self.margin_k
+        return None if g is None else g + self.total_margin_k
 
     @property
     def basis(self) -> str:
@@ -94,8 +130,16 @@ class ColdLimits:
 
     def to_dict(self) -> dict:
         return {"mdmt_k": self.mdmt_k, "mdmt_source": self.mdmt_source, "user_limit_k": self.user_limit_k,
-                "margin_k": self.margin_k, "governing_k": self.governing_k, "target_k": self.target_k,
+                "margin_k": self.margin_k, "model_spread_k": self.model_spread_k,
+                "spread_condition": self.spread_condition, "total_margin_k": self.total_margin_k,
+                "margin_terms": self.margin_terms, "governing_k": self.governing_k, "target_k": self.target_k,
                 "basis": self.basis}
+
+
+def margin_terms_text(limits: ColdLimits) -> str:
+    """The total margin and its terms in one phrase: "6.59 K (entered margin 5 K + model spread ... 1.59 K)"."""
+    terms = " + ".join(f"{t['term']} {t['k']:.2f} K" for t in limits.margin_terms)
+    return f"{limits.total_margin_k:.2f} K ({terms})"
 
 
 def classify(t_out_min_k: float | None, limits: ColdLimits, all_converged: bool = True) -> Outcome:
@@ -105,7 +149,7 @@ def classify(t_out_min_k: float | None, limits: ColdLimits, all_converged: bool 
         return Outcome.NOT_SCREENED
     if t_out_min_k < limit:
         return Outcome.FAIL
-    if t_out_min_k < limit + limits.margin_k:
+    if t_out_min_k < limit + limits.total_margin_k:
         return Outcome.MARGIN_ERODED
     return Outcome.PASS
 
@@ -133,10 +177,12 @@ def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: Cold
     outcome = classify(coldest, limits, all_converged=not failed and bool(done))
     limit = limits.governing_k
     numbers = {"t_out_min_k": coldest, "governing_limit_k": limit, "margin_k": limits.margin_k,
+               "model_spread_k": limits.model_spread_k, "total_margin_k": limits.total_margin_k,
                "mdmt_k": limits.mdmt_k, "user_limit_k": limits.user_limit_k,
                "margin_to_limit_k": None if coldest is None or limit is None else coldest - limit}
-    basis = (f"governing limit: {limits.basis}; outcome bands: fail below the limit, margin eroded within "
-             f"{limits.margin_k:g} K above it, pass above limit + margin")
+    basis = (f"governing limit: {limits.basis}; total margin {margin_terms_text(limits)}; outcome bands: fail "
+             f"below the limit, margin eroded within {limits.total_margin_k:.2f} K above it, pass at or above "
+             "limit + total margin")
     if outcome is Outcome.NOT_SCREENED:
         if failed:
             msg = f"Not screened: the calculation did not converge for {', '.join(failed)}."
@@ -153,7 +199,7 @@ def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: Cold
                                 coldest_name)
     if outcome is Outcome.MARGIN_ERODED:
         return outcome, Finding(Topic.COLD_METAL, Severity.CAUTION,
-                                f"Inside the {limits.margin_k:g} K margin ({coldest - limit:.1f} K above the "
-                                f"limit): {text}.", numbers, basis, coldest_name)
+                                f"Inside the {margin_terms_text(limits)} margin ({coldest - limit:.1f} K above "
+                                f"the limit): {text}.", numbers, basis, coldest_name)
     return outcome, Finding(Topic.COLD_METAL, Severity.INFORMATION,
                             f"{coldest - limit:.1f} K above the cold limit: {text}.", numbers, basis, coldest_name)

@@ -73,6 +73,8 @@ __all__ = [
     "KATZ_PRESSURE_RANGE_PA",
     "KATZ_TEMPERATURE_RANGE_K",
     "METHOD",
+    "METHOD_UNCERTAINTY_BASIS",
+    "METHOD_UNCERTAINTY_K",
     "MOTIEE_CHECKED_DEVIATION_K",
     "MOTIEE_COEFFICIENTS",
     "PSI_PA",
@@ -109,6 +111,14 @@ MOTIEE_COEFFICIENTS = (-238.24469, 78.99667, -5.352544, 349.473877, -150.854675,
 
 #: Largest deviation of the fit from the check points in the module docstring [K], rounded up.
 MOTIEE_CHECKED_DEVIATION_K = 3.5
+
+#: The hydrate method's uncertainty the screening adds to the hydrate temperature [K]: an outlet counts as
+#: outside the hydrate region only at or above T_hydrate + this + the case's margin.  The fit is "about
+#: +-3 K" (README); the checked deviation, rounded up, is used so the largest check point is covered.
+METHOD_UNCERTAINTY_K = MOTIEE_CHECKED_DEVIATION_K
+METHOD_UNCERTAINTY_BASIS = (f"Katz chart via the Motiee fit: the largest deviation from the check points in "
+                            f"jtcheck/screening/hydrates.py is 3.1 K, rounded up to {MOTIEE_CHECKED_DEVIATION_K:g} K "
+                            "(measured by jtcheck; Motiee states no figure)")
 
 #: Gas gravity span of the Katz chart's curves, from pure methane (0.554) to 1.0 [-].  From memory of
 #: the chart (Katz 1945; GPSA Engineering Data Book, section 20); the same 0.55-1.0 band accompanies

@@ -1,7 +1,8 @@
 """Screen the relieving case of a relief valve: the outlet piping and the flare header, fail closed.
 
 A relief valve's discharge is screened like a letdown: every limit it meets gets the same bands
-(pass / margin eroded / fail / not screened, margin = :attr:`ColdLimits.margin_k`), and the worst band
+(pass / margin eroded / fail / not screened, margin = :attr:`ColdLimits.total_margin_k`, the entered
+margin plus the model spread), and the worst band
 over the limits, the relieving temperatures and the models governs.
 
 * **Relieving temperatures.**  From the minimum credible relieving temperature (when given) to the
@@ -219,7 +220,7 @@ def _row(limit: str, where: str, p_pa: float, t_k: float | None, limit_k: float 
 def _rows(pt: _Point, relief: ReliefInputs, limits: ColdLimits,
           sections: tuple[HeaderSection, ...]) -> list[dict[str, Any]]:
     """One row per limit for one point."""
-    margin, pb = limits.margin_k, relief.p_back_pa
+    margin, pb = limits.total_margin_k, relief.p_back_pa
     d = pt.downstream
     ok = d is not None and d.converged
     t = d.t_out if ok and d is not None else None
@@ -273,7 +274,7 @@ def _limit_finding(row: dict[str, Any], margin_k: float, at_tip_note: str) -> Fi
                        f"The relieving flow reaches {place} at {_c(t)}, {lim - t:.1f} K below its limit {_c(lim)} "
                        f"{case}.{note}", numbers, BASIS, row["limit"])
     return Finding(Topic.RELIEF, Severity.CAUTION,
-                   f"The relieving flow reaches {place} at {_c(t)}, inside the {margin_k:g} K margin above its limit "
+                   f"The relieving flow reaches {place} at {_c(t)}, inside the {margin_k:.2f} K margin above its limit "
                    f"{_c(lim)} {case}.{note}", numbers, BASIS, row["limit"])
 
 
@@ -377,7 +378,7 @@ def screen_relief(models: Sequence[Fluid], relief: ReliefInputs,
         at_tip += (f" This valve's mass flow is not given: {NOMINAL_MASS_FLOW_KG_PER_S:g} kg/s is taken for its "
                    "share of the mix with the other relieving valves.")
     for r in governing:
-        f = _limit_finding(r, limits.margin_k, at_tip)
+        f = _limit_finding(r, limits.total_margin_k, at_tip)
         if f is not None:
             findings.append(f)
     passing = [r for r in governing if r["band"] == Outcome.PASS.value]
@@ -386,7 +387,8 @@ def screen_relief(models: Sequence[Fluid], relief: ReliefInputs,
         over = ", ".join(_c(t) for t in temps)
         note = at_tip if any(r["limit"] == HEADER_AT_TIP for r in passing) else ""
         findings.append(Finding(Topic.RELIEF, Severity.INFORMATION,
-                                f"The relieving case keeps the {limits.margin_k:g} K margin at: {listing} (coldest "
+                                f"The relieving case keeps the {limits.total_margin_k:.2f} K margin at: {listing} "
+                                f"(coldest "
                                 f"over the relieving temperatures {over} and the models).{note}",
                                 {"limits": [r["limit"] for r in passing]}, BASIS))
     return data, findings, outcome
@@ -409,7 +411,7 @@ def _shortfall(models: Sequence[Fluid], relief: ReliefInputs, limits: ColdLimits
                 if r["t_k"] is None or not r["converged"]:
                     raise JtcheckError(f"{r['limit']} at a relieving temperature of {t1:.2f} K ({fl.eos.value}): "
                                        f"{r['message'] or 'not converged'}")
-                worst = min(worst, r["t_k"] - r["limit_k"] - limits.margin_k)
+                worst = min(worst, r["t_k"] - r["limit_k"] - limits.total_margin_k)
         return worst
 
     return g
@@ -428,7 +430,8 @@ def _min_relieving_temperature(models: Sequence[Fluid], relief: ReliefInputs,
             return out
         if g_lo >= 0.0:
             out.update(found=True, already_met=True, t_relieving_min_k=lo,
-                       sentence=f"The relieving case already keeps every limit with the {limits.margin_k:g} K margin "
+                       sentence=f"The relieving case already keeps every limit with the "
+                                f"{limits.total_margin_k:.2f} K margin "
                                 f"at the minimum credible relieving temperature {_c(lo)}; the outcome comes from "
                                 "the letdown conditions.")
             return out
@@ -450,7 +453,7 @@ def _min_relieving_temperature(models: Sequence[Fluid], relief: ReliefInputs,
     out.update(found=True, t_relieving_min_k=t,
                sentence=f"Keep the relieving temperature at or above {_c(t)} (e.g. by heat tracing and insulating the "
                         "protected equipment and the valve inlet, or by removing the cause that lets the relieving "
-                        f"fluid get colder); every limit then keeps its {limits.margin_k:g} K margin.")
+                        f"fluid get colder); every limit then keeps its {limits.total_margin_k:.2f} K margin.")
     return out
 
 
@@ -468,12 +471,12 @@ def _materials(data: dict[str, Any], limits: ColdLimits, t_letdown_min_k: float 
     for name, t, current, material in parts:
         if t is None:
             continue
-        need = t - limits.margin_k
+        need = t - limits.total_margin_k
         where = "the outlet piping" if name == OUTLET_PIPING else f"the flare header section {name!r}"
         out.append({"where": name, "t_coldest_k": t, "mdmt_needed_k": need, "current_limit_k": current,
                     "material": material,
                     "sentence": f"For {where}: a material whose MDMT is at or below {_c(need)} (coldest screened "
-                                f"{_c(t)}, less the {limits.margin_k:g} K margin)."})
+                                f"{_c(t)}, less the {limits.total_margin_k:.2f} K margin)."})
     return out
 
 
@@ -508,5 +511,6 @@ def relief_remedies(models: Sequence[Fluid], relief: ReliefInputs | None, limits
             temp = _min_relieving_temperature(models, relief, limits)
         except InputError as exc:
             temp = {"found": False, "t_relieving_min_k": None, "sentence": "", "reason": str(exc)}
-    return {"margin_k": limits.margin_k, "min_relieving_temperature": temp,
+    return {"margin_k": limits.total_margin_k, "margin_terms": limits.margin_terms,
+            "min_relieving_temperature": temp,
             "materials": _materials(data or {}, limits, t_letdown_min_k)}

@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from jtcheck.errors import InputError, JtcheckError
@@ -37,7 +37,7 @@ from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, LetdownResult, letdown
 from jtcheck.screening.co2_solids import screen_co2_solids
 from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, plain, sort_findings
-from jtcheck.screening.hydrates import Inhibitor, assess_hydrates
+from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_BASIS, METHOD_UNCERTAINTY_K, Inhibitor, assess_hydrates
 from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
 from jtcheck.screening.relief_screen import (
     HeaderSpec,
@@ -336,8 +336,6 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
 
 
 def _with_t(r: LetdownResult, t: float) -> LetdownResult:
-    from dataclasses import replace
-
     return r if t == r.t_out else replace(r, t_out=t)
 
 
@@ -365,11 +363,42 @@ def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions
                f"or preheat.{validity}{notes}")
         sev = Severity.HAZARD
     else:
-        msg = (f"Outside the hydrate region: the outlet ({h.t_out_k - 273.15:.1f} degC) is {-h.subcooling_k:.1f} K "
-               f"warmer than the hydrate temperature ({h.t_hydrate_k - 273.15:.1f} degC).{validity}{notes}")
-        sev = Severity.INFORMATION if h.within_validity else Severity.CAUTION
+        msg, sev = hydrate_outside(h.t_out_k, h.t_hydrate_k, options.limits.margin_k, h.within_validity, validity)
+        msg += notes
+    numbers.update(hydrate_margin_numbers(options.limits.margin_k))
     basis = "; ".join([h.method, h.validity_note, *h.notes])
     return [Finding(Topic.HYDRATES, sev, msg, numbers, basis, name)]
+
+
+def hydrate_margin_terms(margin_k: float) -> list[dict[str, Any]]:
+    """The terms an outlet must clear above the hydrate temperature: the method's uncertainty and the
+    case's entered margin [K] (``{"term", "k", "basis"}``, as :attr:`ColdLimits.margin_terms`)."""
+    return [{"term": "hydrate method uncertainty", "k": METHOD_UNCERTAINTY_K, "basis": METHOD_UNCERTAINTY_BASIS},
+            {"term": "entered margin", "k": float(margin_k),
+             "basis": "the case's required margin (a case without its own takes its site's default margin)"}]
+
+
+def hydrate_margin_numbers(margin_k: float) -> dict[str, Any]:
+    """The hydrate finding's margin numbers: its terms and their total [K]."""
+    terms = hydrate_margin_terms(margin_k)
+    return {"hydrate_margin_k": sum(t["k"] for t in terms), "hydrate_margin_terms": terms}
+
+
+def hydrate_outside(t_out_k: float, t_hydrate_k: float, margin_k: float, within_validity: bool,
+                    validity: str) -> tuple[str, Severity]:
+    """Message and severity of an outlet at or above the hydrate temperature: outside only at or above
+    T_hydrate + method uncertainty + margin; between the two, a caution inside the hydrate margin."""
+    terms = hydrate_margin_terms(margin_k)
+    total = sum(t["k"] for t in terms)
+    listing = " + ".join(f"{t['term']} {t['k']:.2f} K" for t in terms)
+    warmer = t_out_k - t_hydrate_k
+    where = (f"the outlet ({t_out_k - 273.15:.1f} degC) is {warmer:.1f} K warmer than the hydrate temperature "
+             f"({t_hydrate_k - 273.15:.1f} degC)")
+    if warmer < total:
+        return (f"Inside the hydrate margin: {where}, less than the {total:.2f} K margin ({listing}); outside it "
+                f"needs at least {t_hydrate_k + total - 273.15:.1f} degC.{validity}", Severity.CAUTION)
+    return (f"Outside the hydrate region: {where}, at least the {total:.2f} K margin ({listing}).{validity}",
+            Severity.INFORMATION if within_validity else Severity.CAUTION)
 
 
 def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Finding | None:
@@ -387,6 +416,13 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
                    f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on the "
                    f"colder ({cs.governing_model}).",
                    {"t_out_k_by_model": temps, "spread_k": spread}, "PR and SRK side by side", cs.condition.name)
+
+
+def _with_spread(limits: ColdLimits, spread: Finding | None) -> ColdLimits:
+    """``limits`` with the model spread at the governing condition as a margin term (none with one model)."""
+    if spread is None:
+        return limits
+    return replace(limits, model_spread_k=float(spread.numbers["spread_k"]), spread_condition=spread.condition)
 
 
 def _answers(models: list[Fluid], screens: list[ConditionScreen], options: ScreeningOptions,
@@ -448,7 +484,10 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
         if worst is not None:
             conds.append(worst)
     screens = [_screen_condition(models, c) for c in conds]
-    outcome, cold = screen_cold_metal([(cs.condition.name, cs.t_screen_k) for cs in screens], options.limits)
+    spread = _model_spread(screens, models)
+    limits = _with_spread(options.limits, spread)
+    options = replace(options, limits=limits)   # the bands, answers and relief limits use the total margin
+    outcome, cold = screen_cold_metal([(cs.condition.name, cs.t_screen_k) for cs in screens], limits)
     if sweep_data is not None and not sweep_data["complete"] and outcome is not Outcome.FAIL:
         outcome = Outcome.NOT_SCREENED
         cold = Finding(cold.topic, Severity.HAZARD, cold.message + " The operating sweep is incomplete (points "
@@ -459,7 +498,6 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
             findings.append(Finding(Topic.CONVERGENCE, Severity.HAZARD, f"{cs.condition.name}: {cs.message}",
                                     {}, "flash convergence", cs.condition.name))
     findings += _hazard_findings(fluid, screens, options)
-    spread = _model_spread(screens, models)
     if spread is not None:
         findings.append(spread)
     relief_data: dict[str, Any] | None = None

@@ -7,6 +7,7 @@ pdftoppm (poppler-utils; tests/tools/ensure_chromium.sh installs it).
 from __future__ import annotations
 
 import copy
+import html
 import io
 import re
 import shutil
@@ -322,3 +323,11 @@ def test_the_records_purpose_names_the_remedies_of_the_case_kind(snapshots):
     letdown = render_html(snapshots["PCV-1101"], "A4")
     assert "no heater on a relief line" in relief and "gives the preheat" not in relief
     assert "gives the preheat and the outlet-pressure limit" in letdown
+
+
+def test_the_record_shows_each_margin_term_and_the_total(snapshots):
+    """Issue 12 item 5: beside the limits, the total margin = entered margin + model spread, each term with its
+    basis (the demo letdown is screened with PR and SRK side by side)."""
+    text = html.unescape(render_html(snapshots["PCV-1101"], "A4"))
+    assert "entered margin" in text and "model spread (PR vs SRK at " in text
+    assert "total margin" in text and "|PR - SRK| outlet temperature at the condition that governs" in text

@@ -173,6 +173,9 @@ def test_margin_eroded_between_the_limit_and_limit_plus_margin(app, engineer, wo
     assert slug == "margin-eroded"
     assert_badge(panel, "margin eroded")
     assert "Required preheat" in page and "Outlet-pressure limit" in page
+    # the page shows each margin term and the total (issue 12 item 5): the entered 5 K and the PR/SRK spread
+    assert "Margin terms" in page and "entered margin: 5" in page
+    assert "model spread (PR vs SRK at " in page and "total: " in page
 
 
 def test_case_without_a_limit_is_not_screened_never_pass(app, engineer, world):

@@ -36,8 +36,9 @@ INHIBITOR_ENUM = {"type": "string", "enum": [i.value for i in Inhibitor]}
 SCREENING_DISPLAY = {
     "t_out_min": "Coldest screened outlet over every condition and model (t_out_min_k).",
     "governing_limit": "The cold limit that governs: the warmer of the MDMT and the user's limit (limits.governing_k).",
-    "target": "Governing limit plus margin: the outlet temperature the answers aim at (limits.target_k).",
-    "margin": "Required margin above the governing limit (limits.margin_k).",
+    "target": "Governing limit plus the total margin: the outlet temperature the answers aim at (limits.target_k).",
+    "margin": "Required margin above the governing limit as entered (limits.margin_k); the total adds the model "
+              "spread (limits.total_margin_k, limits.margin_terms).",
     "mdmt": "MDMT (limits.mdmt_k).",
     "preheat_t_in_required": "Inlet temperature that brings the governing condition to the target "
                              "(answers.preheat.governing.t_in_required_k).",
@@ -314,6 +315,10 @@ def _screening_schemas(api: ApiRegistry) -> None:
     s("ColdLimits", {"type": "object", "description": "Limits the outcome was judged against [K].", "properties": {
         "mdmt_k": NUM_OR_NULL, "mdmt_source": {"type": "string"}, "user_limit_k": NUM_OR_NULL,
         "margin_k": {"type": "number"}, "governing_k": NUM_OR_NULL, "target_k": NUM_OR_NULL,
+        "model_spread_k": {"type": "number"}, "spread_condition": {"type": "string"},
+        "total_margin_k": {"type": "number"}, "margin_terms": {"type": "array", "items": {
+            "type": "object", "properties": {"term": {"type": "string"}, "k": {"type": "number"},
+                                             "basis": {"type": "string"}}}},
         "basis": {"type": "string"}}})
     s("Finding", {"type": "object", "required": ["topic", "severity", "message"], "properties": {
         "topic": {"type": "string", "enum": [t.value for t in Topic]},

@@ -195,7 +195,8 @@ def result_json(result: CaseResult, current: bool | None = None) -> dict[str, An
         "limits": {"mdmt_k": limits.mdmt_k, "mdmt_source": limits.mdmt_source, "cold_limit_k": limits.governing_k,
                    "cold_limit_basis": limits.basis, "margin_k": limits.margin_k,
                    "user_limit_k": limits.user_limit_k, "governing_k": limits.governing_k,
-                   "target_k": limits.target_k},
+                   "target_k": limits.target_k, "total_margin_k": limits.total_margin_k,
+                   "margin_terms": [dict(t) for t in limits.margin_terms]},
         "p_atm_pa": units.p_atm_pa, "conditions": conditions, "basis": results.basis_of(result),
         "screening": screening_json(result), "caution": CAUTION,
     }
