@@ -63,7 +63,11 @@ def test_outcome_follows_the_limits(session, engineer, case_data):
     assert failing.outcome == "fail" and passing.outcome == "pass"
     preheat = failing.screening["answers"]["preheat"]["governing"]
     assert preheat["needed"] and preheat["t_in_required_k"] > preheat["t_in_k"]
-    assert failing.screening["answers"]["outlet_pressure_limit"]["target_k"] == pytest.approx(T0 + 25.0)
+    # the target: the limit plus the total margin (the 5 K entered plus the PR-SRK spread)
+    limits = failing.screening["limits"]
+    assert limits["total_margin_k"] == pytest.approx(5.0 + limits["model_spread_k"])
+    assert failing.screening["answers"]["outlet_pressure_limit"]["target_k"] == pytest.approx(
+        T0 + 20.0 + limits["total_margin_k"])
     assert passing.screening["answers"].get("preheat") is None
 
 

@@ -63,9 +63,12 @@ def test_margins_are_to_the_governing_limit_and_the_target_is_limit_plus_margin(
     case_id = created_id(resp)
     page = engineer.get(engineer.post(f"/cases/{case_id}/compute").headers["Location"]).data.decode()
     assert "-100.00 degC" in page       # the governing limit: the MDMT (no cold limit entered)
-    assert "-90.00 degC" in page        # the target, limit + margin
     with app.app_context():
-        t_out = db_session().scalars(select(CaseResult).where(CaseResult.case_id == case_id)).one().t_out_min_k
+        stored = db_session().scalars(select(CaseResult).where(CaseResult.case_id == case_id)).one()
+        t_out, limits = stored.t_out_min_k, stored.screening["limits"]
+    # the target: limit + total margin (the 10 K entered plus the PR-SRK spread, issue 12)
+    assert limits["total_margin_k"] == pytest.approx(10.0 + limits["model_spread_k"])
+    assert f"{limits['target_k'] - 273.15:.2f} degC" in page
     expected = t_out - 173.15
     assert f"{expected:+.2f} K" in page
     assert "pass: at or above the cold limit plus the required margin" in page

@@ -139,12 +139,16 @@ def test_failing_case_shows_fail_badge_findings_and_answers_in_the_case_units(ap
     assert disp["outlet_pressure_limit"] == {"value": pytest.approx(pressure_from_pa(p_min, "psig", P_ATM)),
                                              "unit": "psig"}
     assert disp["governing_limit"] == {"value": pytest.approx(-20.0), "unit": "degF"}
-    assert disp["target"] == {"value": pytest.approx(-11.0), "unit": "degF"}
+    # the target: limit + total margin (5 K entered + the PR-SRK spread), in degF
+    assert disp["target"] == {"value": pytest.approx((scr["limits"]["target_k"] - 273.15) * 1.8 + 32.0),
+                              "unit": "degF"}
+    assert scr["limits"]["target_k"] == pytest.approx(
+        scr["limits"]["governing_k"] + 5.0 + scr["limits"]["model_spread_k"])
     assert disp["t_out_min"]["unit"] == "degF"
     assert disp["sweep_worst"]["t_out"]["value"] == pytest.approx(temperature_from_k(coldest, "degF"))
     assert body["caution"] == CAUTION
     assert body["limits"]["governing_k"] == pytest.approx(_degf_to_k(-20))
-    assert body["limits"]["target_k"] == pytest.approx(_degf_to_k(-20) + 5.0)
+    assert body["limits"]["target_k"] == pytest.approx(_degf_to_k(-20) + 5.0 + scr["limits"]["model_spread_k"])
     assert all(c["band"] in ("pass", "margin eroded", "fail", "not screened") for c in body["conditions"])
 
 
