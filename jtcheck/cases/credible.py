@@ -36,11 +36,11 @@ Every value is SI (Pa absolute, K, m^3); the edges convert units.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
-from jtcheck.cases.fields import INLET_TEMPERATURE_RANGE_K, PRESSURE_RANGE_PA, check_number
+from jtcheck.cases.fields import INLET_TEMPERATURE_RANGE_K, PRESSURE_RANGE_PA, check_number, named_entries
 from jtcheck.errors import InputError
 from jtcheck.letdown.settle_out import SettleOutResult, settle_out
 from jtcheck.screening.screen import (
@@ -203,27 +203,13 @@ def check_settle_out_volumes(volumes: Any) -> list[tuple[str, float, float, floa
     key = "settle_out_volumes"
     if volumes is None:
         return None
-    if isinstance(volumes, (str, bytes, Mapping)) or not isinstance(volumes, Sequence):
-        raise InputError(key, "expected a list of volumes, each {name, volume_m3, p_pa, t_k}, got "
-                              f"{type(volumes).__name__}")
-    if not volumes:
+    entries = named_entries(key, volumes, VOLUME_KEYS, "volumes")
+    if not entries:
         raise InputError(key, "no volume given; allowed: one or more volumes, each {name, volume_m3, p_pa, t_k} "
                               "(or leave it out for no settle-out case)")
     out: list[tuple[str, float, float, float]] = []
-    seen: set[str] = set()
-    for k, entry in enumerate(volumes):
-        where = f"{key}[{k}]"
-        if not isinstance(entry, Mapping):
-            raise InputError(where, f"expected {{name, volume_m3, p_pa, t_k}}, got {entry!r}")
-        unknown = sorted(set(entry) - set(VOLUME_KEYS))
-        if unknown:
-            raise InputError(f"{where}.{unknown[0]}", f"unknown key {unknown[0]!r}; allowed: {', '.join(VOLUME_KEYS)}")
-        name = entry.get("name")
-        if not isinstance(name, str) or not name.strip():
-            raise InputError(f"{where}.name", f"a volume's name must be a non-empty text, got {name!r}")
-        if name in seen:
-            raise InputError(f"{where}.name", f"volume name {name!r} is given twice; allowed: unique names")
-        seen.add(name)
+    for k, entry in enumerate(entries):
+        where, name = f"{key}[{k}]", entry["name"]
         v = check_number(f"{where}.volume_m3", entry.get("volume_m3"), "volume", "m3", VOLUME_RANGE_M3, True)
         p = check_number(f"{where}.p_pa", entry.get("p_pa"), "pressure", "Pa", PRESSURE_RANGE_PA, True)
         t = check_number(f"{where}.t_k", entry.get("t_k"), "temperature", "K", INLET_TEMPERATURE_RANGE_K, True)

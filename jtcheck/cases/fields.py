@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import numbers
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -68,6 +69,30 @@ def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, 
                               f"{range_text(lo, hi, lo_inclusive, unit)}"
                          + (" (absolute)" if unit == "Pa" else ""))
     return v
+
+
+def named_entries(key: str, items: Any, keys: tuple[str, ...], what: str = "entries") -> list[Mapping[str, Any]]:
+    """A kind's structured input: a list of mappings with the allowed ``keys``, each with a unique ``name``.
+
+    None is no entry.  An :class:`InputError` names the entry and key at fault (``header_sections[2].name``)
+    and what is allowed; the values themselves are the caller's to check.
+    """
+    if items is None:
+        return []
+    if isinstance(items, (str, bytes, Mapping)) or not isinstance(items, (list, tuple)):
+        raise InputError(key, f"expected a list of {what}, each with {', '.join(keys)}; got {type(items).__name__}")
+    for k, item in enumerate(items):
+        if not isinstance(item, Mapping):
+            raise InputError(f"{key}[{k}]", f"expected an entry with {', '.join(keys)}; got {type(item).__name__}")
+        unknown = sorted(set(item) - set(keys))
+        if unknown:
+            raise InputError(f"{key}[{k}].{unknown[0]}", f"unknown key {unknown[0]!r}; allowed: {', '.join(keys)}")
+        name = item.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise InputError(f"{key}[{k}].name", f"a name is required, got {name!r}; allowed: a non-empty text")
+        if any(o.get("name") == name for o in items[:k]):
+            raise InputError(f"{key}[{k}].name", f"the name {name!r} is used twice; names must differ")
+    return list(items)
 
 
 @dataclass(frozen=True)

@@ -20,6 +20,7 @@ from jtcheck.cases.fields import (
     OVERPRESSURE_RANGE,
     PRESSURE_RANGE_PA,
     Field,
+    named_entries,
 )
 from jtcheck.cases.letdown import LETDOWN_FIELDS, LetdownKind, letdown_options
 from jtcheck.errors import InputError
@@ -90,25 +91,6 @@ def check_relief(values: Mapping[str, Any]) -> None:
     _check_sources(values.get("other_sources"), p_back)
 
 
-def _entries(key: str, items: Any, keys: tuple[str, ...]) -> list[Mapping[str, Any]]:
-    if items is None:
-        return []
-    if isinstance(items, (str, bytes, Mapping)) or not isinstance(items, (list, tuple)):
-        raise InputError(key, f"expected a list of entries, each with {', '.join(keys)}; got {type(items).__name__}")
-    for k, item in enumerate(items):
-        if not isinstance(item, Mapping):
-            raise InputError(f"{key}[{k}]", f"expected an entry with {', '.join(keys)}; got {type(item).__name__}")
-        unknown = sorted(set(item) - set(keys))
-        if unknown:
-            raise InputError(f"{key}[{k}].{unknown[0]}", f"unknown key; allowed: {', '.join(keys)}")
-        name = item.get("name")
-        if not isinstance(name, str) or not name.strip():
-            raise InputError(f"{key}[{k}].name", f"a name is required, got {name!r}; allowed: a non-empty text")
-        if any(o.get("name") == name for o in items[:k]):
-            raise InputError(f"{key}[{k}].name", f"the name {name!r} is used twice; names must differ")
-    return list(items)
-
-
 def _number(key: str, value: Any, what: str, unit: str, lo: float, hi: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
         raise InputError(key, f"{what} must be a finite number [{unit}], got {value!r}")
@@ -121,7 +103,7 @@ def _check_sections(items: Any, p_relieving: float, p_back: float) -> None:
     """Header sections in flow order: each lowest pressure above 0, below the relieving pressure, not above
     the back pressure at the valve nor the section before it; limits 0-1000 K."""
     previous = p_back
-    for k, sec in enumerate(_entries("header_sections", items, HEADER_SECTION_KEYS)):
+    for k, sec in enumerate(named_entries("header_sections", items, HEADER_SECTION_KEYS, "header sections")):
         key = f"header_sections[{k}]"
         p = _number(f"{key}.p_pa", sec.get("p_pa"), "lowest pressure of the section (absolute)", "Pa", 0.0,
                     p_relieving)
@@ -142,7 +124,7 @@ def _check_sections(items: Any, p_relieving: float, p_back: float) -> None:
 def _check_sources(items: Any, p_back: float) -> None:
     """Other relieving sources: a Fluid, a mass flow, their relieving pressure (not below the back pressure at
     this valve) and temperature."""
-    for k, src in enumerate(_entries("other_sources", items, OTHER_SOURCE_KEYS)):
+    for k, src in enumerate(named_entries("other_sources", items, OTHER_SOURCE_KEYS, "relief sources")):
         key = f"other_sources[{k}]"
         if "composition" in src and "fluid" not in src:     # as entered with the case: checked by building it
             try:
