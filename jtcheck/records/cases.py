@@ -84,6 +84,11 @@ def add_case(session: Session, user: User | None, data: Mapping[str, Any]) -> Ca
     if margin is not None:    # a case without a margin of its own takes its site's
         defaults["margin_k"] = margin
     values = validate_case(session, {**defaults, **none_to_default(data, defaults)}, loaded=loaded)
+    if margin is not None and data.get("margin_k") is None:    # kept: the record names the site's reason
+        site = loaded["unit"].site
+        values["parameters"] = {**(values.get("parameters") or {}), "margin_source": (
+            f"site default of {site.name}: {site.default_margin_basis}" if site.default_margin_basis
+            else f"site default of {site.name}")}
     # the records just looked up (same ids as in values): the answer needs them, so no lazy load afterwards
     case = Case(**values, **loaded, status=RevisionStatus.DRAFT.value, created_by=user, updated_by=user)
     session.add(case)
@@ -133,6 +138,9 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
                 raise UnderReview("edit case inputs", revision.label, RevisionStatus(revision.status).value)
             merged = {**case_values(case), **none_to_default(changes)}
             values = validate_case(session, merged, current=case, given=frozenset(changes))
+            source = (case.parameters or {}).get("margin_source")
+            if source and "margin_k" not in changes:     # the site's margin stays the site's until one is entered
+                values["parameters"] = {**(values.get("parameters") or {}), "margin_source": source}
             changed = False
             for key, value in values.items():
                 old = getattr(case, key)

@@ -37,7 +37,8 @@ CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_
 
 def kind_values(case: Case) -> dict[str, Any]:
     """The values of ``case`` as its kind reads them (register keys, SI), with where the MDMT came from."""
-    return {**case_values(case), "mdmt_source": case.mdmt_source or ""}
+    return {**case_values(case), "mdmt_source": case.mdmt_source or "",
+            "margin_source": (case.parameters or {}).get("margin_source") or ""}
 
 
 def case_kind(case: Case) -> KindOfCase:

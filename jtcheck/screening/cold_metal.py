@@ -62,6 +62,9 @@ class ColdLimits:
         the screening (:func:`jtcheck.screening.screen.screen_letdown`), not entered.
     spread_condition : str
         The condition at which the spread was taken ("" when there is no spread term).
+    margin_source : str
+        Where the margin came from when it is not the case's own ("site default of <site>: <reason>"); "" for
+        a margin entered with the case.
     """
 
     mdmt_k: float | None = None
@@ -70,6 +73,7 @@ class ColdLimits:
     mdmt_source: str = ""
     model_spread_k: float = 0.0
     spread_condition: str = ""
+    margin_source: str = ""
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "mdmt_k", _check_limit("mdmt", self.mdmt_k))
@@ -94,8 +98,10 @@ class ColdLimits:
     def margin_terms(self) -> list[dict]:
         """Each term of the total margin: ``{"term", "k", "basis"}``; the entered margin always, the
         model spread when the screening compared two models (even when it is 0 K)."""
-        terms = [{"term": "entered margin", "k": self.margin_k,
-                  "basis": "the case's required margin (a case without its own takes its site's default margin)"}]
+        if self.margin_source:
+            terms = [{"term": "site default margin", "k": self.margin_k, "basis": self.margin_source}]
+        else:
+            terms = [{"term": "entered margin", "k": self.margin_k, "basis": "the case's required margin"}]
         if self.spread_condition:
             terms.append({"term": f"model spread (PR vs SRK at {self.spread_condition})", "k": self.model_spread_k,
                           "basis": "|PR - SRK| outlet temperature at the condition that governs; the colder "
@@ -130,7 +136,7 @@ class ColdLimits:
 
     def to_dict(self) -> dict:
         return {"mdmt_k": self.mdmt_k, "mdmt_source": self.mdmt_source, "user_limit_k": self.user_limit_k,
-                "margin_k": self.margin_k, "model_spread_k": self.model_spread_k,
+                "margin_k": self.margin_k, "margin_source": self.margin_source, "model_spread_k": self.model_spread_k,
                 "spread_condition": self.spread_condition, "total_margin_k": self.total_margin_k,
                 "margin_terms": self.margin_terms, "governing_k": self.governing_k, "target_k": self.target_k,
                 "basis": self.basis}

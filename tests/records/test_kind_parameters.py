@@ -25,6 +25,17 @@ def test_a_case_without_a_margin_takes_its_sites_default(session, engineer, worl
         assert entered.margin_k == 2.0       # an entered margin wins over the site's
         empty = service.create_case(session, engineer, case_data(tag=unique("PCV"), margin_k=None))
         assert empty.margin_k == 7.5         # an empty form field is no margin: the site's applies
+        # the margin term names the site and its reason; an entered margin is "entered margin"
+        result = service.compute_case(session, engineer, empty.id)
+        first = result.screening["limits"]["margin_terms"][0]
+        assert first["term"] == "site default margin" and "test site practice (invented)" in first["basis"]
+        assert first["k"] == 7.5
+        edited = service.update_case(session, engineer, empty.id, {"service": "renamed"})
+        assert edited.parameters["margin_source"].startswith("site default of Test site")
+        own = service.update_case(session, engineer, empty.id, {"margin_k": 3.0})
+        assert not (own.parameters or {}).get("margin_source")
+        result = service.compute_case(session, engineer, entered.id)
+        assert result.screening["limits"]["margin_terms"][0]["term"] == "entered margin"
     finally:
         site.default_margin_k, site.default_margin_basis = None, ""
         session.commit()

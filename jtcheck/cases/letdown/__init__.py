@@ -153,7 +153,8 @@ def letdown_conditions(values: Mapping[str, Any]) -> list[Condition]:
 def cold_limits(values: Mapping[str, Any]) -> ColdLimits:
     """The cold limits of ``values``: MDMT (and where it came from), the user's limit and the margin [K]."""
     return ColdLimits(mdmt_k=values.get("mdmt_k"), user_limit_k=values.get("cold_limit_k"),
-                      margin_k=values.get("margin_k") or 0.0, mdmt_source=values.get("mdmt_source") or "")
+                      margin_k=values.get("margin_k") or 0.0, mdmt_source=values.get("mdmt_source") or "",
+                      margin_source=values.get("margin_source") or "")
 
 
 def operating_ranges(values: Mapping[str, Any]) -> OperatingRanges:
