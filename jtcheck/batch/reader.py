@@ -890,7 +890,8 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
     device = kind or "control_valve"
     case = BatchCase(row=row, tag=texts["tag"], fluid=fluid, p_in_pa=p_in, t_in_k=t_in, p_out_pa=p_out,
                      limits=limits, t_in_min_k=t_min, p_in_max_pa=p_max, water_saturated=water,
-                     service=texts["service"], kind=device, extras=extras, **kind_hooks(device, extras))
+                     service=texts["service"], kind=device, p_atm_pa=p_atm_pa, extras=extras,
+                     **kind_hooks(device, extras))
     source = CaseSource(row=row, fluid_name=fluid_name, fluid_from_library=from_library, eos=fluid.eos.value,
                         p_atm_pa=p_atm_pa, cells={k: v for k, v in texts.items() if v != ""})
     return case, source, [], warnings

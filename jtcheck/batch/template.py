@@ -11,6 +11,7 @@ import csv
 import io
 from typing import Any
 
+from jtcheck import itemlists
 from jtcheck.batch.layout import COLUMNS, LAYOUT_HEADINGS, MAX_ROWS, layout_rows
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 
@@ -73,7 +74,7 @@ def template_rows() -> list[dict[str, Any]]:
             "header_limit": degc(f.get("header_limit_k")),
             "min_relieving_temperature": degc(f.get("relieving_temperature_min_k")),
             "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
-            "settle_out_volumes": "", "cases_off": "",
+            "settle_out_volumes": "", "cases_off": itemlists.credible_off_text(f.get("credible_off")),
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})
     return rows

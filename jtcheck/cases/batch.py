@@ -28,7 +28,8 @@ def row_values(case: BatchCase) -> dict[str, Any]:
     return {"inlet_pressure_pa": case.p_in_pa, "inlet_temperature_k": case.t_in_k, "outlet_pressure_pa": case.p_out_pa,
             "inlet_temperature_min_k": case.t_in_min_k, "inlet_pressure_max_pa": case.p_in_max_pa,
             "mdmt_k": lim.mdmt_k, "cold_limit_k": lim.user_limit_k, "margin_k": lim.margin_k,
-            "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated, **case.extras}
+            "mdmt_source": lim.mdmt_source, "water_saturated": case.water_saturated, "p_atm_pa": case.p_atm_pa,
+            **case.extras}
 
 
 def device_kind(device: str) -> CaseKind:

@@ -48,7 +48,10 @@ from jtcheck.screening.screen import (
     CONDITION_MIN_T,
     CONDITION_MIN_T_MAX_P,
     CONDITION_NORMAL,
+    CONDITION_START_UP,
     Condition,
+    credible_conditions,
+    start_up_conditions,
 )
 from jtcheck.thermo.fluid import Fluid
 
@@ -59,7 +62,7 @@ HEATER_LOSS = "heater_loss"
 AMBIENT = "ambient"
 CASE_NAMES: dict[str, str] = {
     SETTLE_OUT: "settle-out after shutdown",
-    START_UP: "start-up into depressured outlet",
+    START_UP: CONDITION_START_UP,
     HEATER_LOSS: "loss of upstream heater",
     AMBIENT: "minimum ambient, uninsulated inlet",
 }
@@ -294,33 +297,30 @@ def _settle_out(fluid: Fluid, values: Mapping[str, Any],
     return [GeneratedCondition(SETTLE_OUT, Condition(name, res.p_pa, res.t_k, p_out), reasoning)], None, res
 
 
+_START_UP_WORDS = {
+    CONDITION_NORMAL: "the normal inlet (inlet_pressure_pa, inlet_temperature_k)",
+    CONDITION_MIN_T: "the normal inlet pressure at the minimum inlet temperature (inlet_temperature_min_k)",
+    CONDITION_MAX_P: "the maximum inlet pressure (inlet_pressure_max_pa) at the normal inlet temperature",
+    CONDITION_MIN_T_MAX_P: "the maximum inlet pressure at the minimum inlet temperature (the coldest combination)",
+}
+
+
 def _start_up(values: Mapping[str, Any]) -> tuple[list[GeneratedCondition], SkippedCase | None]:
     p_atm = values.get("p_atm_pa")
     if p_atm is None:
         return [], SkippedCase(START_UP, NOT_GENERATED, "no atmospheric pressure given (p_atm_pa)")
-    if values["outlet_pressure_pa"] <= p_atm:
-        return [], SkippedCase(START_UP, NOT_GENERATED,
-                               f"the normal outlet pressure {_bar(values['outlet_pressure_pa'])} is not above the "
-                               f"atmospheric pressure {_bar(p_atm)}: the normal conditions are the start-up")
-    p_in, t_in = values["inlet_pressure_pa"], values["inlet_temperature_k"]
+    p_in, t_in, p_out = values["inlet_pressure_pa"], values["inlet_temperature_k"], values["outlet_pressure_pa"]
     p_max, t_min = values.get("inlet_pressure_max_pa"), values.get("inlet_temperature_min_k")
-    inlets = [(CONDITION_NORMAL, p_in, t_in, "the normal inlet (inlet_pressure_pa, inlet_temperature_k)")]
-    if t_min is not None:
-        inlets.append((CONDITION_MIN_T, p_in, t_min, "the normal inlet pressure at the minimum inlet temperature "
-                                                     "(inlet_temperature_min_k)"))
-    if p_max is not None:
-        inlets.append((CONDITION_MAX_P, p_max, t_in, "the maximum inlet pressure (inlet_pressure_max_pa) at the "
-                                                     "normal inlet temperature"))
-    if p_max is not None and t_min is not None:
-        inlets.append((CONDITION_MIN_T_MAX_P, p_max, t_min, "the maximum inlet pressure at the minimum inlet "
-                                                            "temperature (the coldest combination)"))
-    out = []
-    for which, p, t, words in inlets:
-        name = CASE_NAMES[START_UP] + ("" if which == CONDITION_NORMAL else f" ({which})")
-        out.append(GeneratedCondition(START_UP, Condition(name, p, t, p_atm), (
-            f"start-up into a depressured downstream: the outlet is at the atmospheric pressure {_bar(p_atm)} "
-            f"(p_atm_pa) when the valve opens; from {words}, {_bar(p)}, {_kelvin(t)}")))
-    return out, None
+    conds = start_up_conditions(p_in, t_in, p_out, p_atm, p_max, t_min)
+    if not conds:
+        return [], SkippedCase(START_UP, NOT_GENERATED,
+                               f"the normal outlet pressure {_bar(p_out)} is not above the atmospheric pressure "
+                               f"{_bar(p_atm)}: the normal conditions are the start-up")
+    inlets = credible_conditions(p_in, t_in, p_out, p_max, t_min)
+    return [GeneratedCondition(START_UP, c, (
+        f"start-up into a depressured downstream: the outlet is at the atmospheric pressure {_bar(p_atm)} "
+        f"(p_atm_pa) when the valve opens; from {_START_UP_WORDS[i.name]}, {_bar(c.p_in_pa)}, {_kelvin(c.t_in_k)}"))
+            for c, i in zip(conds, inlets, strict=True)], None
 
 
 def _cold_inlet(case: str, values: Mapping[str, Any], key: str,

@@ -121,7 +121,10 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_temperature_k": T0 + 25.0,             # 25 degC
         "inlet_temperature_min_k": T0 + 10.0,         # 10 degC, aftercooler at maximum duty
         "outlet_pressure_pa": 40 * BAR + P_ATM,       # 40 barg
-        "mass_flow_kg_per_s": 30.0, "margin_k": 10.0}),
+        "mass_flow_kg_per_s": 30.0, "margin_k": 10.0,
+        # a generated credible case switched off, with the site's (invented) reason, as the record shows it
+        "credible_off": {"start_up": "the metering skid is pressurised to 35 barg through the heated warm-up "
+                                     "bypass before PCV-5101 is opened (site start-up procedure, invented)"}}),
     ("CO2 export", "Kestrel CO2 export", _LTCS, {
         "tag": "BDV-5102", "kind": CaseKind.BLOWDOWN_VALVE,
         "service": "CO2 export pig launcher blowdown to atmospheric vent (dry ice case)",

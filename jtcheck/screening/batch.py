@@ -24,6 +24,7 @@ import numpy as np
 
 from jtcheck.errors import JtcheckError
 from jtcheck.letdown.plain import plain
+from jtcheck.letdown.relief import P_ATM_STANDARD_PA
 from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, letdown
 from jtcheck.screening.co2_solids import P_SUB_MIN_PA, co2_sublimation_temperature_k
 from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
@@ -57,6 +58,8 @@ from jtcheck.screening.screen import (
     hydrate_outside,
     model_fluids,
     screen_letdown,
+    start_up_conditions,
+    start_up_name,
 )
 from jtcheck.thermo.fluid import Fluid
 
@@ -80,6 +83,9 @@ class BatchCase:
     water_saturated : bool
     service, kind : str
         Carried through to the results.
+    p_atm_pa : float
+        Atmospheric pressure [Pa]: the outlet of the generated start-up conditions
+        (:func:`jtcheck.screening.screen.start_up_conditions`), added on both paths.
     vectorised : bool
         Whether the row may take the vectorised path (its case kind says; :mod:`jtcheck.cases.batch`).
     screen : callable(BatchCase, bool) -> Screening, optional
@@ -101,6 +107,7 @@ class BatchCase:
     water_saturated: bool = False
     service: str = ""
     kind: str = ""
+    p_atm_pa: float = P_ATM_STANDARD_PA
     vectorised: bool = True
     screen: Callable[[BatchCase, bool], Screening] | None = field(default=None, compare=False, repr=False)
     extras: Mapping[str, Any] = field(default_factory=dict, compare=False, repr=False)
@@ -182,7 +189,10 @@ PROGRESS_EVERY = 100
 #: Ranges accepted by the hydrate screen (as :func:`jtcheck.screening.hydrates.assess_hydrates`).
 _HYDRATE_P_MAX_PA = 1.0e9
 _HYDRATE_T_MAX_K = 1000.0
-_CONDITION_NAMES = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_T_MAX_P)
+_INLET_NAMES = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_T_MAX_P)
+#: The conditions of a row on the batch path: the credible inlet states to the outlet pressure, then the same
+#: to the atmospheric pressure (start-up into a depressured outlet), as :func:`letdown_row_screening` has them.
+_CONDITION_NAMES = (*_INLET_NAMES, *(start_up_name(c) for c in _INLET_NAMES))
 _VAPOUR_PHASES = ("vapour", "supercritical")
 
 
@@ -236,7 +246,9 @@ def _from_screening(case: BatchCase, s: Screening) -> BatchRowResult:
 
 def letdown_row_screening(case: BatchCase, compare_models: bool) -> Screening:
     """The scalar screening of a row as a letdown at its credible conditions (no sweep, no answers)."""
-    conds = credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k)
+    conds = [*credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k),
+             *start_up_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_atm_pa, case.p_in_max_pa,
+                                  case.t_in_min_k)]
     return screen_letdown(case.fluid, conds, ScreeningOptions(case.limits, compare_models, _water_present(case),
                                                               answers=False))
 
@@ -271,26 +283,31 @@ def _opt(values: list[float | None]) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _flatten(cases: Sequence[BatchCase]) -> _Points:
-    """The conditions of :func:`credible_conditions` for every row, as arrays (same names, same order)."""
+    """The conditions of :func:`letdown_row_screening` for every row, as arrays (same names, same order): the
+    credible conditions, then the start-up conditions where the outlet pressure is above the atmosphere."""
     p_in = np.array([c.p_in_pa for c in cases], dtype=float)
     t_in = np.array([c.t_in_k for c in cases], dtype=float)
     p_out = np.array([c.p_out_pa for c in cases], dtype=float)
+    p_atm = np.array([c.p_atm_pa for c in cases], dtype=float)
     has_t, t_min = _opt([c.t_in_min_k for c in cases])
     has_p, p_max = _opt([c.p_in_max_pa for c in cases])
-    blocks = [(np.ones(len(cases), bool), p_in, t_in), (has_t, p_in, t_min), (has_p, p_max, t_in),
+    inlets = [(np.ones(len(cases), bool), p_in, t_in), (has_t, p_in, t_min), (has_p, p_max, t_in),
               (has_t & has_p, p_max, t_min)]
-    rows, kinds, pis, tis = [], [], [], []
-    for kind, (mask, pi, ti) in enumerate(blocks):
+    start_up = p_out > p_atm
+    blocks = [(mask, pi, ti, p_out) for mask, pi, ti in inlets]
+    blocks += [(mask & start_up, pi, ti, p_atm) for mask, pi, ti in inlets]
+    rows, kinds, pis, tis, pos = [], [], [], [], []
+    for kind, (mask, pi, ti, po) in enumerate(blocks):
         idx = np.flatnonzero(mask)
         rows.append(idx)
         kinds.append(np.full(idx.size, kind))
         pis.append(pi[idx])
         tis.append(ti[idx])
+        pos.append(po[idx])
     row, kind = np.concatenate(rows), np.concatenate(kinds)
     order = np.lexsort((kind, row))
-    row = row[order]
-    return _Points(row, np.concatenate(kinds)[order], np.concatenate(pis)[order], np.concatenate(tis)[order],
-                   p_out[row])
+    return _Points(row[order], kind[order], np.concatenate(pis)[order], np.concatenate(tis)[order],
+                   np.concatenate(pos)[order])
 
 
 def _valid_points(pts: _Points) -> np.ndarray:
@@ -425,12 +442,25 @@ def _run_group(fluid: Fluid, models: list[Fluid], pts: _Points) -> _GroupRun:
                      runs[0].warnings, fallback)
 
 
+def _worst_hydrate_points(gravity: float, p_out: np.ndarray, t_out: np.ndarray, starts: np.ndarray,
+                          n_pts: np.ndarray) -> np.ndarray:
+    """For each row (its ``n_pts`` points from ``starts``), the point the scalar screening reports hydrates at:
+    the first of the largest subcooling below the hydrate temperature (the rows' conditions may let down to
+    different pressures: the start-up conditions go to the atmosphere)."""
+    sub = np.asarray(hydrate_temperature_k(p_out, gravity), dtype=float) - t_out
+    sub = np.where(np.isfinite(sub), sub, -1e9)
+    out = np.empty(starts.size, dtype=np.int64)
+    for r, (s, n) in enumerate(zip(starts.tolist(), n_pts.tolist(), strict=True)):
+        out[r] = s + int(np.argmax(sub[s:s + n]))
+    return out
+
+
 def _hydrate_findings(gravity: float, p_out: np.ndarray, t_out: np.ndarray,
                       names: list[str], margins: list[float]) -> list[Finding]:
     """The hydrate finding of each row (water present), vectorised: the same topic, severity, message and
-    numbers as the scalar screening (:func:`jtcheck.screening.screen.screen_letdown`) gives for the row's
-    coldest condition, which is the worst for hydrates (every condition of a row shares its outlet
-    pressure).  The basis names the method and the range checks; the scalar path adds its longer notes."""
+    numbers as the scalar screening (:func:`jtcheck.screening.screen.screen_letdown`) gives at the row's
+    worst condition for hydrates (:func:`_worst_hydrate_points`).  The basis names the method and the range
+    checks; the scalar path adds its longer notes."""
     t_hyd = np.asarray(hydrate_temperature_k(p_out, gravity), dtype=float)
     sub = t_hyd - t_out
     inh = Inhibitor.METHANOL
@@ -509,7 +539,7 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
     hydrates: dict[int, Finding] = {}
     if wet.any():
         gravity = gas_specific_gravity(fluid)
-        pick = coldest[wet]
+        pick = _worst_hydrate_points(gravity, pts.p_out, run.t_min, starts[wet], n_pts[wet])
         found = _hydrate_findings(gravity, pts.p_out[pick], run.t_min[pick],
                                   [_CONDITION_NAMES[kinds[p]] for p in pick.tolist()],
                                   [cases[g].limits.margin_k for g in rows[wet].tolist()])

@@ -52,15 +52,19 @@ from jtcheck.thermo.fluid import Fluid
 
 #: The public names; the relief-valve inputs (HeaderSpec, OtherSource, ReliefInputs) live in
 #: :mod:`jtcheck.screening.relief_screen` and are re-exported here.
-__all__ = ["CONDITION_MAX_P", "CONDITION_MIN_T", "CONDITION_MIN_T_MAX_P", "CONDITION_NORMAL", "REMEDIES",
+__all__ = ["CONDITION_MAX_P", "CONDITION_MIN_T", "CONDITION_MIN_T_MAX_P", "CONDITION_NORMAL", "CONDITION_START_UP",
+           "REMEDIES",
            "SWEEP_CONDITION", "Condition", "ConditionScreen", "HeaderSpec", "OperatingRanges", "OtherSource",
-           "ReliefInputs", "Screening", "ScreeningOptions", "credible_conditions", "model_fluids", "screen_letdown"]
+           "ReliefInputs", "Screening", "ScreeningOptions", "credible_conditions", "model_fluids", "screen_letdown",
+           "start_up_conditions", "start_up_name"]
 #: Names of the credible conditions, in order, and of the one the operating sweep adds.
 CONDITION_NORMAL = "normal"
 CONDITION_MIN_T = "min inlet temperature"
 CONDITION_MAX_P = "max inlet pressure"
 CONDITION_MIN_T_MAX_P = "min temperature + max pressure"
 SWEEP_CONDITION = "coldest in the operating ranges"
+#: Name of the generated start-up condition (one per credible inlet state; :func:`start_up_conditions`).
+CONDITION_START_UP = "start-up into depressured outlet"
 #: Spread between models above which the finding becomes a caution [K].
 MODEL_SPREAD_CAUTION_K = 3.0
 #: The remedies a screening may offer: a letdown's (preheat, outlet-pressure limit) or a relief valve's
@@ -95,6 +99,25 @@ def credible_conditions(p_in_pa: float, t_in_k: float, p_out_pa: float, p_in_max
     if t_in_min_k is not None and p_in_max_pa is not None:
         out.append(Condition(CONDITION_MIN_T_MAX_P, p_in_max_pa, t_in_min_k, p_out_pa))
     return out
+
+
+def start_up_name(inlet_condition: str) -> str:
+    """The start-up condition from the credible inlet state named ``inlet_condition`` ("normal" -> the bare
+    name, else the name with the inlet state in brackets)."""
+    return CONDITION_START_UP + ("" if inlet_condition == CONDITION_NORMAL else f" ({inlet_condition})")
+
+
+def start_up_conditions(p_in_pa: float, t_in_k: float, p_out_pa: float, p_atm_pa: float,
+                        p_in_max_pa: float | None = None, t_in_min_k: float | None = None) -> list[Condition]:
+    """Start-up into a depressured downstream: every credible inlet state (:func:`credible_conditions`) let
+    down to the atmospheric pressure ``p_atm_pa`` [Pa], the outlet's pressure when the valve first opens.
+
+    Empty when the normal outlet pressure is not above ``p_atm_pa`` (the normal conditions are the start-up).
+    """
+    if not p_out_pa > p_atm_pa:
+        return []
+    return [Condition(start_up_name(c.name), c.p_in_pa, c.t_in_k, p_atm_pa)
+            for c in credible_conditions(p_in_pa, t_in_k, p_out_pa, p_in_max_pa, t_in_min_k)]
 
 
 @dataclass(frozen=True)

@@ -126,11 +126,18 @@ def test_with_no_extra_inputs_only_the_start_up_case_is_added():
                                                        "ambient": "not generated"}
 
 
-def test_a_letdown_that_gives_no_generated_input_is_screened_as_before():
-    """Until the vectorised batch path adds them, the generated cases run only for a case that asks for them,
-    so that a case gives the same answer from the register, the CLI, the API and a letdown list."""
+def test_start_up_is_generated_for_every_letdown_from_its_operating_data():
+    """Start-up into a depressured downstream needs no input beyond the letdown itself: it is screened for every
+    letdown whose outlet is above the atmosphere, on every entry point (the batch path adds it too)."""
     plain = LETDOWN.compute(METHANE, values(), answers=False)
-    assert [cs.condition.name for cs in plain.conditions] == ["normal"]
-    assert "generated_cases" not in plain.answers
-    asked = LETDOWN.compute(METHANE, values(credible_off={"ambient": "buried line (invented)"}), answers=False)
-    assert "start-up into depressured outlet" in [cs.condition.name for cs in asked.conditions]
+    assert [cs.condition.name for cs in plain.conditions] == ["normal", "start-up into depressured outlet"]
+    start_up = plain.conditions[1]
+    assert start_up.condition.p_out_pa == P_ATM and start_up.t_screen_k < plain.conditions[0].t_screen_k
+    assert plain.coldest_condition == "start-up into depressured outlet"
+    listed = {e["case"]: e["status"] for e in plain.answers["generated_cases"]}
+    assert listed["start_up"] == "computed" and listed["settle_out"] == "not generated"
+    off = LETDOWN.compute(METHANE, values(credible_off={"start_up": "outlet held at pressure by the network "
+                                                                    "(invented)"}), answers=False)
+    assert [cs.condition.name for cs in off.conditions] == ["normal"]
+    at_atm = LETDOWN.compute(METHANE, values(outlet_pressure_pa=P_ATM), answers=False)
+    assert [cs.condition.name for cs in at_atm.conditions] == ["normal"]

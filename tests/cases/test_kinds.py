@@ -96,13 +96,20 @@ def test_the_letdown_kind_computes_what_the_screening_computes_directly():
     v = values(inlet_temperature_min_k=280.0)
     by_kind = LETDOWN.compute(LEAN, v)
     direct = screen_letdown(LEAN, [Condition("normal", 70 * BAR, 290.0, 20 * BAR),
-                                   Condition("min inlet temperature", 70 * BAR, 280.0, 20 * BAR)],
+                                   Condition("min inlet temperature", 70 * BAR, 280.0, 20 * BAR),
+                                   Condition("start-up into depressured outlet", 70 * BAR, 290.0, P_ATM),
+                                   Condition("start-up into depressured outlet (min inlet temperature)",
+                                             70 * BAR, 280.0, P_ATM)],
                             ScreeningOptions(ColdLimits(mdmt_k=244.15, margin_k=5.0, mdmt_source="entered"),
                                              ranges=OperatingRanges((70 * BAR, 70 * BAR), (280.0, 290.0),
                                                                     (20 * BAR, 20 * BAR))))
-    assert by_kind.to_dict() == direct.to_dict()
+    kind_dict = by_kind.to_dict()
+    generated = kind_dict["answers"].pop("generated_cases")
+    assert kind_dict == direct.to_dict()
+    assert [g["status"] for g in generated if g["case"] == "start_up"] == ["computed", "computed"]
     assert LETDOWN.summary(by_kind)["t_out_min_k"] == direct.t_out_min_k
-    assert LETDOWN.summary(by_kind)["coldest_condition"] == "min inlet temperature"
+    assert LETDOWN.summary(by_kind)["coldest_condition"] == ("start-up into depressured outlet "
+                                                              "(min inlet temperature)")
 
 
 def test_the_relief_kind_adds_the_relieving_case_only_with_a_set_pressure():

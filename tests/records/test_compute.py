@@ -13,7 +13,7 @@ from jtcheck.records import service
 from jtcheck.records.models import AuditEntry, Case, CaseResult, Role
 from jtcheck.screening import screen as screen_module
 from jtcheck.screening.findings import Outcome
-from jtcheck.screening.screen import SWEEP_CONDITION
+from jtcheck.screening.screen import SWEEP_CONDITION, start_up_name
 from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION
 
 from .register_helpers import BAR, T0, count
@@ -26,7 +26,10 @@ def case(session, engineer, case_data):
 
 def test_all_four_conditions_and_the_sweep_are_computed_and_converge(session, engineer, case):
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == [*service.CONDITIONS, SWEEP_CONDITION]
+    # the user's four credible conditions, the generated start-up from each (outlet at the atmosphere), the sweep
+    assert [e["condition"] for e in result.results] == [*service.CONDITIONS,
+                                                        *(start_up_name(c) for c in service.CONDITIONS),
+                                                        SWEEP_CONDITION]
     assert result.converged is True
     assert all(e["converged"] and e["t_out"] < e["t_in"] for e in result.results)
     # the screened temperature is the colder of the two models, never warmer than the case model's
@@ -44,13 +47,14 @@ def test_all_four_conditions_and_the_sweep_are_computed_and_converge(session, en
 def test_only_the_given_extremes_are_computed(session, engineer, case_data):
     case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None))
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature", SWEEP_CONDITION]
+    assert [e["condition"] for e in result.results] == ["normal", "min inlet temperature", start_up_name("normal"),
+                                                        start_up_name("min inlet temperature"), SWEEP_CONDITION]
 
 
 def test_without_ranges_there_is_no_sweep(session, engineer, case_data):
     case = service.create_case(session, engineer, case_data(inlet_pressure_max_pa=None, inlet_temperature_min_k=None))
     result = service.compute_case(session, engineer, case.id)
-    assert [e["condition"] for e in result.results] == ["normal"]
+    assert [e["condition"] for e in result.results] == ["normal", start_up_name("normal")]
     assert "sweep" not in result.screening["answers"]
 
 
@@ -137,7 +141,8 @@ def test_a_condition_that_does_not_converge_is_stored_as_such(session, engineer,
     assert result.outcome == "not screened"     # never pass with a condition missing
     failed = [e for e in result.results if not e["converged"]]
     assert [e["condition"] for e in failed] == ["min inlet temperature", "min temperature + max pressure",
-                                                SWEEP_CONDITION]
+                                                start_up_name("min inlet temperature"),
+                                                start_up_name("min temperature + max pressure"), SWEEP_CONDITION]
     assert all(e["t_out"] is None and e["dt"] is None for e in failed)
     assert "not converged" in result.message and "min inlet temperature" in result.message
     converged = [e["t_screen_k"] for e in result.results if e["converged"]]

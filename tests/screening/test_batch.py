@@ -14,7 +14,7 @@ from jtcheck.screening import screen as screen_module
 from jtcheck.screening.batch import BatchCase, BatchScreening, screen_batch
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome, Topic
-from jtcheck.screening.screen import ScreeningOptions, credible_conditions, screen_letdown
+from jtcheck.screening.screen import ScreeningOptions, credible_conditions, screen_letdown, start_up_conditions
 
 BAR = 1e5
 T0 = 273.15
@@ -29,8 +29,11 @@ CO2_RICH = {"carbon dioxide": 0.9, "methane": 0.1}
 
 
 def scalar(case: BatchCase, compare_models: bool = True):
-    """The scalar screening of a row, as the batch's fallback runs it."""
-    conds = credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k)
+    """The scalar screening of a row, as the batch's fallback runs it: the credible conditions and the start-up
+    into a depressured outlet from each of them."""
+    conds = [*credible_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_in_max_pa, case.t_in_min_k),
+             *start_up_conditions(case.p_in_pa, case.t_in_k, case.p_out_pa, case.p_atm_pa, case.p_in_max_pa,
+                                  case.t_in_min_k)]
     return screen_letdown(case.fluid, conds, ScreeningOptions(case.limits, compare_models,
                                                               True if case.water_saturated else None,
                                                               answers=False))

@@ -20,8 +20,11 @@ LIMIT_K = 273.15 - 29.0
 MARGIN_K = 5.0
 TARGET_K = LIMIT_K + MARGIN_K
 #: The cold case of the brief: a lean gas from 100 bar to 10 bar at 10 degC against -29 degC with 5 K margin.
+#: The generated start-up case is switched off (with a reason) so that these tests see the user's conditions
+#: only; test_start_up_is_screened_unless_switched_off checks it.
+START_UP_OFF = {"start_up": "outlet held at pressure by the downstream network (invented)"}
 COLD = {"fluid": {"composition": LEAN_GAS, "eos": "PR"}, "p_in": "100 bara", "t_in": "10 degC", "p_out": "10 bara",
-        "limit": "-29 degC", "margin": "5 K"}
+        "limit": "-29 degC", "margin": "5 K", "credible_off": START_UP_OFF}
 #: A warm one: 100 bar to 90 bar at 40 degC cools by a few kelvin only.
 WARM = {**COLD, "t_in": "40 degC", "p_out": "90 bara"}
 
@@ -128,7 +131,7 @@ def test_warm_letdown_passes_without_answers(api):
     body = _ok(api, WARM)
     assert body["outcome"] == "pass"
     assert body["screening"]["t_out_min_k"] >= TARGET_K
-    assert body["screening"]["answers"] == {}
+    assert not {"preheat", "outlet_pressure_limit"} & set(body["screening"]["answers"])   # no remedies on a pass
     shown = body["screening"]["display"]
     assert shown["preheat_t_in_required"]["value"] is None and shown["outlet_pressure_limit"]["value"] is None
 
@@ -149,9 +152,27 @@ def test_without_a_limit_the_outcome_is_not_screened(api):
     assert body["outcome"] == "not screened" and body["converged"] is True
     assert body["screening"]["t_out_min_k"] is not None and body["screening"]["limits"]["governing_k"] is None
     assert body["screening"]["display"]["governing_limit"] == {"value": None, "unit": "degC"}
-    assert body["screening"]["answers"] == {}
+    assert not {"preheat", "outlet_pressure_limit"} & set(body["screening"]["answers"])
     assert any("no cold limit" in n for n in body["notes"])
     assert {f["topic"] for f in body["screening"]["findings"]} >= {"cold metal", "liquid dropout"}
+
+
+def test_start_up_is_screened_unless_switched_off(api):
+    """Without credible_off the API screens the generated start-up into a depressured outlet too (issue 12), as
+    the register, the CLI and a letdown list do; switched off, it is listed with the reason."""
+    data = {k: v for k, v in WARM.items() if k != "credible_off"}
+    body = _ok(api, data)
+    names = [c["condition"] for c in body["screening"]["conditions"]]
+    assert names == ["normal", "start-up into depressured outlet"]
+    start_up = body["screening"]["conditions"][1]
+    assert start_up["p_out_pa"] == pytest.approx(P_ATM)
+    assert body["screening"]["coldest_condition"] == "start-up into depressured outlet"
+    normal_k, start_up_k = (c["t_screen_k"] for c in body["screening"]["conditions"])
+    assert start_up_k < normal_k - 30.0       # 100 bar to the atmosphere cools far more than 100 to 90 bar
+    off = _ok(api, WARM)
+    assert [c["condition"] for c in off["screening"]["conditions"]] == ["normal"] and off["outcome"] == "pass"
+    listed = {e["case"]: e for e in off["screening"]["answers"]["generated_cases"]}
+    assert listed["start_up"]["status"] == "off" and listed["start_up"]["reason"] == START_UP_OFF["start_up"]
 
 
 def test_mdmt_and_limit_the_warmer_governs(api):
@@ -340,7 +361,11 @@ def test_cold_case_result_fails_with_answers(api, world):
     result = api(Role.APPROVER, "POST", f"/api/v1/cases/{case['id']}/compute").get_json()
     assert result["outcome"] == "fail"
     preheat = result["screening"]["answers"]["preheat"]["governing"]
-    again = letdown(Fluid(LEAN_GAS, eos=preheat["model"]), p_in=100e5, t_in=preheat["t_in_required_k"], p_out=10e5)
+    # the governing condition is the generated start-up (outlet at the atmosphere), the coldest
+    assert preheat["condition"] == "start-up into depressured outlet"
+    p_out = {c["condition"]: c["p_out_pa"] for c in result["screening"]["conditions"]}[preheat["condition"]]
+    assert p_out == pytest.approx(P_ATM)
+    again = letdown(Fluid(LEAN_GAS, eos=preheat["model"]), p_in=100e5, t_in=preheat["t_in_required_k"], p_out=p_out)
     assert again.t_out == pytest.approx(_target(result), abs=0.05)
 
 

@@ -37,8 +37,12 @@ def test_create_compute_and_result_view_shows_outlet_temperature_and_diagram(app
         result = db_session().get(CaseResult, int(m.group(1)))
         normal = result.condition("normal")
         conditions = [e["condition"] for e in result.results]
-    assert conditions == ["normal", "min inlet temperature", "max inlet pressure", "min temperature + max pressure",
+    inlets = ["normal", "min inlet temperature", "max inlet pressure", "min temperature + max pressure"]
+    # the user's conditions, the generated start-up into a depressured outlet from each, the sweep (issue 12)
+    assert conditions == [*inlets, "start-up into depressured outlet",
+                          *(f"start-up into depressured outlet ({c})" for c in inlets[1:]),
                           "coldest in the operating ranges"]
+    assert "start-up into depressured outlet" in page
     assert normal["converged"] and normal["t_out"] < normal["t_in"]
     t_out_text = f"{temperature_from_k(normal['t_out'], 'degC'):.2f} degC"
     assert t_out_text in page

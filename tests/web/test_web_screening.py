@@ -63,6 +63,11 @@ def stored(app, result_id: int) -> CaseResult:
         return result
 
 
+#: The generated start-up case switched off with a reason, for the tests of outcomes at the user's own conditions
+#: (the register screens start-up by default: tests/web/test_web_cases.py).
+START_UP_OFF = "start_up: outlet held at pressure by the downstream network (invented)"
+
+
 def new_case(client, world, **overrides) -> int:
     resp = client.post("/cases/new", data=case_form(world, **overrides))
     assert resp.status_code == 302, field_errors(resp.data.decode())
@@ -79,7 +84,7 @@ def test_failing_case_shows_fail_badge_findings_and_answers_in_the_case_units(ap
     form = case_form(world, inlet_pressure="1000", inlet_pressure_unit="psig", outlet_pressure="150",
                      outlet_pressure_unit="psig", inlet_temperature="68", inlet_temperature_unit="degF",
                      inlet_temperature_min="41", inlet_temperature_min_unit="degF", mdmt="-20", mdmt_unit="degF",
-                     margin="9", margin_unit="degF", mass_flow="2")
+                     margin="9", margin_unit="degF", mass_flow="2", credible_off=START_UP_OFF)
     case_id = created_id(engineer.post("/cases/new", data=form))
     result_id, page = compute(engineer, case_id)
     result = stored(app, result_id)
@@ -153,7 +158,7 @@ def test_failing_case_shows_fail_badge_findings_and_answers_in_the_case_units(ap
 
 
 def test_passing_case_shows_pass(app, engineer, world):
-    case_id = new_case(engineer, world, inlet_temperature_min="")
+    case_id = new_case(engineer, world, inlet_temperature_min="", credible_off=START_UP_OFF)
     result_id, page = compute(engineer, case_id)
     assert stored(app, result_id).outcome == "pass"
     slug, panel = outcome_panel(page)
@@ -447,7 +452,8 @@ def test_api_case_body_refuses_bad_new_fields_naming_them(api, world, field, val
 def test_case_list_shows_outcome_badges_and_filters_by_outcome(app, engineer, world):
     service_text = unique("outcome-filter")
     failing = new_case(engineer, world, tag=unique("FAIL"), service=service_text)
-    passing = new_case(engineer, world, tag=unique("PASS"), service=service_text, inlet_temperature_min="")
+    passing = new_case(engineer, world, tag=unique("PASS"), service=service_text, inlet_temperature_min="",
+                       credible_off=START_UP_OFF)
     unscreened = new_case(engineer, world, tag=unique("NOLIMIT"), service=service_text, inlet_temperature_min="",
                           material_id="")
     fresh = new_case(engineer, world, tag=unique("FRESH"), service=service_text)

@@ -115,7 +115,8 @@ def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = N
 SHORT_NAMES = {"inlet_pressure_pa": "p_in", "inlet_temperature_k": "t_in", "outlet_pressure_pa": "p_out",
                "inlet_temperature_min_k": "t_in_min", "inlet_pressure_max_pa": "p_in_max",
                "outlet_pressure_min_pa": "p_out_min", "mass_flow_kg_per_s": "mass_flow",
-               "hydrate_inhibitor": "inhibitor"}
+               "hydrate_inhibitor": "inhibitor", "heater_upstream_temperature_k": "heater_off_t",
+               "ambient_temperature_min_k": "ambient_t_min"}
 
 
 def letdown_values(*, p_in_pa: float, t_in_k: float, p_out_pa: float, limits: ColdLimits, p_atm_pa: float,
@@ -211,25 +212,9 @@ class LetdownKind(CaseKind):
         """Screen the user's conditions (:meth:`conditions`) and the generated credible cases
         (:func:`jtcheck.cases.credible.generated_conditions`); ``answers["generated_cases"]`` lists the latter."""
         options = self.options(values, compare_models=compare_models, answers=answers, sweep=sweep)
-        if not asks_for_generated(values):
-            return screen_letdown(fluid, self.conditions(values), options)
         generated = generated_conditions(fluid, values)
         screening = screen_letdown(fluid, [*self.conditions(values), *generated.conditions], options)
         return with_generated(screening, generated)
-
-
-#: The inputs that ask for the generated credible cases (start-up is generated with any of them).
-GENERATED_INPUTS = ("settle_out_volumes", "heater_upstream_temperature_k", "ambient_temperature_min_k",
-                    "credible_off")
-
-
-def asks_for_generated(values: Mapping[str, Any]) -> bool:
-    """Whether the case gives any input of the generated credible cases (:data:`GENERATED_INPUTS`).
-
-    Until the vectorised batch path adds them too, the generated cases (start-up included) run only for a
-    case that asks for them, so that a case gives the same answer from every entry point.
-    """
-    return any(values.get(k) not in (None, [], {}) for k in GENERATED_INPUTS)
 
 
 def with_generated(screening: Screening, generated: GeneratedCases) -> Screening:

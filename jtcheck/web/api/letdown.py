@@ -8,7 +8,7 @@ from typing import Any
 
 from flask import jsonify
 
-from jtcheck import Fluid, letdown
+from jtcheck import Fluid, itemlists, letdown
 from jtcheck.cases.letdown import LETDOWN, check_short, letdown_values
 from jtcheck.errors import InputError
 from jtcheck.letdown.throttle import check_letdown_inputs
@@ -69,7 +69,25 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
 
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
-                 "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models")
+                 "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
+                 "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off")
+
+
+def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
+    """The inputs of the generated credible cases (register keys, SI), only those given: the temperature
+    upstream of the heater, the minimum ambient, the settle-out volumes and the cases switched off."""
+    out: dict[str, Any] = {}
+    for key, name, example in (("heater_upstream_temperature_k", "heater_off_t", "5 degC"),
+                               ("ambient_temperature_min_k", "ambient_t_min", "-20 degC")):
+        text = _q(data, name, example, required=False)
+        if text is not None:
+            out[key] = parse_temperature(text, name)
+    if data.get("settle_out_volumes") is not None:
+        out["settle_out_volumes"] = itemlists.settle_out_volumes(data["settle_out_volumes"], "settle_out_volumes",
+                                                                 p_atm_pa)
+    if data.get("credible_off") is not None:
+        out["credible_off"] = itemlists.credible_off(data["credible_off"], "credible_off")
+    return out
 
 
 def _flag(data: Mapping[str, Any], key: str, default: bool) -> bool:
@@ -168,6 +186,10 @@ def compute_letdown():
     (the warmer governs) plus "margin" give the outcome: pass, margin eroded, fail, or not screened
     (no limit, or a calculation did not converge: never pass).  On fail or margin eroded the answers
     give the preheat and the lowest outlet pressure that bring the outlet to limit + margin.
+    The generated credible cases are screened too: start-up into a depressured outlet (the atmosphere) from
+    every inlet state, always unless "credible_off" switches it off with a reason; loss of the upstream
+    heater ("heater_off_t"), minimum ambient ("ambient_t_min") and settle-out ("settle_out_volumes") when
+    their inputs are given; screening.answers.generated_cases lists each with its reasoning.
     Nothing is stored.
     """
     require_viewer("compute letdowns")
@@ -218,6 +240,7 @@ def compute_letdown():
                             water_saturated=_flag(data, "water_saturated", False),
                             inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
                                 data.get("mass_flow")))
+    values.update(_generated_inputs(data, p_atm_pa))
     check_short(values)     # the letdown kind's checks, naming the request's fields
     screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)

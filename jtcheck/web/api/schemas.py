@@ -116,7 +116,15 @@ def register(api: ApiRegistry) -> None:
                           "description": "Mass flow in kg/s (the only unit), for the heater duty."},
             "compare_models": {"type": ["boolean", "null"], "default": True,
                                "description": "Let down with the other of PR and SRK as well and screen the colder "
-                                              "outlet."}}})
+                                              "outlet."},
+            "heater_off_t": {**_nullable(_ref("Quantity")),
+                             "description": "Inlet temperature with the upstream heater lost (adds the loss-of-heater "
+                                            "case when below t_in)."},
+            "ambient_t_min": {**_nullable(_ref("Quantity")),
+                              "description": "Minimum ambient temperature of an uninsulated inlet (adds the "
+                                             "minimum-ambient case when below t_in)."},
+            "settle_out_volumes": _CASE_LISTS["settle_out_volumes"],
+            "credible_off": _CASE_LISTS["credible_off"]}})
     s("LetdownResponse", {"type": "object", "properties": {
         "converged": {"type": "boolean", "description": "The normal condition with the chosen EOS converged."},
         "message": {"type": "string"}, "phase": {"type": "string"},
