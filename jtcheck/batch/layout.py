@@ -45,12 +45,16 @@ TEMPERATURE_DIFFERENCE = "temperature difference"
 ABSOLUTE_PRESSURE = "absolute pressure"
 PRESSURE_DIFFERENCE = "pressure difference"
 PERCENT = "percent"
+MASS_FLOW = "mass flow"
 YES_NO = "yes/no"
 #: Items typed one a line in a cell, separated by '|' (jtcheck.itemlists).
 ITEMS = "items"
 
 #: Quantities whose header carries a unit in square brackets.
-UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE, PRESSURE_DIFFERENCE, PERCENT)
+UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE, PRESSURE_DIFFERENCE, PERCENT,
+                   MASS_FLOW)
+#: The one unit of a mass-flow column.
+MASS_FLOW_UNIT = "kg/s"
 
 #: Kinds of letdown (the case register's CaseKind values).
 KINDS = ("control_valve", "relief_valve", "blowdown_valve", "choke", "other")
@@ -115,6 +119,8 @@ class Column:
             return f"{self.name} [K]"
         if self.quantity == PERCENT:
             return f"{self.name} [%]"
+        if self.quantity == MASS_FLOW:
+            return f"{self.name} [{MASS_FLOW_UNIT}]"
         if self.key == "atmospheric_pressure":
             return f"{self.name} [bar]"
         return f"{self.name} [unit]"
@@ -153,6 +159,9 @@ COLUMNS: tuple[Column, ...] = (
            "yes: screen for hydrates as if the gas were water-saturated; no (or empty): as given."),
     Column("atmospheric_pressure", "atmospheric pressure", ABSOLUTE_PRESSURE, False, "1.01325 bar", "bar",
            "Atmospheric pressure for the row's gauge pressures, in an absolute unit, 0.3 to 2 bar."),
+    Column("mass_flow", "mass flow", MASS_FLOW, False, "", MASS_FLOW_UNIT,
+           "Mass flow through the valve in kg/s: a relief valve's share when other sources discharge into the "
+           "same header (without it 1 kg/s is taken and the finding says so)."),
     # relief valves (kind relief_valve): the relieving case, screened by the relief-valve case kind
     Column("set_pressure", "set pressure", PRESSURE, False, "", "barg",
            "Relief valve set pressure (kind relief_valve): adds the relieving case; needs the overpressure."),
@@ -170,7 +179,10 @@ COLUMNS: tuple[Column, ...] = (
     Column("header_sections", "header sections", ITEMS, False, "", "",
            "Flare header sections in flow order, separated by '|': 'name; lowest pressure; cold limit or -; "
            "material', e.g. 'main header; 1.5 barg; -46 degC | knock-out drum; 0.2 barg; -46 degC'."),
-    # generated credible cases (any of these adds them to the row, and the start-up into a depressured outlet)
+    Column("other_sources", "other sources", ITEMS, False, "", "",
+           "Other relief valves discharging into the header at the same time, separated by '|': 'name; "
+           "composition; mass flow kg/s; relieving pressure; relieving temperature' (give this valve's mass flow)."),
+    # generated credible cases (start-up into a depressured outlet is generated for every row; these add the others)
     Column("heater_off_temperature", "heater off temperature", TEMPERATURE, False, "", "degC",
            "Inlet temperature with the upstream heater off (adds the loss-of-heater case)."),
     Column("min_ambient_temperature", "min ambient temperature", TEMPERATURE, False, "", "degC",
@@ -186,6 +198,7 @@ KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure
                 "superimposed_back_pressure": "superimposed_back_pressure_pa",
                 "built_up_back_pressure": "built_up_back_pressure_pa", "header_limit": "header_limit_k",
                 "min_relieving_temperature": "relieving_temperature_min_k", "header_sections": "header_sections",
+                "mass_flow": "mass_flow_kg_per_s", "other_sources": "other_sources",
                 "heater_off_temperature": "heater_upstream_temperature_k",
                 "min_ambient_temperature": "ambient_temperature_min_k", "settle_out_volumes": "settle_out_volumes",
                 "cases_off": "credible_off"}
@@ -239,6 +252,8 @@ def allowed_units(quantity: str) -> list[str]:
         return [u for u in pressure_unit_names() if not PRESSURE_UNITS[u.lower()][1]]
     if quantity == PERCENT:
         return ["%"]
+    if quantity == MASS_FLOW:
+        return [MASS_FLOW_UNIT]
     return []
 
 
@@ -258,6 +273,7 @@ def unit_problem(column: Column, unit: str | None) -> str | None:
         TEMPERATURE_DIFFERENCE: key in TEMPERATURE_DIFFERENCE_UNITS,
         PRESSURE_DIFFERENCE: key in PRESSURE_UNITS and not PRESSURE_UNITS[key][1],
         PERCENT: key == "%",
+        MASS_FLOW: key == MASS_FLOW_UNIT,
     }[column.quantity]
     if ok:
         return None

@@ -35,6 +35,8 @@ from jtcheck.batch.layout import (
     ITEMS,
     KIND_COLUMNS,
     KINDS,
+    MASS_FLOW,
+    MASS_FLOW_UNIT,
     MAX_BYTES,
     MAX_ROWS,
     NO_WORDS,
@@ -55,6 +57,7 @@ from jtcheck.batch.layout import (
 )
 from jtcheck.cases import kind_of
 from jtcheck.cases.batch import kind_hooks
+from jtcheck.cases.fields import MASS_FLOW_RANGE_KG_PER_S
 from jtcheck.errors import InputError, UnknownComponentError
 from jtcheck.screening.batch import BatchCase
 from jtcheck.screening.cold_metal import ColdLimits
@@ -437,6 +440,20 @@ class _Reader:
             if rest.strip() or not math.isfinite(value):
                 raise InputError(col.key, f"{text!r} is not a percentage (e.g. '10 %')")
             return value / 100.0
+        if col.quantity == MASS_FLOW:
+            number = text.strip()
+            if number.endswith(MASS_FLOW_UNIT):
+                number = number[: -len(MASS_FLOW_UNIT)].strip()
+            try:
+                value = float(number)
+            except ValueError:
+                raise InputError(col.key, f"{text!r} is not a mass flow in {MASS_FLOW_UNIT} (e.g. 12 with the header "
+                                          f"'{col.name} [{MASS_FLOW_UNIT}]', or '12 {MASS_FLOW_UNIT}')") from None
+            lo, hi, _ = MASS_FLOW_RANGE_KG_PER_S
+            if not (math.isfinite(value) and lo < value < hi):
+                raise InputError(col.key, f"{text!r}: the mass flow must lie above {lo:g} and below {hi:g} "
+                                          f"{MASS_FLOW_UNIT}")
+            return value
         if col.quantity == ABSOLUTE_PRESSURE:
             p = parse_pressure(text, col.key)
             if p.gauge:
@@ -729,7 +746,7 @@ def _display_units(header: _Header, data: list[tuple[int, list[Any]]], defaults:
 
 
 _ITEM_READERS = {"header_sections": itemlists.header_sections, "settle_out_volumes": itemlists.settle_out_volumes,
-                 "cases_off": itemlists.credible_off}
+                 "cases_off": itemlists.credible_off, "other_sources": itemlists.other_sources}
 #: Register keys of the letdown columns, for the case kind's checks (its errors are shown on these columns).
 _COLUMN_OF_KEY = {"inlet_pressure_pa": "inlet_pressure", "inlet_temperature_k": "inlet_temperature",
                   "outlet_pressure_pa": "outlet_pressure", "inlet_temperature_min_k": "min_inlet_temperature",
@@ -778,7 +795,8 @@ def _check_by_kind(device: str, si: Mapping[str, Any], extras: Mapping[str, Any]
 
 _RELIEF_KEYS = frozenset(KIND_COLUMNS[c] for c in ("set_pressure", "overpressure", "superimposed_back_pressure",
                                                    "built_up_back_pressure", "header_limit",
-                                                   "min_relieving_temperature", "header_sections"))
+                                                   "min_relieving_temperature", "header_sections",
+                                                   "other_sources"))
 
 
 def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defaults: Mapping[str, str]

@@ -73,7 +73,8 @@ def template_rows() -> list[dict[str, Any]]:
             else _number(f["built_up_back_pressure_pa"] / 1e5),
             "header_limit": degc(f.get("header_limit_k")),
             "min_relieving_temperature": degc(f.get("relieving_temperature_min_k")),
-            "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
+            "mass_flow": "" if f.get("mass_flow_kg_per_s") is None else _number(f["mass_flow_kg_per_s"]),
+            "other_sources": "", "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
             "settle_out_volumes": "", "cases_off": itemlists.credible_off_text(f.get("credible_off")),
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})

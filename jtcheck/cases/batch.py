@@ -22,6 +22,10 @@ from jtcheck.screening.screen import Screening
 DEFAULT_DEVICE = "control_valve"
 
 
+#: Row inputs that leave a row a plain letdown (the vectorised path needs none of them).
+PLAIN_EXTRAS = frozenset({"p_atm_pa", "mass_flow_kg_per_s"})
+
+
 def row_values(case: BatchCase) -> dict[str, Any]:
     """The register-style values (SI) of one list row."""
     lim = case.limits
@@ -52,10 +56,11 @@ def kind_hooks(device: str, extras: Mapping[str, Any] | None = None) -> dict[str
     """The :class:`BatchCase` fields that make a row of ``device`` screen as its kind says: the kind's
     vectorised flag and its scalar screening (``BatchCase(..., **kind_hooks(device, extras))``).
 
-    A row with inputs beyond a plain letdown (``extras``: a relieving case, generated credible cases) takes the
-    scalar path, where its kind computes them: the vectorised path screens plain letdowns only.
+    A row with inputs beyond a plain letdown (``extras``: a relieving case, generated credible cases other than
+    start-up, which both paths add) takes the scalar path, where its kind computes them: the vectorised path
+    screens plain letdowns (with their start-up conditions) only; a mass flow alone keeps a row plain.
     """
-    plain = not any(v not in (None, [], {}) for v in (extras or {}).values())
+    plain = not any(v not in (None, [], {}) for k, v in (extras or {}).items() if k not in PLAIN_EXTRAS)
     return {"vectorised": device_kind(device).vectorised and plain, "screen": row_screening}
 
 

@@ -76,3 +76,69 @@ def test_generated_case_inputs_send_a_letdown_row_to_its_kind():
     assert not case.vectorised and case.extras["heater_upstream_temperature_k"] == pytest.approx(268.15)
     screening = cases_batch.row_screening(case, True)
     assert "loss of upstream heater" in [cs.condition.name for cs in screening.conditions]
+
+
+SOURCES_HEADER = ["tag", "kind", "fluid", "inlet pressure [barg]", "inlet temperature [degC]",
+                  "outlet pressure [barg]", "MDMT [degC]", "margin [K]", "mass flow [kg/s]", "set pressure [barg]",
+                  "overpressure [%]", "built-up back pressure [bar]", "header limit [degC]", "header sections",
+                  "other sources"]
+#: An invented second relief valve discharging into the same header: propane-rich, 25 kg/s at 18 barg, 15 degC.
+OTHER = "PSV-9; propane=0.95,n-butane=0.05; 25 kg/s; 18 barg; 15 degC"
+
+
+def test_a_relief_row_takes_its_mass_flow_and_other_sources_as_the_register_does():
+    """The list's mass flow and other sources reach the relief kind, whose screening mixes the sources before the
+    header section: the row gives what the kind computes from the same values (the register's path)."""
+    cells = ["PSV-3", "relief_valve", GAS, 66, 5, 3, -29, 5, 12, 60, 10, 2, -46, "main header; 1.5 barg; -46 degC"]
+    data = csv_bytes(SOURCES_HEADER, [(2, [*cells, OTHER]), (3, [*cells[:8], 12, "", "", "", "", "", ""])])
+    read = read_cases(data, filename="sources.csv")
+    assert read.ok, read.errors
+    psv, plain = read.cases
+    assert psv.extras["mass_flow_kg_per_s"] == pytest.approx(12.0)
+    assert psv.extras["other_sources"] == [{"name": "PSV-9", "composition": "propane=0.95,n-butane=0.05",
+                                            "mass_flow_kg_per_s": 25.0, "p_pa": pytest.approx(18e5 + 101325.0),
+                                            "t_k": pytest.approx(288.15)}]
+    assert not psv.vectorised
+    # a mass flow alone keeps a letdown row on the vectorised path
+    assert plain.vectorised and plain.extras["mass_flow_kg_per_s"] == pytest.approx(12.0)
+    direct = cases_batch.row_screening(psv, True)
+    relief = direct.answers["relief_valve"]
+    assert relief["other_sources"] == ["PSV-9"] and relief["mass_flow_kg_per_s"] == pytest.approx(12.0)
+    mixed = relief["header"]
+    assert [s["name"] for s in mixed["sources"]] == ["this relief valve", "PSV-9"]
+    assert mixed["mass_flow_kg_per_s"] == pytest.approx(12.0 + 25.0)
+    alone = cases_batch.row_screening(read_cases(csv_bytes(SOURCES_HEADER, [(2, [*cells, ""])]),
+                                                 filename="alone.csv").cases[0], True)
+    # mixing 25 kg/s of warmer LPG changes the header temperature: the sources are not ignored
+    assert direct.t_out_min_k is not None and alone.t_out_min_k is not None
+    alone_header = alone.answers["relief_valve"]["header"]
+    assert alone_header["mass_flow_kg_per_s"] == pytest.approx(12.0)
+    assert mixed["sections"][0]["t_k"] != pytest.approx(alone_header["sections"][0]["t_k"], abs=0.1)
+    res = screen_batch(read.cases)
+    assert res.rows[0].outcome == direct.outcome and res.rows[0].t_screen_k == pytest.approx(direct.t_out_min_k)
+
+
+def test_a_mass_flow_that_is_not_one_is_reported_on_its_cell():
+    cells = ["PCV-4", "control_valve", GAS, 66, 5, 3, -29, 5, "lots", "", "", "", "", "", ""]
+    read = read_cases(csv_bytes(SOURCES_HEADER, [(2, cells)]), filename="bad.csv")
+    assert [(e.column, "not a mass flow" in e.reason) for e in read.errors] == [("mass flow [kg/s]", True)]
+    cells[8] = -3
+    read = read_cases(csv_bytes(SOURCES_HEADER, [(2, cells)]), filename="bad.csv")
+    assert read.errors and "must lie above 0" in read.errors[0].reason
+
+
+def test_the_vectorised_start_up_conditions_are_the_scalar_ones():
+    """A plain row screens its start-up into a depressured outlet on the vectorised path with the same conditions,
+    temperatures and outcome as its kind's scalar screening (register, CLI, API)."""
+    header = HEADER[:8] + ["min inlet temperature [degC]"]
+    # six rows (the vectorised path takes groups of at least BATCH_MIN_ROWS rows of one fluid)
+    rows = [(k + 2, [f"PCV-5{k}", "control_valve", "methane=0.97,ethane=0.03", 66 - k, 30, 3, -60, 5, 20])
+            for k in range(6)]
+    cases = read_cases(csv_bytes(header, rows), filename="start.csv").cases
+    assert all(c.vectorised for c in cases)
+    for case, row in zip(cases, screen_batch(cases).rows, strict=True):
+        scalar = cases_batch.row_screening(case, True)
+        assert row.path == "batch"
+        assert row.coldest_condition == scalar.coldest_condition == ("start-up into depressured outlet "
+                                                                      "(min inlet temperature)")
+        assert row.t_screen_k == pytest.approx(scalar.t_out_min_k, abs=0.01) and row.outcome == scalar.outcome
