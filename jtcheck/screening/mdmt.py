@@ -655,7 +655,7 @@ def screen_pressure_path(p_pa: Sequence[float], t_k: Sequence[float], spec: Mate
     def result(outcome: Outcome, worst: int | None, message: str) -> PathScreening:
         return PathScreening(outcome, tuple(ps), tuple(ts), allowable, worst, margin_k, message)
 
-    bad = [i for i, (p, t) in enumerate(zip(ps, ts)) if not (math.isfinite(p) and math.isfinite(t))
+    bad = [i for i, (p, t) in enumerate(zip(ps, ts, strict=True)) if not (math.isfinite(p) and math.isfinite(t))
            or (converged is not None and not converged[i])]
     if bad:
         return result(Outcome.NOT_SCREENED, None, f"Not screened: {len(bad)} point(s) of the path did not converge "
@@ -663,7 +663,7 @@ def screen_pressure_path(p_pa: Sequence[float], t_k: Sequence[float], spec: Mate
     if any(math.isnan(a) for a in allowable):
         return result(Outcome.NOT_SCREENED, None, "Not screened: the material has neither an exemption curve nor a "
                                                   "typed limit.")
-    gaps = [t - a for t, a in zip(ts, allowable)]
+    gaps = [t - a for t, a in zip(ts, allowable, strict=True)]
     worst = int(np.argmin(gaps))
     at = (f"at {ps[worst] / 1e5:.3f} bar abs: {_c(ts[worst])} against the allowable {_c(allowable[worst])}")
     if gaps[worst] < 0:
