@@ -130,6 +130,9 @@ class CurveTable:
                 raise InputError("value", f"{where}: the value must be a number, got {row.get('value')!r}") from None
             if not math.isfinite(value):
                 raise InputError("value", f"{where}: the value must be finite")
+            if table in ("exemption", "rule") and row.get("unit") == "degF" and _f_to_k(value) <= 0.0 \
+                    and row.get("curve") != "pwht_credit":
+                raise InputError("value", f"{where}: {value:g} degF is below absolute zero")
             if table == "exemption":
                 curve = parse_curve(row.get("curve"), "curve").value
                 if row.get("unit") != "degF":
