@@ -12,6 +12,9 @@ from jtcheck.records import service
 from jtcheck.records.errors import PermissionDenied
 from jtcheck.records.mdmt_curves import curve_rows, curve_table, update_curve_point
 from jtcheck.records.models import Material, Role
+from jtcheck.records.snapshot import case_snapshot
+from jtcheck.reports import charts
+from jtcheck.reports.record import render_html
 from jtcheck.screening.mdmt import material_mdmt, stress_ratio
 
 from .register_helpers import BAR, T0, count, unique
@@ -37,6 +40,16 @@ def test_material_with_a_curve_gives_the_mdmt_at_the_outlet_pressure(session, us
     assert working["working"]["curve"] == "B" and working["working"]["steps"]
     assert len(working["allowable_curve"]["p_pa"]) == len(working["allowable_curve"]["t_k"]) > 2
     assert result.inputs["material"]["cold_spec"]["curve"] == "B"
+    # the record shows the working a checker repeats by hand, and draws the allowable temperature against pressure
+    snapshot = case_snapshot(case, result, "A", prepared_by={"name": "Pat Preparer", "email": "pat@example.com"})
+    page = render_html(snapshot)
+    assert "MDMT working" in page and "Curve B at governing thickness 25.40 mm" in page
+    assert "low-stress exemption" in page and "Exemption curve B (VIII-1)" in page
+    data = charts.pt_diagram_data(charts.fluid_key_of(result.inputs), [], charts.ColdLines(
+        limits["governing_k"], limits["target_k"], limits["mdmt_k"],
+        (tuple(working["allowable_curve"]["p_pa"]), tuple(working["allowable_curve"]["t_k"]))), charts.ChartUnits())
+    svg = charts.draw_pt_diagram(data, style=charts.PRINT, text_as_paths=False)
+    assert "allowable metal temperature at pressure (material curve)" in svg
 
 
 def test_typed_limit_kept_and_warmer_governs(session, users, engineer, case_data):
