@@ -19,8 +19,12 @@ from jtcheck.records.models import FluidRecord, KijMode
 from jtcheck.reports.screening_display import DisplayUnits, key_numbers
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.hydrates import Inhibitor
+from jtcheck.screening.mdmt import MaterialColdSpec
 from jtcheck.screening.screen import Screening
 from jtcheck.units import (
+    MATERIAL_OPTIONS,
+    P_ATM_DEFAULT_PA,
+    material_options,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
@@ -69,7 +73,8 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
 
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
-                 "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models")
+                 "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
+                 *MATERIAL_OPTIONS)
 
 
 def _flag(data: Mapping[str, Any], key: str, default: bool) -> bool:
@@ -130,6 +135,26 @@ def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
                       user_limit_k=None if limit is None else parse_temperature(limit, "limit"),
                       margin_k=parse_temperature_difference(margin, "margin"),
                       mdmt_source="entered" if mdmt is not None else "")
+
+
+#: MaterialColdSpec keys -> the request's keys (errors name the key the client sent).
+_MATERIAL_KEY_OF = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
+                    "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
+                    "impact_test_temperature_k": "impact_test_t", "code": "curve_code"}
+
+
+def _material_spec(data: Mapping[str, Any], mdmt_k: float | None) -> MaterialColdSpec | None:
+    """The downstream material by its exemption curve ("curve", "thickness", ...; None without them); "mdmt" is then
+    its typed limit (the warmer governs).  Its MDMT is found at the outlet pressure."""
+    opts = material_options(data)
+    if not opts:
+        return None
+    try:
+        spec = MaterialColdSpec(name="material given in the request", typed_limit_k=mdmt_k, **opts)
+        spec.limit_at(P_ATM_DEFAULT_PA, P_ATM_DEFAULT_PA)   # the curve's own checks (thickness range)
+        return spec
+    except InputError as err:
+        raise InputError(_MATERIAL_KEY_OF.get(err.field, err.field), err.message) from None
 
 
 def _ranges(data: Mapping[str, Any], p_atm_pa: float) -> tuple[float | None, float | None, float | None]:
@@ -219,6 +244,9 @@ def compute_letdown():
                             inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
                                 data.get("mass_flow")))
     check_short(values)     # the letdown kind's checks, naming the request's fields
+    spec = _material_spec(data, limits.mdmt_k)
+    if spec is not None:
+        values["material_spec"] = spec
     screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
