@@ -206,6 +206,13 @@ def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
     a number (0.85); ``pwht_credit``: true/false (or "yes"/"no"); ``curve``: A-D; ``curve_code``: VIII-1 or B31.3.
     """
     given = {k: data.get(k) for k in MATERIAL_OPTIONS if data.get(k) not in (None, "")}
+    if str(given.get("pwht_credit", "")).strip().lower() in ("no", "false", "0"):
+        del given["pwht_credit"]
+    if not given.keys() - {"curve_code"}:
+        return {}
+    if "curve" not in given and "impact_test_t" not in given:
+        raise InputError("curve", "the material options need the exemption curve (A to D) or the impact test "
+                                  "temperature")
     out: dict[str, Any] = {}
     for key, value in given.items():
         if key == "curve":
@@ -229,6 +236,4 @@ def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
                 out["joint_efficiency"] = float(value)
             except (TypeError, ValueError):
                 raise InputError(key, f"must be a number between 0 and 1, got {value!r}") from None
-    if out and not (out.keys() - {"pwht_credit"}):
-        return {}
     return out

@@ -74,6 +74,9 @@ def template_rows() -> list[dict[str, Any]]:
             "min_relieving_temperature": degc(f.get("relieving_temperature_min_k")),
             "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
             "settle_out_volumes": "", "cases_off": "",
+            # the material by its exemption curve: left empty in the demo rows (the MDMT cell is the typed limit)
+            "curve": "", "curve_code": "", "thickness": "", "impact_test_t": "", "pwht_credit": "",
+            "allowable_stress": "", "outside_diameter": "", "corrosion_allowance": "", "joint_efficiency": "",
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})
     return rows
