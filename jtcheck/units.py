@@ -195,6 +195,11 @@ def parse_stress(text: str, field: str) -> float:
 #: PWHT flag and the joint efficiency.
 MATERIAL_OPTIONS = ("curve", "curve_code", "thickness", "impact_test_t", "pwht_credit", "allowable_stress",
                     "outside_diameter", "corrosion_allowance", "joint_efficiency")
+#: The option that carries each MaterialColdSpec key (errors of the spec name the option the user typed).
+MATERIAL_OPTION_OF = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
+                      "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
+                      "impact_test_temperature_k": "impact_test_t", "code": "curve_code", "curve": "curve",
+                      "pwht_credit": "pwht_credit", "joint_efficiency": "joint_efficiency"}
 
 
 def material_options(data: Mapping[str, Any]) -> dict[str, Any]:

@@ -63,6 +63,7 @@ from jtcheck.screening.mdmt import CurveTable, MaterialColdSpec
 from jtcheck.thermo.composition import normalise_composition
 from jtcheck.thermo.fluid import Fluid
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     material_options,
     parse_pressure,
@@ -745,22 +746,12 @@ _COLUMN_OF_KEY = {"inlet_pressure_pa": "inlet_pressure", "inlet_temperature_k": 
                   "inlet_pressure_max_pa": "max_inlet_pressure", **{v: k for k, v in KIND_COLUMNS.items()}}
 
 
-#: MaterialColdSpec keys -> the batch column that carries them.
-_MATERIAL_COLUMN = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
-                    "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
-                    "impact_test_temperature_k": "impact_test_t", "code": "curve_code", "curve": "curve",
-                    "pwht_credit": "pwht_credit", "joint_efficiency": "joint_efficiency"}
-
-
 def _material_spec(texts: Mapping[str, str], mdmt_k: float | None, err: Any) -> MaterialColdSpec | None:
     """The row's downstream material by its exemption curve (None without one); the MDMT cell is its typed limit."""
     try:
-        opts = material_options(texts)
-        if not opts:
-            return None
-        return MaterialColdSpec(name="material of the row", typed_limit_k=mdmt_k, **opts)
+        return MaterialColdSpec.from_options(material_options(texts), "material of the row", mdmt_k)
     except InputError as exc:
-        err(_MATERIAL_COLUMN.get(exc.field, exc.field), exc.message)
+        err(MATERIAL_OPTION_OF.get(exc.field, exc.field), exc.message)
         return None
 
 
@@ -920,7 +911,7 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
             limits = replace(limits, mdmt_k=mdmt, mdmt_working=working,
                              mdmt_source=f"material of the row; {basis} at the coincident outlet pressure")
         except InputError as exc:
-            err(_MATERIAL_COLUMN.get(exc.field, "thickness"), exc.message)
+            err(MATERIAL_OPTION_OF.get(exc.field, "thickness"), exc.message)
             return None, None, errors, warnings
     if limits.governing_k is None:
         warnings.append(RowWarning(row, where("mdmt"), "", "neither an MDMT nor a cold limit: the row is read but "

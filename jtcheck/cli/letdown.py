@@ -16,6 +16,7 @@ from jtcheck.cli.exits import EXIT_FAIL, EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED, 
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     Pressure,
     material_options,
@@ -84,9 +85,7 @@ OPTION_OF = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpr
              "relieving_temperature_min_k": "relieving_t_min", "heater_upstream_temperature_k": "heater_off_t",
              "ambient_temperature_min_k": "ambient_t_min", "settle_out_volumes": "settle_out_volume",
              "credible_off": "case_off", "header_sections": "header_section", "other_sources": "other_source",
-             "thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
-             "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
-             "impact_test_temperature_k": "impact_test_t", "code": "curve_code"}
+             **MATERIAL_OPTION_OF}
 
 
 #: Register keys of the relief-valve options (they need --set-pressure).
@@ -230,13 +229,9 @@ def material_spec(args: LetdownArgs, mdmt_k: float | None):
     """The downstream material of the --curve ... options (None without them); --mdmt is its typed limit."""
     from jtcheck.screening.mdmt import MaterialColdSpec
 
-    opts = material_options(dict(args.material))
-    if not opts:
-        return None
     try:
-        spec = MaterialColdSpec(name="material given by the options", typed_limit_k=mdmt_k, **opts)
-        spec.limit_at(P_ATM_DEFAULT_PA, P_ATM_DEFAULT_PA)   # the curve's own checks (thickness range), named here
-        return spec
+        return MaterialColdSpec.from_options(material_options(dict(args.material)), "material given by the options",
+                                             mdmt_k)
     except InputError as err:
         raise InputError(OPTION_OF.get(err.field, err.field), err.message) from None
 

@@ -78,7 +78,7 @@ def parse_curve(value: Any, field_name: str = "curve") -> Curve:
 
 def parse_code(value: Any, field_name: str = "code") -> Code:
     """A :class:`Code` from its name; an unknown one names the allowed codes."""
-    text = str(value).strip().upper().replace("VIII-1", "VIII-1").replace("VIII1", "VIII-1")
+    text = str(value).strip().upper().replace("VIII1", "VIII-1")
     for c in Code:
         if text == c.value.upper():
             return c
@@ -531,6 +531,16 @@ class MaterialColdSpec:
         return self.has_curve or self.typed_limit_k is not None
 
     @classmethod
+    def from_options(cls, opts: Mapping[str, Any], name: str, typed_limit_k: float | None) -> MaterialColdSpec | None:
+        """A checked spec from the SI options of an edge (:func:`jtcheck.units.material_options`); None without
+        any.  The curve's own checks (the thickness range) run here, so bad input fails before any computation."""
+        if not opts:
+            return None
+        spec = cls(name=name, typed_limit_k=typed_limit_k, **opts)
+        spec.limit_at(101325.0, 101325.0)
+        return spec
+
+    @classmethod
     def from_dict(cls, data: Mapping[str, Any]) -> MaterialColdSpec:
         keys = cls.__dataclass_fields__.keys()
         return cls(**{k: v for k, v in data.items() if k in keys and v is not None})
@@ -548,7 +558,9 @@ class MaterialColdSpec:
         return r, (f"hoop stress P (D_o - 0.8 t) / (2 E t) at {(p_pa - p_atm_pa) / 1e5:.3f} bar gauge over S = "
                    f"{self.allowable_stress_pa / 1e6:.1f} MPa (D_o {self.outside_diameter_m * 1000:.1f} mm, t "
                    f"{self.thickness_m * 1000:.2f} mm less {self.corrosion_allowance_m * 1000:.2f} mm, E "
-                   f"{self.joint_efficiency:g})")
+                   f"{self.joint_efficiency:g}); pressure stress only: where dead loads or displacement strain "
+                   "add stress (B31.3 Fig. 323.2.2B General Note (a)(3)), leave out the stress inputs (ratio 1) or "
+                   "type the limit")
 
     def limit_at(self, p_pa: float, p_atm_pa: float, table: CurveTable | None = None) -> MaterialLimit:
         """The cold limit [K] at the coincident pressure ``p_pa`` [Pa abs]."""

@@ -22,8 +22,8 @@ from jtcheck.screening.hydrates import Inhibitor
 from jtcheck.screening.mdmt import MaterialColdSpec
 from jtcheck.screening.screen import Screening
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
     MATERIAL_OPTIONS,
-    P_ATM_DEFAULT_PA,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -137,24 +137,13 @@ def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
                       mdmt_source="entered" if mdmt is not None else "")
 
 
-#: MaterialColdSpec keys -> the request's keys (errors name the key the client sent).
-_MATERIAL_KEY_OF = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
-                    "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
-                    "impact_test_temperature_k": "impact_test_t", "code": "curve_code"}
-
-
 def _material_spec(data: Mapping[str, Any], mdmt_k: float | None) -> MaterialColdSpec | None:
     """The downstream material by its exemption curve ("curve", "thickness", ...; None without them); "mdmt" is then
     its typed limit (the warmer governs).  Its MDMT is found at the outlet pressure."""
-    opts = material_options(data)
-    if not opts:
-        return None
     try:
-        spec = MaterialColdSpec(name="material given in the request", typed_limit_k=mdmt_k, **opts)
-        spec.limit_at(P_ATM_DEFAULT_PA, P_ATM_DEFAULT_PA)   # the curve's own checks (thickness range)
-        return spec
+        return MaterialColdSpec.from_options(material_options(data), "material given in the request", mdmt_k)
     except InputError as err:
-        raise InputError(_MATERIAL_KEY_OF.get(err.field, err.field), err.message) from None
+        raise InputError(MATERIAL_OPTION_OF.get(err.field, err.field), err.message) from None
 
 
 def _ranges(data: Mapping[str, Any], p_atm_pa: float) -> tuple[float | None, float | None, float | None]:
