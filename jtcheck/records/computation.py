@@ -52,6 +52,8 @@ def kind_values(case: Case) -> dict[str, Any]:
             session = object_session(case)
             values["material_spec"] = spec
             values["mdmt_table"] = curve_table(session) if session is not None else None
+        elif case.mdmt_k is not None:
+            values["mdmt_source"] = f"{case.mdmt_source}, typed limit"   # the result says which way it was found
     return values
 
 

@@ -124,3 +124,12 @@ def test_curve_table_edits_by_admins_only_and_checked(session, users):
     assert material_mdmt("B", 0.0254, table=table).curve_k == pytest.approx((32 - 32) / 1.8 + T0)
     # put it back for the other tests of this module
     update_curve_point(session, users[Role.ADMIN], b_1in["position"], value=31, provenance="from memory")
+
+
+def test_plain_typed_material_says_so(session, engineer, case_data):
+    case = service.create_case(session, engineer, case_data())        # the world's typed carbon steel, -29 degC
+    result = service.compute_case(session, engineer, case.id)
+    limits = result.screening["limits"]
+    assert limits["mdmt_k"] == pytest.approx(244.15)
+    assert limits["mdmt_source"] == "material: Test carbon steel, typed limit"
+    assert limits["mdmt_working"] is None
