@@ -194,12 +194,13 @@ def parse_stress(text: str, field: str) -> float:
 #: (key of jtcheck.screening.mdmt.MaterialColdSpec, parser).  Text with units except the curve, the code, the
 #: PWHT flag and the joint efficiency.
 MATERIAL_OPTIONS = ("curve", "curve_code", "thickness", "impact_test_t", "pwht_credit", "allowable_stress",
-                    "outside_diameter", "corrosion_allowance", "joint_efficiency")
+                    "outside_diameter", "corrosion_allowance", "joint_efficiency", "other_stress")
 #: The option that carries each MaterialColdSpec key (errors of the spec name the option the user typed).
 MATERIAL_OPTION_OF = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
                       "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
                       "impact_test_temperature_k": "impact_test_t", "code": "curve_code", "curve": "curve",
-                      "pwht_credit": "pwht_credit", "joint_efficiency": "joint_efficiency"}
+                      "pwht_credit": "pwht_credit", "joint_efficiency": "joint_efficiency",
+                      "other_stress_pa": "other_stress"}
 
 
 def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
@@ -228,8 +229,8 @@ def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
             out[f"{key}_m"] = parse_length(value, key)
         elif key == "impact_test_t":
             out["impact_test_temperature_k"] = parse_temperature(value, key)
-        elif key == "allowable_stress":
-            out["allowable_stress_pa"] = parse_stress(value, key)
+        elif key in ("allowable_stress", "other_stress"):
+            out[f"{key}_pa"] = parse_stress(value, key)
         elif key == "pwht_credit":
             flag = {"true": True, "yes": True, "1": True, "false": False, "no": False, "0": False}.get(
                 str(value).strip().lower()) if not isinstance(value, bool) else value

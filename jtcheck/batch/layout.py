@@ -199,6 +199,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("corrosion_allowance", "corrosion allowance", TEXT, False, "", "",
            "Corrosion and mill-tolerance allowance, e.g. '3 mm' (empty: 0)."),
     Column("joint_efficiency", "joint efficiency", TEXT, False, "", "", "Weld joint efficiency (empty: 1)."),
+    Column("other_stress", "other stress", TEXT, False, "", "",
+           "Stress from dead loads and displacement strain when cold, e.g. '20 MPa', added to the pressure stress "
+           "(empty: 0, the pressure stress only)."),
 )
 #: The register key of each relief-valve and generated-case column (the case kinds' inputs).
 KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",

@@ -77,6 +77,7 @@ def template_rows() -> list[dict[str, Any]]:
             # the material by its exemption curve: left empty in the demo rows (the MDMT cell is the typed limit)
             "curve": "", "curve_code": "", "thickness": "", "impact_test_t": "", "pwht_credit": "",
             "allowable_stress": "", "outside_diameter": "", "corrosion_allowance": "", "joint_efficiency": "",
+            "other_stress": "",
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})
     return rows

@@ -570,13 +570,16 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--outside-diameter", default=None, help='Outside diameter, e.g. "323.9 mm".')
 @click.option("--corrosion-allowance", default=None, help='Corrosion and mill-tolerance allowance, e.g. "3 mm".')
 @click.option("--joint-efficiency", default=None, help="Weld joint efficiency E (default 1).")
+@click.option("--other-stress", default=None, help='Stress from dead loads and displacement strain, e.g. "20 MPa" '
+              "(added to the pressure stress; default 0).")
 @click.option("--single-model", is_flag=True, help="Use only the chosen EOS (no PR/SRK comparison).")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
 def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
                 water_saturated, inhibitor, mass_flow, set_pressure, overpressure, superimposed_back_pressure,
                 built_up_back_pressure, header_limit, relieving_t_min, header_sections, other_sources, heater_off_t,
                 ambient_t_min, settle_out_volumes, cases_off, curve, curve_code, thickness, impact_test_t, pwht_credit,
-                allowable_stress, outside_diameter, corrosion_allowance, joint_efficiency, single_model, as_json):
+                allowable_stress, outside_diameter, corrosion_allowance, joint_efficiency, other_stress, single_model,
+                as_json):
     """Temperature and phase downstream of an isenthalpic letdown, screened against a cold limit.
 
     Exit codes: 0 pass (or, without a limit, converged), 2 bad input, 3 not screened (a calculation did not
@@ -596,6 +599,7 @@ def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, mar
                            ("curve", curve), ("curve_code", curve_code), ("thickness", thickness),
                            ("impact_test_t", impact_test_t), ("pwht_credit", "true" if pwht_credit else None),
                            ("allowable_stress", allowable_stress), ("outside_diameter", outside_diameter),
-                           ("corrosion_allowance", corrosion_allowance), ("joint_efficiency", joint_efficiency))
+                           ("corrosion_allowance", corrosion_allowance), ("joint_efficiency", joint_efficiency),
+                           ("other_stress", other_stress))
                            if v is not None))
     sys.exit(run_letdown(args, as_json=as_json))

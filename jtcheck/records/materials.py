@@ -30,13 +30,15 @@ COLD_FIELDS: dict[str, tuple[str, str, tuple[float, float, bool]]] = {
     "outside_diameter_m": ("outside diameter", "m", (0.0, 20.0, False)),
     "corrosion_allowance_m": ("corrosion and mill-tolerance allowance", "m", (0.0, 0.1, True)),
     "joint_efficiency": ("joint efficiency", "-", (0.0, 1.0, False)),
+    "other_stress_pa": ("stress from other loads (dead loads, displacement strain)", "Pa", (0.0, 2e9, True)),
 }
 _MATERIAL_FIELDS = ("name", "specification", "min_metal_temperature_k", "notes", "source", "editable",
                     "exemption_curve", "curve_code", "pwht_credit", *COLD_FIELDS)
 #: Defaults of the cold-limit fields a new material leaves out.
 COLD_DEFAULTS: dict[str, Any] = {"exemption_curve": "", "curve_code": "VIII-1", "thickness_m": None,
                                  "impact_test_temperature_k": None, "pwht_credit": False, "allowable_stress_pa": None,
-                                 "outside_diameter_m": None, "corrosion_allowance_m": 0.0, "joint_efficiency": 1.0}
+                                 "outside_diameter_m": None, "corrosion_allowance_m": 0.0, "joint_efficiency": 1.0,
+                                 "other_stress_pa": 0.0}
 
 
 def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
@@ -57,7 +59,7 @@ def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
         elif key in COLD_FIELDS:
             label, unit, rng = COLD_FIELDS[key]
             out[key] = check_number(key, value, label, unit, rng, False)
-            if key in ("corrosion_allowance_m", "joint_efficiency") and out[key] is None:
+            if key in ("corrosion_allowance_m", "joint_efficiency", "other_stress_pa") and out[key] is None:
                 out[key] = COLD_DEFAULTS[key]
         else:
             out[key] = parse_text(key, value, key, MAX_LONG_TEXT)

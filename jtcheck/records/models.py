@@ -254,6 +254,8 @@ class Material(Base):
     outside_diameter_m: Mapped[float | None] = mapped_column(Float)
     corrosion_allowance_m: Mapped[float] = mapped_column(Float, default=0.0)
     joint_efficiency: Mapped[float] = mapped_column(Float, default=1.0)
+    #: coincident stress from dead loads and displacement strain [Pa], added to the pressure stress
+    other_stress_pa: Mapped[float] = mapped_column(Float, default=0.0)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
 
@@ -266,7 +268,8 @@ class Material(Base):
             thickness_m=self.thickness_m, impact_test_temperature_k=self.impact_test_temperature_k,
             pwht_credit=bool(self.pwht_credit), allowable_stress_pa=self.allowable_stress_pa,
             outside_diameter_m=self.outside_diameter_m, corrosion_allowance_m=self.corrosion_allowance_m or 0.0,
-            joint_efficiency=self.joint_efficiency if self.joint_efficiency is not None else 1.0)
+            joint_efficiency=self.joint_efficiency if self.joint_efficiency is not None else 1.0,
+            other_stress_pa=self.other_stress_pa or 0.0)
 
     @property
     def limit_way(self) -> str:

@@ -406,13 +406,16 @@ def material_mdmt(curve: str | Curve | None, thickness_m: float | None, stress_r
 
 
 def stress_ratio(p_pa: float, *, p_atm_pa: float, allowable_stress_pa: float, outside_diameter_m: float,
-                 thickness_m: float, corrosion_allowance_m: float = 0.0, joint_efficiency: float = 1.0) -> float:
+                 thickness_m: float, corrosion_allowance_m: float = 0.0, joint_efficiency: float = 1.0,
+                 other_stress_pa: float = 0.0) -> float:
     """Coincident stress ratio of a cylinder under internal pressure [-].
 
     Hoop stress by ASME BPVC VIII-1 UG-27(c)(1) written with the outside diameter,
     ``sigma = P (D_o - 0.8 t) / (2 E t)``, which is also ASME B31.3 eq. (3a) with Y = 0.4, over the
     allowable stress; ``P`` is the gauge pressure, ``t`` the thickness less the corrosion (and mill
-    tolerance) allowance.  A vacuum gives 0.
+    tolerance) allowance.  A vacuum gives 0 pressure stress.  ``other_stress_pa`` (dead loads, displacement
+    strain: ASME B31.3 Fig. 323.2.2B General Note (a)(3)) is added to the pressure stress, which is the
+    conservative side (the stresses act in different directions).
 
     Parameters
     ----------
@@ -430,6 +433,8 @@ def stress_ratio(p_pa: float, *, p_atm_pa: float, allowable_stress_pa: float, ou
         Corrosion, erosion and mill-tolerance allowance [m].
     joint_efficiency : float, optional
         Weld joint efficiency E [-] (VIII-1 UW-12; B31.3 E x W).
+    other_stress_pa : float, optional
+        Stress from other coincident loads (dead loads, displacement strain) [Pa], added.
 
     Returns
     -------
@@ -443,13 +448,13 @@ def stress_ratio(p_pa: float, *, p_atm_pa: float, allowable_stress_pa: float, ou
         raise InputError("outside_diameter_m", "the outside diameter must exceed twice the thickness")
     p_g = max(p_pa - p_atm_pa, 0.0)
     sigma = p_g * (outside_diameter_m - 0.8 * t) / (2.0 * joint_efficiency * t)
-    return sigma / allowable_stress_pa
+    return (sigma + other_stress_pa) / allowable_stress_pa
 
 
 #: Fields of :class:`MaterialColdSpec` with their ranges (SI) for the checks of the records and the CLI.
 SPEC_RANGES = {"thickness_m": (0.0, 1.0), "allowable_stress_pa": (0.0, 2e9), "outside_diameter_m": (0.0, 20.0),
                "corrosion_allowance_m": (0.0, 0.1), "joint_efficiency": (0.0, 1.0),
-               "impact_test_temperature_k": (0.0, 473.15)}
+               "impact_test_temperature_k": (0.0, 473.15), "other_stress_pa": (0.0, 2e9)}
 
 
 @dataclass(frozen=True)
@@ -498,13 +503,14 @@ class MaterialColdSpec:
     outside_diameter_m: float | None = None
     corrosion_allowance_m: float = 0.0
     joint_efficiency: float = 1.0
+    other_stress_pa: float = 0.0
 
     def __post_init__(self) -> None:
         for key, (lo, hi) in SPEC_RANGES.items():
             v = getattr(self, key)
             if v is None:
                 continue
-            if key == "joint_efficiency" or key == "corrosion_allowance_m":
+            if key in ("joint_efficiency", "corrosion_allowance_m", "other_stress_pa"):
                 ok = math.isfinite(float(v)) and (lo < float(v) <= hi if key == "joint_efficiency"
                                                   else lo <= float(v) <= hi)
             else:
@@ -554,13 +560,16 @@ class MaterialColdSpec:
             return 1.0, "no stress inputs: ratio 1 taken (no reduction)"
         r = stress_ratio(p_pa, p_atm_pa=p_atm_pa, allowable_stress_pa=self.allowable_stress_pa,
                          outside_diameter_m=self.outside_diameter_m, thickness_m=self.thickness_m,
-                         corrosion_allowance_m=self.corrosion_allowance_m, joint_efficiency=self.joint_efficiency)
+                         corrosion_allowance_m=self.corrosion_allowance_m, joint_efficiency=self.joint_efficiency,
+                         other_stress_pa=self.other_stress_pa)
+        other = (f" plus {self.other_stress_pa / 1e6:.1f} MPa from other loads" if self.other_stress_pa else
+                 "; pressure stress only: where dead loads or displacement strain add stress (B31.3 Fig. 323.2.2B "
+                 "General Note (a)(3)), enter that stress as the other stress, leave out the stress inputs (ratio 1) "
+                 "or type the limit")
         return r, (f"hoop stress P (D_o - 0.8 t) / (2 E t) at {(p_pa - p_atm_pa) / 1e5:.3f} bar gauge over S = "
                    f"{self.allowable_stress_pa / 1e6:.1f} MPa (D_o {self.outside_diameter_m * 1000:.1f} mm, t "
                    f"{self.thickness_m * 1000:.2f} mm less {self.corrosion_allowance_m * 1000:.2f} mm, E "
-                   f"{self.joint_efficiency:g}); pressure stress only: where dead loads or displacement strain "
-                   "add stress (B31.3 Fig. 323.2.2B General Note (a)(3)), leave out the stress inputs (ratio 1) or "
-                   "type the limit")
+                   f"{self.joint_efficiency:g}){other}")
 
     def limit_at(self, p_pa: float, p_atm_pa: float, table: CurveTable | None = None) -> MaterialLimit:
         """The cold limit [K] at the coincident pressure ``p_pa`` [Pa abs]."""

@@ -1,8 +1,8 @@
 """Materials carry what the codes use for their cold limit, and the register's MDMT curve table.
 
 ``materials``: the exemption curve and its code, the governing thickness, the impact test temperature, the
-PWHT credit, and for the coincident stress ratio the allowable stress, outside diameter, corrosion allowance and
-joint efficiency; the typed minimum metal temperature may now be empty (a material known by its curve).
+PWHT credit, and for the coincident stress ratio the allowable stress, outside diameter, corrosion allowance,
+joint efficiency and the stress from other loads; the typed minimum metal temperature may now be empty (a material known by its curve).
 ``mdmt_curve_points``: the curve table as admins changed it (empty: the shipped table is used).
 
 Revision ID: 0006
@@ -34,6 +34,7 @@ def upgrade() -> None:
         batch.add_column(sa.Column("outside_diameter_m", sa.Float(), nullable=True))
         batch.add_column(sa.Column("corrosion_allowance_m", sa.Float(), nullable=False, server_default="0"))
         batch.add_column(sa.Column("joint_efficiency", sa.Float(), nullable=False, server_default="1"))
+        batch.add_column(sa.Column("other_stress_pa", sa.Float(), nullable=False, server_default="0"))
     op.create_table(
         "mdmt_curve_points",
         sa.Column("id", sa.Integer(), nullable=False),
@@ -58,7 +59,7 @@ def downgrade() -> None:
     # otherwise pass anything, and a downgrade must fail closed
     op.execute("UPDATE materials SET min_metal_temperature_k = 473.15 WHERE min_metal_temperature_k IS NULL")
     with op.batch_alter_table("materials") as batch:
-        for name in ("joint_efficiency", "corrosion_allowance_m", "outside_diameter_m", "allowable_stress_pa",
+        for name in ("other_stress_pa", "joint_efficiency", "corrosion_allowance_m", "outside_diameter_m", "allowable_stress_pa",
                      "pwht_credit", "impact_test_temperature_k", "thickness_m", "curve_code", "exemption_curve"):
             batch.drop_column(name)
         batch.alter_column("min_metal_temperature_k", existing_type=sa.Float(), nullable=False)

@@ -200,6 +200,18 @@ def test_stress_ratio_is_ug27_hoop_stress_over_allowable():
                         thickness_m=0.0127) == 0.0
 
 
+def test_other_stress_is_added_to_the_pressure_stress():
+    # B31.3 Fig. 323.2.2B General Note (a)(3): dead loads and displacement strain count as well
+    kw = {"p_atm_pa": 101325.0, "allowable_stress_pa": 138e6, "outside_diameter_m": 0.508, "thickness_m": 0.0127}
+    assert stress_ratio(101325.0, **kw, other_stress_pa=69e6) == pytest.approx(0.5)
+    assert stress_ratio(20e5, **kw, other_stress_pa=30e6) == pytest.approx(stress_ratio(20e5, **kw) + 30 / 138)
+    spec = MaterialColdSpec(curve="B", thickness_m=0.0127, allowable_stress_pa=138e6, outside_diameter_m=0.508,
+                            other_stress_pa=69e6)
+    lim = spec.limit_at(101325.0, 101325.0)          # no pressure, but half the allowable from other loads
+    assert lim.stress_ratio == pytest.approx(0.5) and lim.limit_k > material_mdmt("B", 0.0127, 0.35).mdmt_k
+    assert "69.0 MPa from other loads" in lim.working.steps[0]
+
+
 SPEC = MaterialColdSpec(name="demo plate", curve="B", thickness_m=0.0254, allowable_stress_pa=138e6,
                         outside_diameter_m=0.6)
 

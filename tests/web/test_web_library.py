@@ -147,13 +147,14 @@ def test_admin_adds_a_material_by_its_exemption_curve(app, checker, admin):
         "name": name, "min_metal_temperature": "", "min_metal_temperature_unit": "degC", "curve_code": "VIII-1",
         "exemption_curve": "D", "thickness": "25.4", "impact_test_temperature": "", "impact_test_temperature_unit":
         "degC", "allowable_stress": "138", "outside_diameter": "610", "corrosion_allowance": "3",
-        "joint_efficiency": "1", "specification": "", "notes": "", "source": "", "editable": "1"})
+        "joint_efficiency": "1", "other_stress": "20", "specification": "", "notes": "", "source": "",
+        "editable": "1"})
     assert resp.status_code == 302
     with app.app_context():
         m = db_session().scalar(select(Material).where(Material.name == name))
         assert m.min_metal_temperature_k is None and m.exemption_curve == "D"
         assert math.isclose(m.thickness_m, 0.0254) and math.isclose(m.allowable_stress_pa, 138e6)
-        assert math.isclose(m.corrosion_allowance_m, 0.003)
+        assert math.isclose(m.corrosion_allowance_m, 0.003) and math.isclose(m.other_stress_pa, 20e6)
         material_id = m.id
     page = checker.get("/materials").data.decode()
     assert "curve D (VIII-1)" in page

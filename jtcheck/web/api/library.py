@@ -104,7 +104,8 @@ def list_materials():
 def create_material():
     """SI values: "min_metal_temperature_k", "exemption_curve" (A-D), "curve_code" (VIII-1, B31.3), "thickness_m",
     "impact_test_temperature_k", "pwht_credit", "allowable_stress_pa", "outside_diameter_m",
-    "corrosion_allowance_m", "joint_efficiency"; with both a typed limit and a curve the warmer governs."""
+    "corrosion_allowance_m", "joint_efficiency", "other_stress_pa"; with both a typed limit and a curve the warmer
+    governs."""
     user = require_admin("create materials")
     data = dict(body())
     name = data.pop("name", None)

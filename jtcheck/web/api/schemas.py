@@ -27,6 +27,8 @@ MATERIAL_REQUEST_PROPERTIES = {
     "outside_diameter": {"type": ["string", "null"], "description": "Outside diameter, e.g. '323.9 mm'."},
     "corrosion_allowance": {"type": ["string", "null"], "description": "e.g. '3 mm' (default 0)."},
     "joint_efficiency": {"type": ["number", "null"], "description": "Weld joint efficiency (default 1)."},
+    "other_stress": {"type": ["string", "null"], "description": "Stress from dead loads and displacement strain, "
+                                                                "e.g. '20 MPa', added to the pressure stress."},
 }
 #: A stored material's cold-limit data (SI).
 MATERIAL_SI_PROPERTIES = {
@@ -35,7 +37,7 @@ MATERIAL_SI_PROPERTIES = {
     "thickness_m": {"type": ["number", "null"]}, "impact_test_temperature_k": {"type": ["number", "null"]},
     "pwht_credit": {"type": "boolean"}, "allowable_stress_pa": {"type": ["number", "null"]},
     "outside_diameter_m": {"type": ["number", "null"]}, "corrosion_allowance_m": {"type": "number"},
-    "joint_efficiency": {"type": "number"},
+    "joint_efficiency": {"type": "number"}, "other_stress_pa": {"type": "number"},
 }
 
 def _ref(name: str) -> dict[str, str]:

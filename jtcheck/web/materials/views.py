@@ -18,13 +18,14 @@ bp = Blueprint("materials", __name__)
 MATERIAL_FORM_FIELDS = ("name", "specification", "min_metal_temperature", "min_metal_temperature_unit", "notes",
                         "source", "editable", "exemption_curve", "curve_code", "thickness", "impact_test_temperature",
                         "impact_test_temperature_unit", "pwht_credit", "allowable_stress", "outside_diameter",
-                        "corrosion_allowance", "joint_efficiency")
+                        "corrosion_allowance", "joint_efficiency", "other_stress")
 #: Plain-number form fields of the cold-limit data: form name -> (register key, factor to SI, example).
 NUMBER_FIELDS = {"thickness": ("thickness_m", 1e-3, "25.4 (mm)"),
                  "allowable_stress": ("allowable_stress_pa", 1e6, "138 (MPa)"),
                  "outside_diameter": ("outside_diameter_m", 1e-3, "323.9 (mm)"),
                  "corrosion_allowance": ("corrosion_allowance_m", 1e-3, "3 (mm)"),
-                 "joint_efficiency": ("joint_efficiency", 1.0, "1 or 0.85")}
+                 "joint_efficiency": ("joint_efficiency", 1.0, "1 or 0.85"),
+                 "other_stress": ("other_stress_pa", 1e6, "20 (MPa)")}
 CURVE_CHOICES = (("A", "A (warmest)"), ("B", "B"), ("C", "C"), ("D", "D (coldest)"))
 CODE_CHOICES = (("VIII-1", "ASME BPVC VIII-1 (UCS-66, UCS-66.1, UCS-68(c))"),
                 ("B31.3", "ASME B31.3 (para. 323.2.2, Table A-1, Fig. 323.2.2A/B)"))
