@@ -5,8 +5,9 @@
 >>> r = letdown(gas, p_in=100e5, t_in=313.15, p_out=10e5)
 """
 from jtcheck.letdown import LetdownBatch, LetdownResult, letdown
+from jtcheck.screening.mdmt import material_mdmt
 from jtcheck.thermo.fluid import Fluid
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown"]
+__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown", "material_mdmt"]

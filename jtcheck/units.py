@@ -9,8 +9,10 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Any
 
 from jtcheck.errors import InputError
 
@@ -162,3 +164,82 @@ def temperature_difference_from_k(dk: float, unit: str) -> float:
     if key in ("degf", "f"):
         return dk * 1.8
     return dk
+
+
+#: Length units a thickness or diameter may be given in, to metres.
+LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "inch": 0.0254}
+#: Stress units, to pascals.
+STRESS_UNITS = {"pa": 1.0, "kpa": 1e3, "mpa": 1e6, "psi": 6894.757293168, "ksi": 6894757.293168}
+
+
+def parse_length(text: str, field: str) -> float:
+    """Length [m] from text such as ``"25.4 mm"`` or ``"1 in"``; InputError naming ``field`` otherwise."""
+    value, unit = _split(text, field, "25.4 mm")
+    factor = LENGTH_UNITS.get(unit.lower())
+    if factor is None:
+        raise InputError(field, f"unknown length unit {unit!r}; allowed: {', '.join(LENGTH_UNITS)}")
+    return value * factor
+
+
+def parse_stress(text: str, field: str) -> float:
+    """Stress [Pa] from text such as ``"138 MPa"`` or ``"20 ksi"``; InputError naming ``field`` otherwise."""
+    value, unit = _split(text, field, "138 MPa")
+    factor = STRESS_UNITS.get(unit.lower())
+    if factor is None:
+        raise InputError(field, f"unknown stress unit {unit!r}; allowed: Pa, kPa, MPa, psi, ksi")
+    return value * factor
+
+
+#: The material options of a direct letdown (CLI options, JSON API keys, batch columns), as typed: option ->
+#: (key of jtcheck.screening.mdmt.MaterialColdSpec, parser).  Text with units except the curve, the code, the
+#: PWHT flag and the joint efficiency.
+MATERIAL_OPTIONS = ("curve", "curve_code", "thickness", "impact_test_t", "pwht_credit", "allowable_stress",
+                    "outside_diameter", "corrosion_allowance", "joint_efficiency", "other_stress")
+#: The option that carries each MaterialColdSpec key (errors of the spec name the option the user typed).
+MATERIAL_OPTION_OF = {"thickness_m": "thickness", "outside_diameter_m": "outside_diameter",
+                      "corrosion_allowance_m": "corrosion_allowance", "allowable_stress_pa": "allowable_stress",
+                      "impact_test_temperature_k": "impact_test_t", "code": "curve_code", "curve": "curve",
+                      "pwht_credit": "pwht_credit", "joint_efficiency": "joint_efficiency",
+                      "other_stress_pa": "other_stress"}
+
+
+def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
+    """The material options of ``data`` (see :data:`MATERIAL_OPTIONS`; None or "" means not given) in SI, keyed as
+    :class:`jtcheck.screening.mdmt.MaterialColdSpec` takes them; {} when none is given.
+
+    ``thickness``, ``outside_diameter``, ``corrosion_allowance``: lengths ("25.4 mm", "1 in");
+    ``impact_test_t``: a temperature ("-46 degC"); ``allowable_stress``: a stress ("138 MPa"); ``joint_efficiency``:
+    a number (0.85); ``pwht_credit``: true/false (or "yes"/"no"); ``curve``: A-D; ``curve_code``: VIII-1 or B31.3.
+    """
+    given = {k: data.get(k) for k in MATERIAL_OPTIONS if data.get(k) not in (None, "")}
+    if str(given.get("pwht_credit", "")).strip().lower() in ("no", "false", "0"):
+        del given["pwht_credit"]
+    if not given.keys() - {"curve_code"}:
+        return {}
+    if "curve" not in given and "impact_test_t" not in given:
+        raise InputError("curve", "the material options need the exemption curve (A to D) or the impact test "
+                                  "temperature")
+    out: dict[str, Any] = {}
+    for key, value in given.items():
+        if key == "curve":
+            out["curve"] = str(value)
+        elif key == "curve_code":
+            out["code"] = str(value)
+        elif key in ("thickness", "outside_diameter", "corrosion_allowance"):
+            out[f"{key}_m"] = parse_length(value, key)
+        elif key == "impact_test_t":
+            out["impact_test_temperature_k"] = parse_temperature(value, key)
+        elif key in ("allowable_stress", "other_stress"):
+            out[f"{key}_pa"] = parse_stress(value, key)
+        elif key == "pwht_credit":
+            flag = {"true": True, "yes": True, "1": True, "false": False, "no": False, "0": False}.get(
+                str(value).strip().lower()) if not isinstance(value, bool) else value
+            if flag is None:
+                raise InputError(key, f"must be true or false, got {value!r}")
+            out["pwht_credit"] = flag
+        elif key == "joint_efficiency":
+            try:
+                out["joint_efficiency"] = float(value)
+            except (TypeError, ValueError):
+                raise InputError(key, f"must be a number between 0 and 1, got {value!r}") from None
+    return out

@@ -37,7 +37,8 @@ class Row(NamedTuple):
 CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
-#: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown)
+#: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown,
+#: material_mdmt)
 ENGINEERING_PACKAGES = frozenset({"thermo", "letdown", "screening", "cases", ROOT})
 BELOW_OUTPUT = CORE_PACKAGES | ENGINEERING_PACKAGES | {"records"}
 BELOW_EDGE = BELOW_OUTPUT | {"reports", "batch"}
@@ -56,7 +57,7 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     "screening": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown"}), NUMERIC),
     # case kinds: each kind's inputs, computation and sections, over the engineering packages
     "cases": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening"}), NUMERIC),
-    ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown"}), NUMERIC),
+    ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown", "screening"}), NUMERIC),
     "records": Row(Layer.RECORDS, frozenset({"errors", *ENGINEERING_PACKAGES})),
     "reports": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "batch": Row(Layer.OUTPUT, BELOW_OUTPUT),

@@ -47,6 +47,7 @@ from sqlalchemy.orm import Session
 from jtcheck.errors import InputError, JtcheckError
 from jtcheck.records.db import SQLITE_BEGIN_OPTION, make_engine, make_session_factory
 from jtcheck.records.errors import PermissionDenied
+from jtcheck.records.mdmt_curves import curve_table
 from jtcheck.records.models import AuditEntry, BatchJob, BatchStatus, Role, User, utcnow
 from jtcheck.screening.batch import BatchCase, BatchRowResult, BatchScreening
 from jtcheck.screening.cold_metal import ColdLimits
@@ -181,13 +182,13 @@ def fluid_library(session: Session) -> Mapping[str, Any]:
 DEFAULT_COLUMNS = {"limit": "cold_limit", "mdmt": "mdmt", "margin": "margin"}
 
 
-def _read(data: bytes, filename: str, library: Mapping[str, Any], opts: BatchOptions) -> Any:
+def _read(data: bytes, filename: str, library: Mapping[str, Any], opts: BatchOptions, mdmt_table: Any = None) -> Any:
     from jtcheck.batch.reader import read_cases
 
     defaults = {column: getattr(opts, field) for field, column in DEFAULT_COLUMNS.items() if getattr(opts, field)}
     try:
         return read_cases(data, filename=filename, fluid_library=library, keep_going=opts.keep_going,
-                          defaults=defaults)
+                          defaults=defaults, mdmt_table=mdmt_table)
     except InputError as exc:
         field = {column: field for field, column in DEFAULT_COLUMNS.items()}.get(exc.field)
         if field is not None:       # a form default the reader refused: name the form's field
@@ -316,7 +317,7 @@ def create_job(session: Session, user: User, filename: str, data: bytes,
         raise InputError("file", f"{name} is empty: choose a CSV or XLSX letdown list")
     library = fluid_library(session)
     try:
-        result = _read(data, name, library, opts)
+        result = _read(data, name, library, opts, curve_table(session))
     except InputError as exc:      # the file as a whole: not CSV/XLSX, no header, too many rows ...
         if exc.field in DEFAULT_COLUMNS:
             raise
@@ -446,7 +447,8 @@ class _Worker:
             data, filename = job.input_file, job.filename
             opts = BatchOptions.from_mapping(job.options)
             library = fluid_library(session)
-        result = _read(data, filename, library, opts)
+            table = curve_table(session)
+        result = _read(data, filename, library, opts, table)
         if result.errors and not opts.keep_going:
             raise BatchFileError(filename, f"{filename} no longer reads cleanly ({len(result.errors)} problems; "
                                            "was a fluid of the register renamed?)", result.errors)
@@ -668,7 +670,7 @@ def stored_screening(session: Session, job: BatchJob) -> tuple[BatchScreening, l
         raise InputError("job", f"batch {job.id} is {BatchStatus(job.status).value}: it has no results yet")
     opts = BatchOptions.from_mapping(job.options)
     data = job.input_file
-    read = _read(data, job.filename, fluid_library(session), replace(opts, keep_going=True))
+    read = _read(data, job.filename, fluid_library(session), replace(opts, keep_going=True), curve_table(session))
     cases = {c.row: c for c in read.cases}
     kept = [r for r in job.results if r.get("row") in cases]
     rows = tuple(BatchRowResult(

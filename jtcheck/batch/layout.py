@@ -192,6 +192,28 @@ COLUMNS: tuple[Column, ...] = (
     Column("cases_off", "cases off", ITEMS, False, "", "",
            "Generated cases that do not apply, separated by '|': 'case: reason' (settle_out, start_up, "
            "heater_loss, ambient)."),
+    # the downstream material by its exemption curve (jtcheck.screening.mdmt): its MDMT is found at the outlet
+    # pressure; the MDMT cell (if any) is its typed limit and the warmer governs
+    Column("curve", "curve", TEXT, False, "", "",
+           "Exemption curve of the downstream material, A to D (VIII-1 Fig. UCS-66; B31.3 Table A-1): the row's "
+           "MDMT is found from it at the outlet pressure. Needs the thickness."),
+    Column("curve_code", "curve code", TEXT, False, "VIII-1", "", "Code of the curve: VIII-1 or B31.3."),
+    Column("thickness", "thickness", TEXT, False, "", "",
+           "Governing thickness with its unit, e.g. '12.7 mm' or '0.5 in' (the curves end at 4 in)."),
+    Column("impact_test_t", "impact test temperature", TEXT, False, "", "",
+           "Impact test temperature with its unit if impact tested, e.g. '-46 degC'."),
+    Column("pwht_credit", "pwht credit", TEXT, False, "no", "",
+           "yes: post-weld heat treated though the code did not require it (VIII-1 UCS-68(c))."),
+    Column("allowable_stress", "allowable stress", TEXT, False, "", "",
+           "Allowable stress with its unit, e.g. '138 MPa'; with the outside diameter it gives the stress ratio at "
+           "the outlet pressure (without: ratio 1, no reduction)."),
+    Column("outside_diameter", "outside diameter", TEXT, False, "", "", "Outside diameter, e.g. '219.1 mm'."),
+    Column("corrosion_allowance", "corrosion allowance", TEXT, False, "", "",
+           "Corrosion and mill-tolerance allowance, e.g. '3 mm' (empty: 0)."),
+    Column("joint_efficiency", "joint efficiency", TEXT, False, "", "", "Weld joint efficiency (empty: 1)."),
+    Column("other_stress", "other stress", TEXT, False, "", "",
+           "Stress from dead loads and displacement strain when cold, e.g. '20 MPa', added to the pressure stress "
+           "(empty: 0, the pressure stress only)."),
 )
 #: The register key of each relief-valve and generated-case column (the case kinds' inputs).
 KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",

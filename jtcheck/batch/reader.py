@@ -20,7 +20,7 @@ import math
 import os
 import re
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any, BinaryIO
@@ -58,13 +58,17 @@ from jtcheck.batch.layout import (
 from jtcheck.cases import kind_of
 from jtcheck.cases.batch import kind_hooks
 from jtcheck.cases.fields import MASS_FLOW_RANGE_KG_PER_S
+from jtcheck.cases.letdown import COINCIDENT_OUTLET
 from jtcheck.errors import InputError, UnknownComponentError
 from jtcheck.screening.batch import BatchCase
-from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.screening.cold_metal import ColdLimits, material_limit_working
+from jtcheck.screening.mdmt import CurveTable, MaterialColdSpec
 from jtcheck.thermo.composition import normalise_composition
 from jtcheck.thermo.fluid import Fluid
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
+    material_options,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
@@ -383,6 +387,8 @@ class _Reader:
         self._fluids: dict[tuple[Any, ...], Fluid | str] = {}
         self._inline: dict[tuple[str, str], tuple[Fluid, tuple[str, ...]] | str] = {}
         self.fluid_notes_done: set[int] = set()
+        #: the MDMT curve table for rows with a material by its curve (None: the shipped one)
+        self.mdmt_table: CurveTable | None = None
 
     # -- quantities --------------------------------------------------------------------------
     def quantity_text(self, col: Column, raw: Any, header_unit: str | None) -> str:
@@ -612,7 +618,7 @@ def _read_header(cells: list[Any]) -> _Header:
 
 def read_cases(path_or_bytes: str | os.PathLike[str] | bytes | BinaryIO, *, filename: str | None = None,
                fluid_library: Mapping[str, Fluid] | None = None, keep_going: bool = False,
-               defaults: Mapping[str, str] | None = None) -> ReadResult:
+               defaults: Mapping[str, str] | None = None, mdmt_table: CurveTable | None = None) -> ReadResult:
     """Read and check a letdown list.
 
     Parameters
@@ -627,6 +633,9 @@ def read_cases(path_or_bytes: str | os.PathLike[str] | bytes | BinaryIO, *, file
         to letter case and extra spaces).  Without it, only inline compositions are read.
     keep_going : bool
         Return the good rows even when other rows have errors.
+    mdmt_table : CurveTable, optional
+        The MDMT curve table for rows whose material is given by its exemption curve (default: the shipped one;
+        the register passes its own).
     defaults : mapping, optional
         Column key -> text with unit (``{"cold_limit": "-29 degC", "margin": "5 K"}``) for cells left empty
         (and for columns the file does not have); a row's own cells win.  Each value must parse.
@@ -654,6 +663,7 @@ def read_cases(path_or_bytes: str | os.PathLike[str] | bytes | BinaryIO, *, file
                                  f"row {first[0]})")
     header = _read_header(first[1])
     reader = _Reader(fluid_library, decimal_comma=delimiter == ";")
+    reader.mdmt_table = mdmt_table
     _check_defaults(reader, defaults)
     warnings: list[RowWarning] = [RowWarning(1, "", "", n) for n in notes] + header.warnings
     data = [(k, cells) for k, cells in rows[1:] if any(_cell_text(c) for c in cells)]
@@ -751,6 +761,15 @@ _ITEM_READERS = {"header_sections": itemlists.header_sections, "settle_out_volum
 _COLUMN_OF_KEY = {"inlet_pressure_pa": "inlet_pressure", "inlet_temperature_k": "inlet_temperature",
                   "outlet_pressure_pa": "outlet_pressure", "inlet_temperature_min_k": "min_inlet_temperature",
                   "inlet_pressure_max_pa": "max_inlet_pressure", **{v: k for k, v in KIND_COLUMNS.items()}}
+
+
+def _material_spec(texts: Mapping[str, str], mdmt_k: float | None, err: Any) -> MaterialColdSpec | None:
+    """The row's downstream material by its exemption curve (None without one); the MDMT cell is its typed limit."""
+    try:
+        return MaterialColdSpec.from_options(material_options(texts), "material of the row", mdmt_k)
+    except InputError as exc:
+        err(MATERIAL_OPTION_OF.get(exc.field, exc.field), exc.message)
+        return None
 
 
 def _kind_extras(texts: Mapping[str, str], si: Mapping[str, Any], p_atm_pa: float, err: Any) -> dict[str, Any]:
@@ -879,6 +898,7 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
             except InputError as exc:
                 err(key, exc.message)
 
+    spec = _material_spec(texts, si["mdmt"], err)
     extras = _kind_extras(texts, si, p_atm_pa, err)
     if extras:       # the kind's inputs beyond a plain letdown read gauge values with the row's atmosphere
         extras["p_atm_pa"] = p_atm_pa
@@ -902,6 +922,15 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
         warnings.append(RowWarning(row, where("fluid"), texts["fluid"], "; ".join(fluid_notes)))
     limits = ColdLimits(mdmt_k=si["mdmt"], user_limit_k=si["cold_limit"], margin_k=si["margin"] or 0.0,
                         mdmt_source="entered" if si["mdmt"] is not None else "")
+    if spec is not None:
+        try:
+            mdmt, basis, working = material_limit_working(
+                spec, p_out, p_atm_pa, max(p_in, p_max or p_in), reader.mdmt_table, COINCIDENT_OUTLET)
+            limits = replace(limits, mdmt_k=mdmt, mdmt_working=working,
+                             mdmt_source=f"material of the row; {basis} at the coincident outlet pressure")
+        except InputError as exc:
+            err(MATERIAL_OPTION_OF.get(exc.field, "thickness"), exc.message)
+            return None, None, errors, warnings
     if limits.governing_k is None:
         warnings.append(RowWarning(row, where("mdmt"), "", "neither an MDMT nor a cold limit: the row is read but "
                                                            "will come out 'not screened'"))

@@ -76,6 +76,10 @@ def template_rows() -> list[dict[str, Any]]:
             "mass_flow": "" if f.get("mass_flow_kg_per_s") is None else _number(f["mass_flow_kg_per_s"]),
             "other_sources": "", "header_sections": "", "heater_off_temperature": "", "min_ambient_temperature": "",
             "settle_out_volumes": "", "cases_off": itemlists.credible_off_text(f.get("credible_off")),
+            # the material by its exemption curve: left empty in the demo rows (the MDMT cell is the typed limit)
+            "curve": "", "curve_code": "", "thickness": "", "impact_test_t": "", "pwht_credit": "",
+            "allowable_stress": "", "outside_diameter": "", "corrosion_allowance": "", "joint_efficiency": "",
+            "other_stress": "",
         }
         rows.append({c.header(): values[c.key] for c in COLUMNS})
     return rows

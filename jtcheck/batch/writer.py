@@ -127,7 +127,7 @@ def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
     for c in _quantity_columns():
         si = "Pa" if c.quantity in (PRESSURE, ABSOLUTE_PRESSURE) else "K"
         cols.append(_Out(f"SI {c.name} [{si}]", "si"))
-    cols += [_Out(f"governing limit [{t_unit}]", "display"), _Out("coldest condition")]
+    cols += [_Out(f"governing limit [{t_unit}]", "display"), _Out("limit basis", "long"), _Out("coldest condition")]
     cols += [_Out(f"outlet {m} [{t_unit}]", "display") for m in models]
     cols += [_Out(f"screened outlet [{t_unit}]", "display"), _Out("SI screened outlet [K]", "si"),
              _Out("governing model"), _Out("phase"), _Out("vapour fraction", "fraction"),
@@ -182,7 +182,8 @@ def _row_values(result: BatchRowResult, case: BatchCase | None, source: CaseSour
     values += [si[c.key] for c in _quantity_columns()]
     governing = case.limits.governing_k if case is not None else None
     by_model = result.t_out_by_model or {}
-    values += [_temperature(governing, t_unit), result.coldest_condition]
+    basis = case.limits.basis if case is not None and governing is not None else ""
+    values += [_temperature(governing, t_unit), basis, result.coldest_condition]
     values += [_temperature(by_model.get(m), t_unit) for m in models]
     values += [_temperature(result.t_screen_k, t_unit), result.t_screen_k, result.governing_model, result.phase,
                result.vapor_fraction, _difference(result.margin_to_limit_k, d_unit), str(result.outcome),

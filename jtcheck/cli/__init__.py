@@ -1,4 +1,5 @@
-"""Command-line interface: ``jtcheck letdown``, ``jtcheck components``, ``jtcheck demo``, ``jtcheck screen``.
+"""Command-line interface: ``jtcheck letdown``, ``jtcheck components``, ``jtcheck demo``, ``jtcheck screen``,
+``jtcheck mdmt``.
 
 Input is parsed and converted to SI here (through :mod:`jtcheck.units`); the engineering core sees SI only.
 Exit codes of ``jtcheck letdown``: 0 pass (without a limit: converged), 2 bad input, 3 not screened (a
@@ -27,6 +28,7 @@ from jtcheck.cli.exits import (
     fail_input,
 )
 from jtcheck.cli.letdown import letdown_cmd
+from jtcheck.cli.mdmt import mdmt_cmd
 from jtcheck.cli.record import record_group
 from jtcheck.cli.screen import screen_cmd, screen_template_cmd
 from jtcheck.cli.users import user_group
@@ -44,7 +46,7 @@ def main() -> None:
 
 
 for _command in (letdown_cmd, components_cmd, demo_cmd, screen_cmd, screen_template_cmd, user_group, record_group,
-                 worker_cmd):
+                 worker_cmd, mdmt_cmd):
     main.add_command(_command)
 
 

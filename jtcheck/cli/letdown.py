@@ -16,8 +16,10 @@ from jtcheck.cli.exits import EXIT_FAIL, EXIT_MARGIN_ERODED, EXIT_NOT_SCREENED, 
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     Pressure,
+    material_options,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
@@ -72,6 +74,8 @@ class LetdownArgs:
     ambient_t_min: str | None = None
     settle_out_volumes: tuple[str, ...] = ()
     cases_off: tuple[str, ...] = ()
+    # the downstream material by its exemption curve (jtcheck.units.MATERIAL_OPTIONS -> text as typed)
+    material: tuple[tuple[str, str], ...] = ()
 
 
 #: The option of this command that carries each register key (errors name the option the user typed).
@@ -80,7 +84,8 @@ OPTION_OF = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpr
              "built_up_back_pressure_pa": "built_up_back_pressure", "header_limit_k": "header_limit",
              "relieving_temperature_min_k": "relieving_t_min", "heater_upstream_temperature_k": "heater_off_t",
              "ambient_temperature_min_k": "ambient_t_min", "settle_out_volumes": "settle_out_volume",
-             "credible_off": "case_off", "header_sections": "header_section", "other_sources": "other_source"}
+             "credible_off": "case_off", "header_sections": "header_section", "other_sources": "other_source",
+             **MATERIAL_OPTION_OF}
 
 
 #: Register keys of the relief-valve options (they need --set-pressure).
@@ -213,7 +218,22 @@ def case_values(args: LetdownArgs, inputs: LetdownInputs) -> dict:
                           t_in_min_k=inputs.t_in_min_k, p_out_min_pa=inputs.p_out_min_pa,
                           mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, water_saturated=args.water_saturated,
                           inhibitor=args.inhibitor)
-    return {**base, **kind_extras(args, inputs.p_atm_pa)}
+    out = {**base, **kind_extras(args, inputs.p_atm_pa)}
+    spec = material_spec(args, inputs.limits.mdmt_k)
+    if spec is not None:
+        out["material_spec"] = spec
+    return out
+
+
+def material_spec(args: LetdownArgs, mdmt_k: float | None):
+    """The downstream material of the --curve ... options (None without them); --mdmt is its typed limit."""
+    from jtcheck.screening.mdmt import MaterialColdSpec
+
+    try:
+        return MaterialColdSpec.from_options(material_options(dict(args.material)), "material given by the options",
+                                             mdmt_k)
+    except InputError as err:
+        raise InputError(OPTION_OF.get(err.field, err.field), err.message) from None
 
 
 def case_kind(args: LetdownArgs):
@@ -393,9 +413,18 @@ def print_conditions(screening: Screening, inputs: LetdownInputs, units: Display
 
 
 def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnits) -> None:
-    """The limit and the outcome (or why there is none), then every finding."""
+    """The limit and the outcome (or why there is none), the MDMT working when the MDMT came from the
+    material's exemption curve, then every finding."""
+    limits = screening.limits if screening.limits.governing_k is not None else limits
     if limits.governing_k is not None:
         shown = screening.limits   # the screened limits carry the margin's terms (entered + model spread)
+        working = shown.mdmt_working
+        if working:
+            click.echo(f"\nMDMT from the material's exemption curve at the coincident pressure, "
+                       f"{working['coincident']}:")
+            for step in (working.get("working") or {}).get("steps", []):
+                click.echo(f"  {step}")
+            click.echo(f"  {(working.get('working') or {}).get('caution', '')}")
         terms = " + ".join(f"{t['term']} {units.difference_text(t['k'])}" for t in shown.margin_terms)
         click.echo(f"\ncold limit {units.temperature(limits.governing_k)} ({limits.basis}); "
                    f"margin {units.difference_text(shown.total_margin_k)} = {terms}")
@@ -469,7 +498,7 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
     result = screening.conditions[0].results[fluid.eos.value]
     assert result is not None   # inputs were checked above
     units = display_units(args, inputs)
-    code = exit_code(screening, inputs.limits.governing_k is not None)
+    code = exit_code(screening, screening.limits.governing_k is not None)
     if as_json:
         click.echo(json.dumps(json_payload(args, inputs, fluid, screening, result, units, code), indent=2))
         return code
@@ -530,12 +559,27 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--case-off", "cases_off", multiple=True,
               help='A generated case that does not apply, with the reason: "start_up: the outlet is never '
                    'depressured" (settle_out, start_up, heater_loss, ambient).')
+@click.option("--curve", default=None, help="Exemption curve of the downstream material (A-D; VIII-1 Fig. UCS-66, "
+              "B31.3 Table A-1): its MDMT is found at the outlet pressure.")
+@click.option("--curve-code", default=None, help="Code of the curve: VIII-1 (default) or B31.3.")
+@click.option("--thickness", default=None, help='Governing thickness, e.g. "25.4 mm" or "1 in".')
+@click.option("--impact-test-t", default=None, help='Impact test temperature if impact tested, e.g. "-46 degC".')
+@click.option("--pwht-credit", is_flag=True, help="PWHT done though not required (VIII-1 UCS-68(c)).")
+@click.option("--allowable-stress", default=None, help='Allowable stress at the design temperature, e.g. "138 MPa" '
+              "(with --outside-diameter: the stress ratio at the outlet pressure; without: ratio 1).")
+@click.option("--outside-diameter", default=None, help='Outside diameter, e.g. "323.9 mm".')
+@click.option("--corrosion-allowance", default=None, help='Corrosion and mill-tolerance allowance, e.g. "3 mm".')
+@click.option("--joint-efficiency", default=None, help="Weld joint efficiency E (default 1).")
+@click.option("--other-stress", default=None, help='Stress from dead loads and displacement strain, e.g. "20 MPa" '
+              "(added to the pressure stress; default 0).")
 @click.option("--single-model", is_flag=True, help="Use only the chosen EOS (no PR/SRK comparison).")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
 def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
                 water_saturated, inhibitor, mass_flow, set_pressure, overpressure, superimposed_back_pressure,
                 built_up_back_pressure, header_limit, relieving_t_min, header_sections, other_sources, heater_off_t,
-                ambient_t_min, settle_out_volumes, cases_off, single_model, as_json):
+                ambient_t_min, settle_out_volumes, cases_off, curve, curve_code, thickness, impact_test_t, pwht_credit,
+                allowable_stress, outside_diameter, corrosion_allowance, joint_efficiency, other_stress, single_model,
+                as_json):
     """Temperature and phase downstream of an isenthalpic letdown, screened against a cold limit.
 
     Exit codes: 0 pass (or, without a limit, converged), 2 bad input, 3 not screened (a calculation did not
@@ -550,5 +594,12 @@ def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, mar
                        relieving_t_min=relieving_t_min, header_sections=tuple(header_sections),
                        other_sources=tuple(other_sources),
                        heater_off_t=heater_off_t, ambient_t_min=ambient_t_min,
-                       settle_out_volumes=tuple(settle_out_volumes), cases_off=tuple(cases_off))
+                       settle_out_volumes=tuple(settle_out_volumes), cases_off=tuple(cases_off),
+                       material=tuple((k, v) for k, v in (
+                           ("curve", curve), ("curve_code", curve_code), ("thickness", thickness),
+                           ("impact_test_t", impact_test_t), ("pwht_credit", "true" if pwht_credit else None),
+                           ("allowable_stress", allowable_stress), ("outside_diameter", outside_diameter),
+                           ("corrosion_allowance", corrosion_allowance), ("joint_efficiency", joint_efficiency),
+                           ("other_stress", other_stress))
+                           if v is not None))
     sys.exit(run_letdown(args, as_json=as_json))

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from sqlalchemy.orm import Session, joinedload
+from sqlalchemy.orm import Session, joinedload, object_session
 
 from jtcheck import __version__ as jtcheck_version
 from jtcheck.cases import CaseKind as KindOfCase
@@ -18,6 +18,7 @@ from jtcheck.records.cases import case_loads
 from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.guard import ALL_ROLES, require
 from jtcheck.records.json_values import json_safe
+from jtcheck.records.mdmt_curves import curve_table
 from jtcheck.records.models import Case, CaseKind, CaseResult, FluidRecord, KijMode, User
 from jtcheck.records.transactions import transaction
 from jtcheck.screening.screen import (
@@ -36,9 +37,24 @@ CONDITIONS = (CONDITION_NORMAL, CONDITION_MIN_T, CONDITION_MAX_P, CONDITION_MIN_
 
 
 def kind_values(case: Case) -> dict[str, Any]:
-    """The values of ``case`` as its kind reads them (register keys, SI), with where the MDMT came from."""
-    return {**case_values(case), "mdmt_source": case.mdmt_source or "",
-            "margin_source": (case.parameters or {}).get("margin_source") or ""}
+    """The values of ``case`` as its kind reads them (register keys, SI), with where the MDMT came from.
+
+    A case whose MDMT comes from its material gets the material's cold-limit data (``material_spec``, with the
+    limit the case copied as its typed limit) and the register's curve table (``mdmt_table``), so that its kind
+    finds the MDMT at the coincident pressure.
+    """
+    values = {**case_values(case), "mdmt_source": case.mdmt_source or "",
+              "margin_source": (case.parameters or {}).get("margin_source") or ""}
+    material = case.material
+    if material is not None and (case.mdmt_source or "").startswith("material"):
+        spec = material.cold_spec(typed_limit_k=case.mdmt_k)
+        if spec.has_curve:
+            session = object_session(case)
+            values["material_spec"] = spec
+            values["mdmt_table"] = curve_table(session) if session is not None else None
+        elif case.mdmt_k is not None:
+            values["mdmt_source"] = f"{case.mdmt_source}, typed limit"   # the result says which way it was found
+    return values
 
 
 def case_kind(case: Case) -> KindOfCase:
@@ -115,7 +131,7 @@ def result_inputs(case: Case, fluid: Fluid | None = None) -> dict[str, Any]:
                         "mdmt_source": case.mdmt_source},
         "material": None if material is None else {
             "id": material.id, "name": material.name, "min_metal_temperature_k": material.min_metal_temperature_k,
-            "notes": material.notes, "source": material.source},
+            "notes": material.notes, "source": material.source, "cold_spec": material.cold_spec().to_dict()},
     })
 
 

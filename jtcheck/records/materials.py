@@ -20,8 +20,25 @@ from jtcheck.records.fields import (
 from jtcheck.records.guard import ADMIN_ROLES, ALL_ROLES, require
 from jtcheck.records.models import Material, User
 from jtcheck.records.transactions import transaction
+from jtcheck.screening.mdmt import MaterialColdSpec, material_mdmt, parse_code, parse_curve
 
-_MATERIAL_FIELDS = ("name", "specification", "min_metal_temperature_k", "notes", "source", "editable")
+#: The cold-limit fields a material carries (jtcheck.screening.mdmt), SI, with their words and ranges.
+COLD_FIELDS: dict[str, tuple[str, str, tuple[float, float, bool]]] = {
+    "thickness_m": ("governing thickness", "m", (0.0, 1.0, False)),
+    "impact_test_temperature_k": ("impact test temperature", "K", LIMIT_TEMPERATURE_RANGE_K),
+    "allowable_stress_pa": ("allowable stress at the design temperature", "Pa", (0.0, 2e9, False)),
+    "outside_diameter_m": ("outside diameter", "m", (0.0, 20.0, False)),
+    "corrosion_allowance_m": ("corrosion and mill-tolerance allowance", "m", (0.0, 0.1, True)),
+    "joint_efficiency": ("joint efficiency", "-", (0.0, 1.0, False)),
+    "other_stress_pa": ("stress from other loads (dead loads, displacement strain)", "Pa", (0.0, 2e9, True)),
+}
+_MATERIAL_FIELDS = ("name", "specification", "min_metal_temperature_k", "notes", "source", "editable",
+                    "exemption_curve", "curve_code", "pwht_credit", *COLD_FIELDS)
+#: Defaults of the cold-limit fields a new material leaves out.
+COLD_DEFAULTS: dict[str, Any] = {"exemption_curve": "", "curve_code": "VIII-1", "thickness_m": None,
+                                 "impact_test_temperature_k": None, "pwht_credit": False, "allowable_stress_pa": None,
+                                 "outside_diameter_m": None, "corrosion_allowance_m": 0.0, "joint_efficiency": 1.0,
+                                 "other_stress_pa": 0.0}
 
 
 def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
@@ -30,27 +47,54 @@ def _material_values(data: Mapping[str, Any]) -> dict[str, Any]:
         if key == "name":
             out[key] = parse_text("name", value, "material name", MAX_NAME, required=True, single_line=True)
         elif key == "min_metal_temperature_k":
-            out[key] = check_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, True)
-        elif key == "editable":
+            out[key] = check_number(key, value, "minimum metal temperature", "K", LIMIT_TEMPERATURE_RANGE_K, False)
+        elif key in ("editable", "pwht_credit"):
             if not isinstance(value, bool):
-                raise InputError("editable", "must be true or false")
+                raise InputError(key, "must be true or false")
             out[key] = value
+        elif key == "exemption_curve":
+            out[key] = "" if value in (None, "") else parse_curve(value, key).value
+        elif key == "curve_code":
+            out[key] = parse_code(value or "VIII-1", key).value
+        elif key in COLD_FIELDS:
+            label, unit, rng = COLD_FIELDS[key]
+            out[key] = check_number(key, value, label, unit, rng, False)
+            if key in ("corrosion_allowance_m", "joint_efficiency", "other_stress_pa") and out[key] is None:
+                out[key] = COLD_DEFAULTS[key]
         else:
             out[key] = parse_text(key, value, key, MAX_LONG_TEXT)
     return out
 
 
-def create_material(session: Session, user: User, *, name: str, min_metal_temperature_k: float,
-                    specification: str = "", notes: str = "", source: str = "", editable: bool = True) -> Material:
-    """Add a material and its minimum metal temperature [K] (admins only)."""
+def check_cold_spec(material: Material) -> MaterialColdSpec:
+    """The material's cold-limit data checked as a whole (an InputError naming the field at fault)."""
+    spec = material.cold_spec()
+    if spec.has_curve:
+        material_mdmt(spec.curve or None, spec.thickness_m, code=spec.code,
+                      impact_test_temperature_k=spec.impact_test_temperature_k, pwht_credit=spec.pwht_credit)
+    if spec.outside_diameter_m is not None and spec.thickness_m is not None:
+        if spec.outside_diameter_m <= 2 * spec.thickness_m:
+            raise InputError("outside_diameter_m", "the outside diameter must exceed twice the governing thickness")
+        if spec.corrosion_allowance_m >= spec.thickness_m:
+            raise InputError("corrosion_allowance_m", "the allowance must be less than the governing thickness")
+    return spec
+
+
+def create_material(session: Session, user: User, *, name: str, min_metal_temperature_k: float | None = None,
+                    specification: str = "", notes: str = "", source: str = "", editable: bool = True,
+                    **cold: Any) -> Material:
+    """Add a material (admins only): a typed minimum metal temperature [K], or what the codes use for it
+    (``cold``: the keys of :data:`COLD_DEFAULTS`, SI), or both (the warmer governs)."""
     require(user, ADMIN_ROLES, "create materials")
     with transaction(session):
+        refuse_unknown_keys(cold, tuple(COLD_DEFAULTS), "material")
         values = _material_values({"name": name, "min_metal_temperature_k": min_metal_temperature_k,
                                    "specification": specification, "notes": notes, "source": source,
-                                   "editable": editable})
+                                   "editable": editable, **{**COLD_DEFAULTS, **cold}})
         if session.scalar(select(Material.id).where(Material.name == values["name"])) is not None:
             raise InputError("name", f"a material named {values['name']!r} already exists; choose another name")
         material = Material(seeded=False, **values)
+        check_cold_spec(material)
         session.add(material)
         session.flush()
         audit.add_entry(session, user, "material", material.id, "create", new=material.name)
@@ -77,11 +121,15 @@ def update_material(session: Session, user: User, material_id: int, changes: Map
                                                              Material.id != material.id))
             if other is not None:
                 raise InputError("name", f"a material named {values['name']!r} already exists")
+        changed = []
         for key, value in values.items():
             old = getattr(material, key)
             if old != value:
                 setattr(material, key, value)
-                audit.add_entry(session, user, "material", material.id, "update", key, old, value)
+                changed.append((key, old, value))
+        check_cold_spec(material)
+        for key, old, value in changed:
+            audit.add_entry(session, user, "material", material.id, "update", key, old, value)
     return material
 
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import enum
 from datetime import UTC, datetime
+from types import EllipsisType
 from typing import Any
 
 from sqlalchemy import (
@@ -41,6 +42,7 @@ from sqlalchemy import (
 from sqlalchemy.orm import DeclarativeBase, Mapped, ORMExecuteState, Session, mapped_column, relationship
 
 from jtcheck.records.errors import AppendOnlyError, RecordImmutableError
+from jtcheck.screening.mdmt import MaterialColdSpec
 
 #: Constraint names, so that migrations (and SQLite batch migrations) can refer to them.
 NAMING_CONVENTION = {
@@ -233,12 +235,70 @@ class Material(Base):
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(200), unique=True)
     specification: Mapped[str] = mapped_column(Text, default="")
-    min_metal_temperature_k: Mapped[float] = mapped_column(Float)
+    #: the typed minimum metal temperature [K]; None for a material whose limit comes from its exemption curve
+    min_metal_temperature_k: Mapped[float | None] = mapped_column(Float)
     notes: Mapped[str] = mapped_column(Text, default="")
     source: Mapped[str] = mapped_column(Text, default="")
     seeded: Mapped[bool] = mapped_column(Boolean, default=False)
     editable: Mapped[bool] = mapped_column(Boolean, default=True)
+    # what the codes use (jtcheck.screening.mdmt): exemption curve ("" none; A-D), code ("VIII-1" or "B31.3"),
+    # governing thickness [m], impact test temperature [K] (None: not impact tested), PWHT credit (VIII-1
+    # UCS-68(c)), and for the coincident stress ratio: allowable stress [Pa], outside diameter [m], corrosion
+    # and mill-tolerance allowance [m], joint efficiency [-]
+    exemption_curve: Mapped[str] = mapped_column(String(4), default="")
+    curve_code: Mapped[str] = mapped_column(String(16), default="VIII-1")
+    thickness_m: Mapped[float | None] = mapped_column(Float)
+    impact_test_temperature_k: Mapped[float | None] = mapped_column(Float)
+    pwht_credit: Mapped[bool] = mapped_column(Boolean, default=False)
+    allowable_stress_pa: Mapped[float | None] = mapped_column(Float)
+    outside_diameter_m: Mapped[float | None] = mapped_column(Float)
+    corrosion_allowance_m: Mapped[float] = mapped_column(Float, default=0.0)
+    joint_efficiency: Mapped[float] = mapped_column(Float, default=1.0)
+    #: coincident stress from dead loads and displacement strain [Pa], added to the pressure stress
+    other_stress_pa: Mapped[float] = mapped_column(Float, default=0.0)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
+
+    def cold_spec(self, typed_limit_k: float | None | EllipsisType = ...) -> MaterialColdSpec:
+        """What the material carries for its cold limit (``typed_limit_k`` replaces the typed limit, e.g. the
+        value a case copied when it was saved)."""
+        typed = self.min_metal_temperature_k if typed_limit_k is ... else typed_limit_k
+        return MaterialColdSpec(
+            name=self.name, typed_limit_k=typed, curve=self.exemption_curve or "", code=self.curve_code or "VIII-1",
+            thickness_m=self.thickness_m, impact_test_temperature_k=self.impact_test_temperature_k,
+            pwht_credit=bool(self.pwht_credit), allowable_stress_pa=self.allowable_stress_pa,
+            outside_diameter_m=self.outside_diameter_m, corrosion_allowance_m=self.corrosion_allowance_m or 0.0,
+            joint_efficiency=self.joint_efficiency if self.joint_efficiency is not None else 1.0,
+            other_stress_pa=self.other_stress_pa or 0.0)
+
+    @property
+    def limit_way(self) -> str:
+        """How the material's limit is found, in words."""
+        if self.exemption_curve or self.impact_test_temperature_k is not None:
+            how = (f"curve {self.exemption_curve} ({self.curve_code})" if self.exemption_curve else "impact test")
+            return how + (" or the typed limit, the warmer" if self.min_metal_temperature_k is not None else "")
+        return "typed limit" if self.min_metal_temperature_k is not None else "no limit (not screened)"
+
+
+class CurvePoint(Base):
+    """One row of the register's MDMT curve table (jtcheck.screening.mdmt; empty: the shipped table is used).
+
+    Admins change rows; the first change copies the shipped table into the register.
+    """
+
+    __tablename__ = "mdmt_curve_points"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    position: Mapped[int] = mapped_column(Integer)
+    code: Mapped[str] = mapped_column(String(16))
+    table_name: Mapped[str] = mapped_column(String(16))
+    curve: Mapped[str] = mapped_column(String(32))
+    x: Mapped[float | None] = mapped_column(Float)
+    value: Mapped[float] = mapped_column(Float)
+    unit: Mapped[str] = mapped_column(String(8))
+    source: Mapped[str] = mapped_column(Text, default="")
+    edition: Mapped[str] = mapped_column(String(64), default="")
+    provenance: Mapped[str] = mapped_column(Text, default="")
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
 
 

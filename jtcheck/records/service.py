@@ -71,6 +71,7 @@ from jtcheck.records.materials import (
     seed_materials,
     update_material,
 )
+from jtcheck.records.mdmt_curves import curve_rows, curve_table, update_curve_point
 from jtcheck.records.results import get_result, latest_results, result_is_current
 from jtcheck.records.sites import create_site, create_unit, list_sites
 from jtcheck.records.users import create_user, get_user_by_email, list_users, update_user
@@ -94,7 +95,7 @@ __all__ = [
     "create_fluid", "update_fluid", "list_fluids",
     # materials
     "create_material", "update_material", "list_materials", "TYPICAL_CAUTION", "TYPICAL_SOURCE",
-    "SEED_MATERIALS", "seed_materials",
+    "SEED_MATERIALS", "seed_materials", "curve_rows", "curve_table", "update_curve_point",
     # cases
     "NOT_COMPUTED", "create_case", "update_case", "case_has_issued_records", "get_case", "list_cases",
     # computation

@@ -84,7 +84,7 @@ def case_snapshot(case: Case, result: CaseResult, letter: str, history: list[dic
             "material": None if material is None else {
                 "name": material.name, "specification": material.specification,
                 "min_metal_temperature_k": material.min_metal_temperature_k, "source": material.source,
-                "notes": material.notes},
+                "notes": material.notes, "cold_spec": material.cold_spec().to_dict()},
         },
         "fluid": {"name": case.fluid.name, "composition": case.fluid.composition, "eos": case.fluid.eos,
                   "kij_mode": KijMode(case.fluid.kij_mode).value},

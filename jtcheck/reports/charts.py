@@ -2,7 +2,9 @@
 
 The pressure-temperature diagram shows the fluid's phase envelope (dew and bubble branches, critical
 point), the letdown path of each computed condition from its inlet to its outlet state, and as vertical
-lines the governing cold limit, the limit plus the required margin, and the MDMT when it does not govern;
+lines the governing cold limit, the limit plus the required margin, and the MDMT when it does not govern; when
+the MDMT comes from the material's exemption curve, the allowable metal temperature against pressure as a curve
+(the region to its left is what the material does not allow at that pressure);
 temperature on the x axis and pressure on the y axis, both in the units the case was entered in.
 
 The sweep chart shows the operating sweep's table: outlet temperature against the table's column
@@ -112,6 +114,9 @@ class ColdLines:
     governing_k: float | None = None
     target_k: float | None = None
     mdmt_k: float | None = None
+    #: the material's allowable temperature against pressure ([Pa abs], [K]) when its MDMT comes from its
+    #: exemption curve at the coincident pressure
+    allowable: tuple[tuple[float, ...], tuple[float, ...]] | None = None
 
 
 @dataclass(frozen=True)
@@ -354,6 +359,12 @@ def draw_pt_diagram(data: PTDiagramData, *, style: ChartStyle = SCREEN, text_as_
             if lines.target_k is not None and lines.target_k != lines.governing_k:
                 ax.axvline(float(tx(lines.target_k)), color=style.target, linestyle="-.", linewidth=1.3,
                            label="cold limit + margin")
+        if lines.allowable is not None:
+            p_al, t_al = np.asarray(lines.allowable[0], dtype=float), np.asarray(lines.allowable[1], dtype=float)
+            ok = np.isfinite(t_al)
+            if ok.sum() >= 2:
+                ax.plot(tx(t_al[ok]), py(p_al[ok]), linestyle=(0, (6, 2, 1, 2)), color=style.mdmt, linewidth=1.8,
+                        label="allowable metal temperature at pressure (material curve)")
         if lines.mdmt_k is not None and lines.mdmt_k != lines.governing_k:
             ax.axvline(float(tx(lines.mdmt_k)), color=style.mdmt, linestyle=":", linewidth=1.6, label="MDMT")
         ax.set_xlabel(f"Temperature [{tu}]", color=style.ink)

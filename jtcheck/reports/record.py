@@ -428,6 +428,7 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
         "limits": {"governing": units.T(limits.governing_k), "target": units.T(limits.target_k),
                    "mdmt": units.T(limits.mdmt_k), "user": units.T(limits.user_limit_k),
                    "margin": units.DT(limits.margin_k), "basis": limits.basis, "mdmt_source": limits.mdmt_source,
+                   "mdmt_working": limits.mdmt_working,
                    "total_margin": units.DT(limits.total_margin_k),
                    "margin_terms": [{"term": str(t.get("term") or ""), "k": units.DT(t.get("k")),
                                      "basis": str(t.get("basis") or "")} for t in limits.margin_terms]},
@@ -470,7 +471,7 @@ def _charts(snapshot: Mapping[str, Any], ctx: Mapping[str, Any]) -> dict[str, st
                 for c in display.conditions]
         data = charts.pt_diagram_data(
             charts.fluid_key_of(result.get("inputs") or {}), ends,
-            charts.ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k),
+            charts.ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k, limits.allowable_curve),
             charts.ChartUnits(units["temperature"], units["inlet_pressure"], units["p_atm_bar"] * 1e5))
         out["pt"] = _svg_uri(charts.draw_pt_diagram(data, style=charts.PRINT, text_as_paths=False,
                                                     css_class="chart-pt", figsize=(8.2, 4.4),

@@ -223,6 +223,17 @@ class Limits:
     from_screening: bool = True
     total_margin_k: float | None = None
     margin_terms: tuple[Mapping[str, Any], ...] = ()
+    #: the MDMT found from the material's exemption curve at the coincident pressure: its working
+    #: (:func:`jtcheck.screening.cold_metal.material_limit_working`); None otherwise
+    mdmt_working: Mapping[str, Any] | None = None
+
+    @property
+    def allowable_curve(self) -> tuple[tuple[float, ...], tuple[float, ...]] | None:
+        """The allowable temperature against pressure ([Pa abs], [K]) drawn on the P-T diagram, if any."""
+        curve = (self.mdmt_working or {}).get("allowable_curve")
+        if not isinstance(curve, Mapping) or not curve.get("p_pa"):
+            return None
+        return tuple(float(p) for p in curve["p_pa"]), tuple(float(t) for t in curve["t_k"])
 
     def __post_init__(self) -> None:
         if self.total_margin_k is None:
@@ -249,7 +260,9 @@ def limits_of(stored: StoredResult) -> Limits:
                       user_limit_k=_num(limits.get("user_limit_k")), margin_k=_num(limits.get("margin_k")) or 0.0,
                       governing_k=_num(limits.get("governing_k")), target_k=_num(limits.get("target_k")),
                       basis=str(limits.get("basis") or ""), total_margin_k=_num(limits.get("total_margin_k")),
-                      margin_terms=tuple(t for t in limits.get("margin_terms") or () if isinstance(t, Mapping)))
+                      margin_terms=tuple(t for t in limits.get("margin_terms") or () if isinstance(t, Mapping)),
+                      mdmt_working=limits.get("mdmt_working") if isinstance(limits.get("mdmt_working"), Mapping)
+                      else None)
     values = stored.case_values
     mdmt, user = _num(values.get("mdmt_k")), _num(values.get("cold_limit_k"))
     margin = _num(values.get("margin_k")) or 0.0

@@ -23,9 +23,11 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 from jtcheck.errors import InputError
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic
+from jtcheck.screening.mdmt import CurveTable, MaterialColdSpec, allowable_curve
 
 #: Allowed margin [K].
 MARGIN_RANGE_K = (0.0, 100.0)
@@ -65,6 +67,10 @@ class ColdLimits:
     margin_source : str
         Where the margin came from when it is not the case's own ("site default of <site>: <reason>"); "" for
         a margin entered with the case.
+    mdmt_working : dict or None
+        When the MDMT was found from the material's exemption curve at the coincident pressure: the
+        coincident pressure [Pa], the stress ratio, the working of :func:`jtcheck.screening.mdmt.material_mdmt`
+        and the allowable temperature against pressure for the P-T diagram (:func:`material_limit_working`).
     """
 
     mdmt_k: float | None = None
@@ -74,6 +80,7 @@ class ColdLimits:
     model_spread_k: float = 0.0
     spread_condition: str = ""
     margin_source: str = ""
+    mdmt_working: dict[str, Any] | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "mdmt_k", _check_limit("mdmt", self.mdmt_k))
@@ -139,7 +146,7 @@ class ColdLimits:
                 "margin_k": self.margin_k, "margin_source": self.margin_source, "model_spread_k": self.model_spread_k,
                 "spread_condition": self.spread_condition, "total_margin_k": self.total_margin_k,
                 "margin_terms": self.margin_terms, "governing_k": self.governing_k, "target_k": self.target_k,
-                "basis": self.basis}
+                "basis": self.basis, "mdmt_working": self.mdmt_working}
 
 
 def margin_terms_text(limits: ColdLimits) -> str:
@@ -209,3 +216,32 @@ def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: Cold
                                 f"the limit): {text}.", numbers, basis, coldest_name)
     return outcome, Finding(Topic.COLD_METAL, Severity.INFORMATION,
                             f"{coldest - limit:.1f} K above the cold limit: {text}.", numbers, basis, coldest_name)
+
+
+def material_limit_working(spec: MaterialColdSpec, p_coincident_pa: float, p_atm_pa: float, p_max_pa: float,
+                           table: CurveTable | None = None, coincident: str = "") -> tuple[float | None, str,
+                                                                                              dict[str, Any]]:
+    """The material's cold limit at the coincident pressure [K], where it came from, and its working.
+
+    Parameters
+    ----------
+    spec : MaterialColdSpec
+    p_coincident_pa : float
+        The pressure the metal sees when it is cold [Pa abs] (a letdown: its outlet pressure).
+    p_atm_pa : float
+        Atmospheric pressure [Pa].
+    p_max_pa : float
+        Top of the allowable-temperature curve drawn on the P-T diagram [Pa abs].
+    table : CurveTable, optional
+    coincident : str
+        Words for the coincident pressure ("the normal outlet pressure ...").
+
+    Returns
+    -------
+    (limit [K] or None, basis text, working dict)
+    """
+    lim = spec.limit_at(p_coincident_pa, p_atm_pa, table)
+    working = {**lim.to_dict(), "material": spec.name, "p_coincident_pa": p_coincident_pa,
+               "coincident": coincident, "spec": spec.to_dict(),
+               "allowable_curve": allowable_curve(spec, p_max_pa, p_atm_pa, table)}
+    return lim.limit_k, lim.basis, working

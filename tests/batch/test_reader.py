@@ -382,3 +382,25 @@ def test_a_csv_that_is_not_utf8_is_read_as_windows_1252_with_a_warning():
     assert result.ok and result.cases[0].t_in_k == pytest.approx(313.15)
     assert "Windows-1252" in result.warnings[0].reason and result.warnings[0].row == 1
     assert read_cases(text.encode("utf-8"), filename="x.csv").warnings == []
+
+
+# -- the downstream material by its exemption curve (issue 17) ----------------------------------------------------
+def test_rows_with_a_material_by_its_curve():
+    from jtcheck.screening.mdmt import material_mdmt, stress_ratio
+
+    header = ["tag", "fluid", "inlet pressure [barg]", "inlet temperature [degC]", "outlet pressure [barg]",
+              "curve", "curve code", "thickness", "allowable stress", "outside diameter", "margin [K]"]
+    rows = [(2, ["PCV-C1", GAS, 72, 9, 19, "B", "B31.3", "12.7 mm", "138 MPa", "219.1 mm", 5]),
+            (3, ["PCV-C2", GAS, 72, 9, 19, "E", "", "12.7 mm", "", "", 5]),
+            (4, ["PCV-C3", GAS, 72, 9, 19, "B", "", "200 mm", "", "", 5]),
+            (5, ["PCV-C4", GAS, 72, 9, 19, "", "", "12.7 mm", "", "", 5])]
+    result = read_cases(csv_bytes(header, rows), filename="list.csv", keep_going=True)
+    (case,) = result.cases
+    ratio = stress_ratio(19e5 + 101325.0, p_atm_pa=101325.0, allowable_stress_pa=138e6, outside_diameter_m=0.2191,
+                         thickness_m=0.0127)
+    assert case.limits.mdmt_k == material_mdmt("B", 0.0127, ratio, code="B31.3").mdmt_k
+    assert case.limits.mdmt_working["working"]["code"] == "B31.3"
+    problems = {(e.row, e.column): e.reason for e in result.errors}
+    assert "unknown exemption curve" in problems[(3, "curve")]
+    assert "impact testing is required" in problems[(4, "thickness")]
+    assert "need the exemption curve" in problems[(5, "curve")]

@@ -142,3 +142,18 @@ def test_plain_cases_without_a_read_result_use_si_friendly_defaults(read):
 def test_summary_counts_has_every_outcome(read):
     assert summary_counts(fake_screening(read.cases)) == {"pass": 1, "margin eroded": 1, "fail": 1,
                                                           "not screened": 1}
+
+
+def test_results_say_which_way_the_limit_was_found():
+    # a row whose MDMT comes from its material's exemption curve (issue 17), and a typed one
+    data = "\n".join([HEADER + ",curve,thickness",
+                      f'PCV-1,curve,"{GAS}",1000,100,200,,9,B,12.7 mm',
+                      f'PCV-2,typed,"{GAS}",1000,100,200,-20,9,,',
+                      f'PCV-3,curve,"{GAS}",1000,100,200,,9,B,12.7 mm',
+                      f'PCV-4,none,"{GAS}",1000,100,200,,,,']).encode()
+    read = read_cases(data, filename="letdowns.csv")
+    assert read.ok, read.errors
+    rows = csv_table(write_results(fake_screening(read.cases), read, "csv"))
+    assert "exemption curve" in rows[0]["limit basis"] and "coincident outlet pressure" in rows[0]["limit basis"]
+    assert rows[1]["limit basis"].startswith("MDMT")
+    assert rows[3]["limit basis"] == ""

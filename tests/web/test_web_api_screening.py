@@ -415,3 +415,35 @@ def test_openapi_documents_the_screening(api, cold):
     _schema_validator(api, "LetdownResponse").validate(cold)
     Draft202012Validator({**schemas["LetdownRequest"], "components": doc["components"]}).validate(
         {**COLD, "mass_flow": "12 kg/s", "water_saturated": True, "inhibitor": "MEG", "p_in_max": "110 bara"})
+
+
+# -- the downstream material by its exemption curve (issue 17) ----------------------------------------------------
+def test_letdown_material_by_curve_is_screened_at_the_outlet_pressure(api):
+    from jtcheck.screening.mdmt import material_mdmt
+
+    # no typed limit: the MDMT comes from curve B at 12.7 mm with the ratio 1 (no stress inputs)
+    body = _ok(api, {**{k: v for k, v in COLD.items() if k != "limit"}, "curve": "B", "thickness": "12.7 mm",
+                     "compare_models": False})
+    limits = body["screening"]["limits"]
+    assert limits["mdmt_k"] == pytest.approx(material_mdmt("B", 0.0127).mdmt_k)
+    assert limits["mdmt_working"]["working"]["curve"] == "B"
+    assert body["outcome"] in ("fail", "margin eroded", "pass")
+    bad = _post(api, {**COLD, "curve": "B", "thickness": "12.7 furlongs"})
+    assert bad.status_code == 422 and "thickness" in str(bad.get_json())
+    bad = _post(api, {**COLD, "curve": "B", "thickness": "200 mm"})
+    assert bad.status_code == 422 and "thickness" in str(bad.get_json())
+
+
+def test_api_materials_carry_the_curve_data(api):
+    created = api(Role.ADMIN, "POST", "/api/v1/materials", json={
+        "name": "API curve steel", "exemption_curve": "C", "thickness_m": 0.02, "curve_code": "B31.3"})
+    assert created.status_code == 201, created.get_json()
+    m = created.get_json()
+    assert m["exemption_curve"] == "C" and m["min_metal_temperature_k"] is None and "curve C" in m["limit_way"]
+    assert api(Role.ENGINEER, "POST", "/api/v1/materials", json={"name": "x"}).status_code == 403
+    bad = api(Role.ADMIN, "PATCH", f"/api/v1/materials/{m['id']}", json={"thickness_m": 0.5})
+    assert bad.status_code == 422 and "thickness_m" in str(bad.get_json())
+    listed = api(Role.CHECKER, "GET", "/api/v1/materials").get_json()["materials"]
+    assert any(x["name"] == "API curve steel" and x["thickness_m"] == 0.02 for x in listed)
+    table = api(Role.CHECKER, "GET", "/api/v1/materials/curves").get_json()
+    assert table["caution"] == "verify against the code edition in force" and len(table["rows"]) > 200

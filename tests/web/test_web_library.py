@@ -141,10 +141,45 @@ def test_everyone_sees_the_materials_admin_adds_and_edits(app, checker, admin):
                                                               "min_metal_temperature_unit": "degC"}).status_code == 403
 
 
+def test_admin_adds_a_material_by_its_exemption_curve(app, checker, admin):
+    name = unique("SA-516-70N plate")
+    resp = admin.post("/materials/new", data={
+        "name": name, "min_metal_temperature": "", "min_metal_temperature_unit": "degC", "curve_code": "VIII-1",
+        "exemption_curve": "D", "thickness": "25.4", "impact_test_temperature": "", "impact_test_temperature_unit":
+        "degC", "allowable_stress": "138", "outside_diameter": "610", "corrosion_allowance": "3",
+        "joint_efficiency": "1", "other_stress": "20", "specification": "", "notes": "", "source": "",
+        "editable": "1"})
+    assert resp.status_code == 302
+    with app.app_context():
+        m = db_session().scalar(select(Material).where(Material.name == name))
+        assert m.min_metal_temperature_k is None and m.exemption_curve == "D"
+        assert math.isclose(m.thickness_m, 0.0254) and math.isclose(m.allowable_stress_pa, 138e6)
+        assert math.isclose(m.corrosion_allowance_m, 0.003) and math.isclose(m.other_stress_pa, 20e6)
+        material_id = m.id
+    page = checker.get("/materials").data.decode()
+    assert "curve D (VIII-1)" in page
+    edit = admin.get(f"/materials/{material_id}/edit").data.decode()
+    assert 'value="25.4"' in edit and 'value="610"' in edit
+
+
+def test_curve_table_page_and_admin_change(app, checker, admin):
+    page = checker.get("/materials/curves").data.decode()
+    assert "Verify against the code edition in force" in page and "from memory" in page
+    assert "<form" not in page.split("<table", 1)[1]
+    resp = admin.post("/materials/curves/0", data={"value": "-500", "provenance": "typo"})   # curve A would fall
+    assert resp.status_code == 422 and "not changed" in resp.data.decode()
+    assert checker.post("/materials/curves/0", data={"value": "17"}).status_code == 403
+
+
 BAD_MATERIALS = [
     ("name", {"name": ""}, "required"),
     ("name", {"name": "Test carbon steel"}, "already exists"),
-    ("min_metal_temperature", {"min_metal_temperature": ""}, "required"),
+    ("exemption_curve", {"exemption_curve": "E", "thickness": "10"}, "unknown exemption curve"),
+    ("thickness", {"exemption_curve": "B", "thickness": "thick"}, "must be a number"),
+    ("thickness", {"exemption_curve": "B", "thickness": "150"}, "impact testing is required"),
+    ("thickness", {"exemption_curve": "B"}, "governing thickness"),
+    ("pwht_credit", {"exemption_curve": "B", "thickness": "10", "curve_code": "B31.3", "pwht_credit": "1"},
+     "PWHT"),
     ("min_metal_temperature", {"min_metal_temperature": "chilly"}, "not a number"),
     ("min_metal_temperature", {"min_metal_temperature": "-500"}, "absolute zero"),
     ("min_metal_temperature", {"min_metal_temperature_unit": "Rankine"}, "choose a unit"),

@@ -479,3 +479,24 @@ def test_case_list_shows_outcome_badges_and_filters_by_outcome(app, engineer, wo
         assert "1 case." in listed
     with app.app_context():
         assert db_session().scalars(select(CaseResult.outcome).where(CaseResult.case_id == failing)).one() == "fail"
+
+
+# -- the MDMT from the material's exemption curve (issue 17) --------------------------------------------
+def test_curve_material_shows_the_mdmt_working_and_the_json_carries_it(app, engineer, world, api):
+    from jtcheck.records.models import Material, Role, User
+
+    with app.app_context():
+        s = db_session()
+        admin = s.scalar(select(User).where(User.email == world.emails[Role.ADMIN]))
+        m = service.create_material(s, admin, name=unique("SA-106 B pipe"), exemption_curve="B", curve_code="B31.3",
+                                    thickness_m=0.0127, allowable_stress_pa=138e6, outside_diameter_m=0.2191)
+        material_id = m.id
+        assert s.get(Material, material_id).min_metal_temperature_k is None
+    case_id = new_case(engineer, world, material_id=str(material_id), inlet_temperature_min="")
+    result_id, page = compute(engineer, case_id)
+    assert "MDMT working" in page and "Curve B at governing thickness 12.70 mm" in page
+    assert "coincident pressure" in page and "verify against the code edition in force" in page.lower()
+    body = api(Role.ENGINEER, "GET", f"/api/v1/cases/{case_id}/results").get_json()
+    stored_result = next(r for r in body["results"] if r["id"] == result_id)
+    working = stored_result["screening"]["limits"]["mdmt_working"]
+    assert working["working"]["code"] == "B31.3" and working["stress_ratio"] < 1.0

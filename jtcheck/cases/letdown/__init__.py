@@ -35,7 +35,8 @@ from jtcheck.cases.fields import (
 )
 from jtcheck.cases.kind import CaseKind
 from jtcheck.errors import InputError
-from jtcheck.screening.cold_metal import ColdLimits
+from jtcheck.letdown.relief import P_ATM_STANDARD_PA
+from jtcheck.screening.cold_metal import ColdLimits, material_limit_working
 from jtcheck.screening.findings import Topic
 from jtcheck.screening.screen import (
     Condition,
@@ -151,11 +152,28 @@ def letdown_conditions(values: Mapping[str, Any]) -> list[Condition]:
                                values.get("inlet_temperature_min_k"))
 
 
+#: The coincident pressure of a letdown's cold outlet, in words.
+COINCIDENT_OUTLET = ("the normal outlet pressure (the highest outlet pressure of the credible conditions: a lower "
+                     "pressure would allow a colder limit, so this is the conservative side)")
+
+
 def cold_limits(values: Mapping[str, Any]) -> ColdLimits:
-    """The cold limits of ``values``: MDMT (and where it came from), the user's limit and the margin [K]."""
-    return ColdLimits(mdmt_k=values.get("mdmt_k"), user_limit_k=values.get("cold_limit_k"),
-                      margin_k=values.get("margin_k") or 0.0, mdmt_source=values.get("mdmt_source") or "",
-                      margin_source=values.get("margin_source") or "")
+    """The cold limits of ``values``: MDMT (and where it came from), the user's limit and the margin [K].
+
+    With ``material_spec`` (a :class:`~jtcheck.screening.mdmt.MaterialColdSpec` whose limit comes from an
+    exemption curve or an impact test), the MDMT is found at the coincident pressure: the outlet pressure.
+    """
+    mdmt, source, working = values.get("mdmt_k"), values.get("mdmt_source") or "", None
+    spec = values.get("material_spec")
+    if spec is not None and spec.has_curve:
+        p_out = values["outlet_pressure_pa"]
+        p_top = max(p_out, values.get("inlet_pressure_max_pa") or values["inlet_pressure_pa"])
+        mdmt, basis, working = material_limit_working(spec, p_out, values.get("p_atm_pa") or P_ATM_STANDARD_PA,
+                                                      p_top, values.get("mdmt_table"), COINCIDENT_OUTLET)
+        source = f"{source or 'material: ' + spec.name}; {basis} at the coincident outlet pressure"
+    return ColdLimits(mdmt_k=mdmt, user_limit_k=values.get("cold_limit_k"),
+                      margin_k=values.get("margin_k") or 0.0, mdmt_source=source,
+                      margin_source=values.get("margin_source") or "", mdmt_working=working)
 
 
 def operating_ranges(values: Mapping[str, Any]) -> OperatingRanges:

@@ -19,8 +19,12 @@ from jtcheck.records.models import FluidRecord, KijMode
 from jtcheck.reports.screening_display import DisplayUnits, key_numbers
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.hydrates import Inhibitor
+from jtcheck.screening.mdmt import MaterialColdSpec
 from jtcheck.screening.screen import Screening
 from jtcheck.units import (
+    MATERIAL_OPTION_OF,
+    MATERIAL_OPTIONS,
+    material_options,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
@@ -70,7 +74,7 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
                  "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
-                 "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off")
+                 "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off", *MATERIAL_OPTIONS)
 
 
 def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
@@ -148,6 +152,15 @@ def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
                       user_limit_k=None if limit is None else parse_temperature(limit, "limit"),
                       margin_k=parse_temperature_difference(margin, "margin"),
                       mdmt_source="entered" if mdmt is not None else "")
+
+
+def _material_spec(data: Mapping[str, Any], mdmt_k: float | None) -> MaterialColdSpec | None:
+    """The downstream material by its exemption curve ("curve", "thickness", ...; None without them); "mdmt" is then
+    its typed limit (the warmer governs).  Its MDMT is found at the outlet pressure."""
+    try:
+        return MaterialColdSpec.from_options(material_options(data), "material given in the request", mdmt_k)
+    except InputError as err:
+        raise InputError(MATERIAL_OPTION_OF.get(err.field, err.field), err.message) from None
 
 
 def _ranges(data: Mapping[str, Any], p_atm_pa: float) -> tuple[float | None, float | None, float | None]:
@@ -242,6 +255,9 @@ def compute_letdown():
                                 data.get("mass_flow")))
     values.update(_generated_inputs(data, p_atm_pa))
     check_short(values)     # the letdown kind's checks, naming the request's fields
+    spec = _material_spec(data, limits.mdmt_k)
+    if spec is not None:
+        values["material_spec"] = spec
     screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)

@@ -19,7 +19,7 @@ from jtcheck.web.api.serialize import (
     site_json,
 )
 from jtcheck.web.database import db_session
-from jtcheck.web.security import require_editor, require_viewer
+from jtcheck.web.security import require_admin, require_editor, require_viewer
 
 # -- fluids --------------------------------------------------------------------------------------
 _FLUID_KEYS = ("name", "composition", "eos", "kij", "notes")
@@ -97,6 +97,38 @@ def list_materials():
     """Coldest limit first.  Shipped entries are typical values to verify against the applicable code."""
     user = require_viewer("view materials")
     return jsonify({"materials": [material_json(m) for m in service.list_materials(db_session(), user)]})
+
+
+@api.route("/materials", "POST", summary="Add a material (admins): a typed limit, an exemption curve, or both",
+           tag="reference", request="MaterialBody", response="Material", status=201, errors=(403, 409, 422))
+def create_material():
+    """SI values: "min_metal_temperature_k", "exemption_curve" (A-D), "curve_code" (VIII-1, B31.3), "thickness_m",
+    "impact_test_temperature_k", "pwht_credit", "allowable_stress_pa", "outside_diameter_m",
+    "corrosion_allowance_m", "joint_efficiency", "other_stress_pa"; with both a typed limit and a curve the warmer
+    governs."""
+    user = require_admin("create materials")
+    data = dict(body())
+    name = data.pop("name", None)
+    material = service.create_material(db_session(), user, name=name, **data)
+    return jsonify(material_json(material)), 201
+
+
+@api.route("/materials/<int:material_id>", "PATCH", summary="Change a material (admins)", tag="reference",
+           request="MaterialBody", response="Material", errors=(403, 404, 409, 422))
+def update_material(material_id: int):
+    """The fields given are changed (SI, as for POST); the whole cold-limit data is checked."""
+    user = require_admin("edit materials")
+    return jsonify(material_json(service.update_material(db_session(), user, material_id, body())))
+
+
+@api.route("/materials/curves", "GET", summary="The MDMT exemption curve table in use", tag="reference",
+           response="CurveTable", errors=(403,))
+def curve_table():
+    """Rows with their source, edition and provenance ("from memory" where recalled): verify against the code
+    edition in force."""
+    user = require_viewer("view the MDMT curve table")
+    label, rows = service.curve_rows(db_session(), user)
+    return jsonify({"label": label, "caution": "verify against the code edition in force", "rows": rows})
 
 
 @api.route("/sites", "GET", summary="List sites and their units", tag="reference", response="SiteList",

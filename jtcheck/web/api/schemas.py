@@ -12,6 +12,33 @@ from jtcheck.web.api.openapi import ApiRegistry
 from jtcheck.web.cases import inputs as case_inputs
 from jtcheck.web.quantities import CASE_QUANTITIES
 
+#: The material of a direct letdown by its exemption curve (jtcheck.units.MATERIAL_OPTIONS): text with units.
+MATERIAL_REQUEST_PROPERTIES = {
+    "curve": {"type": ["string", "null"], "enum": ["A", "B", "C", "D", None],
+              "description": "Exemption curve of the downstream material (VIII-1 Fig. UCS-66; B31.3 Table A-1): its "
+                             "MDMT is found at the outlet pressure, with the working in screening.limits.mdmt_working; "
+                             "'mdmt' is then its typed limit (the warmer governs)."},
+    "curve_code": {"type": ["string", "null"], "enum": ["VIII-1", "B31.3", None]},
+    "thickness": {"type": ["string", "null"], "description": "Governing thickness, e.g. '25.4 mm' or '1 in'."},
+    "impact_test_t": {"type": ["string", "null"], "description": "Impact test temperature, e.g. '-46 degC'."},
+    "pwht_credit": {"type": ["boolean", "null"], "description": "PWHT not required but done (VIII-1 UCS-68(c))."},
+    "allowable_stress": {"type": ["string", "null"], "description": "Allowable stress, e.g. '138 MPa' (with "
+                                                                    "outside_diameter: the stress ratio)."},
+    "outside_diameter": {"type": ["string", "null"], "description": "Outside diameter, e.g. '323.9 mm'."},
+    "corrosion_allowance": {"type": ["string", "null"], "description": "e.g. '3 mm' (default 0)."},
+    "joint_efficiency": {"type": ["number", "null"], "description": "Weld joint efficiency (default 1)."},
+    "other_stress": {"type": ["string", "null"], "description": "Stress from dead loads and displacement strain, "
+                                                                "e.g. '20 MPa', added to the pressure stress."},
+}
+#: A stored material's cold-limit data (SI).
+MATERIAL_SI_PROPERTIES = {
+    "exemption_curve": {"type": "string", "enum": ["", "A", "B", "C", "D"]},
+    "curve_code": {"type": "string", "enum": ["VIII-1", "B31.3"]},
+    "thickness_m": {"type": ["number", "null"]}, "impact_test_temperature_k": {"type": ["number", "null"]},
+    "pwht_credit": {"type": "boolean"}, "allowable_stress_pa": {"type": ["number", "null"]},
+    "outside_diameter_m": {"type": ["number", "null"]}, "corrosion_allowance_m": {"type": "number"},
+    "joint_efficiency": {"type": "number"}, "other_stress_pa": {"type": "number"},
+}
 
 def _ref(name: str) -> dict[str, str]:
     return {"$ref": f"#/components/schemas/{name}"}
@@ -124,7 +151,8 @@ def register(api: ApiRegistry) -> None:
                               "description": "Minimum ambient temperature of an uninsulated inlet (adds the "
                                              "minimum-ambient case when below t_in)."},
             "settle_out_volumes": _CASE_LISTS["settle_out_volumes"],
-            "credible_off": _CASE_LISTS["credible_off"]}})
+            "credible_off": _CASE_LISTS["credible_off"],
+            **MATERIAL_REQUEST_PROPERTIES}})
     s("LetdownResponse", {"type": "object", "properties": {
         "converged": {"type": "boolean", "description": "The normal condition with the chosen EOS converged."},
         "message": {"type": "string"}, "phase": {"type": "string"},
@@ -193,7 +221,17 @@ def register(api: ApiRegistry) -> None:
     s("Material", {"type": "object", "properties": {
         "id": {"type": "integer"}, "name": {"type": "string"}, "specification": {"type": "string"},
         "min_metal_temperature_k": {"type": "number"}, "notes": {"type": "string"}, "source": {"type": "string"},
-        "seeded": {"type": "boolean"}, "editable": {"type": "boolean"}}})
+        "seeded": {"type": "boolean"}, "editable": {"type": "boolean"}, "limit_way": {"type": "string"},
+        **MATERIAL_SI_PROPERTIES}})
+    s("MaterialBody", {"type": "object", "properties": {
+        "name": {"type": "string"}, "specification": {"type": "string"}, "notes": {"type": "string"},
+        "source": {"type": "string"}, "editable": {"type": "boolean"},
+        "min_metal_temperature_k": NUM_OR_NULL, **MATERIAL_SI_PROPERTIES}})
+    s("CurveTable", {"type": "object", "properties": {
+        "label": {"type": "string"}, "caution": {"type": "string"},
+        "rows": {"type": "array", "items": {"type": "object", "description": "position, code, table, curve, x, "
+                                                                            "value, unit, source, edition, "
+                                                                            "provenance"}}}})
     s("MaterialList", {"type": "object", "properties": {"materials": {"type": "array", "items": _ref("Material")}}})
     s("SiteList", {"type": "object", "properties": {"sites": {"type": "array", "items": {"type": "object"}}}})
     s("AuditList", {"type": "object", "properties": {"entries": {"type": "array", "items": {"type": "object"}}}})

@@ -216,7 +216,12 @@ def fluid_json(fluid: FluidRecord) -> dict[str, Any]:
 def material_json(m: Material) -> dict[str, Any]:
     return {"id": m.id, "name": m.name, "specification": m.specification,
             "min_metal_temperature_k": m.min_metal_temperature_k, "notes": m.notes, "source": m.source,
-            "seeded": m.seeded, "editable": m.editable}
+            "seeded": m.seeded, "editable": m.editable, "limit_way": m.limit_way,
+            "exemption_curve": m.exemption_curve or "", "curve_code": m.curve_code, "thickness_m": m.thickness_m,
+            "impact_test_temperature_k": m.impact_test_temperature_k, "pwht_credit": bool(m.pwht_credit),
+            "allowable_stress_pa": m.allowable_stress_pa, "outside_diameter_m": m.outside_diameter_m,
+            "corrosion_allowance_m": m.corrosion_allowance_m, "joint_efficiency": m.joint_efficiency,
+            "other_stress_pa": m.other_stress_pa}
 
 
 def site_json(site: Site) -> dict[str, Any]:

@@ -44,7 +44,7 @@ def render(result: CaseResult) -> str:
     limits = view.limits
     ends = [LetdownEnds(c.name, c.converged, c.p_in_pa, c.t_in_k, c.p_out_pa, c.t_out_k) for c in view.conditions]
     data = pt_diagram_data(fluid_key_of(result.inputs or {}), ends,
-                           ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k),
+                           ColdLines(limits.governing_k, limits.target_k, limits.mdmt_k, limits.allowable_curve),
                            ChartUnits(units.temperature, units.inlet_pressure, units.p_atm_pa))
     return draw_pt_diagram(data, style=SCREEN)
 
