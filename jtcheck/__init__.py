@@ -6,7 +6,9 @@
 """
 from jtcheck.letdown import LetdownBatch, LetdownResult, letdown
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.hydrate import HydrateEquilibrium, hydrate_temperature
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown"]
+__all__ = ["Fluid", "HydrateEquilibrium", "LetdownBatch", "LetdownResult", "__version__", "hydrate_temperature",
+           "letdown"]
