@@ -249,3 +249,44 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
     shape = p.shape
     return HydrateEquilibrium(p.copy(), t.reshape(shape), tuple(structure), tuple(water), screened.reshape(shape),
                               tuple(reasons), t_model.reshape(shape), METHOD_NAME, eos, CHECKED_DEVIATION_K, aw)
+
+
+def required_ln_water_activity(fluid, p_pa: float, t_k: float) -> float | None:
+    """Largest ln(water activity) [-] of the inhibited water (without its dissolved gas) at which neither
+    structure is stable at ``t_k`` [K], ``p_pa`` [Pa], and the solution stays liquid (no ice).
+
+    From the same terms as :func:`hydrate_temperature` (van der Waals and Platteeuw 1959; Munck et al. 1988):
+    hydrate is not stable while dmu_W >= dmu_H for both structures, i.e. ln a_w <= dmu_W(a_w=1) - dmu_H.
+    None when the fluid is outside the model's composition range or the flash fails.
+    """
+    from jtcheck.thermo.hydrate.kernels import dissolved_gas, guest_fugacities, hydrate_side
+
+    reason, prm, z, a, b, ha, hb = _setup(fluid)
+    if reason:
+        return None
+    n = z.size
+    x, y, lnphi, f = np.empty(n), np.empty(n), np.empty(n), np.empty(n)
+    st = guest_fugacities(prm, float(t_k), float(p_pa), z, np.inf, x, y, lnphi, f)
+    if st >= 10:
+        return None
+    ln_gas = float(np.log(1.0 - dissolved_gas(float(t_k), f, ha, hb)))
+    best = np.inf
+    for s in range(2):
+        ice_term = _ice_term(float(t_k), float(p_pa), s)
+        liq0 = _liquid_term(float(t_k), float(p_pa), s)
+        h = hydrate_side(float(t_k), f, s, a, b, _par.CAVITIES_PER_WATER)
+        best = min(best, liq0 - h, liq0 - ice_term)
+    return float(best - ln_gas)
+
+
+def _ice_term(t: float, p: float, s: int) -> float:
+    dmu0, dh_ice, dv_ice = _REF[0][s], _REF[1][s], _REF[2][s]
+    r = 8.314462618
+    return dmu0 / (r * 273.15) - dh_ice / r * (1.0 / 273.15 - 1.0 / t) + dv_ice * p / (r * t)
+
+
+def _liquid_term(t: float, p: float, s: int) -> float:
+    dmu0, dh, dv, dcp = _REF[0][s], _REF[3][s], _REF[4][s], _REF[5][s]
+    r = 8.314462618
+    return (dmu0 / (r * 273.15) - dh / r * (1.0 / 273.15 - 1.0 / t)
+            - dcp / r * (np.log(t / 273.15) + 273.15 / t - 1.0) + dv * p / (r * t))
