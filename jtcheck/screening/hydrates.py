@@ -1007,6 +1007,7 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         Bad fluid, pressure, temperature, margin, water input or inhibitor; the field is named.
     """
     from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, METHOD_NAME, hydrate_temperature
+    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K
 
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
@@ -1060,15 +1061,19 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         # water activity (content / saturated content), the same model with a_w < 1
         aw_vapour = min(1.0, water.content_mg_per_sm3 / water.saturated_outlet_mg_per_sm3)
         eq_dry = hydrate_temperature(fluid, p, water_activity=aw_vapour)
-        if eq_dry.screened or not np.isfinite(eq_dry.t_model_k):
-            notes.append(f"with no free water, hydrate could form from the gas only below "
-                         f"{_k(eq_dry.t_model_k) if np.isfinite(eq_dry.t_model_k) else 'the model range'} (the gas's "
-                         f"water activity {aw_vapour:.3f}, same model)")
-            if not (np.isfinite(eq_dry.t_model_k) and t < eq_dry.t_model_k + CHECKED_DEVIATION_K + margin):
+        t_dry = float(eq_dry.t_model_k)
+        bound = None
+        if eq_dry.screened:
+            bound = t_dry
+        elif math.isfinite(t_dry) and t_dry < T_RANGE_K[0]:
+            bound = T_RANGE_K[0]      # the model puts it below its checked range: take the range's lower end
+        if bound is not None:
+            notes.append(f"with no free water, hydrate could form from the gas only below {_k(bound)} (the gas's water "
+                         f"activity {aw_vapour:.3f}, same model)")
+            if t >= bound + CHECKED_DEVIATION_K + margin:
                 applies = False
-                reason = ("no free water at the outlet and the outlet is above the temperature at which hydrate "
-                          "could form from the undersaturated gas, with the margin: the gas is dry enough; not a "
-                          f"hydrate risk ({water.note})")
+                reason = ("the gas is dry enough: no free water at the outlet, and the outlet is above the temperature "
+                          f"at which hydrate could form from the undersaturated gas with the margin ({water.note})")
     if applies and not screened:
         reason = f"not screened for hydrates: {eq.reason}"
     subcooling = t_hyd - t if screened else nan

@@ -416,7 +416,7 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
         sev = Severity.HAZARD
     else:
         msg, sev = hydrate_outside(h.t_out_k, h.t_hydrate_k, margin_k, True, "")
-    numbers.update(hydrate_margin_numbers(margin_k))
+    numbers.update(hydrate_margin_numbers(margin_k))   # on every screened outlet, inside the region too
     return Finding(Topic.HYDRATES, sev, msg, numbers, basis, name)
 
 

@@ -148,8 +148,9 @@ def _setup(fluid):
         setup = (reason, None, None, None, None, None, None)
     else:
         keep = [i for i, c in enumerate(ids) if c != "water"]
+        total = float(zs[keep].sum())
         dry = fluid if len(keep) == len(ids) else fluid.with_composition(
-            [(ids[i], float(zs[i])) for i in keep])
+            [(ids[i], float(zs[i]) / total) for i in keep])
         a, b = _par.langmuir_arrays(dry.ids)
         ha, hb = _par.henry_arrays(dry.ids)
         setup = ("", dry.mixture.kernel_params, np.ascontiguousarray(dry.zs, dtype=float), a, b, ha, hb)
