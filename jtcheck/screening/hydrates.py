@@ -746,7 +746,8 @@ class WaterAtOutlet:
     note: str
 
 
-def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *, basis: WaterBasis | str = WaterBasis.SATURATED_INLET,
+def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *,
+                    basis: WaterBasis | str = WaterBasis.SATURATED_INLET,
                     p_in_pa: float | None = None, t_in_k: float | None = None,
                     content_mg_per_sm3: float | None = None, dew_point_k: float | None = None,
                     dew_point_p_pa: float | None = None) -> WaterAtOutlet:
@@ -767,7 +768,8 @@ def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *, basis: Wat
     acid = sum(z for i, z in zip(keep, dry, strict=True) if fluid.ids[i] in ("carbon dioxide", "hydrogen sulfide"))
     if acid > 0.05:
         return WaterAtOutlet(b.value, nan, nan, nan, True, nan,
-                             f"CO2 and H2S are {100 * acid:.1f} mol% of the gas: Bukacek's water-content correlation is "
+                             f"CO2 and H2S are {100 * acid:.1f} mol% of the gas: Bukacek's water-content correlation "
+                             "is "
                              "for sweet gas, so free water is assumed at the outlet")
     try:
         if b is WaterBasis.SATURATED_INLET:
@@ -776,7 +778,8 @@ def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *, basis: Wat
             w = wc.saturated_water_content(p_in_pa, t_in_k)
         elif b is WaterBasis.CONTENT:
             if content_mg_per_sm3 is None or not (content_mg_per_sm3 > 0.0):
-                raise InputError("water_content", f"the water content must be above 0 mg/Sm3, got {content_mg_per_sm3!r}")
+                raise InputError("water_content",
+                                 f"the water content must be above 0 mg/Sm3, got {content_mg_per_sm3!r}")
             w = float(content_mg_per_sm3)
         else:
             if dew_point_k is None:
@@ -933,7 +936,8 @@ def model_dose(fluid: Fluid, p_pa: float, t_target_k: float, inhibitor: Inhibito
 
     if inhibitor not in (Inhibitor.METHANOL, Inhibitor.MONOETHYLENE_GLYCOL):
         return float("nan"), (f"no dose for {inhibitor.value}: its water activity by original UNIFAC is not checked "
-                               "(it under-predicts the freezing-point depression) and no Hammerschmidt constant is held")
+                               "(it under-predicts the freezing-point depression) and no Hammerschmidt constant "
+                               "is held")
     ln_a = required_ln_water_activity(fluid, p_pa, t_target_k)
     if ln_a is None:
         return float("nan"), "the model could not evaluate the outlet (flash failed or outside its range)"
@@ -959,7 +963,8 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
                     inhibitor: Inhibitor | str = Inhibitor.METHANOL, design_margin_k: float = 0.0,
                     water_basis: WaterBasis | str | None = None, p_in_pa: float | None = None,
                     t_in_k: float | None = None, water_content_mg_per_sm3: float | None = None,
-                    water_dew_point_k: float | None = None, mass_flow_kg_per_s: float | None = None) -> HydrateAssessment:
+                    water_dew_point_k: float | None = None,
+                    mass_flow_kg_per_s: float | None = None) -> HydrateAssessment:
     """Screen a letdown outlet for gas hydrates and size a thermodynamic inhibitor.
 
     Hydrate temperature by van der Waals and Platteeuw (1959) with the parameters of Munck et al.
@@ -1099,7 +1104,8 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         if math.isfinite(w_model) and candidates:
             weight = max(candidates)
             ratio = float(inhibitor_mass_ratio(weight))
-            dose_note = (f"dose {weight:.1f} mass% {inh.value} in the free water: the larger of van der Waals-Platteeuw "
+            dose_note = (f"dose {weight:.1f} mass% {inh.value} in the free water: the larger of van der "
+                         "Waals-Platteeuw "
                          f"with UNIFAC water activity ({w_model:.1f} mass%)"
                          + (f" and Hammerschmidt ({w_ham:.1f} mass%)" if math.isfinite(w_ham)
                                else " (Hammerschmidt not applicable)"))

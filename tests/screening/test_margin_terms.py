@@ -14,8 +14,8 @@ from jtcheck import letdown
 from jtcheck.screening.cold_metal import ColdLimits, classify
 from jtcheck.screening.findings import Outcome, Severity, Topic
 from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_K
-from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K
 from jtcheck.screening.screen import Condition, ScreeningOptions, hydrate_outside, screen_letdown
+from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K
 
 T0 = 273.15
 BAR = 1e5

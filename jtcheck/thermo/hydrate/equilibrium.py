@@ -27,7 +27,7 @@ import numpy as np
 
 from jtcheck.errors import InputError
 from jtcheck.thermo.hydrate import parameters as _par
-from jtcheck.thermo.hydrate.kernels import HY_ABOVE, HY_FAIL_FLASH, HY_FAIL_ITER, HY_NONE, HY_OK, hydrate_t
+from jtcheck.thermo.hydrate.kernels import HY_ABOVE, HY_FAIL_FLASH, HY_NONE, HY_OK, hydrate_t, hydrate_t_many
 
 __all__ = [
     "CHECKED_DEVIATION_K",
@@ -66,6 +66,10 @@ CHECKED_DEVIATION_K = 2.0
 
 _T_WINDOW = (150.0, 340.0)
 _TOL_K = 1e-3
+#: Start of every temperature iteration [K]: fixed, so that a pressure gives the same answer however it is asked.
+_T_START = 280.0
+#: Answers kept per fluid (pressure, ln a_w) before the store is emptied.
+_CACHE_MAX = 200_000
 _STRUCTURES = ("sI", "sII")
 _REF = tuple(_par.REFERENCE[k] for k in ("dmu0", "dh_ice", "dv_ice", "dh_liq", "dv_liq", "dcp_liq"))
 
@@ -128,7 +132,8 @@ def _composition_reason(ids, zs) -> str:
     if 1.0 - formers > NON_FORMER_MAX + 1e-12:
         others = sorted({c for c in dry if c not in _par.LANGMUIR_AB})
         return (f"components that do not form hydrate in the model ({', '.join(others)}) are "
-                f"{100 * (1 - formers):.1f} mol% of the water-free gas, above the checked {100 * NON_FORMER_MAX:g} mol%")
+                f"{100 * (1 - formers):.1f} mol% of the water-free gas, above the checked "
+                f"{100 * NON_FORMER_MAX:g} mol%")
     n2 = sum(zi for c, zi in zip(dry, z, strict=True) if c == "nitrogen")
     if n2 > NITROGEN_MAX:
         return (f"nitrogen is {100 * n2:.1f} mol% of the water-free gas, above the checked {100 * NITROGEN_MAX:g} "
@@ -155,7 +160,31 @@ def _setup(fluid):
         ha, hb = _par.henry_arrays(dry.ids)
         setup = ("", dry.mixture.kernel_params, np.ascontiguousarray(dry.zs, dtype=float), a, b, ha, hb)
     fluid._hydrate_setup = setup
+    fluid._hydrate_cache = {}
     return setup
+
+
+def _point(pk: float, st: int, tk: float, s: int, ice: int) -> tuple[float, float, str, str, str]:
+    """(t_k, t_model_k, structure, water phase, reason) of one pressure [Pa] from the kernel's answer."""
+    t_model = tk if st == HY_OK else np.nan
+    if not (P_RANGE_PA[0] <= pk <= P_RANGE_PA[1]):
+        reason = (f"pressure {pk / 1e5:.3g} bar outside the model's checked range "
+                  f"{P_RANGE_PA[0] / 1e5:g}-{P_RANGE_PA[1] / 1e5:g} bar")
+    elif st == HY_NONE:
+        reason = (f"no hydrate found down to {_T_WINDOW[0]:g} K: far below the model's checked range "
+                  f"{T_RANGE_K[0]:g}-{T_RANGE_K[1]:g} K")
+    elif st == HY_ABOVE:
+        reason = f"hydrate still stable at {_T_WINDOW[1]:g} K: above the model's checked range"
+    elif st == HY_FAIL_FLASH:
+        reason = "the isothermal flash of the gas failed"
+    elif st != HY_OK:
+        reason = "the hydrate temperature iteration did not converge"
+    elif not (T_RANGE_K[0] <= tk <= T_RANGE_K[1]):
+        reason = (f"hydrate temperature {tk:.1f} K outside the model's checked range "
+                  f"{T_RANGE_K[0]:g}-{T_RANGE_K[1]:g} K")
+    else:
+        return tk, t_model, _STRUCTURES[s], "ice" if ice else "liquid water", ""
+    return np.nan, t_model, "", "", reason
 
 
 def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateEquilibrium:
@@ -214,34 +243,27 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
     structure = [""] * n
     water = [""] * n
     reasons = [""] * n
-    t_start = 280.0
-    for k, pk in enumerate(flat):
-        if reason_fluid:
-            reasons[k] = reason_fluid
-            continue
-        st, tk, s, ice, _ = hydrate_t(prm, float(pk), z, np.inf, np.log(aw), a, b, _par.CAVITIES_PER_WATER, _REF,
-                                      ha, hb, _T_WINDOW[0], _T_WINDOW[1], t_start, _TOL_K)
-        if st == HY_OK:
-            t_model[k] = tk
-            t_start = tk
-        if not (P_RANGE_PA[0] <= pk <= P_RANGE_PA[1]):
-            reasons[k] = (f"pressure {pk / 1e5:.3g} bar outside the model's checked range "
-                          f"{P_RANGE_PA[0] / 1e5:g}-{P_RANGE_PA[1] / 1e5:g} bar")
-        elif st == HY_NONE:
-            reasons[k] = (f"no hydrate found down to {_T_WINDOW[0]:g} K: far below the model's checked range "
-                          f"{T_RANGE_K[0]:g}-{T_RANGE_K[1]:g} K")
-        elif st == HY_ABOVE:
-            reasons[k] = f"hydrate still stable at {_T_WINDOW[1]:g} K: above the model's checked range"
-        elif st in (HY_FAIL_FLASH, HY_FAIL_ITER) or st != HY_OK:
-            reasons[k] = ("the isothermal flash of the gas failed" if st == HY_FAIL_FLASH else
-                          "the hydrate temperature iteration did not converge")
-        elif not (T_RANGE_K[0] <= tk <= T_RANGE_K[1]):
-            reasons[k] = (f"hydrate temperature {tk:.1f} K outside the model's checked range "
-                          f"{T_RANGE_K[0]:g}-{T_RANGE_K[1]:g} K")
-        else:
-            t[k] = tk
-            structure[k] = _STRUCTURES[s]
-            water[k] = "ice" if ice else "liquid water"
+    if reason_fluid:
+        reasons = [reason_fluid] * n
+    else:
+        cache = fluid._hydrate_cache
+        key_aw = float(np.log(aw))
+        todo = np.array(sorted({float(pk) for pk in flat if (float(pk), key_aw) not in cache}), dtype=float)
+        if todo.size:
+            if todo.size == 1:
+                out = hydrate_t(prm, float(todo[0]), z, np.inf, key_aw, a, b, _par.CAVITIES_PER_WATER, _REF, ha, hb,
+                                _T_WINDOW[0], _T_WINDOW[1], _T_START, _TOL_K)
+                rows = [out[:4]]
+            else:
+                st, tt, ss, ii = hydrate_t_many(prm, todo, z, np.inf, key_aw, a, b, _par.CAVITIES_PER_WATER, _REF,
+                                                ha, hb, _T_WINDOW[0], _T_WINDOW[1], _T_START, _TOL_K)
+                rows = list(zip(st.tolist(), tt.tolist(), ss.tolist(), ii.tolist(), strict=True))
+            if len(cache) > _CACHE_MAX:
+                cache.clear()
+            for pk, row in zip(todo.tolist(), rows, strict=True):
+                cache[(pk, key_aw)] = _point(pk, *row)
+        for k, pk in enumerate(flat.tolist()):
+            t[k], t_model[k], structure[k], water[k], reasons[k] = cache[(pk, key_aw)]
     screened = np.isfinite(t)
     eos = fluid.eos.value if hasattr(fluid.eos, "value") else str(fluid.eos)
     if p.ndim == 0:

@@ -25,7 +25,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from numba import njit
+from numba import njit, prange
 
 from jtcheck.thermo.kernels.constants import ST_TWO
 from jtcheck.thermo.kernels.flash_pt import flash_pt
@@ -193,3 +193,22 @@ def hydrate_t(prm, P, z, t_skip, ln_aw, A, B, nu, ref, hA, hB, t_lo, t_hi, t_sta
                 ga *= 0.5
             side = 1
     return HY_FAIL_ITER, math.nan, -1, 0, evals
+
+
+@njit(cache=True, parallel=True)
+def hydrate_t_many(prm, ps, z, t_skip, ln_aw, A, B, nu, ref, hA, hB, t_lo, t_hi, t_start, tol):
+    """:func:`hydrate_t` at every pressure of ``ps`` [Pa], in parallel; each point exactly as a single call.
+
+    Returns arrays (status, T [K], structure, ice)."""
+    m = ps.size
+    status = np.empty(m, dtype=np.int64)
+    temps = np.empty(m)
+    struct = np.empty(m, dtype=np.int64)
+    ice = np.empty(m, dtype=np.int64)
+    for k in prange(m):
+        st, t, s, i, _ = hydrate_t(prm, ps[k], z, t_skip, ln_aw, A, B, nu, ref, hA, hB, t_lo, t_hi, t_start, tol)
+        status[k] = st
+        temps[k] = t
+        struct[k] = s
+        ice[k] = i
+    return status, temps, struct, ice
