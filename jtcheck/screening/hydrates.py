@@ -792,11 +792,13 @@ def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *,
         return WaterAtOutlet(b.value, nan, nan, nan, True, nan,
                              f"outside the range of Bukacek's water-content correlation ({exc.message}): free water "
                              "is assumed at the outlet")
-    try:
-        dp = wc.water_dew_point(w, p_out_pa)
-    except InputError:
-        dp = nan
     free = w > w_out
+    dp = nan
+    if not free:
+        try:
+            dp = wc.water_dew_point(w, p_out_pa)
+        except InputError:
+            dp = nan
     drop = (w - w_out) * 1e-6 if free else 0.0
     if free:
         note = (f"the gas carries {w:.0f} mg/Sm3 of water and can hold {w_out:.0f} mg/Sm3 at the outlet: "
@@ -902,9 +904,19 @@ class HydrateAssessment:
 
 def _katz_cross_check(fluid: Fluid, p: float, gravity: float) -> float:
     """Katz chart temperature [K] when the gas is a sweet natural gas inside the chart's range, else NaN."""
-    if _composition_notes(fluid) or not katz_range_check(p, gravity).within:
+    sweet = getattr(fluid, "_katz_sweet", None)
+    if sweet is None:
+        sweet = not _composition_notes(fluid)
+        fluid._katz_sweet = sweet
+    if not sweet:
         return float("nan")
-    return float(hydrate_temperature_k(p, gravity))
+    b0, b1, b2, b3, b4, b5 = MOTIEE_COEFFICIENTS
+    x = math.log10(p / PSI_PA)
+    t = _degf_to_k(b0 + b1 * x + b2 * x * x + b3 * gravity + b4 * gravity * gravity + b5 * gravity * x)
+    inside = (KATZ_GRAVITY_RANGE[0] <= gravity <= KATZ_GRAVITY_RANGE[1]
+              and KATZ_PRESSURE_RANGE_PA[0] <= p <= KATZ_PRESSURE_RANGE_PA[1]
+              and KATZ_TEMPERATURE_RANGE_K[0] <= t <= KATZ_TEMPERATURE_RANGE_K[1])
+    return t if inside else float("nan")
 
 
 def _composition_notes(fluid: Fluid) -> list[str]:
@@ -944,19 +956,11 @@ def model_dose(fluid: Fluid, p_pa: float, t_target_k: float, inhibitor: Inhibito
     if ln_a >= 0.0:
         return 0.0, ""
     name = inhibitor.value
-    w_max = inh_mod.MAX_MASS_PERCENT[name]
-    t = min(max(t_target_k, 200.0), 330.0)
-    if math.log(inh_mod.water_activity(w_max, name, t)) > ln_a:
-        return float("nan"), (f"more than {w_max:g} mass% {name} would be needed: beyond the range in which a dose is "
-                              "given")
-    lo, hi = 0.0, w_max
-    for _ in range(50):
-        mid = 0.5 * (lo + hi)
-        if math.log(inh_mod.water_activity(mid, name, t)) > ln_a:
-            lo = mid
-        else:
-            hi = mid
-    return hi, ""
+    w = inh_mod.mass_percent_for_activity(ln_a, name, t_target_k)
+    if not math.isfinite(w):
+        return float("nan"), (f"more than {inh_mod.MAX_MASS_PERCENT[name]:g} mass% {name} would be needed: beyond "
+                              "the range in which a dose is given")
+    return w, ""
 
 
 def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_present: bool | None = None,
@@ -1011,8 +1015,8 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     InputError
         Bad fluid, pressure, temperature, margin, water input or inhibitor; the field is named.
     """
-    from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, METHOD_NAME, hydrate_temperature
-    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K
+    from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, METHOD_NAME
+    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K, hydrate_point
 
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
@@ -1028,7 +1032,9 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
                                           f"got {water_present!r}")
     inh = Inhibitor.parse(inhibitor, field="inhibitor")
     nan = float("nan")
-    gravity = gas_specific_gravity(fluid)
+    gravity = getattr(fluid, "_gas_gravity", None)
+    if gravity is None:
+        gravity = fluid._gas_gravity = gas_specific_gravity(fluid)
     notes: list[str] = []
 
     has_water = "water" in fluid.ids
@@ -1057,18 +1063,17 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         else:
             notes.append("free water is assumed at the outlet (no inlet conditions or water content given)")
 
-    eq = hydrate_temperature(fluid, p)
-    screened = bool(eq.screened)
-    t_hyd = float(eq.t_k) if screened else nan
+    t_eq, _, eq_structure, eq_water, eq_reason = hydrate_point(fluid, p)
+    screened = not eq_reason
+    t_hyd = float(t_eq) if screened else nan
     aw_vapour = 1.0
     if applies and water is not None and not water.free_water and math.isfinite(water.saturated_outlet_mg_per_sm3):
         # no free water: hydrate can still form from the undersaturated gas below T_hydrate at the gas's
         # water activity (content / saturated content), the same model with a_w < 1
         aw_vapour = min(1.0, water.content_mg_per_sm3 / water.saturated_outlet_mg_per_sm3)
-        eq_dry = hydrate_temperature(fluid, p, water_activity=aw_vapour)
-        t_dry = float(eq_dry.t_model_k)
+        _, t_dry, _, _, dry_reason = hydrate_point(fluid, p, math.log(aw_vapour))
         bound = None
-        if eq_dry.screened:
+        if not dry_reason:
             bound = t_dry
         elif math.isfinite(t_dry) and t_dry < T_RANGE_K[0]:
             bound = T_RANGE_K[0]      # the model puts it below its checked range: take the range's lower end
@@ -1080,7 +1085,7 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
                 reason = ("the gas is dry enough: no free water at the outlet, and the outlet is above the temperature "
                           f"at which hydrate could form from the undersaturated gas with the margin ({water.note})")
     if applies and not screened:
-        reason = f"not screened for hydrates: {eq.reason}"
+        reason = f"not screened for hydrates: {eq_reason}"
     subcooling = t_hyd - t if screened else nan
     in_region = bool(screened and subcooling > 0.0)
 
@@ -1096,10 +1101,12 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         if why:
             parts.append(why)
         if inh.hammerschmidt_k_degf is not None and required <= _DEPRESSION_MAX_K:
-            hd = hammerschmidt_dose(required, inh)
-            w_ham = hd.weight_percent if hd.within_validity else nan
-            if not hd.within_validity:
-                parts.append(hd.note)
+            m_inh, d_f = inh.molar_mass_g_per_mol, 1.8 * required   # Hammerschmidt (1934), W = 100 M dT / (K + M dT)
+            w_h = 100.0 * m_inh * d_f / (inh.hammerschmidt_k_degf + m_inh * d_f)
+            w_ham = w_h if w_h <= inh.max_weight_percent else nan
+            if not math.isfinite(w_ham):
+                parts.append(f"{w_h:.1f} wt% {inh.value} by Hammerschmidt is beyond its range (up to about "
+                             f"{inh.max_weight_percent:g} wt%; {inh.source})")
         candidates = [w for w in (w_model, w_ham) if math.isfinite(w)]
         if math.isfinite(w_model) and candidates:
             weight = max(candidates)
@@ -1126,7 +1133,7 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
 
     katz = _katz_cross_check(fluid, p, gravity)
     validity = [f"{METHOD_NAME}: " + ("inside its checked range (largest checked deviation "
-                                       f"{CHECKED_DEVIATION_K:g} K)" if screened else eq.reason)]
+                                       f"{CHECKED_DEVIATION_K:g} K)" if screened else eq_reason)]
     if math.isfinite(katz):
         validity.append(f"cross-check: Katz gas-gravity chart (Motiee fit) {_k(katz)}")
     else:
@@ -1134,10 +1141,10 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     if dose_note:
         validity.append(dose_note)
     if screened:
-        notes.append(f"structure {eq.structure} forms first, with {eq.water_phase}")
+        notes.append(f"structure {eq_structure} forms first, with {eq_water}")
     return HydrateAssessment(
         applies=applies, screened=screened, reason=reason, method=METHOD_NAME, p_pa=p, t_out_k=t, t_hydrate_k=t_hyd,
-        structure=eq.structure, water_phase=eq.water_phase, subcooling_k=subcooling, in_hydrate_region=in_region,
+        structure=eq_structure, water_phase=eq_water, subcooling_k=subcooling, in_hydrate_region=in_region,
         checked_deviation_k=CHECKED_DEVIATION_K, design_margin_k=margin, required_depression_k=required,
         inhibitor=inh.value, inhibitor_weight_percent=weight, inhibitor_kg_per_kg_water=ratio,
         model_weight_percent=w_model, hammerschmidt_weight_percent=w_ham, injection_kg_per_s=injection,

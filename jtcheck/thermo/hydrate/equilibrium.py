@@ -187,6 +187,22 @@ def _point(pk: float, st: int, tk: float, s: int, ice: int) -> tuple[float, floa
     return np.nan, t_model, "", "", reason
 
 
+def hydrate_point(fluid, p_pa: float, ln_water_activity: float = 0.0) -> tuple[float, float, str, str, str]:
+    """One pressure, without the checks of :func:`hydrate_temperature` (for callers that made them):
+    (t_k, t_model_k, structure, water phase, reason), the same numbers :func:`hydrate_temperature` gives."""
+    reason_fluid = _setup(fluid)[0]
+    if reason_fluid:
+        return np.nan, np.nan, "", "", reason_fluid
+    key = (float(p_pa), float(ln_water_activity))
+    got = fluid._hydrate_cache.get(key)
+    if got is None:
+        _, prm, z, a, b, ha, hb = fluid._hydrate_setup
+        out = hydrate_t(prm, key[0], z, np.inf, key[1], a, b, _par.CAVITIES_PER_WATER, _REF, ha, hb,
+                        _T_WINDOW[0], _T_WINDOW[1], _T_START, _TOL_K)
+        got = fluid._hydrate_cache[key] = _point(key[0], *out[:4])
+    return got
+
+
 def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateEquilibrium:
     """Hydrate equilibrium temperature of a water-saturated gas at the given pressure(s).
 

@@ -22,10 +22,12 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from numba import njit
 
 from jtcheck.errors import InputError
 
-__all__ = ["INHIBITORS", "MAX_MASS_PERCENT", "MOLAR_MASS_G_PER_MOL", "SOURCE", "water_activity"]
+__all__ = ["INHIBITORS", "MAX_MASS_PERCENT", "MOLAR_MASS_G_PER_MOL", "SOURCE", "mass_percent_for_activity",
+           "water_activity"]
 
 SOURCE = ("original UNIFAC (Fredenslund, Jones and Prausnitz, AIChE J. 21 (1975) 1086) with the parameters of "
           "Hansen et al., Ind. Eng. Chem. Res. 30 (1991) 2352")
@@ -68,43 +70,90 @@ MOLAR_MASS_G_PER_MOL = {"methanol": 32.042, "ethanol": 46.069, "MEG": 62.068, "D
 MAX_MASS_PERCENT = {"methanol": 50.0, "ethanol": 40.0, "MEG": 60.0, "DEG": 50.0, "TEG": 50.0}
 
 
-def _groups(counts: dict[str, int]):
-    return [(_SUB[g][0], _SUB[g][1], _SUB[g][2], n, g) for g, n in counts.items()]
+_jit = njit(cache=True, nogil=True)
+
+
+def _tables(inhibitor: str):
+    """Per-inhibitor arrays of the binary (water, inhibitor): r, q (2,), group counts nu (2, G), group areas
+    Q (G,) and interaction parameters a (G, G) [K] (kept once made)."""
+    got = _TABLES.get(inhibitor)
+    if got is not None:
+        return got
+    mols = [_WATER, INHIBITORS[inhibitor]]
+    names = sorted({g for m in mols for g in m})
+    r = np.array([sum(_SUB[g][1] * n for g, n in m.items()) for m in mols])
+    q = np.array([sum(_SUB[g][2] * n for g, n in m.items()) for m in mols])
+    nu = np.array([[m.get(g, 0) for g in names] for m in mols], dtype=float)
+    qg = np.array([_SUB[g][2] for g in names])
+    main = [_MAIN.index(_SUB[g][0]) for g in names]
+    amat = np.ascontiguousarray(_A[np.ix_(main, main)])
+    _TABLES[inhibitor] = (r, q, nu, qg, amat)
+    return _TABLES[inhibitor]
+
+
+_TABLES: dict[str, tuple] = {}
+
+
+@_jit
+def _big_gamma(nu_x, qg, psi, out):
+    """ln Gamma_k of the groups in a mixture of group amounts ``nu_x`` (original UNIFAC residual part)."""
+    g = qg.size
+    tot = 0.0
+    for k in range(g):
+        tot += nu_x[k]
+    area = 0.0
+    for k in range(g):
+        area += qg[k] * nu_x[k] / tot
+    th = np.empty(g)
+    for k in range(g):
+        th[k] = qg[k] * nu_x[k] / tot / area
+    s = np.empty(g)
+    for k in range(g):
+        acc = 0.0
+        for m in range(g):
+            acc += th[m] * psi[m, k]
+        s[k] = acc
+    for k in range(g):
+        acc = 0.0
+        for m in range(g):
+            acc += th[m] * psi[k, m] / s[m]
+        out[k] = qg[k] * (1.0 - math.log(s[k]) - acc)
+
+
+@_jit
+def _ln_gamma_water_kernel(x_inh, t_k, r, q, nu, qg, amat):
+    """ln gamma of water (component 0) in the binary (water, inhibitor), original UNIFAC (Fredenslund et al. 1975)."""
+    x0 = 1.0 - x_inh
+    rx = x0 * r[0] + x_inh * r[1]
+    qx = x0 * q[0] + x_inh * q[1]
+    phi = r[0] / rx
+    theta = q[0] / qx
+    l0 = 5.0 * (r[0] - q[0]) - (r[0] - 1.0)
+    l1 = 5.0 * (r[1] - q[1]) - (r[1] - 1.0)
+    ln_c = math.log(phi) + 5.0 * q[0] * math.log(theta / phi) + l0 - phi * (x0 * l0 + x_inh * l1)
+    g = qg.size
+    psi = np.empty((g, g))
+    for i in range(g):
+        for j in range(g):
+            psi[i, j] = math.exp(-amat[i, j] / t_k)
+    mix = np.empty(g)
+    pure = np.empty(g)
+    nu_x = np.empty(g)
+    for k in range(g):
+        nu_x[k] = x0 * nu[0, k] + x_inh * nu[1, k]
+    _big_gamma(nu_x, qg, psi, mix)
+    _big_gamma(nu[0], qg, psi, pure)
+    ln_r = 0.0
+    for k in range(g):
+        if nu[0, k] > 0.0:
+            ln_r += nu[0, k] * (mix[k] - pure[k])
+    return ln_c + ln_r
 
 
 def _ln_gamma_water(x_inh: float, inhibitor: str, t_k: float) -> float:
     """ln gamma of water in the binary (water, inhibitor) by original UNIFAC [-]."""
-    mols = [_WATER, INHIBITORS[inhibitor]]
-    x = np.array([1.0 - x_inh, x_inh])
-    r = np.array([sum(_SUB[g][1] * n for g, n in m.items()) for m in mols])
-    q = np.array([sum(_SUB[g][2] * n for g, n in m.items()) for m in mols])
-    # combinatorial part of water (i = 0)
-    phi = r[0] / (x @ r)
-    theta = q[0] / (x @ q)
-    z = 10.0
-    li = z / 2 * (r - q) - (r - 1.0)
-    ln_c = math.log(phi) + z / 2 * q[0] * math.log(theta / phi) + li[0] - phi * (x @ li)
-    # residual part: group activity coefficients in the mixture and in pure water
-    names = sorted({g for m in mols for g in m})
-    idx = {g: k for k, g in enumerate(names)}
-    qg = np.array([_SUB[g][2] for g in names])
-    main = [_MAIN.index(_SUB[g][0]) for g in names]
-    psi = np.exp(-_A[np.ix_(main, main)] / t_k)
-
-    def ln_big_gamma(nu_x: np.ndarray) -> np.ndarray:
-        xg = nu_x / nu_x.sum()
-        th = qg * xg / (qg @ xg)
-        s = th @ psi                       # s_k = sum_m theta_m psi_mk
-        return qg * (1.0 - np.log(s) - psi @ (th / s))
-
-    nu = np.zeros((2, len(names)))
-    for i, m in enumerate(mols):
-        for g, n in m.items():
-            nu[i, idx[g]] = n
-    mix = ln_big_gamma(x @ nu)
-    pure_w = ln_big_gamma(nu[0])
-    ln_r = float(nu[0] @ (mix - pure_w))
-    return ln_c + ln_r
+    r, q, nu, qg, amat = _tables(inhibitor)
+    return float(_ln_gamma_water_kernel(float(x_inh), float(t_k), r, q, nu, qg, amat))
 
 
 def mole_fraction(mass_percent: float, inhibitor: str) -> float:
@@ -150,3 +199,29 @@ def water_activity(mass_percent: float, inhibitor: str, t_k: float) -> float:
         return 1.0
     x = mole_fraction(w, inhibitor)
     return (1.0 - x) * math.exp(_ln_gamma_water(x, inhibitor, float(t_k)))
+
+
+def mass_percent_for_activity(ln_a_target: float, inhibitor: str, t_k: float) -> float:
+    """Inhibitor [mass % in the free water] whose solution has ln(water activity) ``ln_a_target`` at ``t_k`` [K]
+    (bisection on :func:`water_activity`, which falls with concentration); NaN beyond
+    :data:`MAX_MASS_PERCENT`.  0 when ``ln_a_target`` >= 0."""
+    if ln_a_target >= 0.0:
+        return 0.0
+    w_max = MAX_MASS_PERCENT[inhibitor]
+    r, q, nu, qg, amat = _tables(inhibitor)
+    t = min(max(float(t_k), 200.0), 330.0)
+
+    def ln_a(w: float) -> float:
+        x = mole_fraction(w, inhibitor)
+        return math.log(1.0 - x) + float(_ln_gamma_water_kernel(x, t, r, q, nu, qg, amat))
+
+    if ln_a(w_max) > ln_a_target:
+        return float("nan")
+    lo, hi = 0.0, w_max
+    for _ in range(36):          # 60 mass% / 2^36: far below 1e-9 mass%
+        mid = 0.5 * (lo + hi)
+        if ln_a(mid) > ln_a_target:
+            lo = mid
+        else:
+            hi = mid
+    return hi

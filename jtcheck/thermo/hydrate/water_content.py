@@ -121,7 +121,7 @@ def water_dew_point(water_mg_per_sm3: float, p_pa: float) -> float:
     if saturated_water_content(p_pa, hi) < w:
         raise InputError("water_content", f"water dew point above {hi:g} K at {p_pa / 1e5:g} bar: outside the range "
                                           "of Bukacek's correlation")
-    for _ in range(60):
+    for _ in range(36):          # 217 K / 2^36: far below 1e-6 K
         mid = 0.5 * (lo + hi)
         if saturated_water_content(p_pa, mid) > w:
             hi = mid
