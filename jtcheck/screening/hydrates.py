@@ -1063,8 +1063,11 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         else:
             notes.append("free water is assumed at the outlet (no inlet conditions or water content given)")
 
-    t_eq, _, eq_structure, eq_water, eq_reason = hydrate_point(fluid, p)
-    screened = not eq_reason
+    if applies:
+        t_eq, _, eq_structure, eq_water, eq_reason = hydrate_point(fluid, p)
+    else:   # not screened for hydrates: the model is not run
+        t_eq, eq_structure, eq_water, eq_reason = nan, "", "", reason
+    screened = applies and not eq_reason
     t_hyd = float(t_eq) if screened else nan
     aw_vapour = 1.0
     if applies and water is not None and not water.free_water and math.isfinite(water.saturated_outlet_mg_per_sm3):
