@@ -26,9 +26,12 @@ from jtcheck.cases import all_fields
 from jtcheck.errors import InputError
 from jtcheck.units import (
     P_ATM_DEFAULT_PA,
+    WATER_CONTENT_CHOICES,
+    WATER_CONTENT_UNITS,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
     pressure_from_pa,
     pressure_unit_names,
     temperature_difference_from_k,
@@ -46,11 +49,7 @@ PRESSURE_DIFFERENCE_CHOICES = ("bar", "kPa", "MPa", "psi")
 MASS_FLOW_UNIT = "kg/s"
 #: The unit of fractions entered in percent.
 PERCENT_UNIT = "%"
-#: Units of a water content in a gas, with kg per standard m3 (15 degC, 101.325 kPa) per unit; 1 lb/MMscf =
-#: 0.45359237 kg per 28316.846592 m3 (10^6 ft3; the MMscf at 60 degF, 14.696 psia, within 0.1 % of 15 degC).
-WATER_CONTENT_UNITS: dict[str, tuple[str, float]] = {"mg/sm3": ("mg/Sm3", 1.0e-6),
-                                                     "lb/mmscf": ("lb/MMscf", 0.45359237 / 28316.846592)}
-WATER_CONTENT_CHOICES = ("mg/Sm3", "lb/MMscf")
+
 #: Pascal per unit of a pressure difference; the gauge and absolute spellings mean the same.
 _DIFFERENCE_PA: dict[str, tuple[str, float]] = {}
 for _names, _canon, _factor in ((("bar", "bara", "barg"), "bar", 1.0e5), (("kpa", "kpaa", "kpag"), "kPa", 1.0e3),
@@ -211,16 +210,6 @@ def parse_percent(text: str, field: str) -> float:
     if unit.lower() not in ("%", "percent"):
         raise InputError(field, f"unknown unit {unit!r}; give it in percent, e.g. '10 %'")
     return value / 100.0
-
-
-def parse_water_content(text: str, field: str) -> tuple[float, str]:
-    """``(water content [kg/Sm3], unit)`` from text such as ``"110 mg/Sm3"`` or ``"7 lb/MMscf"``."""
-    value, unit = _split_number(text, field, "110 mg/Sm3")
-    known = WATER_CONTENT_UNITS.get(unit.lower())
-    if not unit or known is None:
-        raise InputError(field, f"{text!r}: give the water content in {' or '.join(WATER_CONTENT_CHOICES)}, "
-                                "e.g. '110 mg/Sm3'")
-    return value * known[1], known[0]
 
 
 def parse_pressure_difference(text: str, field: str) -> tuple[float, str]:

@@ -25,6 +25,7 @@ from jtcheck.units import (
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
     pressure_from_pa,
     temperature_from_k,
 )
@@ -34,7 +35,6 @@ from jtcheck.web.quantities import (
     MASS_FLOW_UNIT,
     canonical_unit,
     parse_p_atm,
-    parse_water_content,
     quantity_text,
     unit_word,
 )
