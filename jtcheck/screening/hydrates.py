@@ -994,9 +994,9 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     design_margin_k : float
         Entered margin, [K], 0 to 50 K.
     water_basis : WaterBasis or str or None
-        How the water is given ("saturated at inlet", "water content", "water dew point"); with None
-        and water present, the gas is taken as saturated at the inlet when the inlet is given, else free
-        water is assumed at the outlet.
+        How the water is given ("saturated at inlet", "water content", "water dew point"); with None,
+        water among the components gives the content (its mole fraction), otherwise the gas is taken as
+        saturated at the inlet when the inlet is given, else free water is assumed at the outlet.
     p_in_pa, t_in_k : float, optional
         Inlet pressure [Pa] and temperature [K] (saturated-at-inlet basis).
     water_content_mg_per_sm3 : float, optional
@@ -1054,7 +1054,12 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     water = None
     if applies:
         basis = water_basis
-        if basis is None and p_in_pa is not None and t_in_k is not None:
+        if basis is None and has_water:
+            # the composition states the water: its content [mg/Sm3] (ideal gas at 15 degC, 101.325 kPa)
+            z_w = float(np.asarray(fluid.zs)[fluid.ids.index("water")])
+            basis = WaterBasis.CONTENT
+            water_content_mg_per_sm3 = z_w * 101325.0 / (8.314462618 * 288.15) * 18015.28
+        elif basis is None and p_in_pa is not None and t_in_k is not None:
             basis = WaterBasis.SATURATED_INLET
         if basis is not None:
             water = water_at_outlet(fluid, p, t, basis=basis, p_in_pa=p_in_pa, t_in_k=t_in_k,

@@ -438,3 +438,11 @@ def test_the_dose_is_never_below_hammerschmidts_in_its_range(wet_gas, t_out):
     if math.isfinite(a.hammerschmidt_weight_percent):
         assert a.inhibitor_weight_percent >= a.hammerschmidt_weight_percent
     assert a.inhibitor_weight_percent >= a.model_weight_percent
+
+
+def test_water_in_the_composition_gives_the_content():
+    # 1 mol% water is about 7600 mg/Sm3 (ideal gas at 15 degC, 101.325 kPa): free water at any outlet here
+    wet = Fluid({"methane": 0.89, "ethane": 0.06, "propane": 0.04, "water": 0.01}, eos="PR")
+    a = assess_hydrates(wet, 50e5, 285.0, p_in_pa=100e5, t_in_k=320.0)
+    assert a.water.basis == "water content" and a.water.content_mg_per_sm3 == pytest.approx(7619, rel=1e-3)
+    assert a.water.free_water and a.hydrate_risk
