@@ -14,7 +14,8 @@ temperature that could reassure, only the reason:
 * composition of the water-free gas: at least one hydrate former of the model (methane, ethane,
   propane, isobutane, n-butane, nitrogen, CO2, H2S); components that are not formers at most
   :data:`NON_FORMER_MAX` (they dilute the gas through the equation of state, but no data with much
-  of them were checked); nitrogen at most :data:`NITROGEN_MAX` (pure-nitrogen data deviate most).
+  of them were checked); nitrogen at most :data:`NITROGEN_MAX` (pure-nitrogen data deviate most), and
+  at most :data:`NITROGEN_ICE_MAX` where the hydrate forms with ice.
 
 The largest deviation found in that range is :data:`CHECKED_DEVIATION_K`, which screening adds to
 the hydrate temperature.
@@ -60,6 +61,10 @@ NON_FORMER_MAX = 0.05
 #: Largest mole fraction of nitrogen in the water-free gas [-] (a screening choice of jtcheck: the
 #: pure-nitrogen data deviate most, by 1.35 K at 25 MPa, and far more in the ice region).
 NITROGEN_MAX = 0.5
+#: Largest mole fraction of nitrogen in the water-free gas when the hydrate forms with ice [-] (a screening choice
+#: of jtcheck: pure-nitrogen data with ice, 269-271 K at 11-13 MPa, lie 4 to 8.7 K above the model, and no
+#: nitrogen-rich mixture data with ice were checked).
+NITROGEN_ICE_MAX = 0.10
 #: Largest deviation from the published data inside the claimed range [K] (1.98 K, propane with ice
 #: near 271 K; tests/thermo/test_hydrate.py), rounded up.
 CHECKED_DEVIATION_K = 2.0
@@ -159,13 +164,15 @@ def _setup(fluid):
         a, b = _par.langmuir_arrays(dry.ids)
         ha, hb = _par.henry_arrays(dry.ids)
         setup = ("", dry.mixture.kernel_params, np.ascontiguousarray(dry.zs, dtype=float), a, b, ha, hb)
+        fluid._hydrate_n2 = float(sum(z for c, z in zip(dry.ids, dry.zs, strict=True) if c == "nitrogen"))
     fluid._hydrate_setup = setup
     fluid._hydrate_cache = {}
     return setup
 
 
-def _point(pk: float, st: int, tk: float, s: int, ice: int) -> tuple[float, float, str, str, str]:
-    """(t_k, t_model_k, structure, water phase, reason) of one pressure [Pa] from the kernel's answer."""
+def _point(pk: float, st: int, tk: float, s: int, ice: int, n2: float) -> tuple[float, float, str, str, str]:
+    """(t_k, t_model_k, structure, water phase, reason) of one pressure [Pa] from the kernel's answer; ``n2`` is the
+    nitrogen fraction of the water-free gas [-]."""
     t_model = tk if st == HY_OK else np.nan
     if not (P_RANGE_PA[0] <= pk <= P_RANGE_PA[1]):
         reason = (f"pressure {pk / 1e5:.3g} bar outside the model's checked range "
@@ -182,6 +189,9 @@ def _point(pk: float, st: int, tk: float, s: int, ice: int) -> tuple[float, floa
     elif not (T_RANGE_K[0] <= tk <= T_RANGE_K[1]):
         reason = (f"hydrate temperature {tk:.1f} K outside the model's checked range "
                   f"{T_RANGE_K[0]:g}-{T_RANGE_K[1]:g} K")
+    elif ice and n2 > NITROGEN_ICE_MAX:
+        reason = (f"hydrate with ice at {tk:.1f} K and nitrogen {100 * n2:.1f} mol% of the water-free gas: with ice "
+                  f"the model is checked up to {100 * NITROGEN_ICE_MAX:g} mol% nitrogen only")
     else:
         return tk, t_model, _STRUCTURES[s], "ice" if ice else "liquid water", ""
     return np.nan, t_model, "", "", reason
@@ -199,7 +209,7 @@ def hydrate_point(fluid, p_pa: float, ln_water_activity: float = 0.0) -> tuple[f
         _, prm, z, a, b, ha, hb = fluid._hydrate_setup
         out = hydrate_t(prm, key[0], z, np.inf, key[1], a, b, _par.CAVITIES_PER_WATER, _REF, ha, hb,
                         _T_WINDOW[0], _T_WINDOW[1], _T_START, _TOL_K)
-        got = fluid._hydrate_cache[key] = _point(key[0], *out[:4])
+        got = fluid._hydrate_cache[key] = _point(key[0], *out[:4], fluid._hydrate_n2)
     return got
 
 
@@ -277,7 +287,7 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
             if len(cache) > _CACHE_MAX:
                 cache.clear()
             for pk, row in zip(todo.tolist(), rows, strict=True):
-                cache[(pk, key_aw)] = _point(pk, *row)
+                cache[(pk, key_aw)] = _point(pk, *row, fluid._hydrate_n2)
         for k, pk in enumerate(flat.tolist()):
             t[k], t_model[k], structure[k], water[k], reasons[k] = cache[(pk, key_aw)]
     screened = np.isfinite(t)
