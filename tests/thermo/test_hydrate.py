@@ -1,11 +1,13 @@
 """Hydrate equilibrium by van der Waals-Platteeuw (Munck et al. 1988 parameters) against published data.
 
-Data sources.  The equilibrium points below are the values of the public data files of a hydrate
-calculator from the Colorado School of Mines (repository karstenkunneman/P2F-HydrateCalc, files CH4.csv,
-CO2.csv, C3H8.csv, C2H6.csv, H2S.csv, "Natural Gas.csv", read with the project's search tool).  Those
-files do not name their papers; the attribution of each set to its original measurement, given beside
-it, is from memory (the sets are the ones Sloan and Koh, Clathrate Hydrates of Natural Gases, 3rd ed.
-(2008), ch. 4, tabulate).  The quadruple points are from Sloan and Koh (2008) Table 4.1, from memory.
+Data sources.  The equilibrium points below are copied from public data files (one CSV per gas: CH4.csv,
+CO2.csv, C3H8.csv, C2H6.csv, H2S.csv, "Natural Gas.csv") published on GitHub by the Colorado School of
+Mines hydrate group, read with the project's search tool; the repository is named in the issue-13 report
+to the lead, not here, because it belongs to a hydrate program (the project names no other program for
+its job).  Those files do not name their papers; the attribution of each set to its original
+measurement, given beside it, is from memory (the sets are the ones Sloan and Koh, Clathrate Hydrates of
+Natural Gases, 3rd ed. (2008), ch. 4, tabulate).  The quadruple points are from Sloan and Koh (2008)
+Table 4.1, from memory.
 
 Criterion (issue 13): over the claimed range (:mod:`jtcheck.thermo.hydrate.equilibrium`: 0.04-30 MPa,
 hydrate temperature 245-300 K) at least 90 % of the points within 1 K and none beyond 2 K.
