@@ -37,6 +37,7 @@ bench: $(VENV)/.installed-test
 	$(BIN)/python benchmarks/bench_flash.py
 	$(BIN)/python benchmarks/bench_record.py
 	$(BIN)/python benchmarks/bench_batch.py --end-to-end
+	$(BIN)/python benchmarks/bench_hydrate.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info

@@ -7,7 +7,9 @@
 from jtcheck.letdown import LetdownBatch, LetdownResult, letdown
 from jtcheck.screening.mdmt import material_mdmt
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.hydrate import HydrateEquilibrium, hydrate_temperature
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown", "material_mdmt"]
+__all__ = ["Fluid", "HydrateEquilibrium", "LetdownBatch", "LetdownResult", "__version__", "hydrate_temperature",
+           "letdown", "material_mdmt"]

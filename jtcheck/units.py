@@ -243,3 +243,26 @@ def material_options(data: Mapping[str, Any]) -> dict[str, Any]:
             except (TypeError, ValueError):
                 raise InputError(key, f"must be a number between 0 and 1, got {value!r}") from None
     return out
+
+
+#: Units of a water content in a gas, with kg per standard m3 (15 degC, 101.325 kPa) per unit; 1 lb/MMscf =
+#: 0.45359237 kg per 28316.846592 m3 (10^6 ft3; the MMscf at 60 degF, 14.696 psia, within 0.1 % of 15 degC).
+WATER_CONTENT_UNITS: dict[str, tuple[str, float]] = {"mg/sm3": ("mg/Sm3", 1.0e-6),
+                                                     "lb/mmscf": ("lb/MMscf", 0.45359237 / 28316.846592)}
+WATER_CONTENT_CHOICES = ("mg/Sm3", "lb/MMscf")
+
+
+def parse_water_content(text: str, field: str) -> tuple[float, str]:
+    """``(water content [kg/Sm3], unit)`` from text such as ``"110 mg/Sm3"`` or ``"7 lb/MMscf"``.
+
+    Raises InputError naming ``field`` for a missing or unknown unit or a value not above 0.
+    """
+    m = re.match(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S*)\s*$", str(text))
+    known = WATER_CONTENT_UNITS.get(m.group(2).lower()) if m else None
+    if known is None:
+        raise InputError(field, f"{text!r}: give the water content in {' or '.join(WATER_CONTENT_CHOICES)}, "
+                                "e.g. '110 mg/Sm3'")
+    value = float(m.group(1))
+    if not (math.isfinite(value) and value > 0.0):
+        raise InputError(field, f"{text!r}: the water content must be above 0")
+    return value * known[1], known[0]

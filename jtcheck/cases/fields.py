@@ -26,10 +26,11 @@ MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)
 P_ATM_RANGE_PA = (5.0e4, 1.1e5, True)             # sea level to about 5500 m
 OVERPRESSURE_RANGE = (0.0, 1.0, True)             # fraction of the set gauge pressure (0.10 = 10 %)
 BUILT_UP_RANGE_PA = (0.0, 1.0e9, True)            # a pressure difference
+WATER_CONTENT_RANGE_KG_PER_SM3 = (0.0, 1.0, False)  # water in a gas, kg per standard m3 (1 kg/Sm3: far above any)
 
 #: SI unit of each quantity, as written in messages.
 SI_UNITS = {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s", "percent": "fraction",
-            "pressure_difference": "Pa"}
+            "pressure_difference": "Pa", "water_content": "kg/Sm3"}
 
 
 def range_text(lo: float, hi: float, lo_inclusive: bool, unit: str) -> str:
@@ -107,8 +108,9 @@ class Field:
         The SI field of the register (``inlet_pressure_pa``).
     quantity : str
         ``"pressure"`` (absolute or gauge), ``"temperature"``, ``"difference"`` (temperature difference),
-        ``"mass_flow"``, ``"percent"`` (entered in %, stored as a fraction) or ``"pressure_difference"``
-        (no atmospheric offset).
+        ``"mass_flow"``, ``"percent"`` (entered in %, stored as a fraction), ``"pressure_difference"``
+        (no atmospheric offset) or ``"water_content"`` (water in a gas, kg per standard cubic metre at 15 degC and
+        101.325 kPa; entered in mg/Sm3 or lb/MMscf).
     label : str
         Words in messages (``"inlet pressure"``).
     form_label : str

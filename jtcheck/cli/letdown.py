@@ -23,6 +23,7 @@ from jtcheck.units import (
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
     pressure_from_pa,
     temperature_from_k,
 )
@@ -59,6 +60,8 @@ class LetdownArgs:
     water_saturated: bool = False
     inhibitor: str = "methanol"
     mass_flow: str | None = None
+    water_content: str | None = None
+    water_dew_point: str | None = None
     compare_models: bool = True
     # a relief valve (with a set pressure the relief-valve case kind screens it)
     set_pressure: str | None = None
@@ -218,7 +221,7 @@ def case_values(args: LetdownArgs, inputs: LetdownInputs) -> dict:
                           t_in_min_k=inputs.t_in_min_k, p_out_min_pa=inputs.p_out_min_pa,
                           mass_flow_kg_per_s=inputs.mass_flow_kg_per_s, water_saturated=args.water_saturated,
                           inhibitor=args.inhibitor)
-    out = {**base, **kind_extras(args, inputs.p_atm_pa)}
+    out = {**base, **water_values(args), **kind_extras(args, inputs.p_atm_pa)}
     spec = material_spec(args, inputs.limits.mdmt_k)
     if spec is not None:
         out["material_spec"] = spec
@@ -234,6 +237,16 @@ def material_spec(args: LetdownArgs, mdmt_k: float | None):
                                              mdmt_k)
     except InputError as err:
         raise InputError(OPTION_OF.get(err.field, err.field), err.message) from None
+
+
+def water_values(args: LetdownArgs) -> dict:
+    """The water the gas carries (register keys, SI): --water-content [kg/Sm3] or --water-dew-point [K]."""
+    out = {}
+    if args.water_content:
+        out["water_content_kg_per_sm3"] = parse_water_content(args.water_content, "water_content")[0]
+    if args.water_dew_point:
+        out["water_dew_point_k"] = parse_temperature(args.water_dew_point, "water_dew_point")
+    return out
 
 
 def case_kind(args: LetdownArgs):
@@ -531,9 +544,13 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--p-in-max", default=None, help="Maximum credible inlet pressure (adds conditions and a sweep).")
 @click.option("--t-in-min", default=None, help="Minimum credible inlet temperature (adds conditions and a sweep).")
 @click.option("--p-out-min", default=None, help="Minimum credible outlet pressure (the sweep runs down to it).")
-@click.option("--water-saturated", is_flag=True, help="Screen for hydrates as if the gas were water-saturated.")
-@click.option("--inhibitor", default="methanol", show_default=True, type=click.Choice(["methanol", "MEG"]),
-              help="Hydrate inhibitor for the Hammerschmidt dose.")
+@click.option("--water-saturated", is_flag=True, help="Screen for hydrates with the gas saturated with water at the "
+                                                     "inlet (unless --water-content or --water-dew-point is given).")
+@click.option("--water-content", default=None, help='Water the gas carries, e.g. "110 mg/Sm3" or "7 lb/MMscf".')
+@click.option("--water-dew-point", default=None, help='Water dew point at the outlet pressure, e.g. "-10 degC".')
+@click.option("--inhibitor", default="methanol", show_default=True,
+              type=click.Choice(["methanol", "MEG", "ethanol", "DEG", "TEG"]),
+              help="Hydrate inhibitor for the dose (given for methanol and MEG).")
 @click.option("--mass-flow", default=None, help="Mass flow in kg/s, for the heater duty.")
 @click.option("--set-pressure", default=None, help="Relief valve set pressure (screens the relieving case), e.g. "
                                                   '"75 barg".')
@@ -575,7 +592,8 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--single-model", is_flag=True, help="Use only the chosen EOS (no PR/SRK comparison).")
 @click.option("--json", "as_json", is_flag=True, help="Print the result as JSON (SI values plus display units).")
 def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, margin, p_in_max, t_in_min, p_out_min,
-                water_saturated, inhibitor, mass_flow, set_pressure, overpressure, superimposed_back_pressure,
+                water_saturated, water_content, water_dew_point, inhibitor, mass_flow, set_pressure, overpressure,
+                superimposed_back_pressure,
                 built_up_back_pressure, header_limit, relieving_t_min, header_sections, other_sources, heater_off_t,
                 ambient_t_min, settle_out_volumes, cases_off, curve, curve_code, thickness, impact_test_t, pwht_credit,
                 allowable_stress, outside_diameter, corrosion_allowance, joint_efficiency, other_stress, single_model,
@@ -588,6 +606,7 @@ def letdown_cmd(fluid_text, p_in, t_in, p_out, eos, kij, p_atm, limit, mdmt, mar
     args = LetdownArgs(fluid_text, p_in, t_in, p_out, eos=eos, kij=kij, p_atm=p_atm, limit=limit, mdmt=mdmt,
                        margin=margin, p_in_max=p_in_max, t_in_min=t_in_min, p_out_min=p_out_min,
                        water_saturated=water_saturated, inhibitor=inhibitor, mass_flow=mass_flow,
+                       water_content=water_content, water_dew_point=water_dew_point,
                        compare_models=not single_model, set_pressure=set_pressure, overpressure=overpressure,
                        superimposed_back_pressure=superimposed_back_pressure,
                        built_up_back_pressure=built_up_back_pressure, header_limit=header_limit,

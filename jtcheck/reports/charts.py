@@ -41,11 +41,12 @@ matplotlib.use("Agg")
 import numpy as np  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
 
-from jtcheck import Fluid, letdown  # noqa: E402
+from jtcheck import Fluid, hydrate_temperature, letdown  # noqa: E402
 from jtcheck.errors import JtcheckError  # noqa: E402
 from jtcheck.units import P_ATM_DEFAULT_PA, pressure_from_pa, temperature_from_k  # noqa: E402
 
-TITLE = "Pressure-temperature diagram: phase envelope, letdown paths, cold limit, limit plus margin and MDMT"
+TITLE = ("Pressure-temperature diagram: phase envelope, hydrate curve, letdown paths, cold limit, limit plus margin "
+         "and MDMT")
 SWEEP_TITLE = "Operating sweep: outlet temperature across the operating ranges, with the cold limit"
 
 
@@ -65,6 +66,7 @@ class ChartStyle:
     sweep_styles: tuple[str, ...]
     grid: str
     spine: str
+    hydrate: str = "#2a7f62"
 
 
 #: Colours for the pages.  Lines of the sweep chart differ in colour and marker, so that colour is not the only cue.
@@ -82,7 +84,7 @@ PRINT = ChartStyle(
     cold_limit="#000000", target="#000000", mdmt="#4d4d4d",
     sweep_lines=("#000000", "#4d4d4d", "#7a7a7a"),
     sweep_markers=("o", "s", "^", "D", "v", "P", "X", "<", ">"), sweep_styles=("-", (0, (5, 1.5)), (0, (1, 1.2))),
-    grid="#dddddd", spine="#666666")
+    grid="#dddddd", spine="#666666", hydrate="#303030")
 
 
 # -- plain data --------------------------------------------------------------------------------------------
@@ -140,6 +142,16 @@ class TracedPath:
 
 
 @dataclass(frozen=True)
+class HydrateCurve:
+    """The hydrate equilibrium curve of the water-saturated fluid as drawn [K, Pa], with its method; only the
+    points the model screens (inside its checked range)."""
+
+    t_k: tuple[float, ...]
+    p_pa: tuple[float, ...]
+    method: str
+
+
+@dataclass(frozen=True)
 class PTDiagramData:
     """Everything the P-T diagram draws, SI."""
 
@@ -148,6 +160,7 @@ class PTDiagramData:
     paths: tuple[TracedPath, ...]
     lines: ColdLines
     notes: tuple[str, ...] = ()
+    hydrate: HydrateCurve | None = None
 
 
 @dataclass(frozen=True)
@@ -245,7 +258,28 @@ def pt_diagram_data(fluid_key: tuple[tuple[tuple[str, float], ...], str, int | N
             paths.append(TracedPath(c, tuple(map(float, ts)), tuple(map(float, ps))))
         else:
             paths.append(TracedPath(c))
-    return PTDiagramData(units, envelope, tuple(paths), lines, tuple(notes))
+    hydrate = hydrate_curve(fluid, conditions) if fluid is not None else None
+    return PTDiagramData(units, envelope, tuple(paths), lines, tuple(notes), hydrate)
+
+
+#: Points of the drawn hydrate curve.
+HYDRATE_CURVE_POINTS = 40
+
+
+def hydrate_curve(fluid: Fluid, conditions: Sequence[LetdownEnds]) -> HydrateCurve | None:
+    """The water-saturated hydrate curve of ``fluid`` (van der Waals-Platteeuw, :func:`jtcheck.hydrate_temperature`)
+    over the pressures of the letdowns, log-spaced; None when the model screens none of them (a fluid
+    without hydrate formers, or outside the model's range)."""
+    ps = [v for c in conditions for v in (c.p_in_pa, c.p_out_pa) if v is not None and v > 0.0]
+    if not ps:
+        return None
+    lo, hi = max(min(ps) * 0.7, 0.5e5), max(ps) * 1.2
+    p = np.geomspace(lo, hi, HYDRATE_CURVE_POINTS)
+    res = hydrate_temperature(fluid, p)
+    ok = np.asarray(res.screened, dtype=bool)
+    if ok.sum() < 2:
+        return None
+    return HydrateCurve(tuple(map(float, res.t_k[ok])), tuple(map(float, p[ok])), res.method)
 
 
 # -- SVG ---------------------------------------------------------------------------------------------------
@@ -352,6 +386,9 @@ def draw_pt_diagram(data: PTDiagramData, *, style: ChartStyle = SCREEN, text_as_
             ax.plot(tx(c.t_in_k), py(c.p_in_pa), "o", color=colour, markersize=6,
                     markerfacecolor="white" if style is PRINT else colour,
                     label=None if c.converged else f"{c.name} (inlet only: not converged)")
+        if data.hydrate is not None:
+            ax.plot(tx(data.hydrate.t_k), py(data.hydrate.p_pa), linestyle=(0, (6, 2, 1.5, 2)),
+                    color=style.hydrate, linewidth=1.5, label="hydrate curve (water-saturated)")
         lines = data.lines
         if lines.governing_k is not None:
             ax.axvline(float(tx(lines.governing_k)), color=style.cold_limit, linestyle="--", linewidth=1.4,

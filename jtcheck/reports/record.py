@@ -191,6 +191,9 @@ def _inputs(case: Mapping[str, Any], units: DisplayUnits) -> list[dict[str, Any]
         elif kind == "percent":
             entered = f"{fmt_number(100.0 * v)} %"
             si = f"{fmt_number(v)} (fraction)"
+        elif kind == "water_content":
+            entered = f"{fmt_number(v * 1e6)} mg/Sm3"
+            si = f"{fmt_number(v)} kg/Sm3 (15 degC, 101.325 kPa)"
         else:   # mass flow: kg/s is the only unit
             entered = f"{fmt_number(v)} kg/s"
             si = f"{fmt_number(v)} kg/s"

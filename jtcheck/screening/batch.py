@@ -29,16 +29,7 @@ from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, letdown
 from jtcheck.screening.co2_solids import P_SUB_MIN_PA, co2_sublimation_temperature_k
 from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, sort_findings
-from jtcheck.screening.hydrates import METHOD as HYDRATE_METHOD
-from jtcheck.screening.hydrates import (
-    Inhibitor,
-    gas_specific_gravity,
-    hammerschmidt_weight_percent,
-    hydrate_temperature_k,
-    in_katz_range,
-    inhibitor_mass_ratio,
-    katz_range_check,
-)
+from jtcheck.screening.hydrates import Inhibitor, assess_hydrates
 from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson
 from jtcheck.screening.screen import (
     _COVERED_WARNINGS,
@@ -50,12 +41,12 @@ from jtcheck.screening.screen import (
     ConditionScreen,
     Screening,
     ScreeningOptions,
+    _hydrate_findings,
     _model_spread,
     _with_spread,
     _worst_of,
     credible_conditions,
-    hydrate_margin_numbers,
-    hydrate_outside,
+    hydrate_not_applying,
     model_fluids,
     screen_letdown,
     start_up_conditions,
@@ -442,58 +433,28 @@ def _run_group(fluid: Fluid, models: list[Fluid], pts: _Points) -> _GroupRun:
                      runs[0].warnings, fallback)
 
 
-def _worst_hydrate_points(gravity: float, p_out: np.ndarray, t_out: np.ndarray, starts: np.ndarray,
-                          n_pts: np.ndarray) -> np.ndarray:
-    """For each row (its ``n_pts`` points from ``starts``), the point the scalar screening reports hydrates at:
-    the first of the largest subcooling below the hydrate temperature (the rows' conditions may let down to
-    different pressures: the start-up conditions go to the atmosphere)."""
-    sub = np.asarray(hydrate_temperature_k(p_out, gravity), dtype=float) - t_out
-    sub = np.where(np.isfinite(sub), sub, -1e9)
-    out = np.empty(starts.size, dtype=np.int64)
-    for r, (s, n) in enumerate(zip(starts.tolist(), n_pts.tolist(), strict=True)):
-        out[r] = s + int(np.argmax(sub[s:s + n]))
-    return out
+def _row_hydrate_finding(fluid: Fluid, case: BatchCase, pts: _Points, t_min: np.ndarray, start: int,
+                         n: int) -> Finding:
+    """The hydrate finding of one wet row: the scalar screening's own assessment of each of the row's conditions
+    and its own choice among them (:func:`jtcheck.screening.screen._hydrate_findings`), so both paths give the same
+    words and numbers.  The model's hydrate temperatures of the group's outlet pressures are computed beforehand
+    in one parallel call (:func:`_prime_hydrate_temperatures`); each is the same as a single call gives."""
+    assessed = []
+    for j in range(start, start + n):
+        assessed.append((assess_hydrates(fluid, float(pts.p_out[j]), float(t_min[j]),
+                                         water_present=_water_present(case),
+                                         inhibitor=Inhibitor.METHANOL, design_margin_k=case.limits.margin_k,
+                                         p_in_pa=float(pts.p_in[j]), t_in_k=float(pts.t_in[j])),
+                         _CONDITION_NAMES[int(pts.kind[j])]))
+    return _hydrate_findings(assessed, ScreeningOptions(case.limits))[0]
 
 
-def _hydrate_findings(gravity: float, p_out: np.ndarray, t_out: np.ndarray,
-                      names: list[str], margins: list[float]) -> list[Finding]:
-    """The hydrate finding of each row (water present), vectorised: the same topic, severity, message and
-    numbers as the scalar screening (:func:`jtcheck.screening.screen.screen_letdown`) gives at the row's
-    worst condition for hydrates (:func:`_worst_hydrate_points`).  The basis names the method and the range
-    checks; the scalar path adds its longer notes."""
-    t_hyd = np.asarray(hydrate_temperature_k(p_out, gravity), dtype=float)
-    sub = t_hyd - t_out
-    inh = Inhibitor.METHANOL
-    required = np.maximum(sub, 0.0)
-    w = np.where(sub > 0.0, np.asarray(hammerschmidt_weight_percent(np.minimum(required, 150.0), inh)), 0.0)
-    ratio = np.where(sub > 0.0, np.asarray(inhibitor_mass_ratio(w)), 0.0)
-    dose_ok = (w <= inh.max_weight_percent) & (required <= 150.0)
-    katz_ok = np.asarray(in_katz_range(p_out, gravity), dtype=bool)
-    within = katz_ok & dose_ok
-    out = []
-    for k in range(p_out.size):
-        tk, th, sc, p = float(t_out[k]), float(t_hyd[k]), float(sub[k]), float(p_out[k])
-        ok = bool(within[k])
-        numbers = {"t_hydrate_k": th, "t_out_k": tk, "subcooling_k": sc, "p_pa": p, "gas_gravity": gravity,
-                   "inhibitor": inh.value, "inhibitor_weight_percent": float(w[k]),
-                   "inhibitor_kg_per_kg_water": float(ratio[k]), "within_validity": ok}
-        validity = "" if ok else " Outside the method's stated range: indicative only (see the basis)."
-        basis = [HYDRATE_METHOD, "inside the range of the Katz gas-gravity chart" if katz_ok[k]
-                 else katz_range_check(p, gravity).note]
-        if sc > 0.0:
-            msg = (f"Hydrates can form: the outlet ({tk - 273.15:.1f} degC) is {sc:.1f} K inside the "
-                   f"hydrate region (hydrate temperature {th - 273.15:.1f} degC at {p / 1e5:.1f} bar abs). "
-                   f"{inh.value} at {w[k]:.1f} wt% in the free water ({ratio[k]:.2f} kg per kg of water, "
-                   f"Hammerschmidt) would suppress it; or preheat.{validity}")
-            sev = Severity.HAZARD
-            basis.append(f"dose by Hammerschmidt {'within' if dose_ok[k] else 'beyond'} its range (up to about "
-                         f"{inh.max_weight_percent:g} wt% {inh.value}); inhibitor lost to the gas and to any "
-                         "hydrocarbon liquid comes on top")
-        else:
-            msg, sev = hydrate_outside(tk, th, margins[k], ok, validity)
-        numbers.update(hydrate_margin_numbers(margins[k]))
-        out.append(Finding(Topic.HYDRATES, sev, msg, numbers, "; ".join(basis), names[k]))
-    return out
+def _prime_hydrate_temperatures(fluid: Fluid, p_out: np.ndarray) -> None:
+    """Compute the hydrate temperatures of every outlet pressure at once (in parallel), kept on the fluid."""
+    from jtcheck.thermo.hydrate import hydrate_temperature
+
+    if p_out.size:
+        hydrate_temperature(fluid, np.unique(p_out))
 
 
 def _plain_value(v: Any) -> Any:
@@ -515,8 +476,7 @@ def _finding_dict(f: Finding) -> dict[str, Any]:
 
 
 def _no_hydrate_screen() -> Finding:
-    return Finding(Topic.HYDRATES, Severity.INFORMATION, "Not screened for hydrates: the fluid holds no water and "
-                   "the gas is not declared water-saturated.", {}, HYDRATE_METHOD)
+    return hydrate_not_applying("no water in the composition", False)
 
 
 def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, starts: np.ndarray, n_pts: np.ndarray,
@@ -538,12 +498,12 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
     wet = np.array([cases[g].water_saturated or has_water for g in rows.tolist()], dtype=bool)
     hydrates: dict[int, Finding] = {}
     if wet.any():
-        gravity = gas_specific_gravity(fluid)
-        pick = _worst_hydrate_points(gravity, pts.p_out, run.t_min, starts[wet], n_pts[wet])
-        found = _hydrate_findings(gravity, pts.p_out[pick], run.t_min[pick],
-                                  [_CONDITION_NAMES[kinds[p]] for p in pick.tolist()],
-                                  [cases[g].limits.margin_k for g in rows[wet].tolist()])
-        hydrates = dict(zip(np.flatnonzero(wet).tolist(), found, strict=True))
+        wet_pts = np.concatenate([np.arange(int(starts[r]), int(starts[r]) + int(n_pts[r]))
+                                  for r in np.flatnonzero(wet).tolist()])
+        _prime_hydrate_temperatures(fluid, pts.p_out[wet_pts])
+        for r in np.flatnonzero(wet).tolist():
+            g = int(rows[r])
+            hydrates[r] = _row_hydrate_finding(fluid, cases[g], pts, run.t_min, int(starts[r]), int(n_pts[r]))
     dry = _no_hydrate_screen()
     out: dict[int, BatchRowResult] = {}
     for r, g in enumerate(rows.tolist()):

@@ -1,7 +1,21 @@
-"""Hydrate screening of a gas letdown outlet: the gas-gravity method and Hammerschmidt inhibitor dosing.
+"""Hydrate screening of a gas letdown outlet: van der Waals-Platteeuw, water at the outlet, inhibitor dose.
 
-Method
-------
+Screening (:func:`assess_hydrates`)
+-----------------------------------
+* Hydrate temperature: van der Waals and Platteeuw (1959) with the parameters of Munck et al. (1988), guest
+  fugacities from the case's own equation of state (:mod:`jtcheck.thermo.hydrate`); outside the model's
+  checked range the outlet is "not screened" with the reason (fail closed).  The model's largest checked
+  deviation (:data:`METHOD_UNCERTAINTY_K`) is a margin term.
+* Water: saturated at the inlet (default), a water content or a water dew point; free water at the outlet
+  by Bukacek's correlation (:mod:`jtcheck.thermo.hydrate.water_content`).  Without free water, hydrate can
+  still form from the gas below the hydrate temperature at the gas's water activity (same model); above it
+  the gas is dry enough and the result says so.
+* Inhibitor dose: the larger of the model's (water activity of the inhibited water by original UNIFAC,
+  :mod:`jtcheck.thermo.hydrate.inhibitors`) and Hammerschmidt's, each inside its range (methanol, MEG);
+  otherwise no dose, with the reason.  Injection rate from the free water of the case's flow.
+
+Cross-checks kept from the earlier screening (the rest of this module)
+----------------------------------------------------------------------
 * Hydrate formation temperature: the gas-gravity method of Katz (D. L. Katz, "Prediction of conditions
   for hydrate formation in natural gases", Trans. AIME 160 (1945) 140-149), evaluated with the curve
   fit of the Katz chart by Motiee (M. Motiee, "Estimate possibility of hydrates", Hydrocarbon
@@ -57,6 +71,7 @@ Units: SI in and out (Pa, K); the fits are evaluated in their field units (psia,
 from __future__ import annotations
 
 import enum
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -64,6 +79,9 @@ import numpy as np
 from jtcheck.errors import InputError
 from jtcheck.thermo.components import find_component
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K as _HYDRATE_CHECKED_DEVIATION_K
+from jtcheck.thermo.hydrate import METHOD_NAME as _HYDRATE_METHOD_NAME
+from jtcheck.thermo.hydrate.inhibitors import MOLAR_MASS_G_PER_MOL
 
 __all__ = [
     "ACID_GAS_NOTE_FRACTION",
@@ -72,6 +90,7 @@ __all__ = [
     "KATZ_GRAVITY_RANGE",
     "KATZ_PRESSURE_RANGE_PA",
     "KATZ_TEMPERATURE_RANGE_K",
+    "KATZ_METHOD",
     "METHOD",
     "METHOD_UNCERTAINTY_BASIS",
     "METHOD_UNCERTAINTY_K",
@@ -79,10 +98,14 @@ __all__ = [
     "MOTIEE_COEFFICIENTS",
     "PSI_PA",
     "HydrateAssessment",
+    "WaterAtOutlet",
+    "WaterBasis",
     "Inhibitor",
     "InhibitorDose",
     "KatzRangeCheck",
     "assess_hydrates",
+    "model_dose",
+    "water_at_outlet",
     "gas_specific_gravity",
     "hammerschmidt_depression_degf",
     "hammerschmidt_depression_k",
@@ -115,10 +138,10 @@ MOTIEE_CHECKED_DEVIATION_K = 3.5
 #: The hydrate method's uncertainty the screening adds to the hydrate temperature [K]: an outlet counts as
 #: outside the hydrate region only at or above T_hydrate + this + the case's margin.  The fit is "about
 #: +-3 K" (README); the checked deviation, rounded up, is used so the largest check point is covered.
-METHOD_UNCERTAINTY_K = MOTIEE_CHECKED_DEVIATION_K
-METHOD_UNCERTAINTY_BASIS = (f"Katz chart via the Motiee fit: the largest deviation from the check points in "
-                            f"jtcheck/screening/hydrates.py is 3.1 K, rounded up to {MOTIEE_CHECKED_DEVIATION_K:g} K "
-                            "(measured by jtcheck; Motiee states no figure)")
+METHOD_UNCERTAINTY_K = _HYDRATE_CHECKED_DEVIATION_K
+METHOD_UNCERTAINTY_BASIS = (f"{_HYDRATE_METHOD_NAME}: the largest deviation from published hydrate equilibrium data "
+                            f"inside the model's checked range is 1.98 K (tests/thermo/test_hydrate.py), rounded up to "
+                            f"{_HYDRATE_CHECKED_DEVIATION_K:g} K (measured by jtcheck)")
 
 #: Gas gravity span of the Katz chart's curves, from pure methane (0.554) to 1.0 [-].  From memory of
 #: the chart (Katz 1945; GPSA Engineering Data Book, section 20); the same 0.55-1.0 band accompanies
@@ -142,9 +165,12 @@ ACID_GAS_NOTE_FRACTION = 0.03
 #: note is given [-].  A screening choice of jtcheck, not a published limit.
 INERT_NOTE_FRACTION = 0.05
 
-#: Text naming the method, for results and records.
-METHOD = ("Katz gas-gravity method (Katz, Trans. AIME 160 (1945) 140) via the curve fit of Motiee, "
-          "Hydrocarbon Processing 70(7) (1991) 98; inhibitor by Hammerschmidt, Ind. Eng. Chem. 26 (1934) 851")
+#: Text naming the method of the hydrate screening, for results and records (findings' bases start with it).
+METHOD = _HYDRATE_METHOD_NAME
+
+#: The gas-gravity method and Hammerschmidt, kept as cross-checks.
+KATZ_METHOD = ("Katz gas-gravity method (Katz, Trans. AIME 160 (1945) 140) via the curve fit of Motiee, "
+               "Hydrocarbon Processing 70(7) (1991) 98; inhibitor by Hammerschmidt, Ind. Eng. Chem. 26 (1934) 851")
 
 _T0_K = 273.15
 _P_MAX_PA = 1.0e9
@@ -389,6 +415,9 @@ class Inhibitor(enum.Enum):
 
     METHANOL = "methanol"
     MONOETHYLENE_GLYCOL = "MEG"
+    ETHANOL = "ethanol"
+    DIETHYLENE_GLYCOL = "DEG"
+    TRIETHYLENE_GLYCOL = "TEG"
 
     @property
     def component_id(self) -> str:
@@ -397,12 +426,14 @@ class Inhibitor(enum.Enum):
 
     @property
     def molar_mass_g_per_mol(self) -> float:
-        """Molar mass, [g/mol], from the component library."""
+        """Molar mass, [g/mol], from the component library (DEG, not in it: from its formula C4H10O3)."""
+        if self.component_id is None:
+            return MOLAR_MASS_G_PER_MOL[self.value]
         return find_component(self.component_id).molar_mass_g_per_mol
 
     @property
-    def hammerschmidt_k_degf(self) -> float:
-        """Hammerschmidt constant K, [degF] (per mass percent, times g/mol)."""
+    def hammerschmidt_k_degf(self) -> float | None:
+        """Hammerschmidt constant K, [degF] (per mass percent, times g/mol); None where no constant is held."""
         return _INHIBITOR_DATA[self][1]
 
     @property
@@ -428,8 +459,10 @@ class Inhibitor(enum.Enum):
             return value
         key = str(value).strip().lower().replace("_", " ").replace("-", " ")
         for member in cls:
-            names = {member.value.lower(), member.name.lower().replace("_", " "), member.component_id}
-            names.update(s.replace("-", " ") for s in find_component(member.component_id).synonyms)
+            names = {member.value.lower(), member.name.lower().replace("_", " ")}
+            if member.component_id is not None:
+                names.add(member.component_id)
+                names.update(s.replace("-", " ") for s in find_component(member.component_id).synonyms)
             if key in names:
                 return member
         raise InputError(field, f"unknown inhibitor {value!r}; allowed: " + ", ".join(m.value for m in cls))
@@ -453,6 +486,10 @@ _INHIBITOR_DATA = {
                                     "K = 2700 degF for glycols (GPSA Engineering Data Book sec. 20, from memory, "
                                     "not verified; stored sources use values from 2200 to 4000); used up to about "
                                     "60-70 wt% (GPSA sec. 20, from memory)"),
+    # No Hammerschmidt constant is held for these (none verified); their dose needs a checked water-activity model.
+    Inhibitor.ETHANOL: ("ethanol", None, 0.0, "no Hammerschmidt constant held"),
+    Inhibitor.DIETHYLENE_GLYCOL: (None, None, 0.0, "no Hammerschmidt constant held"),
+    Inhibitor.TRIETHYLENE_GLYCOL: ("triethylene glycol", None, 0.0, "no Hammerschmidt constant held"),
 }
 
 
@@ -531,9 +568,17 @@ def hammerschmidt_depression_k(weight_percent, inhibitor: Inhibitor | str = Inhi
     InputError
         Concentration outside [0, 100) wt%, or an unknown inhibitor (the message lists the valid ones).
     """
-    inh = Inhibitor.parse(inhibitor)
+    inh = _hammerschmidt_inhibitor(inhibitor)
     d = hammerschmidt_depression_degf(weight_percent, inh.hammerschmidt_k_degf, inh.molar_mass_g_per_mol)
     return d / 1.8
+
+
+def _hammerschmidt_inhibitor(inhibitor) -> Inhibitor:
+    inh = Inhibitor.parse(inhibitor)
+    if inh.hammerschmidt_k_degf is None:
+        raise InputError("inhibitor", f"no Hammerschmidt constant is held for {inh.value}; allowed: "
+                                      + ", ".join(m.value for m in Inhibitor if m.hammerschmidt_k_degf is not None))
+    return inh
 
 
 def hammerschmidt_weight_percent(depression_k, inhibitor: Inhibitor | str = Inhibitor.METHANOL):
@@ -559,7 +604,7 @@ def hammerschmidt_weight_percent(depression_k, inhibitor: Inhibitor | str = Inhi
     InputError
         Depression outside [0, 150] K, or an unknown inhibitor (the message lists the valid ones).
     """
-    inh = Inhibitor.parse(inhibitor)
+    inh = _hammerschmidt_inhibitor(inhibitor)
     scalar = np.ndim(depression_k) == 0
     d = _check_range("depression", depression_k, "hydrate temperature depression", "K", 0.0, _DEPRESSION_MAX_K)
     w = hammerschmidt_weight_percent_degf(1.8 * d, inh.hammerschmidt_k_degf, inh.molar_mass_g_per_mol)
@@ -630,7 +675,7 @@ def hammerschmidt_dose(depression_k: float, inhibitor: Inhibitor | str = Inhibit
     -------
     InhibitorDose
     """
-    inh = Inhibitor.parse(inhibitor)
+    inh = _hammerschmidt_inhibitor(inhibitor)
     if np.ndim(depression_k) != 0:
         raise InputError("depression", "hammerschmidt_dose takes one depression; use hammerschmidt_weight_percent "
                                        "for arrays")
@@ -651,116 +696,315 @@ def hammerschmidt_dose(depression_k: float, inhibitor: Inhibitor | str = Inhibit
 # Assessment
 
 
+class WaterBasis(enum.Enum):
+    """How the water the gas carries is given."""
+
+    SATURATED_INLET = "saturated at inlet"      # default and conservative
+    CONTENT = "water content"                   # mg/Sm3 (the edge converts lb/MMscf)
+    DEW_POINT = "water dew point"               # at a stated pressure
+
+    @classmethod
+    def parse(cls, value, field: str = "water_basis") -> WaterBasis:
+        if isinstance(value, WaterBasis):
+            return value
+        key = str(value).strip().lower().replace("_", " ")
+        for m in cls:
+            if key in (m.value, m.name.lower().replace("_", " ")):
+                return m
+        raise InputError(field, f"unknown water basis {value!r}; allowed: " + ", ".join(m.value for m in cls))
+
+
+@dataclass(frozen=True)
+class WaterAtOutlet:
+    """Whether free water can exist at the outlet, by Bukacek's correlation (see
+    :mod:`jtcheck.thermo.hydrate.water_content`).
+
+    Attributes
+    ----------
+    basis : str
+        :class:`WaterBasis` value.
+    content_mg_per_sm3 : float
+        Water the gas carries, [mg/Sm3]; NaN when the correlation does not apply.
+    saturated_outlet_mg_per_sm3 : float
+        Water the gas can hold at the outlet, [mg/Sm3]; NaN when the correlation does not apply.
+    dew_point_outlet_k : float
+        Water dew point at the outlet pressure, [K]; NaN when outside the correlation's range.
+    free_water : bool
+        Free water (or ice) can exist at the outlet; True whenever the correlation does not apply
+        (fail closed).
+    free_water_kg_per_sm3 : float
+        Water dropped out at the outlet per standard cubic metre of gas, [kg/Sm3]; NaN when unknown.
+    note : str
+    """
+
+    basis: str
+    content_mg_per_sm3: float
+    saturated_outlet_mg_per_sm3: float
+    dew_point_outlet_k: float
+    free_water: bool
+    free_water_kg_per_sm3: float
+    note: str
+
+
+def water_at_outlet(fluid: Fluid, p_out_pa: float, t_out_k: float, *,
+                    basis: WaterBasis | str = WaterBasis.SATURATED_INLET,
+                    p_in_pa: float | None = None, t_in_k: float | None = None,
+                    content_mg_per_sm3: float | None = None, dew_point_k: float | None = None,
+                    dew_point_p_pa: float | None = None) -> WaterAtOutlet:
+    """Water the gas carries and whether free water can exist at the outlet (Bukacek 1955).
+
+    ``basis`` "saturated at inlet" (default) takes the saturated content at ``p_in_pa``, ``t_in_k``;
+    "water content" takes ``content_mg_per_sm3``; "water dew point" takes ``dew_point_k`` at
+    ``dew_point_p_pa`` (the outlet pressure when None).  The correlation is for sweet natural gas; with
+    more than 5 mol% CO2 plus H2S (dry basis), or outside its range, free water is assumed (fail closed).
+    """
+    from jtcheck.thermo.hydrate import water_content as wc
+
+    b = WaterBasis.parse(basis)
+    nan = float("nan")
+    zs = np.asarray(fluid.zs, dtype=float)
+    keep = [i for i, c in enumerate(fluid.ids) if c != "water"]
+    dry = zs[keep] / zs[keep].sum()
+    acid = sum(z for i, z in zip(keep, dry, strict=True) if fluid.ids[i] in ("carbon dioxide", "hydrogen sulfide"))
+    if acid > 0.05:
+        return WaterAtOutlet(b.value, nan, nan, nan, True, nan,
+                             f"CO2 and H2S are {100 * acid:.1f} mol% of the gas: Bukacek's water-content correlation "
+                             "is "
+                             "for sweet gas, so free water is assumed at the outlet")
+    try:
+        if b is WaterBasis.SATURATED_INLET:
+            if p_in_pa is None or t_in_k is None:
+                raise InputError("water_basis", "saturated at inlet needs the inlet pressure and temperature")
+            w = wc.saturated_water_content(p_in_pa, t_in_k)
+        elif b is WaterBasis.CONTENT:
+            if content_mg_per_sm3 is None or not (content_mg_per_sm3 > 0.0):
+                raise InputError("water_content",
+                                 f"the water content must be above 0 mg/Sm3, got {content_mg_per_sm3!r}")
+            w = float(content_mg_per_sm3)
+        else:
+            if dew_point_k is None:
+                raise InputError("water_dew_point", "a water dew point [K] is needed for this water basis")
+            w = wc.saturated_water_content(dew_point_p_pa if dew_point_p_pa is not None else p_out_pa, dew_point_k)
+        w_out = wc.saturated_water_content(p_out_pa, t_out_k)
+    except InputError as exc:
+        if exc.field in ("water_content", "water_dew_point", "water_basis"):
+            raise
+        return WaterAtOutlet(b.value, nan, nan, nan, True, nan,
+                             f"outside the range of Bukacek's water-content correlation ({exc.message}): free water "
+                             "is assumed at the outlet")
+    free = w > w_out
+    dp = nan
+    if not free:
+        try:
+            dp = wc.water_dew_point(w, p_out_pa)
+        except InputError:
+            dp = nan
+    drop = (w - w_out) * 1e-6 if free else 0.0
+    if free:
+        note = (f"the gas carries {w:.0f} mg/Sm3 of water and can hold {w_out:.0f} mg/Sm3 at the outlet: "
+                f"{w - w_out:.0f} mg/Sm3 drops out as free water (Bukacek)")
+    else:
+        note = (f"the gas carries {w:.0f} mg/Sm3 of water and can hold {w_out:.0f} mg/Sm3 at the outlet "
+                + (f"(water dew point {_k(dp)} at the outlet pressure)" if math.isfinite(dp) else "")
+                + ": no free water at the outlet (Bukacek)")
+    return WaterAtOutlet(b.value, w, w_out, dp, bool(free), drop, note)
+
+
 @dataclass(frozen=True)
 class HydrateAssessment:
     """Hydrate screening of one letdown outlet.
 
+    The hydrate temperature is that of the van der Waals-Platteeuw model
+    (:func:`jtcheck.thermo.hydrate.hydrate_temperature`) inside its checked range; outside it the
+    outlet is not screened and ``reason`` says why (the gas-gravity chart is shown only as a
+    cross-check, inside its own range, never in its place).
+
     Attributes
     ----------
     applies : bool
-        Water is in the composition or the user declared the gas water-saturated; when False the
-        hydrate numbers are shown for information only and no dose is given.
+        Water is present (in the composition, declared, or from the water basis) and free water or
+        hydrate can form at the outlet: the outlet is screened for hydrates.
+    screened : bool
+        A method inside its range gave the hydrate temperature (when ``applies``).
+    reason : str
+        Why the outlet is not screened, or why hydrates do not apply ("" otherwise).
     method : str
-        The methods used (Katz gas-gravity chart via Motiee's fit; Hammerschmidt).
-    gas_gravity : float
-        Gas gravity relative to air, dry basis, [-].
-    p_pa : float
-        Outlet pressure, [Pa].
-    t_out_k : float
-        Outlet temperature, [K].
+        Short name of the method (:data:`jtcheck.thermo.hydrate.METHOD_NAME`).
+    p_pa, t_out_k : float
+        Outlet pressure [Pa] and temperature [K].
     t_hydrate_k : float
-        Hydrate formation temperature at ``p_pa`` without inhibitor, [K].
+        Hydrate temperature at ``p_pa`` without inhibitor [K] (NaN when not screened).
+    structure, water_phase : str
+        Structure that forms first ("sI", "sII") and the water phase ("liquid water", "ice").
     subcooling_k : float
-        ``t_hydrate_k - t_out_k``, [K]; positive inside the hydrate region.
+        ``t_hydrate_k - t_out_k`` [K] (NaN when not screened).
     in_hydrate_region : bool
-        The outlet point lies inside the hydrate curve (``subcooling_k > 0``), whether or not water is present.
+    checked_deviation_k : float
+        The method's largest checked deviation [K] (a margin term).
     design_margin_k : float
-        Margin by which the inhibited hydrate temperature is to stay below the outlet temperature, [K].
+        Entered margin [K].
     required_depression_k : float
-        ``max(0, subcooling_k + design_margin_k)`` when ``applies``, else 0, [K].
+        Depression of the hydrate temperature that keeps the outlet ``checked_deviation_k +
+        design_margin_k`` outside the hydrate region [K] (0 when none).
     inhibitor : str
-        Inhibitor name ("methanol", "MEG").
     inhibitor_weight_percent : float
-        Hammerschmidt concentration in the free water that depresses the hydrate temperature to
-        ``t_out_k - design_margin_k``, [wt%]; 0 when none is required.
+        Dose in the free water [mass %]: the larger of the model's and Hammerschmidt's where both hold;
+        NaN when no dose can be given (``dose_note`` says why); 0 when none is needed.
     inhibitor_kg_per_kg_water : float
-        Inhibitor per water in the aqueous phase, [kg/kg]; losses to gas and condensate excluded.
+    model_weight_percent, hammerschmidt_weight_percent : float
+        The two doses [mass %] (NaN where that method does not apply).
+    injection_kg_per_s : float
+        Inhibitor injection for the case's flow [kg/s] (free water at the outlet times the dose ratio;
+        NaN when the flow or the free water is unknown).
+    dose_note : str
+    gas_gravity : float
+    katz_t_hydrate_k : float
+        Katz gas-gravity chart (Motiee fit) cross-check [K]; NaN outside the chart's range or for a gas
+        that is not a sweet natural gas.
+    water : WaterAtOutlet or None
     within_validity : bool
-        The point is inside the Katz chart's range and any dose inside Hammerschmidt's range.
+        Screened, and any dose given inside its methods' ranges.
     validity_note : str
-        What is inside or outside the range, in words.
     notes : tuple of str
-        Further cautions (composition, ice, declared water).
     """
 
     applies: bool
+    screened: bool
+    reason: str
     method: str
-    gas_gravity: float
     p_pa: float
     t_out_k: float
     t_hydrate_k: float
+    structure: str
+    water_phase: str
     subcooling_k: float
     in_hydrate_region: bool
+    checked_deviation_k: float
     design_margin_k: float
     required_depression_k: float
     inhibitor: str
     inhibitor_weight_percent: float
     inhibitor_kg_per_kg_water: float
+    model_weight_percent: float
+    hammerschmidt_weight_percent: float
+    injection_kg_per_s: float
+    dose_note: str
+    gas_gravity: float
+    katz_t_hydrate_k: float
+    water: WaterAtOutlet | None
     within_validity: bool
     validity_note: str
     notes: tuple[str, ...]
 
     @property
     def hydrate_risk(self) -> bool:
-        """Water is (or is declared) present and the outlet lies inside the hydrate region."""
-        return self.applies and self.in_hydrate_region
+        """Water is present and the outlet lies inside the hydrate region."""
+        return self.applies and self.screened and self.in_hydrate_region
+
+
+def _katz_cross_check(fluid: Fluid, p: float, gravity: float) -> float:
+    """Katz chart temperature [K] when the gas is a sweet natural gas inside the chart's range, else NaN."""
+    sweet = getattr(fluid, "_katz_sweet", None)
+    if sweet is None:
+        sweet = not _composition_notes(fluid)
+        fluid._katz_sweet = sweet
+    if not sweet:
+        return float("nan")
+    b0, b1, b2, b3, b4, b5 = MOTIEE_COEFFICIENTS
+    x = math.log10(p / PSI_PA)
+    t = _degf_to_k(b0 + b1 * x + b2 * x * x + b3 * gravity + b4 * gravity * gravity + b5 * gravity * x)
+    inside = (KATZ_GRAVITY_RANGE[0] <= gravity <= KATZ_GRAVITY_RANGE[1]
+              and KATZ_PRESSURE_RANGE_PA[0] <= p <= KATZ_PRESSURE_RANGE_PA[1]
+              and KATZ_TEMPERATURE_RANGE_K[0] <= t <= KATZ_TEMPERATURE_RANGE_K[1])
+    return t if inside else float("nan")
 
 
 def _composition_notes(fluid: Fluid) -> list[str]:
-    notes = []
     keep = [i for i, cid in enumerate(fluid.ids) if cid != "water"]
     zs = np.asarray(fluid.zs, dtype=float)[keep]
     zs = zs / zs.sum()
     comps = [fluid.components[i] for i in keep]
+    notes = []
     acid = sum(z for c, z in zip(comps, zs, strict=True) if c.id in ("carbon dioxide", "hydrogen sulfide"))
     if acid > ACID_GAS_NOTE_FRACTION:
-        notes.append(f"CO2 and H2S are {100 * acid:.1f} mol% of the dry gas: the gas-gravity method is for sweet "
-                     "natural gas; CO2 and H2S shift the hydrate curve (H2S raises the hydrate temperature), so "
-                     "the screening result is approximate")
-    inert = sum(z for c, z in zip(comps, zs, strict=True) if c.family == "inert")
-    if inert > INERT_NOTE_FRACTION:
-        notes.append(f"inert gases (nitrogen, argon, ...) are {100 * inert:.1f} mol% of the dry gas: they raise the "
-                     "gravity without forming hydrate as readily, so the gas-gravity method is approximate")
-    other = sum(z for c, z in zip(comps, zs, strict=True) if c.family not in ("hydrocarbon", "inert", "acid gas"))
-    if other > 0.01:
-        notes.append(f"components other than hydrocarbons, inerts and acid gases are {100 * other:.1f} mol% of the "
-                     "dry gas: the gas-gravity method is for natural gas and may not apply")
+        notes.append("acid gas")
+    if sum(z for c, z in zip(comps, zs, strict=True) if c.family == "inert") > INERT_NOTE_FRACTION:
+        notes.append("inerts")
+    if sum(z for c, z in zip(comps, zs, strict=True) if c.family not in ("hydrocarbon", "inert", "acid gas")) > 0.01:
+        notes.append("other")
     return notes
 
 
+def model_dose(fluid: Fluid, p_pa: float, t_target_k: float, inhibitor: Inhibitor) -> tuple[float, str]:
+    """Inhibitor [mass % in the free water] that puts the hydrate temperature at ``t_target_k`` [K], by van der
+    Waals-Platteeuw with the water activity of original UNIFAC (:mod:`jtcheck.thermo.hydrate.inhibitors`);
+    NaN with the reason where no checked dose exists.
+
+    The solution must also stay liquid at ``t_target_k``: the dose is at least the one that keeps ice out.
+    Only methanol and MEG are dosed (original UNIFAC under-predicts the freezing-point depression of the
+    others, and no second method is held to guard them)."""
+    from jtcheck.thermo.hydrate import inhibitors as inh_mod
+    from jtcheck.thermo.hydrate.equilibrium import required_ln_water_activity
+
+    if inhibitor not in (Inhibitor.METHANOL, Inhibitor.MONOETHYLENE_GLYCOL):
+        return float("nan"), (f"no dose for {inhibitor.value}: its water activity by original UNIFAC is not checked "
+                               "(it under-predicts the freezing-point depression) and no Hammerschmidt constant "
+                               "is held")
+    ln_a = required_ln_water_activity(fluid, p_pa, t_target_k)
+    if ln_a is None:
+        return float("nan"), "the model could not evaluate the outlet (flash failed or outside its range)"
+    if ln_a >= 0.0:
+        return 0.0, ""
+    name = inhibitor.value
+    w = inh_mod.mass_percent_for_activity(ln_a, name, t_target_k)
+    if not math.isfinite(w):
+        return float("nan"), (f"more than {inh_mod.MAX_MASS_PERCENT[name]:g} mass% {name} would be needed: beyond "
+                              "the range in which a dose is given")
+    return w, ""
+
+
 def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_present: bool | None = None,
-                    inhibitor: Inhibitor | str = Inhibitor.METHANOL, design_margin_k: float = 0.0) -> HydrateAssessment:
+                    inhibitor: Inhibitor | str = Inhibitor.METHANOL, design_margin_k: float = 0.0,
+                    water_basis: WaterBasis | str | None = None, p_in_pa: float | None = None,
+                    t_in_k: float | None = None, water_content_mg_per_sm3: float | None = None,
+                    water_dew_point_k: float | None = None,
+                    mass_flow_kg_per_s: float | None = None) -> HydrateAssessment:
     """Screen a letdown outlet for gas hydrates and size a thermodynamic inhibitor.
 
-    Hydrate temperature by the gas-gravity method of Katz (Trans. AIME 160 (1945) 140) through the fit
-    of Motiee (Hydrocarbon Processing 70(7) (1991) 98); inhibitor by Hammerschmidt (Ind. Eng. Chem. 26
-    (1934) 851), dosed so that the inhibited hydrate temperature is ``t_out_k - design_margin_k``.
+    Hydrate temperature by van der Waals and Platteeuw (1959) with the parameters of Munck et al.
+    (1988), guest fugacities from the fluid's own equation of state
+    (:func:`jtcheck.thermo.hydrate.hydrate_temperature`).  Outside the model's checked range the
+    outlet is "not screened" with the reason.  The Katz gas-gravity chart (Motiee 1991 fit) is shown as
+    a cross-check for a sweet natural gas inside its range.  The dose keeps the inhibited hydrate
+    temperature ``checked deviation + design_margin_k`` below the outlet: the larger of the model's
+    dose (water activity by original UNIFAC) and Hammerschmidt's (1934), each inside its range.
 
     Parameters
     ----------
     fluid : jtcheck.thermo.fluid.Fluid
-        The gas (with water if it carries water).
     p_out_pa : float
-        Outlet pressure, [Pa], above 0 and at most 1e9 Pa.
+        Outlet pressure, [Pa].
     t_out_k : float
-        Outlet temperature, [K], above 0 and at most 1000 K.
+        Outlet temperature, [K].
     water_present : bool or None
-        None: decide from the composition (water among the components).  True: the user states the
-        gas is water-saturated or carries free water.  False: the user states there is no water.
+        None: water among the components, or a ``water_basis`` given, decides.  True: the gas is
+        declared water-saturated.  False: declared free of water (not screened for hydrates).
     inhibitor : Inhibitor or str
-        ``Inhibitor.METHANOL`` ("methanol", default) or ``Inhibitor.MONOETHYLENE_GLYCOL`` ("MEG").
+        methanol (default), MEG, ethanol, DEG or TEG.
     design_margin_k : float
-        Margin between the outlet temperature and the inhibited hydrate temperature, [K], 0 to 50 K.
+        Entered margin, [K], 0 to 50 K.
+    water_basis : WaterBasis or str or None
+        How the water is given ("saturated at inlet", "water content", "water dew point"); with None,
+        water among the components gives the content (its mole fraction), otherwise the gas is taken as
+        saturated at the inlet when the inlet is given, else free water is assumed at the outlet.
+    p_in_pa, t_in_k : float, optional
+        Inlet pressure [Pa] and temperature [K] (saturated-at-inlet basis).
+    water_content_mg_per_sm3 : float, optional
+        Water content, [mg/Sm3] (basis "water content").
+    water_dew_point_k : float, optional
+        Water dew point at the outlet pressure, [K] (basis "water dew point").
+    mass_flow_kg_per_s : float, optional
+        Gas mass flow, [kg/s], for the injection rate.
 
     Returns
     -------
@@ -769,8 +1013,11 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     Raises
     ------
     InputError
-        Bad fluid, pressure, temperature, margin, ``water_present`` or inhibitor; the field is named.
+        Bad fluid, pressure, temperature, margin, water input or inhibitor; the field is named.
     """
+    from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, METHOD_NAME
+    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K, hydrate_point
+
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
     if np.ndim(p_out_pa) != 0:
@@ -784,63 +1031,130 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         raise InputError("water_present", f"must be True, False or None (decide from the composition), "
                                           f"got {water_present!r}")
     inh = Inhibitor.parse(inhibitor, field="inhibitor")
+    nan = float("nan")
+    gravity = getattr(fluid, "_gas_gravity", None)
+    if gravity is None:
+        gravity = fluid._gas_gravity = gas_specific_gravity(fluid)
+    notes: list[str] = []
 
     has_water = "water" in fluid.ids
-    applies = has_water if water_present is None else bool(water_present)
-    gravity = gas_specific_gravity(fluid)
-    t_hyd = float(hydrate_temperature_k(p, gravity))
-    subcooling = t_hyd - t
-    in_region = subcooling > 0.0
-    check = katz_range_check(p, gravity)
-
-    notes: list[str] = []
-    if water_present is None:
-        notes.append("water is among the components: screened for hydrates" if has_water else
-                     "no water in the composition: not screened for hydrates (declare the gas water-saturated "
-                     "to screen it)")
-    elif water_present and not has_water:
-        notes.append("no water in the composition, but the gas is declared water-saturated: screened for hydrates")
-    elif not water_present and has_water:
-        notes.append("water is among the components, but the gas is declared free of water: not screened for "
-                     "hydrates")
-    elif not water_present:
-        notes.append("the gas is declared free of water: not screened for hydrates")
+    if water_present is False:
+        applies = False
+        reason = "the gas is declared free of water: not screened for hydrates"
+    elif water_present is None and not has_water and water_basis is None:
+        applies = False
+        reason = ("no water in the composition and the gas is not declared water-saturated: not screened for "
+                  "hydrates (declare the gas water-saturated or give its water content to screen it)")
     else:
-        notes.append("the gas is declared water-saturated: screened for hydrates")
-    if not applies and in_region:
-        notes.append(f"the outlet lies {subcooling:.1f} K inside the hydrate curve of this gas: hydrates would form "
-                     "if water were present")
-    if not check.gravity_ok:
-        notes.append(f"gas gravity {gravity:.3f} is outside the chart's range {KATZ_GRAVITY_RANGE[0]:g}-"
-                     f"{KATZ_GRAVITY_RANGE[1]:g}: the hydrate temperature is an extrapolation of the fit")
-    notes.extend(_composition_notes(fluid))
-    if applies and t < _T0_K:
-        notes.append(f"outlet below 0 degC ({_k(t)}): free water would freeze to ice unless inhibited, and the "
-                     "chart's curves, drawn for liquid water, are extrapolated there")
+        applies, reason = True, ""
+        notes.append("water is among the components" if has_water else "the gas is declared water-saturated"
+                     if water_present else "the water content is given")
 
-    required = max(0.0, subcooling + margin) if applies else 0.0
-    if applies and not in_region and required > 0.0:
-        notes.append(f"the outlet is {-subcooling:.1f} K outside the hydrate region, within the design margin of "
-                     f"{margin:g} K: inhibitor is dosed to restore the margin")
+    # water at the outlet (Bukacek); no basis and no inlet: free water assumed
+    water = None
+    if applies:
+        basis = water_basis
+        if basis is None and has_water:
+            # the composition states the water: its content [mg/Sm3] (ideal gas at 15 degC, 101.325 kPa)
+            z_w = float(np.asarray(fluid.zs)[fluid.ids.index("water")])
+            basis = WaterBasis.CONTENT
+            water_content_mg_per_sm3 = z_w * 101325.0 / (8.314462618 * 288.15) * 18015.28
+        elif basis is None and p_in_pa is not None and t_in_k is not None:
+            basis = WaterBasis.SATURATED_INLET
+        if basis is not None:
+            water = water_at_outlet(fluid, p, t, basis=basis, p_in_pa=p_in_pa, t_in_k=t_in_k,
+                                    content_mg_per_sm3=water_content_mg_per_sm3, dew_point_k=water_dew_point_k)
+            notes.append(water.note)
+        else:
+            notes.append("free water is assumed at the outlet (no inlet conditions or water content given)")
+
+    if applies:
+        t_eq, _, eq_structure, eq_water, eq_reason = hydrate_point(fluid, p)
+    else:   # not screened for hydrates: the model is not run
+        t_eq, eq_structure, eq_water, eq_reason = nan, "", "", reason
+    screened = applies and not eq_reason
+    t_hyd = float(t_eq) if screened else nan
+    aw_vapour = 1.0
+    if applies and water is not None and not water.free_water and math.isfinite(water.saturated_outlet_mg_per_sm3):
+        # no free water: hydrate can still form from the undersaturated gas below T_hydrate at the gas's
+        # water activity (content / saturated content), the same model with a_w < 1
+        aw_vapour = min(1.0, water.content_mg_per_sm3 / water.saturated_outlet_mg_per_sm3)
+        _, t_dry, _, _, dry_reason = hydrate_point(fluid, p, math.log(aw_vapour))
+        bound = None
+        if not dry_reason:
+            bound = t_dry
+        elif math.isfinite(t_dry) and t_dry < T_RANGE_K[0]:
+            bound = T_RANGE_K[0]      # the model puts it below its checked range: take the range's lower end
+        if bound is not None:
+            notes.append(f"with no free water, hydrate could form from the gas only below {_k(bound)} (the gas's water "
+                         f"activity {aw_vapour:.3f}, same model)")
+            if t >= bound + CHECKED_DEVIATION_K + margin:
+                applies = False
+                reason = ("the gas is dry enough: no free water at the outlet, and the outlet is above the temperature "
+                          f"at which hydrate could form from the undersaturated gas with the margin ({water.note})")
+    if applies and not screened:
+        reason = f"not screened for hydrates: {eq_reason}"
+    subcooling = t_hyd - t if screened else nan
+    in_region = bool(screened and subcooling > 0.0)
+
+    # dose
+    total_margin = CHECKED_DEVIATION_K + margin
+    required = max(0.0, subcooling + total_margin) if (applies and screened) else 0.0
+    w_model = w_ham = nan
+    dose_note = ""
+    weight, ratio, dose_ok = 0.0, 0.0, True
     if required > 0.0:
-        dose = hammerschmidt_dose(min(required, _DEPRESSION_MAX_K), inh)
-        weight, ratio, dose_ok = dose.weight_percent, dose.kg_per_kg_water, dose.within_validity
-        if required > _DEPRESSION_MAX_K:
-            notes.append(f"the required depression {required:.0f} K exceeds {_DEPRESSION_MAX_K:g} K; the dose "
-                         f"shown is for {_DEPRESSION_MAX_K:g} K")
-            dose_ok = False
-        notes.append("the dose is the inhibitor in the free-water phase only; the part lost to the gas and to any "
-                     "hydrocarbon liquid (large for methanol) comes on top")
-    else:
-        dose = None
-        weight, ratio, dose_ok = 0.0, 0.0, True
+        w_model, why = model_dose(fluid, p, t - total_margin, inh)
+        parts = []
+        if why:
+            parts.append(why)
+        if inh.hammerschmidt_k_degf is not None and required <= _DEPRESSION_MAX_K:
+            m_inh, d_f = inh.molar_mass_g_per_mol, 1.8 * required   # Hammerschmidt (1934), W = 100 M dT / (K + M dT)
+            w_h = 100.0 * m_inh * d_f / (inh.hammerschmidt_k_degf + m_inh * d_f)
+            w_ham = w_h if w_h <= inh.max_weight_percent else nan
+            if not math.isfinite(w_ham):
+                parts.append(f"{w_h:.1f} wt% {inh.value} by Hammerschmidt is beyond its range (up to about "
+                             f"{inh.max_weight_percent:g} wt%; {inh.source})")
+        candidates = [w for w in (w_model, w_ham) if math.isfinite(w)]
+        if math.isfinite(w_model) and candidates:
+            weight = max(candidates)
+            ratio = float(inhibitor_mass_ratio(weight))
+            dose_note = (f"dose {weight:.1f} mass% {inh.value} in the free water: the larger of van der "
+                         "Waals-Platteeuw "
+                         f"with UNIFAC water activity ({w_model:.1f} mass%)"
+                         + (f" and Hammerschmidt ({w_ham:.1f} mass%)" if math.isfinite(w_ham)
+                               else " (Hammerschmidt not applicable)"))
+        else:
+            weight, ratio, dose_ok = nan, nan, False
+            dose_note = "no dose can be given: " + "; ".join(parts or ["no method holds"])
+        if parts and math.isfinite(weight):
+            dose_note += "; " + "; ".join(parts)
+    injection = nan
+    if math.isfinite(weight) and weight > 0.0 and mass_flow_kg_per_s and water is not None and \
+            math.isfinite(water.free_water_kg_per_sm3):
+        m_gas = fluid.molar_mass        # kg/mol
+        sm3_per_s = mass_flow_kg_per_s / m_gas * 8.314462618 * 288.15 / 101325.0
+        injection = sm3_per_s * water.free_water_kg_per_sm3 * ratio
+        dose_note += (f"; injection {injection * 3600:.3g} kg/h for the free water of the case's flow"
+                      + ("; methanol lost to the gas and to any hydrocarbon liquid comes on top (not included)"
+                         if inh is Inhibitor.METHANOL else ""))
 
-    validity = [check.note]
-    if dose is not None:
-        validity.append(dose.note)
+    katz = _katz_cross_check(fluid, p, gravity)
+    validity = [f"{METHOD_NAME}: " + ("inside its checked range (largest checked deviation "
+                                       f"{CHECKED_DEVIATION_K:g} K)" if screened else eq_reason)]
+    if math.isfinite(katz):
+        validity.append(f"cross-check: Katz gas-gravity chart (Motiee fit) {_k(katz)}")
+    else:
+        validity.append("Katz gas-gravity chart not applicable here (sweet natural gas inside the chart's range only)")
+    if dose_note:
+        validity.append(dose_note)
+    if screened:
+        notes.append(f"structure {eq_structure} forms first, with {eq_water}")
     return HydrateAssessment(
-        applies=applies, method=METHOD, gas_gravity=gravity, p_pa=p, t_out_k=t, t_hydrate_k=t_hyd,
-        subcooling_k=subcooling, in_hydrate_region=in_region, design_margin_k=margin, required_depression_k=required,
+        applies=applies, screened=screened, reason=reason, method=METHOD_NAME, p_pa=p, t_out_k=t, t_hydrate_k=t_hyd,
+        structure=eq_structure, water_phase=eq_water, subcooling_k=subcooling, in_hydrate_region=in_region,
+        checked_deviation_k=CHECKED_DEVIATION_K, design_margin_k=margin, required_depression_k=required,
         inhibitor=inh.value, inhibitor_weight_percent=weight, inhibitor_kg_per_kg_water=ratio,
-        within_validity=bool(check.within and dose_ok), validity_note="; ".join(validity),
-        notes=tuple(notes))
+        model_weight_percent=w_model, hammerschmidt_weight_percent=w_ham, injection_kg_per_s=injection,
+        dose_note=dose_note, gas_gravity=gravity, katz_t_hydrate_k=katz, water=water,
+        within_validity=bool(screened and dose_ok), validity_note="; ".join(validity), notes=tuple(notes))

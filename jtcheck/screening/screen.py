@@ -37,7 +37,13 @@ from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, LetdownResult, letdown
 from jtcheck.screening.co2_solids import screen_co2_solids
 from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, plain, sort_findings
-from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_BASIS, METHOD_UNCERTAINTY_K, Inhibitor, assess_hydrates
+from jtcheck.screening.hydrates import (
+    METHOD,
+    METHOD_UNCERTAINTY_BASIS,
+    METHOD_UNCERTAINTY_K,
+    Inhibitor,
+    assess_hydrates,
+)
 from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
 from jtcheck.screening.relief_screen import (
     HeaderSpec,
@@ -142,6 +148,9 @@ class ScreeningOptions:
     water_saturated: bool | None = None
     inhibitor: str = "methanol"
     mass_flow_kg_per_s: float | None = None
+    water_basis: str | None = None
+    water_content_mg_per_sm3: float | None = None
+    water_dew_point_k: float | None = None
     ranges: OperatingRanges | None = None
     relief: ReliefInputs | None = None
     answers: bool = True
@@ -338,7 +347,8 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
                 name), s["solid_fraction"] or 0.0))
         try:
             h = assess_hydrates(fluid, r.p_out, t_eff, water_present=options.water_saturated,
-                                inhibitor=Inhibitor(options.inhibitor))
+                                inhibitor=Inhibitor.parse(options.inhibitor), design_margin_k=options.limits.margin_k,
+                                **hydrate_water_inputs(options, cs.condition))
         except InputError as exc:
             validity.setdefault(f"hydrate screen not possible: {exc}", []).append(name)
         else:
@@ -362,35 +372,75 @@ def _with_t(r: LetdownResult, t: float) -> LetdownResult:
     return r if t == r.t_out else replace(r, t_out=t)
 
 
+def hydrate_water_inputs(options: ScreeningOptions, condition: Condition) -> dict[str, Any]:
+    """The water inputs of :func:`assess_hydrates` for one condition: the case's water basis, content or dew
+    point, the condition's inlet (saturated-at-inlet basis) and the mass flow (injection rate)."""
+    return {"water_basis": options.water_basis, "p_in_pa": condition.p_in_pa, "t_in_k": condition.t_in_k,
+            "water_content_mg_per_sm3": options.water_content_mg_per_sm3,
+            "water_dew_point_k": options.water_dew_point_k, "mass_flow_kg_per_s": options.mass_flow_kg_per_s}
+
+
 def _hydrate_findings(assessed: list[tuple[Any, str]], options: ScreeningOptions) -> list[Finding]:
     if not assessed:
         return []
     applying = [(h, n) for h, n in assessed if h.applies]
     if not applying:
         h = assessed[0][0]
-        return [Finding(Topic.HYDRATES, Severity.INFORMATION,
-                        "Not screened for hydrates: the fluid holds no water and the gas is not declared "
-                        "water-saturated.", {}, h.method)]
-    h, name = max(applying, key=lambda hn: hn[0].subcooling_k if math.isfinite(hn[0].subcooling_k) else -1e9)
+        return [hydrate_not_applying(h.reason, h.water is not None)]
+    hazards = [(h, n) for h, n in applying if h.screened and h.in_hydrate_region]
+    unscreened = [(h, n) for h, n in applying if not h.screened]
+    if hazards:
+        h, name = max(hazards, key=lambda hn: hn[0].subcooling_k)
+    elif unscreened:
+        h, name = unscreened[0]
+    else:
+        h, name = max(applying, key=lambda hn: hn[0].subcooling_k)
+    return [hydrate_finding(h, name, options.limits.margin_k)]
+
+
+def hydrate_not_applying(reason: str, water_given: bool) -> Finding:
+    """The hydrate finding of an outlet that is not a hydrate risk or not screened for lack of water."""
+    if not water_given and reason.startswith("no water in the composition"):
+        msg = "Not screened for hydrates: the fluid holds no water and the gas is not declared water-saturated."
+    elif reason.startswith("the gas is declared free of water"):
+        msg = "Not screened for hydrates: the gas is declared free of water."
+    else:
+        msg = f"Not a hydrate risk: {reason}."
+    return Finding(Topic.HYDRATES, Severity.INFORMATION, msg, {}, METHOD)
+
+
+def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
+    """The hydrate finding of one assessed outlet (:class:`HydrateAssessment` that applies): the same words on
+    the scalar and the batch path."""
     numbers = {"t_hydrate_k": h.t_hydrate_k, "t_out_k": h.t_out_k, "subcooling_k": h.subcooling_k,
-               "p_pa": h.p_pa, "gas_gravity": h.gas_gravity, "inhibitor": h.inhibitor,
+               "p_pa": h.p_pa, "structure": h.structure, "water_phase": h.water_phase, "method": h.method,
+               "gas_gravity": h.gas_gravity, "katz_t_hydrate_k": h.katz_t_hydrate_k, "inhibitor": h.inhibitor,
                "inhibitor_weight_percent": h.inhibitor_weight_percent,
-               "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water, "within_validity": h.within_validity}
-    notes = ""   # the method's range and notes travel in the basis, so the message stays readable
-    validity = "" if h.within_validity else " Outside the method's stated range: indicative only (see the basis)."
+               "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water,
+               "model_weight_percent": h.model_weight_percent,
+               "hammerschmidt_weight_percent": h.hammerschmidt_weight_percent,
+               "injection_kg_per_s": h.injection_kg_per_s, "within_validity": h.within_validity}
+    basis = "; ".join([h.validity_note, *h.notes])
+    if not h.screened:
+        return Finding(Topic.HYDRATES, Severity.CAUTION,
+                       f"Not screened for hydrates: {h.reason.removeprefix('not screened for hydrates: ')}. The outlet "
+                       f"({h.t_out_k - 273.15:.1f} degC at {h.p_pa / 1e5:.1f} bar abs) is not shown to be outside the "
+                       "hydrate region.", numbers, basis, name)
     if h.in_hydrate_region:
+        if math.isfinite(h.inhibitor_weight_percent):
+            dose = (f"{h.inhibitor} at {h.inhibitor_weight_percent:.1f} wt% in the free water "
+                    f"({h.inhibitor_kg_per_kg_water:.2f} kg per kg of water) would suppress it with the margin")
+        else:
+            why = h.dose_note.removeprefix("no dose can be given: ").split("; ")[0]
+            dose = f"No {h.inhibitor} dose is given: {why}"
         msg = (f"Hydrates can form: the outlet ({h.t_out_k - 273.15:.1f} degC) is {h.subcooling_k:.1f} K inside the "
-               f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at "
-               f"{h.p_pa / 1e5:.1f} bar abs). {h.inhibitor} at {h.inhibitor_weight_percent:.1f} wt% in the free "
-               f"water ({h.inhibitor_kg_per_kg_water:.2f} kg per kg of water, Hammerschmidt) would suppress it; "
-               f"or preheat.{validity}{notes}")
+               f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at {h.p_pa / 1e5:.1f} bar "
+               f"abs, structure {h.structure}, {h.method}). {dose}; or preheat.")
         sev = Severity.HAZARD
     else:
-        msg, sev = hydrate_outside(h.t_out_k, h.t_hydrate_k, options.limits.margin_k, h.within_validity, validity)
-        msg += notes
-    numbers.update(hydrate_margin_numbers(options.limits.margin_k))
-    basis = "; ".join([h.method, h.validity_note, *h.notes])
-    return [Finding(Topic.HYDRATES, sev, msg, numbers, basis, name)]
+        msg, sev = hydrate_outside(h.t_out_k, h.t_hydrate_k, margin_k, True, "")
+    numbers.update(hydrate_margin_numbers(margin_k))   # on every screened outlet, inside the region too
+    return Finding(Topic.HYDRATES, sev, msg, numbers, basis, name)
 
 
 def hydrate_margin_terms(margin_k: float) -> list[dict[str, Any]]:

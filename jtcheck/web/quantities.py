@@ -26,9 +26,12 @@ from jtcheck.cases import all_fields
 from jtcheck.errors import InputError
 from jtcheck.units import (
     P_ATM_DEFAULT_PA,
+    WATER_CONTENT_CHOICES,
+    WATER_CONTENT_UNITS,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
     pressure_from_pa,
     pressure_unit_names,
     temperature_difference_from_k,
@@ -46,6 +49,7 @@ PRESSURE_DIFFERENCE_CHOICES = ("bar", "kPa", "MPa", "psi")
 MASS_FLOW_UNIT = "kg/s"
 #: The unit of fractions entered in percent.
 PERCENT_UNIT = "%"
+
 #: Pascal per unit of a pressure difference; the gauge and absolute spellings mean the same.
 _DIFFERENCE_PA: dict[str, tuple[str, float]] = {}
 for _names, _canon, _factor in ((("bar", "bara", "barg"), "bar", 1.0e5), (("kpa", "kpaa", "kpag"), "kPa", 1.0e3),
@@ -94,18 +98,18 @@ class QuantityField:
     @property
     def si_unit(self) -> str:
         return {"pressure": "Pa", "temperature": "K", "difference": "K", "mass_flow": "kg/s", "percent": "fraction",
-                "pressure_difference": "Pa"}[self.kind]
+                "pressure_difference": "Pa", "water_content": "kg/Sm3"}[self.kind]
 
     @property
     def choices(self) -> tuple[str, ...]:
         return {"pressure": PRESSURE_CHOICES, "temperature": TEMPERATURE_CHOICES, "difference": DIFFERENCE_CHOICES,
                 "mass_flow": (MASS_FLOW_UNIT,), "percent": (PERCENT_UNIT,),
-                "pressure_difference": PRESSURE_DIFFERENCE_CHOICES}[self.kind]
+                "pressure_difference": PRESSURE_DIFFERENCE_CHOICES, "water_content": WATER_CONTENT_CHOICES}[self.kind]
 
     @property
     def default_unit(self) -> str:
         return {"pressure": "barg", "temperature": "degC", "difference": "K", "mass_flow": MASS_FLOW_UNIT,
-                "percent": PERCENT_UNIT, "pressure_difference": "bar"}[self.kind]
+                "percent": PERCENT_UNIT, "pressure_difference": "bar", "water_content": "mg/Sm3"}[self.kind]
 
 
 #: The quantity inputs of every case kind (:mod:`jtcheck.cases`), in the register's order; the atmospheric
@@ -128,6 +132,8 @@ def canonical_unit(unit: str, kind: str) -> str:
         return _DIFFERENCE_PA.get(unit.lower(), (unit, 0.0))[0]
     if kind == "percent":
         return PERCENT_UNIT if unit.lower() in ("%", "percent") else unit
+    if kind == "water_content":
+        return WATER_CONTENT_UNITS.get(unit.lower(), (unit, 0.0))[0]
     table = {"pressure": _PRESSURE_NAMES, "temperature": _TEMPERATURE_NAMES,
              "difference": _DIFFERENCE_NAMES}.get(kind, {})
     return table.get(unit.lower(), unit)
@@ -172,6 +178,8 @@ def parse_quantity(q: QuantityField, text: str, p_atm_pa: float) -> tuple[float,
         return parse_percent(text, q.name), PERCENT_UNIT
     if q.kind == "pressure_difference":
         return parse_pressure_difference(text, q.name)
+    if q.kind == "water_content":
+        return parse_water_content(text, q.name)
     # mass flow: kg/s only
     stripped = text.strip()
     if stripped.endswith(MASS_FLOW_UNIT):
@@ -260,6 +268,8 @@ def to_display(q: QuantityField, si_value: float | None, unit: str, p_atm_pa: fl
         return si_value * 100.0
     if q.kind == "pressure_difference":
         return pressure_difference_from_pa(si_value, unit)
+    if q.kind == "water_content":
+        return si_value / WATER_CONTENT_UNITS.get(unit.lower(), ("", 1.0e-6))[1]
     return si_value
 
 

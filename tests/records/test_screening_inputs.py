@@ -20,7 +20,7 @@ RELIEF = {"kind": "relief_valve", "set_pressure_pa": 60 * BAR + P_ATM, "overpres
 @pytest.mark.parametrize("overrides, field", [
     ({"outlet_pressure_min_pa": 20 * BAR}, "outlet_pressure_min_pa"),          # above the outlet pressure
     ({"water_saturated": "yes"}, "water_saturated"),
-    ({"hydrate_inhibitor": "ethanol"}, "hydrate_inhibitor"),
+    ({"hydrate_inhibitor": "glycerol"}, "hydrate_inhibitor"),   # issue 13 added ethanol, DEG and TEG
     ({"set_pressure_pa": 60 * BAR}, "set_pressure_pa"),                        # not a relief-valve case
     ({**RELIEF, "overpressure_fraction": None}, "overpressure_fraction"),
     ({**RELIEF, "overpressure_fraction": 1.5}, "overpressure_fraction"),

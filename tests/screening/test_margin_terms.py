@@ -13,8 +13,9 @@ import pytest
 from jtcheck import letdown
 from jtcheck.screening.cold_metal import ColdLimits, classify
 from jtcheck.screening.findings import Outcome, Severity, Topic
-from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_K, MOTIEE_CHECKED_DEVIATION_K
+from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_K
 from jtcheck.screening.screen import Condition, ScreeningOptions, hydrate_outside, screen_letdown
+from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K
 
 T0 = 273.15
 BAR = 1e5
@@ -78,21 +79,23 @@ def test_the_relief_bands_use_the_same_total():
 
 
 def test_hydrate_outside_only_beyond_the_method_uncertainty_plus_margin():
-    assert METHOD_UNCERTAINTY_K == MOTIEE_CHECKED_DEVIATION_K == 3.5
+    # issue 13: the method is van der Waals-Platteeuw, whose largest checked deviation is 2 K (was 3.5 K for Katz)
+    assert METHOD_UNCERTAINTY_K == CHECKED_DEVIATION_K == 2.0
     th = T0 + 12.0
-    msg, sev = hydrate_outside(th + 2.0, th, 0.0, True, "")      # warmer, but inside the 3.5 K uncertainty
+    msg, sev = hydrate_outside(th + 1.5, th, 0.0, True, "")      # warmer, but inside the 2 K uncertainty
     assert sev is Severity.CAUTION and msg.startswith("Inside the hydrate margin")
-    assert "hydrate method uncertainty 3.50 K + entered margin 0.00 K" in msg
-    msg, sev = hydrate_outside(th + 3.5 + 5.0 - 0.1, th, 5.0, True, "")
-    assert sev is Severity.CAUTION and "8.50 K margin" in msg
-    msg, sev = hydrate_outside(th + 3.5 + 5.0, th, 5.0, True, "")
+    assert "hydrate method uncertainty 2.00 K + entered margin 0.00 K" in msg
+    msg, sev = hydrate_outside(th + 2.0 + 5.0 - 0.1, th, 5.0, True, "")
+    assert sev is Severity.CAUTION and "7.00 K margin" in msg
+    msg, sev = hydrate_outside(th + 2.0 + 5.0, th, 5.0, True, "")
     assert sev is Severity.INFORMATION and msg.startswith("Outside the hydrate region")
 
 
 def test_the_hydrate_finding_carries_its_terms(lean_gas):
-    s = screen_letdown(lean_gas, [Condition("normal", 30 * BAR, T0 + 40, 20 * BAR)],
+    # issue 13: free water is needed at the outlet (saturated at the inlet, Bukacek): a letdown that cools it
+    s = screen_letdown(lean_gas, [Condition("normal", 100 * BAR, T0 + 20, 50 * BAR)],
                        ScreeningOptions(ColdLimits(user_limit_k=T0 - 29.0, margin_k=5.0), water_saturated=True))
     hyd = next(f for f in s.findings if f.topic is Topic.HYDRATES)
-    assert hyd.numbers["hydrate_margin_k"] == pytest.approx(3.5 + 5.0)
+    assert hyd.numbers["hydrate_margin_k"] == pytest.approx(2.0 + 5.0)
     assert [t["term"] for t in hyd.numbers["hydrate_margin_terms"]] == ["hydrate method uncertainty",
                                                                         "entered margin"]

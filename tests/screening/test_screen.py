@@ -144,7 +144,12 @@ def test_hydrates_when_declared_water_saturated(lean_gas):
                        ScreeningOptions(CS, water_saturated=True))
     f = next(f for f in s.findings if f.topic is Topic.HYDRATES)
     assert f.severity is Severity.HAZARD and f.numbers["subcooling_k"] > 0
-    assert f.numbers["inhibitor_weight_percent"] > 0
+    # about 39 K of depression would be needed: beyond 50 mass% methanol no dose is given (fail closed; issue 13)
+    assert math.isnan(f.numbers["inhibitor_weight_percent"]) and "No methanol dose is given" in f.message
+    mild = screen_letdown(lean_gas, [Condition("normal", 100 * BAR, T0 + 20, 80 * BAR)],
+                          ScreeningOptions(CS, water_saturated=True))
+    f = next(f for f in mild.findings if f.topic is Topic.HYDRATES)
+    assert f.severity is Severity.HAZARD and 0 < f.numbers["inhibitor_weight_percent"] < 50
     dry = screen_letdown(lean_gas, [Condition("normal", 100 * BAR, T0 + 10, 40 * BAR)], ScreeningOptions(CS))
     f = next(f for f in dry.findings if f.topic is Topic.HYDRATES)
     assert f.severity is Severity.INFORMATION and "no water" in f.message

@@ -244,6 +244,23 @@ def test_water_saturated_gas_is_screened_for_hydrates_with_the_inhibitor_chosen(
     assert found["numbers"]["t_hydrate_k"] > found["numbers"]["t_out_k"]
 
 
+def test_water_content_makes_a_dry_gas_not_a_hydrate_risk(api):
+    # issue 13: 100 bar, 20 degC let down to 30 bar (outlet about -10 degC): saturated at the inlet (the default)
+    # the gas drops water there and lies inside the hydrate region; with 20 mg/Sm3 (a dried gas, about
+    # 1.2 lb/MMscf) it holds no free water (Bukacek) and is too dry for hydrate to form from the gas
+    base = {**{k: v for k, v in COLD.items() if k not in ("limit", "margin")}, "t_in": "20 degC", "p_out": "30 bara"}
+    wet = _ok(api, {**base, "water_saturated": True})
+    dry = _ok(api, {**base, "water_saturated": True, "water_content": "20 mg/Sm3"})
+    lb = _ok(api, {**base, "water_saturated": True, "water_content": {"value": 1.2487, "unit": "lb/MMscf"}})
+
+    def hydrates(body):
+        return next(f for f in body["screening"]["findings"] if f["topic"] == "hydrates")
+
+    assert hydrates(wet)["severity"] == "hazard"
+    assert hydrates(dry)["message"].startswith("Not a hydrate risk: the gas is dry enough")
+    assert hydrates(lb)["message"] == hydrates(dry)["message"]     # 1.2487 lb/MMscf = 20.0 mg/Sm3
+
+
 def test_single_model_when_compare_models_is_false(api):
     body = _ok(api, {**WARM, "compare_models": False})
     assert body["screening"]["models"] == ["PR"]
@@ -288,6 +305,9 @@ BAD_SCREENING = [
     ("mass_flow", {"mass_flow": -1}), ("mass_flow", {"mass_flow": 0}), ("mass_flow", {"mass_flow": "3 t/h"}),
     ("mass_flow", {"mass_flow": True}), ("mass_flow", {"mass_flow": {"value": 1, "unit": "lb/s"}}),
     ("mass_flow", {"mass_flow": 1e9}), ("compare_models", {"compare_models": "no"}),
+    ("water_content", {"water_content": "110 g/m3"}), ("water_content", {"water_content": "-5 mg/Sm3"}),
+    ("water_dew_point", {"water_dew_point": "-10 bar"}),
+    ("water_dew_point", {"water_content": "110 mg/Sm3", "water_dew_point": "-10 degC"}),
 ]
 
 
@@ -300,7 +320,7 @@ def test_bad_screening_input_is_named(api, field, change):
 
 
 @pytest.mark.parametrize("field, change, words", [
-    ("inhibitor", {"inhibitor": "glycerol"}, "allowed: methanol, MEG"),
+    ("inhibitor", {"inhibitor": "glycerol"}, "allowed: methanol, MEG, ethanol, DEG, TEG"),
     ("p_in_max", {"p_in_max": "50 bara"}, "allowed: >= p_in"),
     ("margin", {"margin": "-1 K"}, "between 0 and 100 K"),
     ("mass_flow", {"mass_flow": "3 t/h"}, "kg/s is the only unit"),

@@ -31,6 +31,7 @@ from jtcheck.cases.fields import (
     LIMIT_TEMPERATURE_RANGE_K,
     MASS_FLOW_RANGE_KG_PER_S,
     PRESSURE_RANGE_PA,
+    WATER_CONTENT_RANGE_KG_PER_SM3,
     Field,
 )
 from jtcheck.cases.kind import CaseKind
@@ -68,9 +69,14 @@ LETDOWN_FIELDS: tuple[Field, ...] = (
           INLET_TEMPERATURE_RANGE_K),
     Field("ambient_temperature_min", "ambient_temperature_min_k", "temperature", "minimum ambient temperature",
           "Minimum ambient temperature", LIMIT_TEMPERATURE_RANGE_K),
+    # water the gas carries (issue 13): neither given means saturated at the inlet (the default, conservative)
+    Field("water_content", "water_content_kg_per_sm3", "water_content", "water content of the gas",
+          "Water content of the gas", WATER_CONTENT_RANGE_KG_PER_SM3),
+    Field("water_dew_point", "water_dew_point_k", "temperature", "water dew point at the outlet pressure",
+          "Water dew point at the outlet pressure", LIMIT_TEMPERATURE_RANGE_K),
 )
-#: Hydrate inhibitors a case may name (the Hammerschmidt constants live in jtcheck.screening.hydrates).
-HYDRATE_INHIBITORS = ("methanol", "MEG")
+#: Hydrate inhibitors a case may name (jtcheck.screening.hydrates.Inhibitor; a dose is given for methanol and MEG).
+HYDRATE_INHIBITORS = ("methanol", "MEG", "ethanol", "DEG", "TEG")
 
 
 def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = None) -> None:
@@ -107,6 +113,9 @@ def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = N
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
                                               f"{', '.join(HYDRATE_INHIBITORS)}")
+    if values.get("water_content_kg_per_sm3") is not None and values.get("water_dew_point_k") is not None:
+        raise InputError("water_dew_point_k", "give the water content or the water dew point, not both; allowed: one "
+                                              "of them, or neither (the gas saturated with water at the inlet)")
     check_settle_out_volumes(values.get("settle_out_volumes"))
     check_credible_off(values.get("credible_off"))
 
@@ -135,6 +144,18 @@ def letdown_values(*, p_in_pa: float, t_in_k: float, p_out_pa: float, limits: Co
             "mdmt_k": limits.mdmt_k, "cold_limit_k": limits.user_limit_k, "margin_k": limits.margin_k,
             "mdmt_source": limits.mdmt_source, "p_atm_pa": p_atm_pa, "water_saturated": water_saturated,
             "hydrate_inhibitor": inhibitor}
+
+
+def water_options(values: Mapping[str, Any]) -> dict[str, Any]:
+    """The water inputs of the screening (:class:`ScreeningOptions`): a water content [kg/Sm3, stored] or a water
+    dew point [K] when given, else none (the screening then takes the gas saturated at each condition's inlet)."""
+    content = values.get("water_content_kg_per_sm3")
+    dew = values.get("water_dew_point_k")
+    if content is not None:
+        return {"water_basis": "water content", "water_content_mg_per_sm3": content * 1e6}
+    if dew is not None:
+        return {"water_basis": "water dew point", "water_dew_point_k": dew}
+    return {}
 
 
 def check_short(values: Mapping[str, Any]) -> None:
@@ -192,6 +213,7 @@ def letdown_options(values: Mapping[str, Any], *, sweep: bool = True, **extra: A
     return ScreeningOptions(limits=cold_limits(values), water_saturated=True if values.get("water_saturated") else None,
                             inhibitor=values.get("hydrate_inhibitor") or "methanol",
                             mass_flow_kg_per_s=values.get("mass_flow_kg_per_s"),
+                            **water_options(values),
                             ranges=ranges if sweep and ranges.varies else None, **extra)
 
 

@@ -9,6 +9,7 @@ from typing import Any
 from flask import jsonify
 
 from jtcheck import Fluid, itemlists, letdown
+from jtcheck.cases.fields import WATER_CONTENT_RANGE_KG_PER_SM3
 from jtcheck.cases.letdown import LETDOWN, check_short, letdown_values
 from jtcheck.errors import InputError
 from jtcheck.letdown.throttle import check_letdown_inputs
@@ -28,12 +29,19 @@ from jtcheck.units import (
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
     pressure_from_pa,
     temperature_from_k,
 )
 from jtcheck.web.api.blueprint import api, body, unknown_keys
 from jtcheck.web.database import db_session
-from jtcheck.web.quantities import MASS_FLOW_UNIT, canonical_unit, parse_p_atm, quantity_text, unit_word
+from jtcheck.web.quantities import (
+    MASS_FLOW_UNIT,
+    canonical_unit,
+    parse_p_atm,
+    quantity_text,
+    unit_word,
+)
 from jtcheck.web.security import require_viewer
 
 
@@ -74,7 +82,8 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
                  "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
-                 "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off", *MATERIAL_OPTIONS)
+                 "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off", "water_content",
+                 "water_dew_point", *MATERIAL_OPTIONS)
 
 
 def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
@@ -142,6 +151,26 @@ def _mass_flow(value: Any) -> float | None:
         raise InputError("mass_flow", f"mass flow {value!r} is out of range; allowed: above {lo:g} and below "
                                       f"{hi:g} {MASS_FLOW_UNIT}")
     return flow
+
+
+def _water(data: Mapping[str, Any]) -> dict[str, float]:
+    """The water the gas carries (issue 13): ``water_content`` ("110 mg/Sm3", "7 lb/MMscf") or ``water_dew_point``
+    ("-10 degC", at the outlet pressure); neither: saturated at the inlet."""
+    out: dict[str, float] = {}
+    content = _q(data, "water_content", "110 mg/Sm3", required=False)
+    if content is not None:
+        value, _ = parse_water_content(content, "water_content")
+        lo, hi, _ = WATER_CONTENT_RANGE_KG_PER_SM3
+        if not lo < value <= hi:
+            raise InputError("water_content", f"water content {content!r} is out of range; allowed: above 0 and up "
+                                              f"to {hi * 1e6:g} mg/Sm3")
+        out["water_content_kg_per_sm3"] = value
+    dew = _q(data, "water_dew_point", "-10 degC", required=False)
+    if dew is not None:
+        out["water_dew_point_k"] = parse_temperature(dew, "water_dew_point")
+    if len(out) == 2:
+        raise InputError("water_dew_point", "give the water content or the water dew point, not both")
+    return out
 
 
 def _cold_limits(data: Mapping[str, Any]) -> ColdLimits:
@@ -254,6 +283,7 @@ def compute_letdown():
                             inhibitor=_inhibitor(data.get("inhibitor")), mass_flow_kg_per_s=_mass_flow(
                                 data.get("mass_flow")))
     values.update(_generated_inputs(data, p_atm_pa))
+    values.update(_water(data))
     check_short(values)     # the letdown kind's checks, naming the request's fields
     spec = _material_spec(data, limits.mdmt_k)
     if spec is not None:

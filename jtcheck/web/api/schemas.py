@@ -130,10 +130,15 @@ def register(api: ApiRegistry) -> None:
             "p_out_min": {**_nullable(_ref("Quantity")),
                           "description": "Minimum credible outlet pressure (<= p_out): the sweep runs down to it."},
             "water_saturated": {"type": ["boolean", "null"], "default": False,
-                                "description": "Screen for hydrates as if the gas were water-saturated "
+                                "description": "Screen for hydrates with the gas saturated with water at the inlet "
                                                "(water in the composition always counts)."},
             "inhibitor": {**INHIBITOR_ENUM, "default": "methanol",
-                          "description": "Hydrate inhibitor for the Hammerschmidt dose."},
+                          "description": "Hydrate inhibitor for the dose (given for methanol and MEG)."},
+            "water_content": {**_nullable(_ref("Quantity")), "examples": ["110 mg/Sm3", "7 lb/MMscf"],
+                              "description": "Water the gas carries (mg/Sm3 or lb/MMscf); with neither this nor "
+                                             "water_dew_point the gas is saturated at the inlet."},
+            "water_dew_point": {**_nullable(_ref("Quantity")), "examples": ["-10 degC"],
+                                "description": "Water dew point at the outlet pressure (instead of water_content)."},
             "mass_flow": {"oneOf": [{"type": "number", "exclusiveMinimum": 0, "description": "kg/s"},
                                     {"type": "string", "examples": ["12 kg/s"]},
                                     {"type": "object", "required": ["value", "unit"], "additionalProperties": False,
@@ -323,7 +328,7 @@ _CASE_TEXT = {
     "water_saturated": {"type": "boolean", "default": False,
                         "description": "Screen for hydrates as if the gas were water-saturated."},
     "hydrate_inhibitor": {"type": "string", "enum": list(service.HYDRATE_INHIBITORS), "default": "methanol",
-                          "description": "Hydrate inhibitor for the Hammerschmidt dose."},
+                          "description": "Hydrate inhibitor for the dose (given for methanol and MEG)."},
 }
 #: The kinds' list inputs: text with one item a line (jtcheck.itemlists), or a list of such lines.
 _LINES = {"oneOf": [{"type": "string"}, {"type": "array", "items": {"type": "string"}}, {"type": "null"}]}

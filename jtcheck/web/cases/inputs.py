@@ -42,7 +42,7 @@ LIST_FIELDS = {"header_sections": itemlists.header_sections, "other_sources": it
 INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm",
                 *SCREENING_FIELDS, *(k for k in LIST_FIELDS if k in KIND_PARAMETERS), "basis", "references")
 _EXAMPLES = {"pressure": "72 barg", "temperature": "9 degC", "difference": "5 K", "mass_flow": "12 kg/s",
-             "percent": "10 %", "pressure_difference": "3 bar"}
+             "percent": "10 %", "pressure_difference": "3 bar", "water_content": "110 mg/Sm3"}
 _TRUE_WORDS = ("on", "true", "yes", "1")
 _FALSE_WORDS = ("", "off", "false", "no", "0")
 
