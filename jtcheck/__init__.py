@@ -4,9 +4,10 @@
 >>> gas = Fluid({"methane": 0.9, "ethane": 0.1})
 >>> r = letdown(gas, p_in=100e5, t_in=313.15, p_out=10e5)
 """
+from jtcheck.blowdown import DepressureResult, depressure
 from jtcheck.letdown import LetdownBatch, LetdownResult, letdown
 from jtcheck.thermo.fluid import Fluid
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "LetdownBatch", "LetdownResult", "__version__", "letdown"]
+__all__ = ["DepressureResult", "Fluid", "LetdownBatch", "LetdownResult", "__version__", "depressure", "letdown"]

@@ -51,12 +51,13 @@ class ThroatFlow:
 
 
 def isentropic_throat(fluid: Fluid, x, p0_pa: float, t0_k: float, p_back_pa: float,
-                      t_skip_k: float = math.inf) -> ThroatFlow:
+                      t_skip_k: float = math.inf, ratio_hint: float = 0.0) -> ThroatFlow:
     """Throat flow of composition ``x`` [-] (one phase at the stagnation state ``p0_pa`` [Pa], ``t0_k`` [K])
     discharging to ``p_back_pa`` [Pa].
 
     ``t_skip_k`` [K]: above it the isentrope is known to be single-phase (the composition's cricondentherm plus
-    a margin); +inf tests stability at every point."""
+    a margin); +inf tests stability at every point.  ``ratio_hint`` [-]: a critical pressure ratio found nearby
+    (0 for none) narrows the search."""
     mix = fluid.mixture
     x = np.ascontiguousarray(x, dtype=float)
     prm = mix.kernel_params
@@ -65,5 +66,5 @@ def isentropic_throat(fluid: Fluid, x, p0_pa: float, t0_k: float, p_back_pa: flo
     p = props(prm, float(t0_k), float(p0_pa), x, GIBBS)
     h0 = p[2] - p0_pa * c
     ok, choked, g, pt, tt, bt, nfl = _throat_kernel(prm, float(p0_pa), float(t0_k), h0, p[3], x, float(p_back_pa), m,
-                                                   c, float(t_skip_k))
+                                                   c, float(t_skip_k), float(ratio_hint))
     return ThroatFlow(bool(ok), bool(choked), float(g), float(pt), float(tt), float(bt), float(h0), m, int(nfl))

@@ -27,8 +27,11 @@ _jit = njit(cache=True, nogil=True)
 _GR = 0.5 * (math.sqrt(5.0) - 1.0)
 #: Lowest throat pressure searched for the maximum, as a fraction of P0 [-].
 LOW_FRACTION = 0.01
-#: Tolerance of the critical pressure in ln P [-].
-LNP_TOL = 1e-6
+#: Tolerance of the critical pressure in ln P [-] (G is flat at its maximum: the error in G is of the order of
+#: the square of this).
+LNP_TOL = 1e-5
+#: Half-width in ln P of the search around a hinted critical pressure ratio [-].
+HINT_HALF_WIDTH = 0.12
 
 
 @_jit
@@ -52,60 +55,85 @@ def _point(prm, P, h0, s0, z, T_guess, M, c_shift, x, y, t_skip):
 
 
 @_jit
-def throat(prm, P0, T0, h0, s0, z, Pb, M, c_shift, t_skip):
-    """Throat of the isentropic nozzle from stagnation (P0 [Pa], T0 [K], h0 [J/mol], s0 [J/(mol K)]) to the
-    back pressure Pb [Pa].
+def _golden(prm, a, b, h0, s0, z, T0, lnP0, M, c_shift, x, y, t_skip):
+    """Golden-section search for the maximum of G on ln P in [a, b].
 
-    ``M`` is the molar mass [kg/mol], ``c_shift`` the volume translation sum z_i c_i [m^3/mol] (0 without;
-    h0 then carries the shift -P0 c_shift).  Returns (ok, choked, G [kg/(m^2 s)], P_throat [Pa],
-    T_throat [K], beta_throat [-], flashes): ok False when a PS flash failed."""
-    n = z.size
-    x = np.empty(n)
-    y = np.empty(n)
+    Returns (ok, ln P at the maximum, T there, flashes)."""
     flashes = 0
-    if not (Pb < P0):
-        return True, False, 0.0, P0, T0, np.nan, 0
-    a = math.log(max(Pb, LOW_FRACTION * P0))
-    b = math.log(P0)
-    # golden section on ln P for the maximum of G
     c = b - _GR * (b - a)
     d = a + _GR * (b - a)
-    ok, Gc, Tc, bc, rc = _point(prm, math.exp(c), h0, s0, z, T0 * math.exp(0.25 * (c - b)), M, c_shift, x, y, t_skip)
+    ok, Gc, Tc, bc, rc = _point(prm, math.exp(c), h0, s0, z, T0 * math.exp(0.25 * (c - lnP0)), M, c_shift, x, y,
+                                t_skip)
     flashes += 1
     if not ok:
-        return False, False, np.nan, math.exp(c), Tc, np.nan, flashes
-    ok, Gd, Td, bd, rd = _point(prm, math.exp(d), h0, s0, z, T0 * math.exp(0.25 * (d - b)), M, c_shift, x, y, t_skip)
+        return False, c, Tc, flashes
+    ok, Gd, Td, bd, rd = _point(prm, math.exp(d), h0, s0, z, T0 * math.exp(0.25 * (d - lnP0)), M, c_shift, x, y,
+                                t_skip)
     flashes += 1
     if not ok:
-        return False, False, np.nan, math.exp(d), Td, np.nan, flashes
+        return False, d, Td, flashes
     while b - a > LNP_TOL:
         if Gc > Gd:
             b = d
             d = c
-            Gd, Td, bd = Gc, Tc, bc
+            Gd, Td = Gc, Tc
             c = b - _GR * (b - a)
             ok, Gc, Tc, bc, rc = _point(prm, math.exp(c), h0, s0, z, Td, M, c_shift, x, y, t_skip)
-            flashes += 1
-            if not ok:
-                return False, False, np.nan, math.exp(c), Tc, np.nan, flashes
         else:
             a = c
             c = d
-            Gc, Tc, bc = Gd, Td, bd
+            Gc, Tc = Gd, Td
             d = a + _GR * (b - a)
             ok, Gd, Td, bd, rd = _point(prm, math.exp(d), h0, s0, z, Tc, M, c_shift, x, y, t_skip)
-            flashes += 1
+        flashes += 1
+        if not ok:
+            return False, 0.5 * (a + b), Tc, flashes
+    return True, 0.5 * (a + b), Tc, flashes
+
+
+@_jit
+def throat(prm, P0, T0, h0, s0, z, Pb, M, c_shift, t_skip, ratio_hint):
+    """Throat of the isentropic nozzle from stagnation (P0 [Pa], T0 [K], h0 [J/mol], s0 [J/(mol K)]) to the
+    back pressure Pb [Pa].
+
+    ``M`` is the molar mass [kg/mol], ``c_shift`` the volume translation sum z_i c_i [m^3/mol] (0 without;
+    h0 then carries the shift -P0 c_shift).  ``ratio_hint`` (0 for none) is a critical pressure ratio found
+    nearby (the previous time step): the search starts in a narrow window around it and falls back to the full
+    range when the maximum is not inside.  Returns (ok, choked, G [kg/(m^2 s)], P_throat [Pa], T_throat [K],
+    beta_throat [-], flashes): ok False when a PS flash failed."""
+    n = z.size
+    x = np.empty(n)
+    y = np.empty(n)
+    if not (Pb < P0):
+        return True, False, 0.0, P0, T0, np.nan, 0
+    lnP0 = math.log(P0)
+    lo_full = math.log(max(Pb, LOW_FRACTION * P0))
+    flashes = 0
+    found = False
+    lnp_star = np.nan
+    Tc = T0
+    if ratio_hint > 0.0:
+        a = max(lnP0 + math.log(ratio_hint) - HINT_HALF_WIDTH, lo_full)
+        b = min(lnP0 + math.log(ratio_hint) + HINT_HALF_WIDTH, lnP0)
+        if b - a > 4.0 * LNP_TOL:
+            ok, lnp_star, Tc, k = _golden(prm, a, b, h0, s0, z, T0, lnP0, M, c_shift, x, y, t_skip)
+            flashes += k
             if not ok:
-                return False, False, np.nan, math.exp(d), Td, np.nan, flashes
-    lnp_star = 0.5 * (a + b)
-    if lnp_star - math.log(Pb) > 2.0 * LNP_TOL:
+                return False, False, np.nan, math.exp(lnp_star), Tc, np.nan, flashes
+            inside = (lnp_star - a > 4.0 * LNP_TOL or a <= lo_full) and (b - lnp_star > 4.0 * LNP_TOL or b >= lnP0)
+            found = inside
+    if not found:
+        ok, lnp_star, Tc, k = _golden(prm, lo_full, lnP0, h0, s0, z, T0, lnP0, M, c_shift, x, y, t_skip)
+        flashes += k
+        if not ok:
+            return False, False, np.nan, math.exp(lnp_star), Tc, np.nan, flashes
+    if lnp_star - math.log(Pb) > 4.0 * LNP_TOL:
         # the maximum lies above the back pressure: choked at the critical pressure
         P = math.exp(lnp_star)
         ok, G, T, beta, rho = _point(prm, P, h0, s0, z, Tc, M, c_shift, x, y, t_skip)
         return ok, True, G, P, T, beta, flashes + 1
     if Pb < LOW_FRACTION * P0:
-        # G still rising at the lowest pressure searched: report failure (a back pressure this low is choked
-        # for any real fluid; the maximum was not found)
-        return False, False, np.nan, math.exp(a), Tc, np.nan, flashes
+        # G still rising at the lowest pressure searched: the maximum was not found
+        return False, False, np.nan, math.exp(lo_full), Tc, np.nan, flashes
     ok, G, T, beta, rho = _point(prm, Pb, h0, s0, z, Tc, M, c_shift, x, y, t_skip)
     return ok, False, G, Pb, T, beta, flashes + 1

@@ -1,0 +1,183 @@
+"""The vessel contents at one instant of the equilibrium model: UV flash, valve flow and heat flows.
+
+Equilibrium model: the inventory (component moles N_i, internal energy U) is one fluid in phase equilibrium
+filling the vessel volume; each evaluation is a UV flash of (U/n, V/n, N/n) (:func:`jtcheck.thermo.flash.flash_uv`).
+The valves draw the vapour (the liquid phase's composition stays behind); a single-phase inventory leaves as
+it is.  The valve flow is the real-fluid isentropic nozzle (:mod:`jtcheck.thermo.nozzle`), the heat flows those
+of :mod:`jtcheck.blowdown.heat` with the gas properties of :mod:`jtcheck.blowdown.transport`.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from jtcheck.blowdown import heat, transport
+from jtcheck.blowdown.geometry import Vessel
+from jtcheck.blowdown.inputs import Orifice
+from jtcheck.thermo.flash import flash_uv
+from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.models.interface import GIBBS, props
+from jtcheck.thermo.nozzle import isentropic_throat
+
+
+class StepFailed(Exception):
+    """A flash or a nozzle solve failed at a trial state (internal: the integrator shortens the step)."""
+
+
+@dataclass(frozen=True)
+class InsideHeatTransfer:
+    """How the inside coefficient is found: "correlation" (natural convection / boiling), "none" (adiabatic
+    inside, for checks and bounding cases), or "fixed" at ``fixed_w_per_m2_k`` on both zones."""
+
+    mode: str = "correlation"
+    fixed_w_per_m2_k: float = 0.0
+
+
+@dataclass
+class State:
+    """Everything the integrator and the record need at one instant (SI)."""
+
+    t_k: float
+    p_pa: float
+    beta: float
+    phase: str
+    x: np.ndarray
+    y: np.ndarray
+    liquid_volume_m3: float
+    area_gas_m2: float
+    area_liquid_m2: float
+    mass_kg: float
+    mdot_kg_per_s: float
+    ndot_mol_per_s: float
+    outflow_h_j_per_mol: float
+    outflow_y: np.ndarray
+    q_gas_w: float
+    q_liquid_w: float
+    h_gas_w_per_m2_k: float
+    h_liquid_w_per_m2_k: float
+    throat_t_k: float
+    choked: bool
+    flashes: int
+
+
+class Contents:
+    """Evaluates the vessel contents (equilibrium model)."""
+
+    def __init__(self, fluid: Fluid, vessel: Vessel, orifices: tuple[Orifice, ...], inside: InsideHeatTransfer,
+                 z0: np.ndarray):
+        self.fluid = fluid
+        self.vessel = vessel
+        self.orifices = orifices
+        self.inside = inside
+        self.mix = fluid.mixture
+        self.prm = self.mix.kernel_params
+        self.mws = np.asarray(self.mix.mws, float)
+        self.shifts = np.asarray(fluid.vol_shifts, float) if fluid.volume_translation else np.zeros(len(self.mws))
+        comps = fluid.components
+        self.tcs = np.array([c.tc_k for c in comps])
+        self.pcs = np.array([c.pc_pa for c in comps])
+        self.vcs = np.array([c.vc_m3_per_mol for c in comps])
+        self.omegas = np.array([c.omega for c in comps])
+        self.z0 = np.asarray(z0, float)
+        self._t_skip0 = fluid.with_composition(list(zip(fluid.ids, self.z0, strict=True))).single_phase_above_k() \
+            if len(self.z0) > 1 else math.inf
+        self.t_guess = math.nan
+        self.p_guess = math.nan
+        #: critical pressure ratio of each orifice at the last evaluation (narrows the next nozzle search)
+        self.ratio_hints = [0.0] * len(orifices)
+
+    def _t_skip(self, z: np.ndarray) -> float:
+        return self._t_skip0 if np.allclose(z, self.z0, rtol=0.0, atol=1e-12) else math.inf
+
+    def flash(self, N: np.ndarray, U: float):
+        """UV flash of the inventory; raises StepFailed."""
+        n = float(N.sum())
+        if not (n > 0.0 and math.isfinite(U)):
+            raise StepFailed("the inventory is empty or its energy is not finite")
+        z = N / n
+        v = self.vessel.volume_m3 / n + float(z @ self.shifts)
+        res = flash_uv(self.mix, U / n, v, z, self.t_guess, self.p_guess, self._t_skip(z))
+        if not res.converged:
+            raise StepFailed(f"UV flash failed at u = {U / n:.6g} J/mol, v = {v:.6g} m^3/mol: {res.message}")
+        return res, z, n
+
+    def evaluate(self, N: np.ndarray, U: float, tw_gas: float, tw_liq: float) -> State:
+        res, z, n = self.flash(N, U)
+        T, P = res.T, res.P
+        flashes = 1
+        two = res.phase == "two-phase"
+        if two:
+            pV = props(self.prm, T, P, res.y, GIBBS)
+            pL = props(self.prm, T, P, res.x, GIBBS)
+            vl = pL[1] - float(res.x @ self.shifts)
+            v_liq = n * (1.0 - res.beta) * vl
+            out_y = np.asarray(res.y, float)
+        elif res.beta < 0.5:
+            # a liquid-like single phase fills the vessel
+            pV = props(self.prm, T, P, z, GIBBS)
+            pL = pV
+            v_liq = self.vessel.volume_m3
+            out_y = z
+        else:
+            pV = props(self.prm, T, P, z, GIBBS)
+            pL = pV
+            v_liq = 0.0
+            out_y = z
+        a_liq = self.vessel.wetted_area_m2(v_liq)
+        a_gas = max(self.vessel.inner_area_m2 - a_liq, 0.0)
+        # -- valves -------------------------------------------------------------------------------
+        mdot = 0.0
+        ndot = 0.0
+        h0 = math.nan
+        t_throat = math.nan
+        choked = False
+        m_out = float(out_y @ self.mws)
+        t_skip = self._t_skip(out_y)
+        for k, orf in enumerate(self.orifices):
+            if P <= orf.back_pressure_pa:
+                continue
+            th = isentropic_throat(self.fluid, out_y, P, T, orf.back_pressure_pa, t_skip, self.ratio_hints[k])
+            flashes += th.flashes
+            if not th.converged:
+                raise StepFailed(f"isentropic nozzle solve failed for the {orf.name} at {P:.6g} Pa, {T:.6g} K")
+            self.ratio_hints[k] = th.p_throat_pa / P if th.choked else 0.0
+            md = orf.discharge_coefficient * orf.area_m2 * th.mass_flux_kg_per_m2_s
+            mdot += md
+            ndot += md / m_out
+            h0 = th.h0_j_per_mol
+            t_throat = th.t_throat_k if math.isnan(t_throat) else min(t_throat, th.t_throat_k)
+            choked = choked or th.choked
+        if ndot == 0.0:
+            h0 = pV[2] - P * float(out_y @ self.shifts)
+        # -- heat ---------------------------------------------------------------------------------
+        hg = hl = 0.0
+        if self.inside.mode == "fixed":
+            hg = hl = self.inside.fixed_w_per_m2_k
+        elif self.inside.mode == "correlation":
+            hg = self._gas_htc(T, P, pV, out_y if two else z, tw_gas - T)
+            if a_liq > 0.0:
+                comp_l = res.x if two else z
+                pc = float(np.asarray(comp_l) @ self.pcs)
+                hl = max(heat.mostinski_htc(tw_liq - T, pc, P), heat.LIQUID_NC_W_PER_M2_K)
+        q_gas = hg * a_gas * (tw_gas - T)
+        q_liq = hl * a_liq * (tw_liq - T) if a_liq > 0.0 else 0.0
+        self.t_guess, self.p_guess = T, P
+        return State(t_k=T, p_pa=P, beta=res.beta, phase=res.phase, x=np.asarray(res.x), y=np.asarray(res.y),
+                     liquid_volume_m3=v_liq, area_gas_m2=a_gas, area_liquid_m2=a_liq, mass_kg=float(N @ self.mws),
+                     mdot_kg_per_s=mdot, ndot_mol_per_s=ndot, outflow_h_j_per_mol=h0, outflow_y=out_y,
+                     q_gas_w=q_gas, q_liquid_w=q_liq, h_gas_w_per_m2_k=hg, h_liquid_w_per_m2_k=hl,
+                     throat_t_k=t_throat, choked=choked, flashes=flashes)
+
+    def _gas_htc(self, T: float, P: float, pV, y: np.ndarray, dt: float) -> float:
+        """Natural convection of the gas on the gas-wetted wall [W/(m^2 K)]."""
+        m = float(y @ self.mws)
+        v = pV[1] - float(y @ self.shifts)
+        rho = m / v
+        cp = pV[4] / m
+        beta_exp = -pV[6] / (pV[1] * pV[7])
+        tc = float(y @ self.tcs)
+        mu = transport.chung_dilute_viscosity(T, tc, float(y @ self.vcs), float(y @ self.omegas), m)
+        k = transport.eucken_conductivity(mu, pV[5], m)
+        return heat.natural_convection_htc(dt, rho, cp, mu, k, beta_exp)
