@@ -60,6 +60,9 @@ class State:
     throat_t_k: float
     choked: bool
     flashes: int
+    #: n cv of the contents (phases' cv weighted by their moles; the latent part of a two-phase cv is left out, so
+    #: this is a lower bound) [J/K]
+    heat_capacity_j_per_k: float = math.nan
 
 
 class Contents:
@@ -87,6 +90,8 @@ class Contents:
         self.p_guess = math.nan
         #: critical pressure ratio of each orifice at the last evaluation (narrows the next nozzle search)
         self.ratio_hints = [0.0] * len(orifices)
+        #: local error tolerance of the time stepping [-] (set by the integrator)
+        self.rtol = 1e-5
 
     def _t_skip(self, z: np.ndarray) -> float:
         return self._t_skip0 if np.allclose(z, self.z0, rtol=0.0, atol=1e-12) else math.inf
@@ -168,7 +173,8 @@ class Contents:
                      liquid_volume_m3=v_liq, area_gas_m2=a_gas, area_liquid_m2=a_liq, mass_kg=float(N @ self.mws),
                      mdot_kg_per_s=mdot, ndot_mol_per_s=ndot, outflow_h_j_per_mol=h0, outflow_y=out_y,
                      q_gas_w=q_gas, q_liquid_w=q_liq, h_gas_w_per_m2_k=hg, h_liquid_w_per_m2_k=hl,
-                     throat_t_k=t_throat, choked=choked, flashes=flashes)
+                     throat_t_k=t_throat, choked=choked, flashes=flashes,
+                     heat_capacity_j_per_k=n * (res.beta * pV[5] + (1.0 - res.beta) * pL[5]) if two else n * pV[5])
 
     def _gas_htc(self, T: float, P: float, pV, y: np.ndarray, dt: float) -> float:
         """Natural convection of the gas on the gas-wetted wall [W/(m^2 K)]."""

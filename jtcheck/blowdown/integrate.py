@@ -5,10 +5,12 @@ the embedded Runge-Kutta 3(2) pair of Bogacki and Shampine, Appl. Math. Lett. 2 
 last), with the local error held below ``rtol`` (component moles relative to the inventory, energy relative to
 n R T).  The released mass and enthalpy and the heat from each wall zone are integrated with the same stages,
 so the balances close to the flash tolerance.  Each step starts with the wall (backward Euler, the inside and
-outside convection implicit, :func:`jtcheck.blowdown.wall.conduction_step`, with the coefficients and fluid
-temperature of the step's start); the heat it gives the fluid is held over the step, so wall and fluid exchange
-exactly the same energy and the coupling is stable at any step.  A step is also kept below a 2 % change of the
-inventory and 3 K change of any wall cell.
+outside convection implicit, :func:`jtcheck.blowdown.wall.conduction_step`, with the coefficients of the step's
+start); the heat it gives the fluid is held over the step, so wall and fluid exchange exactly the same energy.
+The wall sees the fluid's end-of-step temperature: a first pass with the start temperature, then, when the wall
+coupling matters, a second pass with the linearised fixed point (the wall's conductance against the fluid's
+heat capacity), so that a thin, well-coupled wall neither lags nor oscillates.  A step is also kept below a 2 %
+change of the inventory, 2 K change of the fluid temperature and 3 K change of any wall cell.
 
 A trial state whose flash or nozzle solve fails shortens the step; when the step falls below ``MIN_STEP_S``
 the run stops, reports why, and the result is not converged (never screened as a pass).
@@ -31,6 +33,10 @@ R = 8.314462618
 MIN_STEP_S = 1e-6
 MAX_INVENTORY_CHANGE = 0.02
 MAX_WALL_CHANGE_K = 3.0
+MAX_FLUID_CHANGE_K = 2.0
+#: A second pass of a step, with the wall seeing the fluid's end-of-step temperature, when the first pass's
+#: coupling estimate moves that temperature by more than this [K].
+COUPLING_TOL_K = 0.05
 MAX_STEPS = 20000
 
 # Bogacki-Shampine 3(2) tableau
@@ -156,11 +162,58 @@ def _move_metal(wg: np.ndarray, wl: np.ndarray, a_old: float, a_new: float,
     return wg, wl
 
 
+@dataclass
+class _Trial:
+    wg: np.ndarray
+    wl: np.ndarray
+    y: np.ndarray
+    state: State
+    err: float
+    conductance: float
+    flashes: int
+
+
+def _attempt(contents: Contents, st: State, y: np.ndarray, dt: float, t_f: float, wg: np.ndarray, wl: np.ndarray,
+             vessel: Vessel, mat: WallMaterial, heat_input: HeatInput) -> _Trial | None:
+    """One trial step of length dt: the wall first (backward Euler, seeing the fluid at ``t_f``), its heat held
+    over the Runge-Kutta stages of the fluid.  None when a wall cell would change by more than MAX_WALL_CHANGE_K;
+    raises StepFailed when a flash or nozzle solve fails."""
+    n = st.outflow_y.size
+    wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_f, heat_input, False,
+                             st.area_liquid_m2)
+    wl_new, q_l = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_f, heat_input, True,
+                             st.area_liquid_m2)
+    dtw = max(float(np.max(np.abs(wg_new - wg))), float(np.max(np.abs(wl_new - wl))))
+    if dtw > MAX_WALL_CHANGE_K and dt > 1e-3:
+        return None
+    # conductance: how the wall's heat to the fluid falls as the fluid temperature it sees rises [W/K]
+    _, q_g1 = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_f + 1.0, heat_input, False,
+                         st.area_liquid_m2)
+    _, q_l1 = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_f + 1.0, heat_input, True,
+                         st.area_liquid_m2)
+    conductance = (q_g + q_l) - (q_g1 + q_l1)
+    k1 = _deriv(st, q_g, q_l)
+    y2 = y + 0.5 * dt * k1
+    k2 = _deriv(contents.evaluate(y2[:n], y2[n], wg[0], wl[0]), q_g, q_l)
+    y3 = y + 0.75 * dt * k2
+    k3 = _deriv(contents.evaluate(y3[:n], y3[n], wg[0], wl[0]), q_g, q_l)
+    ynew = y + dt * (_B[0] * k1 + _B[1] * k2 + _B[2] * k3)
+    if np.any(ynew[:n] < 0.0):
+        raise StepFailed("a component's moles fell below zero")
+    stnew = contents.evaluate(ynew[:n], ynew[n], wg_new[0], wl_new[0])
+    k4 = _deriv(stnew, q_g, q_l)
+    ntot = max(float(y[:n].sum()), 1e-300)
+    e = dt * (_E[0] * k1 + _E[1] * k2 + _E[2] * k3 + _E[3] * k4)
+    err = max(float(np.max(np.abs(e[:n]))) / ntot, abs(e[n]) / (ntot * R * st.t_k)) / contents.rtol
+    return _Trial(wg_new, wl_new, ynew, stnew, err, conductance, 3 + stnew.flashes)
+
+
 def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel: Vessel, mat: WallMaterial,
         wall_nodes: int, heat_input: HeatInput, end_time_s: float, end_pressure_pa: float, rtol: float,
         max_step_s: float, progress: Callable[[float, float], None] | None = None) -> RunOutcome:
     """Step the equilibrium model from (N0, U0) to ``end_time_s`` or ``end_pressure_pa``."""
     n = N0.size
+    contents.rtol = rtol
     y = np.concatenate([N0.astype(float), [U0, 0.0, 0.0, 0.0, 0.0]])
     wg = np.full(wall_nodes, float(wall_t0_k))
     wl = np.full(wall_nodes, float(wall_t0_k))
@@ -173,14 +226,11 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
     mass0 = st.mass_kg
     _record(s, t, st, wg, wl, vessel)
     dt = min(max_step_s, 1.0)
+    dTdt = 0.0
     steps = rejected = 0
     message = ""
     stop = ""
     converged = True
-
-    def norm(e: np.ndarray, ynow: np.ndarray, T: float) -> float:
-        ntot = max(float(ynow[:n].sum()), 1e-300)
-        return max(float(np.max(np.abs(e[:n]))) / ntot, abs(e[n]) / (ntot * R * T)) / rtol
 
     while True:
         if t >= end_time_s * (1.0 - 1e-12):
@@ -204,40 +254,39 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
             converged, stop = False, "failed"
             message = message or f"time step fell below {MIN_STEP_S:g} s at t = {t:.6g} s"
             break
-        # the wall first (implicit, stable at any step): its heat to the fluid is held over the step
-        wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, st.t_k, heat_input, False,
-                                 st.area_liquid_m2)
-        wl_new, q_l = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, st.t_k, heat_input,
-                                 True, st.area_liquid_m2)
-        dtw = max(float(np.max(np.abs(wg_new - wg))), float(np.max(np.abs(wl_new - wl))))
-        if dtw > MAX_WALL_CHANGE_K and dt > 1e-3:
-            dt *= max(0.2, 0.9 * MAX_WALL_CHANGE_K / dtw)
-            continue
-        k1 = _deriv(st, q_g, q_l)
+        if dTdt != 0.0:
+            dt = min(dt, MAX_FLUID_CHANGE_K / abs(dTdt))
         try:
-            y2 = y + 0.5 * dt * k1
-            k2 = _deriv(contents.evaluate(y2[:n], y2[n], wg[0], wl[0]), q_g, q_l)
-            y3 = y + 0.75 * dt * k2
-            k3 = _deriv(contents.evaluate(y3[:n], y3[n], wg[0], wl[0]), q_g, q_l)
-            ynew = y + dt * (_B[0] * k1 + _B[1] * k2 + _B[2] * k3)
-            if np.any(ynew[:n] < 0.0):
-                raise StepFailed("a component's moles fell below zero")
-            stnew = contents.evaluate(ynew[:n], ynew[n], wg_new[0], wl_new[0])
-            flashes += 3 + stnew.flashes
-            k4 = _deriv(stnew, q_g, q_l)
+            trial = _attempt(contents, st, y, dt, st.t_k, wg, wl, vessel, mat, heat_input)
+            if trial is not None:
+                # implicit coupling of wall and fluid: the wall should see the fluid's end-of-step temperature;
+                # with a = G dt / C (G = d(heat to fluid)/d(fluid temperature the wall sees), C the fluid's heat
+                # capacity) the linearised fixed point is T = (T_end + a T_used) / (1 + a)
+                a = trial.conductance * dt / max(st.heat_capacity_j_per_k, 1e-300)
+                t_fix = (trial.state.t_k + a * st.t_k) / (1.0 + a)
+                if abs(t_fix - st.t_k) > COUPLING_TOL_K:
+                    flashes += trial.flashes
+                    trial = _attempt(contents, st, y, dt, t_fix, wg, wl, vessel, mat, heat_input)
         except StepFailed as exc:
             rejected += 1
             message = f"at t = {t:.6g} s: {exc}"
             contents.t_guess, contents.p_guess = st.t_k, st.p_pa
             dt *= 0.25
             continue
-        err = norm(dt * (_E[0] * k1 + _E[1] * k2 + _E[2] * k3 + _E[3] * k4), y, st.t_k)
+        if trial is None:
+            # a wall cell would change by more than MAX_WALL_CHANGE_K: shorten the step
+            dt *= 0.5
+            continue
+        flashes += trial.flashes
+        err = trial.err
         if err > 1.0:
             rejected += 1
             contents.t_guess, contents.p_guess = st.t_k, st.p_pa
             dt *= max(0.2, 0.9 * err ** (-1.0 / 3.0))
             continue
+        wg_new, wl_new, ynew, stnew = trial.wg, trial.wl, trial.y, trial.state
         wg, wl = _move_metal(wg_new, wl_new, st.area_liquid_m2, stnew.area_liquid_m2, vessel.inner_area_m2)
+        dTdt = (stnew.t_k - st.t_k) / dt
         t += dt
         y = ynew
         st = stnew

@@ -361,10 +361,12 @@ def _flash_closed(prm, spec_T, u_t, v_t, z, T0, P0, x, y, t_skip):
                     K[i] = W[i] / z[i] if lighter else z[i] / W[i]
                 T, P = T1, P1
             else:
-                # not converged on one phase: try the two-phase branch from where it stopped
-                if math.isfinite(T1) and T_MIN < T1 < T_MAX:
-                    T, P = T1, P1
+                # not converged on one phase: try the two-phase branch from the guess (in a transient the state of
+                # the last step), or from where the iteration stopped
                 stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
+                if stable and math.isfinite(T1) and T_MIN < T1 < T_MAX:
+                    T, P = T1, P1
+                    stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
                 if stable:
                     wilson_k(prm, T, P, K)
                 else:
