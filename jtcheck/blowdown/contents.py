@@ -18,7 +18,7 @@ from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import Orifice
 from jtcheck.thermo.flash import flash_uv
 from jtcheck.thermo.fluid import Fluid
-from jtcheck.thermo.models.interface import GIBBS, props
+from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 from jtcheck.thermo.nozzle import isentropic_throat
 
 
@@ -94,7 +94,7 @@ class Contents:
         self.rtol = 1e-5
 
     def _t_skip(self, z: np.ndarray) -> float:
-        return self._t_skip0 if np.allclose(z, self.z0, rtol=0.0, atol=1e-12) else math.inf
+        return self._t_skip0 if float(np.max(np.abs(z - self.z0))) <= 1e-12 else math.inf
 
     def flash(self, N: np.ndarray, U: float):
         """UV flash of the inventory; raises StepFailed."""
@@ -114,8 +114,10 @@ class Contents:
         flashes = 1
         two = res.phase == "two-phase"
         if two:
-            pV = props(self.prm, T, P, res.y, GIBBS)
-            pL = props(self.prm, T, P, res.x, GIBBS)
+            # each phase by its own root: for a pure fluid on its saturation line the stable-root choice cannot
+            # tell the two apart
+            pV = props(self.prm, T, P, res.y, VAPOUR)
+            pL = props(self.prm, T, P, res.x, LIQUID)
             vl = pL[1] - float(res.x @ self.shifts)
             v_liq = n * (1.0 - res.beta) * vl
             out_y = np.asarray(res.y, float)
@@ -143,7 +145,7 @@ class Contents:
         for k, orf in enumerate(self.orifices):
             if P <= orf.back_pressure_pa:
                 continue
-            th = isentropic_throat(self.fluid, out_y, P, T, orf.back_pressure_pa, t_skip, self.ratio_hints[k])
+            th = isentropic_throat(self.fluid, out_y, P, T, orf.back_pressure_pa, t_skip, self.ratio_hints[k], two)
             flashes += th.flashes
             if not th.converged:
                 raise StepFailed(f"isentropic nozzle solve failed for the {orf.name} at {P:.6g} Pa, {T:.6g} K")

@@ -21,9 +21,13 @@ from jtcheck.letdown.throttle import letdown
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome
 from jtcheck.thermo.fluid import Fluid
-from jtcheck.thermo.models.interface import GIBBS, props
+from jtcheck.thermo.kernels.saturation import pure_saturation_T
+from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 
 R = 8.314462618
+#: A pure fluid with a liquid level starts saturated; the given temperature may differ from the saturation
+#: temperature by this much [K].
+SATURATION_TOLERANCE_K = 1.0
 
 METHOD = ("equilibrium model: mass and energy balances of the vessel contents, a UV flash of the inventory at each "
           "stage (Michelsen 1999), valves drawing the vapour through a real-fluid isentropic nozzle (API 520 Part I "
@@ -59,6 +63,30 @@ def _phase_u_v(fluid: Fluid, t: float, p: float, x: np.ndarray) -> tuple[float, 
     return pr[2] - p * pr[1], pr[1] - c
 
 
+def _pure_with_level(fluid: Fluid, vessel: Vessel, p0: float, t0: float,
+                     liquid_level_m: float) -> tuple[np.ndarray, float, list[str]]:
+    """A pure fluid with a liquid level: saturated liquid and vapour at p0 (t0 must be the saturation temperature)."""
+    prm = fluid.mixture.kernel_params
+    z = np.ones(1)
+    t_sat = float(pure_saturation_T(prm, p0, z, 0))
+    if not np.isfinite(t_sat):
+        raise InputError("liquid_level", f"{fluid.names[0]} has no liquid at {p0:g} Pa (above its critical pressure)")
+    if abs(t0 - t_sat) > SATURATION_TOLERANCE_K:
+        raise InputError("t0", f"a pure {fluid.names[0]} with a liquid level is saturated: at {p0:g} Pa it boils at "
+                               f"{t_sat:.3f} K; give that initial temperature (within {SATURATION_TOLERANCE_K:g} K)")
+    level = number("liquid_level", liquid_level_m, "liquid level", "m", 0.0,
+                   vessel.inner_diameter_m if vessel.orientation == "horizontal" else vessel.length_m, lo_open=False)
+    c = float(fluid.vol_shifts[0]) if fluid.volume_translation else 0.0
+    pl = props(prm, t_sat, p0, z, LIQUID)
+    pv = props(prm, t_sat, p0, z, VAPOUR)
+    v_liq = vessel.liquid_volume_m3(level)
+    n_l = v_liq / (pl[1] - c)
+    n_v = (vessel.volume_m3 - v_liq) / (pv[1] - c)
+    u = n_l * (pl[2] - p0 * pl[1]) + n_v * (pv[2] - p0 * pv[1])
+    note = f"pure {fluid.names[0]} with liquid: saturated at {p0:g} Pa, {t_sat:.3f} K (the given {t0:g} K replaced)"
+    return np.array([n_l + n_v]), u, [note]
+
+
 def initial_inventory(fluid: Fluid, vessel: Vessel, p0: float, t0: float,
                       liquid_level_m: float | None) -> tuple[np.ndarray, float, list[str]]:
     """(component moles [mol], internal energy [J], notes) of the vessel at its initial state."""
@@ -67,6 +95,8 @@ def initial_inventory(fluid: Fluid, vessel: Vessel, p0: float, t0: float,
         raise InputError("t0", f"the initial state {p0:g} Pa, {t0:g} K could not be flashed: {res.message}")
     notes: list[str] = []
     zs = np.asarray(fluid.zs, float)
+    if liquid_level_m not in (None, 0, 0.0) and len(zs) == 1:
+        return _pure_with_level(fluid, vessel, p0, t0, liquid_level_m)
     if res.phase == "two-phase":
         uv, vv = _phase_u_v(fluid, t0, p0, np.asarray(res.y))
         ul, vl = _phase_u_v(fluid, t0, p0, np.asarray(res.x))
@@ -97,7 +127,7 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
                wall_nodes: int = 4, heat_input: HeatInput | str | dict = "none", model: str = "equilibrium",
                end_time_s: float = 900.0, end_pressure_pa: float | None = None,
                target_pressure_pa: float | None = None, target_time_s: float | None = 900.0,
-               inside_heat_transfer=None, cold_limits: ColdLimits | None = None, rtol: float = 1e-5,
+               inside_heat_transfer=None, cold_limits: ColdLimits | None = None, rtol: float = 1e-4,
                max_step_s: float | None = None, valve_points: int = 40,
                progress: Callable[[float, float], None] | None = None) -> DepressureResult:
     """Depressure a vessel through its orifices and follow pressure, fluid and wall temperatures in time.

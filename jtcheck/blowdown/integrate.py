@@ -36,7 +36,7 @@ MAX_WALL_CHANGE_K = 3.0
 MAX_FLUID_CHANGE_K = 2.0
 #: A second pass of a step, with the wall seeing the fluid's end-of-step temperature, when the first pass's
 #: coupling estimate moves that temperature by more than this [K].
-COUPLING_TOL_K = 0.05
+COUPLING_TOL_K = 0.2
 MAX_STEPS = 20000
 
 # Bogacki-Shampine 3(2) tableau

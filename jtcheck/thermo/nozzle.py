@@ -14,7 +14,7 @@ import numpy as np
 
 from jtcheck.thermo.fluid import Fluid
 from jtcheck.thermo.kernels.nozzle import throat as _throat_kernel
-from jtcheck.thermo.models.interface import GIBBS, props
+from jtcheck.thermo.models.interface import GIBBS, VAPOUR, props
 
 
 @dataclass(frozen=True)
@@ -51,19 +51,21 @@ class ThroatFlow:
 
 
 def isentropic_throat(fluid: Fluid, x, p0_pa: float, t0_k: float, p_back_pa: float,
-                      t_skip_k: float = math.inf, ratio_hint: float = 0.0) -> ThroatFlow:
+                      t_skip_k: float = math.inf, ratio_hint: float = 0.0, vapour: bool = False) -> ThroatFlow:
     """Throat flow of composition ``x`` [-] (one phase at the stagnation state ``p0_pa`` [Pa], ``t0_k`` [K])
     discharging to ``p_back_pa`` [Pa].
 
     ``t_skip_k`` [K]: above it the isentrope is known to be single-phase (the composition's cricondentherm plus
     a margin); +inf tests stability at every point.  ``ratio_hint`` [-]: a critical pressure ratio found nearby
-    (0 for none) narrows the search."""
+    (0 for none) narrows the search.  ``vapour``: the stagnation state is the vapour of a two-phase inventory
+    (its lighter density root, which for a pure fluid on its saturation line the stable-root choice cannot tell
+    from the liquid's)."""
     mix = fluid.mixture
     x = np.ascontiguousarray(x, dtype=float)
     prm = mix.kernel_params
     c = float(x @ fluid.vol_shifts) if fluid.volume_translation else 0.0
     m = float(x @ mix.mws)
-    p = props(prm, float(t0_k), float(p0_pa), x, GIBBS)
+    p = props(prm, float(t0_k), float(p0_pa), x, VAPOUR if vapour else GIBBS)
     h0 = p[2] - p0_pa * c
     ok, choked, g, pt, tt, bt, nfl = _throat_kernel(prm, float(p0_pa), float(t0_k), h0, p[3], x, float(p_back_pa), m,
                                                    c, float(t_skip_k), float(ratio_hint))

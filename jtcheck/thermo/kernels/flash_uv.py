@@ -343,6 +343,14 @@ def _flash_closed(prm, spec_T, u_t, v_t, z, T0, P0, x, y, t_skip):
     tpd = 0.0
     two = False
     r = np.inf
+    if T0 <= t_skip:
+        # a guess inside the two-phase region (in a transient: the last step's state) starts on the two-phase
+        # branch at once; a one-phase iteration from there could end on a metastable one-phase state far away
+        stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
+        if not stable:
+            for i in range(n):
+                K[i] = W[i] / z[i] if lighter else z[i] / W[i]
+            two = True
     for _round in range(4):
         if not two:
             for i in range(n):

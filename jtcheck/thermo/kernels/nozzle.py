@@ -5,7 +5,7 @@ flux is G(P) = rho(P) sqrt(2 (h0 - h(P)) / M) [kg/(m^2 s)] (the direct integrati
 nozzle equation, API Standard 520 Part I, 10th ed. (2020), Annex B; homogeneous equilibrium when the
 isentrope is two-phase).  G rises from zero at P0 to a maximum at the critical (choked) pressure and
 falls; the throat sits at the critical pressure when the back pressure is below it, else at the back
-pressure.  The maximum is found by golden-section search on ln P (G is unimodal on the isentrope); each
+pressure.  The maximum is found by Brent's method on ln P (G is unimodal on the isentrope); each
 point is a PS flash of :mod:`jtcheck.thermo.kernels.flash_spec`.  The same physics, with a scan and
 scipy's bounded search, is :func:`jtcheck.letdown.relief.nozzle_flow`; this kernel is for the many
 calls of a transient (a vessel blowdown).
@@ -23,13 +23,13 @@ from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 
 _jit = njit(cache=True, nogil=True)
 
-#: Golden ratio conjugate.
-_GR = 0.5 * (math.sqrt(5.0) - 1.0)
+#: Golden section fraction (3 - sqrt 5) / 2.
+_GR2 = 0.5 * (3.0 - math.sqrt(5.0))
 #: Lowest throat pressure searched for the maximum, as a fraction of P0 [-].
 LOW_FRACTION = 0.01
 #: Tolerance of the critical pressure in ln P [-] (G is flat at its maximum: the error in G is of the order of
 #: the square of this).
-LNP_TOL = 1e-5
+LNP_TOL = 1e-4
 #: Half-width in ln P of the search around a hinted critical pressure ratio [-].
 HINT_HALF_WIDTH = 0.12
 
@@ -56,39 +56,72 @@ def _point(prm, P, h0, s0, z, T_guess, M, c_shift, x, y, t_skip):
 
 @_jit
 def _golden(prm, a, b, h0, s0, z, T0, lnP0, M, c_shift, x, y, t_skip):
-    """Golden-section search for the maximum of G on ln P in [a, b].
+    """Maximum of G on ln P in [a, b] by Brent's method (golden section with parabolic steps; Brent, Algorithms
+    for Minimization without Derivatives, 1973, ch. 5).
 
     Returns (ok, ln P at the maximum, T there, flashes)."""
     flashes = 0
-    c = b - _GR * (b - a)
-    d = a + _GR * (b - a)
-    ok, Gc, Tc, bc, rc = _point(prm, math.exp(c), h0, s0, z, T0 * math.exp(0.25 * (c - lnP0)), M, c_shift, x, y,
-                                t_skip)
+    xm = a + _GR2 * (b - a)
+    ok, G, T, bb, rr = _point(prm, math.exp(xm), h0, s0, z, T0 * math.exp(0.25 * (xm - lnP0)), M, c_shift, x, y,
+                              t_skip)
     flashes += 1
     if not ok:
-        return False, c, Tc, flashes
-    ok, Gd, Td, bd, rd = _point(prm, math.exp(d), h0, s0, z, T0 * math.exp(0.25 * (d - lnP0)), M, c_shift, x, y,
-                                t_skip)
-    flashes += 1
-    if not ok:
-        return False, d, Td, flashes
-    while b - a > LNP_TOL:
-        if Gc > Gd:
-            b = d
-            d = c
-            Gd, Td = Gc, Tc
-            c = b - _GR * (b - a)
-            ok, Gc, Tc, bc, rc = _point(prm, math.exp(c), h0, s0, z, Td, M, c_shift, x, y, t_skip)
-        else:
-            a = c
-            c = d
-            Gc, Tc = Gd, Td
-            d = a + _GR * (b - a)
-            ok, Gd, Td, bd, rd = _point(prm, math.exp(d), h0, s0, z, Tc, M, c_shift, x, y, t_skip)
+        return False, xm, T, flashes
+    w = v = xm
+    fx = fw = fv = -G
+    Tx = T
+    d = 0.0
+    e = 0.0
+    for _it in range(100):
+        mid = 0.5 * (a + b)
+        tol1 = LNP_TOL * 0.5
+        tol2 = 2.0 * tol1
+        if abs(xm - mid) <= tol2 - 0.5 * (b - a):
+            break
+        para = False
+        if abs(e) > tol1:
+            r = (xm - w) * (fx - fv)
+            q = (xm - v) * (fx - fw)
+            p = (xm - v) * q - (xm - w) * r
+            q = 2.0 * (q - r)
+            if q > 0.0:
+                p = -p
+            q = abs(q)
+            if abs(p) < abs(0.5 * q * e) and p > q * (a - xm) and p < q * (b - xm):
+                e = d
+                d = p / q
+                u = xm + d
+                if u - a < tol2 or b - u < tol2:
+                    d = tol1 if mid >= xm else -tol1
+                para = True
+        if not para:
+            e = (a - xm) if xm >= mid else (b - xm)
+            d = _GR2 * e
+        u = xm + (d if abs(d) >= tol1 else (tol1 if d > 0.0 else -tol1))
+        ok, G, T, bb, rr = _point(prm, math.exp(u), h0, s0, z, Tx, M, c_shift, x, y, t_skip)
         flashes += 1
         if not ok:
-            return False, 0.5 * (a + b), Tc, flashes
-    return True, 0.5 * (a + b), Tc, flashes
+            return False, u, T, flashes
+        fu = -G
+        if fu <= fx:
+            if u >= xm:
+                a = xm
+            else:
+                b = xm
+            v, fv = w, fw
+            w, fw = xm, fx
+            xm, fx, Tx = u, fu, T
+        else:
+            if u < xm:
+                a = u
+            else:
+                b = u
+            if fu <= fw or w == xm:
+                v, fv = w, fw
+                w, fw = u, fu
+            elif fu <= fv or v == xm or v == w:
+                v, fv = u, fu
+    return True, xm, Tx, flashes
 
 
 @_jit
