@@ -162,3 +162,32 @@ def temperature_difference_from_k(dk: float, unit: str) -> float:
     if key in ("degf", "f"):
         return dk * 1.8
     return dk
+
+
+# -- lengths and durations (vessel depressurisation) ------------------------------------------------
+LENGTH_UNITS: dict[str, float] = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "ft": 0.3048}
+DURATION_UNITS: dict[str, float] = {"s": 1.0, "min": 60.0, "h": 3600.0}
+
+
+def parse_length(text: str, field: str) -> float:
+    """Length [m] from text such as ``"2 m"``, ``"50 mm"`` or ``"2 in"``; must be above 0."""
+    value, unit = _split(text, field, "50 mm")
+    key = unit.lower()
+    if key not in LENGTH_UNITS:
+        raise InputError(field, f"unknown length unit {unit!r}; allowed: {', '.join(LENGTH_UNITS)}")
+    m = value * LENGTH_UNITS[key]
+    if not m > 0.0:
+        raise InputError(field, f"{text!r} must be a length above 0")
+    return m
+
+
+def parse_duration(text: str, field: str) -> float:
+    """Duration [s] from text such as ``"15 min"``, ``"900 s"`` or ``"1 h"``; must be above 0."""
+    value, unit = _split(text, field, "15 min")
+    key = unit.lower()
+    if key not in DURATION_UNITS:
+        raise InputError(field, f"unknown time unit {unit!r}; allowed: {', '.join(DURATION_UNITS)}")
+    s = value * DURATION_UNITS[key]
+    if not s > 0.0:
+        raise InputError(field, f"{text!r} must be a duration above 0")
+    return s
