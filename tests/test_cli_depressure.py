@@ -25,7 +25,8 @@ def test_prints_summary_table_and_caution_and_writes_the_series(tmp_path):
     assert "peak mass flow" in res.output and "coldest fluid" in res.output
     assert "target 7.913 bara" in res.output   # API 521 common basis: 690 kPa g (below 50 % of 60 bar g) + 1 atm
     assert "licensed engineer" in res.output
-    rows = list(csv.DictReader(path.open()))
+    with path.open() as fh:
+        rows = list(csv.DictReader(fh))
     assert float(rows[0]["pressure_pa"]) == pytest.approx(50e5)
     assert float(rows[-1]["time_s"]) <= 300.0 + 1e-9 and len(rows) > 20
 
