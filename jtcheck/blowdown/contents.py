@@ -22,6 +22,9 @@ from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 from jtcheck.thermo.nozzle import isentropic_throat
 
 
+R = 8.314462618
+
+
 class StepFailed(Exception):
     """A flash or a nozzle solve failed at a trial state (internal: the integrator shortens the step)."""
 
@@ -61,8 +64,12 @@ class State:
     choked: bool
     flashes: int
     #: n cv of the contents (phases' cv weighted by their moles; the latent part of a two-phase cv is left out, so
-    #: this is a lower bound) [J/K]
+    #: this is a lower bound) [J/K]; of the gas and the liquid zone for the two-zone model
     heat_capacity_j_per_k: float = math.nan
+    heat_capacity_liquid_j_per_k: float = math.nan
+    #: zone temperatures [K] (the equilibrium model: both the fluid's)
+    t_gas_k: float = math.nan
+    t_liquid_k: float = math.nan
 
 
 class Contents:
@@ -92,6 +99,54 @@ class Contents:
         self.ratio_hints = [0.0] * len(orifices)
         #: local error tolerance of the time stepping [-] (set by the integrator)
         self.rtol = 1e-5
+
+    # -- the model protocol of :func:`jtcheck.blowdown.integrate.run`: inventory y = (N_1..N_n, U) ----------------
+    @property
+    def size(self) -> int:
+        return self.mws.size + 1
+
+    def moles(self, y: np.ndarray) -> float:
+        return float(y[:-1].sum())
+
+    def mass(self, y: np.ndarray) -> float:
+        return float(y[:-1] @ self.mws)
+
+    def energy(self, y: np.ndarray) -> float:
+        return float(y[-1])
+
+    def energy_from_flash(self, y: np.ndarray) -> float:
+        """Internal energy [J] of the inventory recomputed from its UV flash (u = h - P v of the answer)."""
+        res, z, n = self.flash(y[:-1], y[-1])
+        return n * (res.h - res.P * (self.vessel.volume_m3 / n + float(z @ self.shifts)))
+
+    def evaluate_y(self, y: np.ndarray, tw_gas: float, tw_liq: float) -> State:
+        return self.evaluate(y[:-1], y[-1], tw_gas, tw_liq)
+
+    def rates(self, st: State, q_gas: float, q_liq: float) -> np.ndarray:
+        d = np.empty(self.size)
+        d[:-1] = -st.ndot_mol_per_s * st.outflow_y
+        d[-1] = -st.ndot_mol_per_s * st.outflow_h_j_per_mol + q_gas + q_liq
+        return d
+
+    def error(self, e: np.ndarray, y: np.ndarray, st: State) -> float:
+        """Scaled local error: moles relative to the inventory, energy relative to n R T, over rtol."""
+        n = max(self.moles(y), 1e-300)
+        return max(float(np.max(np.abs(e[:-1]))) / n, abs(e[-1]) / (n * R * st.t_k)) / self.rtol
+
+    def check(self, y: np.ndarray) -> None:
+        if np.any(y[:-1] < 0.0):
+            raise StepFailed("a component's moles fell below zero")
+
+    def settle(self, y: np.ndarray, st: State, tw_gas: float, tw_liq: float) -> tuple[np.ndarray, State]:
+        """Between steps: nothing moves in the equilibrium model."""
+        return y, st
+
+    def fixed_point(self, st: State, new: State, conductance: tuple[float, float], dt: float) -> tuple[float, float]:
+        """The fluid temperature both walls should see over the step: with a = G dt / C (G the walls' conductance,
+        C the fluid's heat capacity) the linearised fixed point T = (T_end + a T_start) / (1 + a)."""
+        a = (conductance[0] + conductance[1]) * dt / max(st.heat_capacity_j_per_k, 1e-300)
+        t = (new.t_k + a * st.t_k) / (1.0 + a)
+        return t, t
 
     def _t_skip(self, z: np.ndarray) -> float:
         return self._t_skip0 if float(np.max(np.abs(z - self.z0))) <= 1e-12 else math.inf
@@ -176,7 +231,8 @@ class Contents:
                      mdot_kg_per_s=mdot, ndot_mol_per_s=ndot, outflow_h_j_per_mol=h0, outflow_y=out_y,
                      q_gas_w=q_gas, q_liquid_w=q_liq, h_gas_w_per_m2_k=hg, h_liquid_w_per_m2_k=hl,
                      throat_t_k=t_throat, choked=choked, flashes=flashes,
-                     heat_capacity_j_per_k=n * (res.beta * pV[5] + (1.0 - res.beta) * pL[5]) if two else n * pV[5])
+                     heat_capacity_j_per_k=n * (res.beta * pV[5] + (1.0 - res.beta) * pL[5]) if two else n * pV[5],
+                     t_gas_k=T, t_liquid_k=T)
 
     def _gas_htc(self, T: float, P: float, pV, y: np.ndarray, dt: float) -> float:
         """Natural convection of the gas on the gas-wetted wall [W/(m^2 K)]."""

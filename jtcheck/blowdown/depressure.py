@@ -225,8 +225,8 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
     N0, U0, notes = initial_inventory(fluid, vessel, p0, t0, liquid_level_m)
     contents = Contents(fluid, vessel, orfs, inside, N0 / N0.sum())
     contents.t_guess, contents.p_guess = t0, p0
-    run = integrate.run(contents, N0, U0, tw0, vessel, mat, int(wall_nodes), heat_input, t_end, p_end, tol, dt_max,
-                        progress)
+    run = integrate.run(contents, np.concatenate([N0, [U0]]), tw0, vessel, mat, int(wall_nodes), heat_input, t_end,
+                        p_end, tol, dt_max, progress)
     inputs = {"p0_pa": p0, "t0_k": t0, "vessel": vessel.to_dict(), "orifices": [o.to_dict() for o in orfs],
               "liquid_level_m": liquid_level_m, "wall_material": mat.to_dict(), "wall_t0_k": tw0,
               "wall_nodes": int(wall_nodes), "heat_input": heat_input.to_dict(), "model": model,

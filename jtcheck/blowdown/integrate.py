@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from jtcheck.blowdown import heat
-from jtcheck.blowdown.contents import Contents, State, StepFailed
+from jtcheck.blowdown.contents import State, StepFailed
 from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import HeatInput
 from jtcheck.blowdown.wall import WallMaterial, conduction_step
@@ -92,9 +92,9 @@ def _record(s: Series, t: float, st: State, wg: np.ndarray, wl: np.ndarray, vess
     s.time.append(t)
     s.pressure.append(st.p_pa)
     s.t_fluid.append(st.t_k)
-    s.t_gas.append(st.t_k)
+    s.t_gas.append(st.t_gas_k)
     has_liq = st.liquid_volume_m3 > 0.0
-    s.t_liquid.append(st.t_k if has_liq else math.nan)
+    s.t_liquid.append(st.t_liquid_k if has_liq else math.nan)
     s.t_wall_gas.append(float(wg[0]) if st.area_gas_m2 > 0.0 else math.nan)
     s.t_wall_liquid.append(float(wl[0]) if has_liq else math.nan)
     s.t_wall_gas_outer.append(float(wg[-1]))
@@ -110,16 +110,16 @@ def _record(s: Series, t: float, st: State, wg: np.ndarray, wl: np.ndarray, vess
     s.h_liquid.append(st.h_liquid_w_per_m2_k)
 
 
-def _deriv(st: State, q_gas: float, q_liq: float) -> np.ndarray:
-    """d/dt of (N_1..N_n, U, m_out, H_out, Q_gas, Q_liq) with the step's wall heat flows [W]."""
-    n = st.outflow_y.size
-    d = np.empty(n + 5)
-    d[:n] = -st.ndot_mol_per_s * st.outflow_y
-    d[n] = -st.ndot_mol_per_s * st.outflow_h_j_per_mol + q_gas + q_liq
-    d[n + 1] = st.mdot_kg_per_s
-    d[n + 2] = st.ndot_mol_per_s * st.outflow_h_j_per_mol
-    d[n + 3] = q_gas
-    d[n + 4] = q_liq
+def _deriv(contents, st: State, q_gas: float, q_liq: float) -> np.ndarray:
+    """d/dt of (inventory..., m_out, H_out, Q_gas, Q_liq) with the step's wall heat flows [W]."""
+    inv = contents.rates(st, q_gas, q_liq)
+    m = inv.size
+    d = np.empty(m + 4)
+    d[:m] = inv
+    d[m] = st.mdot_kg_per_s
+    d[m + 1] = st.ndot_mol_per_s * st.outflow_h_j_per_mol
+    d[m + 2] = q_gas
+    d[m + 3] = q_liq
     return d
 
 
@@ -169,59 +169,62 @@ class _Trial:
     y: np.ndarray
     state: State
     err: float
-    conductance: float
+    conductance: tuple[float, float]
     flashes: int
 
 
-def _attempt(contents: Contents, st: State, y: np.ndarray, dt: float, t_f: float, wg: np.ndarray, wl: np.ndarray,
+def _attempt(contents, st: State, y: np.ndarray, dt: float, t_g: float, t_l: float, wg: np.ndarray, wl: np.ndarray,
              vessel: Vessel, mat: WallMaterial, heat_input: HeatInput) -> _Trial | None:
-    """One trial step of length dt: the wall first (backward Euler, seeing the fluid at ``t_f``), its heat held
-    over the Runge-Kutta stages of the fluid.  None when a wall cell would change by more than MAX_WALL_CHANGE_K;
-    raises StepFailed when a flash or nozzle solve fails."""
-    n = st.outflow_y.size
-    wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_f, heat_input, False,
+    """One trial step of length dt: the wall first (backward Euler, the gas-wetted wall seeing the gas at ``t_g``, the
+    liquid-wetted wall the liquid at ``t_l``), its heat held over the Runge-Kutta stages of the fluid.  None when a
+    wall cell would change by more than MAX_WALL_CHANGE_K; raises StepFailed when a flash or nozzle solve fails."""
+    m = contents.size
+    wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_g, heat_input, False,
                              st.area_liquid_m2)
-    wl_new, q_l = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_f, heat_input, True,
+    wl_new, q_l = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_l, heat_input, True,
                              st.area_liquid_m2)
     dtw = max(float(np.max(np.abs(wg_new - wg))), float(np.max(np.abs(wl_new - wl))))
     if dtw > MAX_WALL_CHANGE_K and dt > 1e-3:
         return None
-    # conductance: how the wall's heat to the fluid falls as the fluid temperature it sees rises [W/K]
-    _, q_g1 = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_f + 1.0, heat_input, False,
+    # conductances: how each wall's heat to the fluid falls as the fluid temperature it sees rises [W/K]
+    _, q_g1 = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_g + 1.0, heat_input, False,
                          st.area_liquid_m2)
-    _, q_l1 = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_f + 1.0, heat_input, True,
+    _, q_l1 = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_l + 1.0, heat_input, True,
                          st.area_liquid_m2)
-    conductance = (q_g + q_l) - (q_g1 + q_l1)
-    k1 = _deriv(st, q_g, q_l)
+    k1 = _deriv(contents, st, q_g, q_l)
     y2 = y + 0.5 * dt * k1
-    k2 = _deriv(contents.evaluate(y2[:n], y2[n], wg[0], wl[0]), q_g, q_l)
+    k2 = _deriv(contents, contents.evaluate_y(y2[:m], wg[0], wl[0]), q_g, q_l)
     y3 = y + 0.75 * dt * k2
-    k3 = _deriv(contents.evaluate(y3[:n], y3[n], wg[0], wl[0]), q_g, q_l)
+    k3 = _deriv(contents, contents.evaluate_y(y3[:m], wg[0], wl[0]), q_g, q_l)
     ynew = y + dt * (_B[0] * k1 + _B[1] * k2 + _B[2] * k3)
-    if np.any(ynew[:n] < 0.0):
-        raise StepFailed("a component's moles fell below zero")
-    stnew = contents.evaluate(ynew[:n], ynew[n], wg_new[0], wl_new[0])
-    k4 = _deriv(stnew, q_g, q_l)
-    ntot = max(float(y[:n].sum()), 1e-300)
+    contents.check(ynew[:m])
+    stnew = contents.evaluate_y(ynew[:m], wg_new[0], wl_new[0])
+    k4 = _deriv(contents, stnew, q_g, q_l)
     e = dt * (_E[0] * k1 + _E[1] * k2 + _E[2] * k3 + _E[3] * k4)
-    err = max(float(np.max(np.abs(e[:n]))) / ntot, abs(e[n]) / (ntot * R * st.t_k)) / contents.rtol
-    return _Trial(wg_new, wl_new, ynew, stnew, err, conductance, 3 + stnew.flashes)
+    err = contents.error(e[:m], y[:m], st)
+    return _Trial(wg_new, wl_new, ynew, stnew, err, (q_g - q_g1, q_l - q_l1), 3 + stnew.flashes)
 
 
-def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel: Vessel, mat: WallMaterial,
-        wall_nodes: int, heat_input: HeatInput, end_time_s: float, end_pressure_pa: float, rtol: float,
-        max_step_s: float, progress: Callable[[float, float], None] | None = None) -> RunOutcome:
-    """Step the equilibrium model from (N0, U0) to ``end_time_s`` or ``end_pressure_pa``."""
-    n = N0.size
+def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMaterial, wall_nodes: int,
+        heat_input: HeatInput, end_time_s: float, end_pressure_pa: float, rtol: float, max_step_s: float,
+        progress: Callable[[float, float], None] | None = None) -> RunOutcome:
+    """Step a vessel model from its inventory ``y0`` to ``end_time_s`` or ``end_pressure_pa``.
+
+    ``contents`` is the model (:class:`jtcheck.blowdown.contents.Contents` for the equilibrium model,
+    :class:`jtcheck.blowdown.twozone.TwoZoneContents` for the two-zone model): ``size``, ``evaluate_y(y, tw_gas,
+    tw_liq)``, ``rates(state, q_gas, q_liq)``, ``error(e, y, state)``, ``check(y)``, ``settle(y, state)`` (what
+    happens between steps), ``fixed_point(state, trial, dt)``, ``moles(y)``, ``mass(y)`` and ``energy(y)``."""
+    m = contents.size
     contents.rtol = rtol
-    y = np.concatenate([N0.astype(float), [U0, 0.0, 0.0, 0.0, 0.0]])
+    y = np.concatenate([np.asarray(y0, float), [0.0, 0.0, 0.0, 0.0]])
+    u0 = contents.energy(y[:m])
     wg = np.full(wall_nodes, float(wall_t0_k))
     wl = np.full(wall_nodes, float(wall_t0_k))
     s = Series()
     t = 0.0
-    st = contents.evaluate(y[:n], y[n], wg[0], wl[0])
+    st = contents.evaluate_y(y[:m], wg[0], wl[0])
     flashes = st.flashes
-    n0 = float(N0.sum())
+    n0 = contents.moles(y[:m])
     t0_k = st.t_k
     mass0 = st.mass_kg
     _record(s, t, st, wg, wl, vessel)
@@ -246,7 +249,7 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
             converged, message, stop = False, f"stopped after {MAX_STEPS} steps without reaching the end", "failed"
             break
         # step limit: the inventory change
-        rate = st.ndot_mol_per_s / float(y[:n].sum())
+        rate = st.ndot_mol_per_s / contents.moles(y[:m])
         if rate > 0.0:
             dt = min(dt, MAX_INVENTORY_CHANGE / rate)
         dt = min(dt, max_step_s, end_time_s - t)
@@ -257,16 +260,14 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
         if dTdt != 0.0:
             dt = min(dt, MAX_FLUID_CHANGE_K / abs(dTdt))
         try:
-            trial = _attempt(contents, st, y, dt, st.t_k, wg, wl, vessel, mat, heat_input)
+            trial = _attempt(contents, st, y, dt, st.t_gas_k, st.t_liquid_k, wg, wl, vessel, mat, heat_input)
             if trial is not None:
-                # implicit coupling of wall and fluid: the wall should see the fluid's end-of-step temperature;
-                # with a = G dt / C (G = d(heat to fluid)/d(fluid temperature the wall sees), C the fluid's heat
-                # capacity) the linearised fixed point is T = (T_end + a T_used) / (1 + a)
-                a = trial.conductance * dt / max(st.heat_capacity_j_per_k, 1e-300)
-                t_fix = (trial.state.t_k + a * st.t_k) / (1.0 + a)
-                if abs(t_fix - st.t_k) > COUPLING_TOL_K:
+                # implicit coupling of wall and fluid: the walls should see the fluid's end-of-step temperatures;
+                # the model gives the linearised fixed point (conductances against heat capacities)
+                tg_fix, tl_fix = contents.fixed_point(st, trial.state, trial.conductance, dt)
+                if max(abs(tg_fix - st.t_gas_k), abs(tl_fix - st.t_liquid_k)) > COUPLING_TOL_K:
                     flashes += trial.flashes
-                    trial = _attempt(contents, st, y, dt, t_fix, wg, wl, vessel, mat, heat_input)
+                    trial = _attempt(contents, st, y, dt, tg_fix, tl_fix, wg, wl, vessel, mat, heat_input)
         except StepFailed as exc:
             rejected += 1
             message = f"at t = {t:.6g} s: {exc}"
@@ -285,8 +286,9 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
             dt *= max(0.2, 0.9 * err ** (-1.0 / 3.0))
             continue
         wg_new, wl_new, ynew, stnew = trial.wg, trial.wl, trial.y, trial.state
+        ynew[:m], stnew = contents.settle(ynew[:m], stnew, wg_new[0], wl_new[0])
         wg, wl = _move_metal(wg_new, wl_new, st.area_liquid_m2, stnew.area_liquid_m2, vessel.inner_area_m2)
-        dTdt = (stnew.t_k - st.t_k) / dt
+        dTdt = max(abs(stnew.t_gas_k - st.t_gas_k), abs(stnew.t_liquid_k - st.t_liquid_k)) / dt
         t += dt
         y = ynew
         st = stnew
@@ -296,12 +298,8 @@ def run(contents: Contents, N0: np.ndarray, U0: float, wall_t0_k: float, vessel:
         if progress is not None:
             progress(t, st.p_pa)
         dt *= min(4.0, 0.9 * max(err, 1e-10) ** (-1.0 / 3.0))
-    u_end = math.nan
-    if converged:
-        res, z_end, nn = contents.flash(y[:n], y[n])
-        # u = h - P v with the model's own (untranslated) enthalpy and volume
-        u_end = nn * (res.h - res.P * (contents.vessel.volume_m3 / nn + float(z_end @ contents.shifts)))
+    u_end = contents.energy_from_flash(y[:m]) if converged else math.nan
     return RunOutcome(series=s, converged=converged, message=message, steps=steps, rejected=rejected,
-                      flashes=flashes, mass_released_kg=float(y[n + 1]), enthalpy_released_j=float(y[n + 2]),
-                      heat_in_j=float(y[n + 3] + y[n + 4]), mass0_kg=mass0, mass_end_kg=float(y[:n] @ contents.mws),
-                      u0_j=float(U0), u_end_flash_j=u_end, n0_mol=n0, t0_k=t0_k, stop_reason=stop)
+                      flashes=flashes, mass_released_kg=float(y[m]), enthalpy_released_j=float(y[m + 1]),
+                      heat_in_j=float(y[m + 2] + y[m + 3]), mass0_kg=mass0, mass_end_kg=contents.mass(y[:m]),
+                      u0_j=float(u0), u_end_flash_j=u_end, n0_mol=n0, t0_k=t0_k, stop_reason=stop)
