@@ -21,11 +21,10 @@ from jtcheck.thermo.fluid import Fluid
 from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 from jtcheck.thermo.nozzle import isentropic_throat
 
-
 R = 8.314462618
 
 
-class StepFailed(Exception):
+class StepFailedError(Exception):
     """A flash or a nozzle solve failed at a trial state (internal: the integrator shortens the step)."""
 
 
@@ -135,7 +134,7 @@ class Contents:
 
     def check(self, y: np.ndarray) -> None:
         if np.any(y[:-1] < 0.0):
-            raise StepFailed("a component's moles fell below zero")
+            raise StepFailedError("a component's moles fell below zero")
 
     def settle(self, y: np.ndarray, st: State, tw_gas: float, tw_liq: float) -> tuple[np.ndarray, State]:
         """Between steps: nothing moves in the equilibrium model."""
@@ -152,15 +151,15 @@ class Contents:
         return self._t_skip0 if float(np.max(np.abs(z - self.z0))) <= 1e-12 else math.inf
 
     def flash(self, N: np.ndarray, U: float):
-        """UV flash of the inventory; raises StepFailed."""
+        """UV flash of the inventory; raises StepFailedError."""
         n = float(N.sum())
         if not (n > 0.0 and math.isfinite(U)):
-            raise StepFailed("the inventory is empty or its energy is not finite")
+            raise StepFailedError("the inventory is empty or its energy is not finite")
         z = N / n
         v = self.vessel.volume_m3 / n + float(z @ self.shifts)
         res = flash_uv(self.mix, U / n, v, z, self.t_guess, self.p_guess, self._t_skip(z))
         if not res.converged:
-            raise StepFailed(f"UV flash failed at u = {U / n:.6g} J/mol, v = {v:.6g} m^3/mol: {res.message}")
+            raise StepFailedError(f"UV flash failed at u = {U / n:.6g} J/mol, v = {v:.6g} m^3/mol: {res.message}")
         return res, z, n
 
     def evaluate(self, N: np.ndarray, U: float, tw_gas: float, tw_liq: float) -> State:
@@ -189,30 +188,8 @@ class Contents:
             out_y = z
         a_liq = self.vessel.wetted_area_m2(v_liq)
         a_gas = max(self.vessel.inner_area_m2 - a_liq, 0.0)
-        # -- valves -------------------------------------------------------------------------------
-        mdot = 0.0
-        ndot = 0.0
-        h0 = math.nan
-        t_throat = math.nan
-        choked = False
-        m_out = float(out_y @ self.mws)
-        t_skip = self._t_skip(out_y)
-        for k, orf in enumerate(self.orifices):
-            if P <= orf.back_pressure_pa:
-                continue
-            th = isentropic_throat(self.fluid, out_y, P, T, orf.back_pressure_pa, t_skip, self.ratio_hints[k], two)
-            flashes += th.flashes
-            if not th.converged:
-                raise StepFailed(f"isentropic nozzle solve failed for the {orf.name} at {P:.6g} Pa, {T:.6g} K")
-            self.ratio_hints[k] = th.p_throat_pa / P if th.choked else 0.0
-            md = orf.discharge_coefficient * orf.area_m2 * th.mass_flux_kg_per_m2_s
-            mdot += md
-            ndot += md / m_out
-            h0 = th.h0_j_per_mol
-            t_throat = th.t_throat_k if math.isnan(t_throat) else min(t_throat, th.t_throat_k)
-            choked = choked or th.choked
-        if ndot == 0.0:
-            h0 = pV[2] - P * float(out_y @ self.shifts)
+        mdot, ndot, h0, t_throat, choked, nfl = self.valves(out_y, T, P, two, pV)
+        flashes += nfl
         # -- heat ---------------------------------------------------------------------------------
         hg = hl = 0.0
         if self.inside.mode == "fixed":
@@ -220,9 +197,7 @@ class Contents:
         elif self.inside.mode == "correlation":
             hg = self._gas_htc(T, P, pV, out_y if two else z, tw_gas - T)
             if a_liq > 0.0:
-                comp_l = res.x if two else z
-                pc = float(np.asarray(comp_l) @ self.pcs)
-                hl = max(heat.mostinski_htc(tw_liq - T, pc, P), heat.LIQUID_NC_W_PER_M2_K)
+                hl = self.liquid_htc(res.x if two else z, P, tw_liq - T)
         q_gas = hg * a_gas * (tw_gas - T)
         q_liq = hl * a_liq * (tw_liq - T) if a_liq > 0.0 else 0.0
         self.t_guess, self.p_guess = T, P
@@ -233,6 +208,41 @@ class Contents:
                      throat_t_k=t_throat, choked=choked, flashes=flashes,
                      heat_capacity_j_per_k=n * (res.beta * pV[5] + (1.0 - res.beta) * pL[5]) if two else n * pV[5],
                      t_gas_k=T, t_liquid_k=T)
+
+    def valves(self, out_y: np.ndarray, T: float, P: float, vapour: bool, pV) -> tuple:
+        """Flow through every orifice of the fluid ``out_y`` drawn at T [K], P [Pa] (``vapour``: the vapour of a
+        two-phase inventory).  Returns (mdot [kg/s], ndot [mol/s], h0 [J/mol], coldest throat T [K], choked,
+        flashes); raises StepFailedError."""
+        mdot = 0.0
+        ndot = 0.0
+        h0 = math.nan
+        t_throat = math.nan
+        choked = False
+        flashes = 0
+        m_out = float(out_y @ self.mws)
+        t_skip = self._t_skip(out_y)
+        for k, orf in enumerate(self.orifices):
+            if P <= orf.back_pressure_pa:
+                continue
+            th = isentropic_throat(self.fluid, out_y, P, T, orf.back_pressure_pa, t_skip, self.ratio_hints[k], vapour)
+            flashes += th.flashes
+            if not th.converged:
+                raise StepFailedError(f"isentropic nozzle solve failed for the {orf.name} at {P:.6g} Pa, {T:.6g} K")
+            self.ratio_hints[k] = th.p_throat_pa / P if th.choked else 0.0
+            md = orf.discharge_coefficient * orf.area_m2 * th.mass_flux_kg_per_m2_s
+            mdot += md
+            ndot += md / m_out
+            h0 = th.h0_j_per_mol
+            t_throat = th.t_throat_k if math.isnan(t_throat) else min(t_throat, th.t_throat_k)
+            choked = choked or th.choked
+        if ndot == 0.0:
+            h0 = pV[2] - P * float(out_y @ self.shifts)
+        return mdot, ndot, h0, t_throat, choked, flashes
+
+    def liquid_htc(self, x: np.ndarray, P: float, dt: float) -> float:
+        """Liquid-wetted wall [W/(m^2 K)]: nucleate boiling (Mostinski) above the liquid, else the floor."""
+        pc = float(np.asarray(x) @ self.pcs)
+        return max(heat.mostinski_htc(dt, pc, P), heat.LIQUID_NC_W_PER_M2_K)
 
     def _gas_htc(self, T: float, P: float, pV, y: np.ndarray, dt: float) -> float:
         """Natural convection of the gas on the gas-wetted wall [W/(m^2 K)]."""

@@ -14,6 +14,8 @@ from jtcheck.blowdown.contents import Contents, InsideHeatTransfer
 from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import MODELS, HeatInput, Orifice, number
 from jtcheck.blowdown.result import DepressureResult, Extreme, extreme, screen
+from jtcheck.blowdown.twozone import METHOD as TWO_ZONE_METHOD
+from jtcheck.blowdown.twozone import TwoZoneContents, initial_zones
 from jtcheck.blowdown.wall import material
 from jtcheck.errors import InputError
 from jtcheck.letdown.checks import check_fluid
@@ -25,6 +27,9 @@ from jtcheck.thermo.kernels.saturation import pure_saturation_T
 from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
 
 R = 8.314462618
+#: The two-zone model (:mod:`jtcheck.blowdown.twozone`) is written but not released: too slow where the liquid zone
+#: sits on its bubble line, and not yet checked against a published experiment.
+TWO_ZONE_ENABLED = False
 #: A pure fluid with a liquid level starts saturated; the given temperature may differ from the saturation
 #: temperature by this much [K].
 SATURATION_TOLERANCE_K = 1.0
@@ -217,16 +222,23 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
                                                                              "target time", "s", 0.0, 86400.0)
     tol = number("rtol", rtol, "tolerance", "-", 1e-8, 1e-2, lo_open=False)
     dt_max = t_end / 100.0 if max_step_s is None else number("max_step", max_step_s, "largest step", "s", 0.0, t_end)
-    if isinstance(valve_points, bool) or not isinstance(valve_points, (int, np.integer)) or not 2 <= valve_points <= 500:
+    if isinstance(valve_points, bool) or not isinstance(valve_points, (int, np.integer)) or \
+            not 2 <= valve_points <= 500:
         raise InputError("valve_points", f"must be a whole number from 2 to 500, got {valve_points!r}")
-    if model == "two-zone":
-        raise InputError("model", "the two-zone model is not available yet; use equilibrium")
     inside = _inside(inside_heat_transfer)
     N0, U0, notes = initial_inventory(fluid, vessel, p0, t0, liquid_level_m)
-    contents = Contents(fluid, vessel, orfs, inside, N0 / N0.sum())
+    if model == "two-zone" and not TWO_ZONE_ENABLED:
+        raise InputError("model", "the two-zone model is not released yet (its zone pressure balance is too slow and "
+                                  "not yet validated); use the equilibrium model")
+    if model == "two-zone":
+        contents = TwoZoneContents(fluid, vessel, orfs, inside, N0 / N0.sum())
+        y0 = initial_zones(fluid, vessel, N0, U0, p0, t0, liquid_level_m)
+    else:
+        contents = Contents(fluid, vessel, orfs, inside, N0 / N0.sum())
+        y0 = np.concatenate([N0, [U0]])
     contents.t_guess, contents.p_guess = t0, p0
-    run = integrate.run(contents, np.concatenate([N0, [U0]]), tw0, vessel, mat, int(wall_nodes), heat_input, t_end,
-                        p_end, tol, dt_max, progress)
+    run = integrate.run(contents, y0, tw0, vessel, mat, int(wall_nodes), heat_input, t_end, p_end, tol, dt_max,
+                        progress)
     inputs = {"p0_pa": p0, "t0_k": t0, "vessel": vessel.to_dict(), "orifices": [o.to_dict() for o in orfs],
               "liquid_level_m": liquid_level_m, "wall_material": mat.to_dict(), "wall_t0_k": tw0,
               "wall_nodes": int(wall_nodes), "heat_input": heat_input.to_dict(), "model": model,
@@ -310,7 +322,7 @@ def assemble(fluid: Fluid, run: integrate.RunOutcome, orfs: tuple[Orifice, ...],
     if not converged:
         outcome = Outcome.NOT_SCREENED
     basis = dict(fluid.basis())
-    basis["method"] = METHOD if model == "equilibrium" else basis_extra.get("method", "") if basis_extra else ""
+    basis["method"] = METHOD if model == "equilibrium" else TWO_ZONE_METHOD
     basis["fire"] = heat.API521_CLAUSE
     basis["liquid_natural_convection_floor_w_per_m2_k"] = heat.LIQUID_NC_W_PER_M2_K
     basis["valves_draw"] = "vapour space (the liquid's composition stays in the vessel)"

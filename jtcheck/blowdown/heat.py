@@ -17,8 +17,6 @@
 """
 from __future__ import annotations
 
-import math
-
 G = 9.80665
 R = 8.314462618
 

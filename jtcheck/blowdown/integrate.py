@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from jtcheck.blowdown import heat
-from jtcheck.blowdown.contents import State, StepFailed
+from jtcheck.blowdown.contents import State, StepFailedError
 from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import HeatInput
 from jtcheck.blowdown.wall import WallMaterial, conduction_step
@@ -177,7 +177,7 @@ def _attempt(contents, st: State, y: np.ndarray, dt: float, t_g: float, t_l: flo
              vessel: Vessel, mat: WallMaterial, heat_input: HeatInput) -> _Trial | None:
     """One trial step of length dt: the wall first (backward Euler, the gas-wetted wall seeing the gas at ``t_g``, the
     liquid-wetted wall the liquid at ``t_l``), its heat held over the Runge-Kutta stages of the fluid.  None when a
-    wall cell would change by more than MAX_WALL_CHANGE_K; raises StepFailed when a flash or nozzle solve fails."""
+    wall cell would change by more than MAX_WALL_CHANGE_K; raises StepFailedError when a flash or nozzle solve fails."""
     m = contents.size
     wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_g, heat_input, False,
                              st.area_liquid_m2)
@@ -268,7 +268,7 @@ def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMat
                 if max(abs(tg_fix - st.t_gas_k), abs(tl_fix - st.t_liquid_k)) > COUPLING_TOL_K:
                     flashes += trial.flashes
                     trial = _attempt(contents, st, y, dt, tg_fix, tl_fix, wg, wl, vessel, mat, heat_input)
-        except StepFailed as exc:
+        except StepFailedError as exc:
             rejected += 1
             message = f"at t = {t:.6g} s: {exc}"
             contents.t_guess, contents.p_guess = st.t_k, st.p_pa

@@ -1,4 +1,5 @@
-"""Command-line interface: ``jtcheck letdown``, ``jtcheck depressure``, ``jtcheck components``, ``jtcheck demo``, ``jtcheck screen``.
+"""Command-line interface: ``jtcheck letdown``, ``jtcheck depressure``, ``jtcheck components``, ``jtcheck demo``,
+``jtcheck screen``.
 
 Input is parsed and converted to SI here (through :mod:`jtcheck.units`); the engineering core sees SI only.
 Exit codes of ``jtcheck letdown``: 0 pass (without a limit: converged), 2 bad input, 3 not screened (a
@@ -44,8 +45,8 @@ def main() -> None:
     """jtcheck: temperature and phase downstream of pressure letdowns, for low-temperature screening."""
 
 
-for _command in (letdown_cmd, depressure_cmd, components_cmd, demo_cmd, screen_cmd, screen_template_cmd, user_group, record_group,
-                 worker_cmd):
+for _command in (letdown_cmd, depressure_cmd, components_cmd, demo_cmd, screen_cmd, screen_template_cmd, user_group,
+                 record_group, worker_cmd):
     main.add_command(_command)
 
 

@@ -9,7 +9,7 @@ import pytest
 
 from jtcheck import Fluid, depressure
 from jtcheck.blowdown import HeatInput, Orifice, Vessel, api521_target_pressure_pa
-from jtcheck.blowdown.contents import Contents, StepFailed
+from jtcheck.blowdown.contents import Contents, StepFailedError
 from jtcheck.errors import InputError
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome
@@ -118,7 +118,7 @@ def test_a_failed_step_stops_the_run_and_is_not_screened(monkeypatch):
     def failing(self, N, U, tw_gas, tw_liq):
         st = original(self, N, U, tw_gas, tw_liq)
         if st.p_pa < 30e5:
-            raise StepFailed("forced failure for the test")
+            raise StepFailedError("forced failure for the test")
         return st
 
     monkeypatch.setattr(Contents, "evaluate", failing)

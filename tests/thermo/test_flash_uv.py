@@ -3,7 +3,7 @@ thermodynamically consistent with the PT flash (u = h - P v at the answer) for m
 from __future__ import annotations
 
 import CoolProp
-import CoolProp.CoolProp as CP
+import CoolProp.CoolProp
 import numpy as np
 import pytest
 
@@ -28,7 +28,7 @@ def _uv_of_pt(fluid: Fluid, t: float, p: float):
 
 def _coolprop_offset(state, fluid: Fluid) -> float:
     """u_ours - u_CoolProp at a dilute gas state (400 K, 1 kPa): the reference states differ."""
-    state.update(CP.PT_INPUTS, 1e3, 400.0)
+    state.update(CoolProp.CoolProp.PT_INPUTS, 1e3, 400.0)
     u, _v, _r = _uv_of_pt(fluid, 400.0, 1e3)
     return u - state.umolar()
 
@@ -39,11 +39,11 @@ def _coolprop_offset(state, fluid: Fluid) -> float:
 def test_pure_two_phase_uv_matches_coolprop_pr(cp_name, ours, quality, t_over_tc):
     # reference: CoolProp (version in CoolProp.__version__) Peng-Robinson backend, same Tc, Pc, omega;
     # the ideal-gas heat capacities differ (CoolProp's vs Aly-Lee), worth about 0.1 K here
-    cp = CP.AbstractState("PR", cp_name)
+    cp = CoolProp.CoolProp.AbstractState("PR", cp_name)
     fluid = Fluid({ours: 1.0}, eos="PR")
     off = _coolprop_offset(cp, fluid)
     t = t_over_tc * cp.T_critical()
-    cp.update(CP.QT_INPUTS, quality, t)
+    cp.update(CoolProp.CoolProp.QT_INPUTS, quality, t)
     p_ref, u_ref, v_ref = cp.p(), cp.umolar() + off, 1.0 / cp.rhomolar()
     res = fluid.flash_uv(u_ref, v_ref, t + 15.0, 1.5 * p_ref)
     assert res.converged, res.message
@@ -57,9 +57,10 @@ def test_pure_two_phase_uv_matches_coolprop_pr(cp_name, ours, quality, t_over_tc
                                               ("Nitrogen", "nitrogen", 300.0, 200e5), ("CO2", "CO2", 320.0, 100e5)])
 def test_pure_single_phase_tv_matches_coolprop_pr(cp_name, ours, t, p):
     # reference: CoolProp Peng-Robinson backend; the pressure at given T and v depends on the EOS alone
-    cp = CP.AbstractState("PR", cp_name)
-    cp.specify_phase(CP.iphase_gas if t > cp.T_critical() else CP.iphase_liquid if p > 1e6 else CP.iphase_gas)
-    cp.update(CP.PT_INPUTS, p, t)
+    cp = CoolProp.CoolProp.AbstractState("PR", cp_name)
+    liquid = t < cp.T_critical() and p > 1e6
+    cp.specify_phase(CoolProp.CoolProp.iphase_liquid if liquid else CoolProp.CoolProp.iphase_gas)
+    cp.update(CoolProp.CoolProp.PT_INPUTS, p, t)
     fluid = Fluid({ours: 1.0}, eos="PR")
     res = fluid.flash_tv(t, 1.0 / cp.rhomolar(), 0.5 * p)
     assert res.converged, res.message

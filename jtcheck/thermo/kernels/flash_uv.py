@@ -51,9 +51,17 @@ _jit = njit(cache=True, nogil=True)
 #: Pressure window of the iterations [Pa].
 P_MIN = 1.0
 P_MAX = 1.0e9
+#: A converged one-phase state whose stability test finds a tangent-plane distance above this [-] but no split
+#: is accepted as one phase (the very edge of the envelope).
+EDGE_TPD = -1e-8
 #: Convergence: |u - u_target| <= U_TOL R T and |ln(v / v_target)| <= V_TOL.
 U_TOL = 1e-11
 V_TOL = 1e-11
+#: On the two-phase branch the tolerances are this many times wider: each iterate is a phase split converged to
+#: 1e-10 in ln K, which limits how closely u and v can be met (about 1e-9 with a phase of a few ppm).
+TWO_PHASE_TOL_FACTOR = 100.0
+#: ... and a two-phase iteration whose residual stops halving below this is accepted (the split's precision).
+STAGNATION_TOL = 1e-7
 
 
 @_jit
@@ -129,11 +137,31 @@ def _newton_tp(prm, u_t, v_t, z, T, P, fix_T, two, K, x, y, max_iter):
     r = np.inf
     lnP = math.log(P)
     warm = True
+    T_prev = np.nan
+    lnP_prev = np.nan
+    dT = 0.0
+    dlnP = 0.0
+    Kprev = K.copy()
+    r_last = np.inf
     for it in range(1, max_iter + 1):
         if two:
             st, b_, _its = split(prm, T, P, z, K, x, y, warm)
+            back = 0
+            while st != 1 and math.isfinite(T_prev) and back < 10:
+                # the step left the two-phase region: go back along it (the answer may lie just inside the edge)
+                back += 1
+                dT *= 0.5
+                dlnP *= 0.5
+                T = T_prev + dT
+                lnP = lnP_prev + dlnP
+                P = math.exp(lnP)
+                for i in range(n):
+                    K[i] = Kprev[i]
+                st, b_, _its = split(prm, T, P, z, K, x, y, warm)
             if st != 1:
                 return 2, T, P, beta, h, s, it, r
+            for i in range(n):
+                Kprev[i] = K[i]
             beta = b_
             u, v, dudT, dudP, dvdT, dvdP, h, s = _two_phase(prm, T, P, beta, x, y)
         else:
@@ -142,8 +170,13 @@ def _newton_tp(prm, u_t, v_t, z, T, P, fix_T, two, K, x, y, max_iter):
         r1 = (u - u_t) / RT
         r2 = math.log(v / v_t) if v > 0.0 else np.inf
         r = abs(r2) if fix_T else max(abs(r1), abs(r2))
-        if (fix_T or abs(r1) <= U_TOL) and abs(r2) <= V_TOL:
+        tol_f = TWO_PHASE_TOL_FACTOR if two else 1.0
+        if (fix_T or abs(r1) <= U_TOL * tol_f) and abs(r2) <= V_TOL * tol_f:
             return 1, T, P, beta, h, s, it, r
+        if two and r <= STAGNATION_TOL and r > 0.5 * r_last:
+            # the split's own precision is reached (a phase of a few ppm): Newton no longer gains
+            return 1, T, P, beta, h, s, it, r
+        r_last = r
         a12 = P * dvdP / v
         if fix_T:
             if not (a12 < 0.0 and math.isfinite(a12)):
@@ -164,8 +197,12 @@ def _newton_tp(prm, u_t, v_t, z, T, P, fix_T, two, K, x, y, max_iter):
             lam = 0.5 / abs(dlnP)
         if abs(dT) * lam > 0.1 * T:
             lam = 0.1 * T / abs(dT)
-        T += lam * dT
-        lnP += lam * dlnP
+        T_prev = T
+        lnP_prev = lnP
+        dT *= lam
+        dlnP *= lam
+        T += dT
+        lnP += dlnP
         if not (T_MIN < T < T_MAX):
             return 0, T, P, beta, h, s, it, r
         lnP = min(max(lnP, math.log(P_MIN)), math.log(P_MAX))
@@ -343,6 +380,9 @@ def _flash_closed(prm, spec_T, u_t, v_t, z, T0, P0, x, y, t_skip):
     tpd = 0.0
     two = False
     r = np.inf
+    edge = False
+    edge_tpd = EDGE_TPD
+    eT = eP = eh = es = er = etpd = np.nan
     if T0 <= t_skip:
         # a guess inside the two-phase region (in a transient: the last step's state) starts on the two-phase
         # branch at once; a one-phase iteration from there could end on a metastable one-phase state far away
@@ -365,16 +405,31 @@ def _flash_closed(prm, spec_T, u_t, v_t, z, T0, P0, x, y, t_skip):
                     stable, tpd, lighter, sconv = stability(prm, T1, P1, z, W)
                 if stable:
                     return ST_SINGLE, T1, P1, single_phase_beta(prm, T1, P1, z), h, s, its, r, tpd
+                if tpd > edge_tpd:
+                    edge = True
+                    eT, eP, eh, es, er, etpd = T1, P1, h, s, r, tpd
                 for i in range(n):
                     K[i] = W[i] / z[i] if lighter else z[i] / W[i]
                 T, P = T1, P1
             else:
                 # not converged on one phase: try the two-phase branch from the guess (in a transient the state of
-                # the last step), or from where the iteration stopped
-                stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
-                if stable and math.isfinite(T1) and T_MIN < T1 < T_MAX:
-                    T, P = T1, P1
-                    stable, tpd, lighter, sconv = stability(prm, T, P, z, W)
+                # the last step) or just beside it (a guess on a bubble or dew line), or from where the iteration
+                # stopped
+                stable = True
+                for probe in range(6):
+                    if probe == 0:
+                        Tp, Pp = T0, P0
+                    elif probe == 5:
+                        if not (math.isfinite(T1) and T_MIN < T1 < T_MAX):
+                            break
+                        Tp, Pp = T1, P1
+                    else:
+                        Tp = T0 * (0.99 if probe == 3 else 1.01 if probe == 4 else 1.0)
+                        Pp = P0 * (0.98 if probe == 1 else 1.02 if probe == 2 else 1.0)
+                    stable, tpd, lighter, sconv = stability(prm, Tp, Pp, z, W)
+                    if not stable:
+                        T, P = Tp, Pp
+                        break
                 if stable:
                     wilson_k(prm, T, P, K)
                 else:
@@ -405,6 +460,10 @@ def _flash_closed(prm, spec_T, u_t, v_t, z, T0, P0, x, y, t_skip):
     for i in range(n):
         x[i] = z[i]
         y[i] = z[i]
+    if edge:
+        # at the very edge of the two-phase region (tangent-plane distance above EDGE_TPD) the split finds no second
+        # phase: the incipient phase is below its resolution, and the one-phase state meets (u, v)
+        return ST_SINGLE, eT, eP, single_phase_beta(prm, eT, eP, z), eh, es, its, er, etpd
     return (ST_FAIL_TWO if two else ST_FAIL_SINGLE), T, P, np.nan, np.nan, np.nan, its, r, tpd
 
 
