@@ -18,7 +18,8 @@ from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import Orifice
 from jtcheck.thermo.flash import flash_uv
 from jtcheck.thermo.fluid import Fluid
-from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
+from jtcheck.thermo.kernels.flash_uv import phase_props as props
+from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 from jtcheck.thermo.nozzle import isentropic_throat
 
 R = 8.314462618

@@ -23,8 +23,9 @@ from jtcheck.letdown.throttle import letdown
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.kernels.flash_uv import phase_props as props
 from jtcheck.thermo.kernels.saturation import pure_saturation_T
-from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
+from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 
 R = 8.314462618
 #: The two-zone model (:mod:`jtcheck.blowdown.twozone`) is written but not released: too slow where the liquid zone

@@ -30,7 +30,8 @@ from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import Orifice
 from jtcheck.thermo.flash import flash_uv
 from jtcheck.thermo.fluid import Fluid
-from jtcheck.thermo.models.interface import GIBBS, LIQUID, VAPOUR, props
+from jtcheck.thermo.kernels.flash_uv import phase_props as props
+from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 
 R = 8.314462618
 #: A liquid zone with fewer moles than this fraction of the inventory is merged into the gas zone.

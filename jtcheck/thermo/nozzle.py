@@ -13,8 +13,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.kernels.flash_uv import phase_props as props
 from jtcheck.thermo.kernels.nozzle import throat as _throat_kernel
-from jtcheck.thermo.models.interface import GIBBS, VAPOUR, props
+from jtcheck.thermo.models.conventions import GIBBS, VAPOUR
 
 
 @dataclass(frozen=True)

@@ -481,3 +481,10 @@ def flash_tv(prm, T, v_t, z, P0, x, y, t_skip):
     """TV flash: the equilibrium state at temperature ``T`` [K] with molar volume ``v_t`` [m^3/mol], from the
     pressure guess ``P0`` [Pa].  Returns (status, T, P, beta, h, s, iterations, residual, tpd_min); fills x, y."""
     return _flash_closed(prm, True, 0.0, v_t, z, T, P0, x, y, t_skip)
+
+
+@_jit
+def phase_props(prm, T, P, x, phase):
+    """The model's ``props`` (see :mod:`jtcheck.thermo.models`) callable from Python: once the interface
+    dispatches on the parameter type at compile time, its functions are callable from compiled code only."""
+    return props(prm, T, P, x, phase)
