@@ -167,7 +167,7 @@ def temperature_difference_from_k(dk: float, unit: str) -> float:
 
 
 #: Length units a thickness or diameter may be given in, to metres.
-LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "inch": 0.0254}
+LENGTH_UNITS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "inch": 0.0254, "ft": 0.3048}
 #: Stress units, to pascals.
 STRESS_UNITS = {"pa": 1.0, "kpa": 1e3, "mpa": 1e6, "psi": 6894.757293168, "ksi": 6894757.293168}
 
@@ -266,3 +266,27 @@ def parse_water_content(text: str, field: str) -> tuple[float, str]:
     if not (math.isfinite(value) and value > 0.0):
         raise InputError(field, f"{text!r}: the water content must be above 0")
     return value * known[1], known[0]
+
+
+# -- lengths and durations (vessel depressurisation) ------------------------------------------------
+DURATION_UNITS: dict[str, float] = {"s": 1.0, "min": 60.0, "h": 3600.0}
+
+
+def parse_positive_length(text: str, field: str) -> float:
+    """Length [m] from text such as ``"2 m"``, ``"50 mm"`` or ``"2 in"`` (:func:`parse_length`); must be above 0."""
+    m = parse_length(text, field)
+    if not m > 0.0:
+        raise InputError(field, f"{text!r} must be a length above 0")
+    return m
+
+
+def parse_duration(text: str, field: str) -> float:
+    """Duration [s] from text such as ``"15 min"``, ``"900 s"`` or ``"1 h"``; must be above 0."""
+    value, unit = _split(text, field, "15 min")
+    key = unit.lower()
+    if key not in DURATION_UNITS:
+        raise InputError(field, f"unknown time unit {unit!r}; allowed: {', '.join(DURATION_UNITS)}")
+    s = value * DURATION_UNITS[key]
+    if not s > 0.0:
+        raise InputError(field, f"{text!r} must be a duration above 0")
+    return s

@@ -38,8 +38,8 @@ CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
 #: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown,
-#: material_mdmt)
-ENGINEERING_PACKAGES = frozenset({"thermo", "letdown", "screening", "cases", ROOT})
+#: material_mdmt, hydrate_temperature, depressure)
+ENGINEERING_PACKAGES = frozenset({"thermo", "letdown", "screening", "cases", "blowdown", ROOT})
 BELOW_OUTPUT = CORE_PACKAGES | ENGINEERING_PACKAGES | {"records"}
 BELOW_EDGE = BELOW_OUTPUT | {"reports", "batch"}
 
@@ -56,8 +56,10 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     # screening may import letdown; letdown never imports screening
     "screening": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown"}), NUMERIC),
     # case kinds: each kind's inputs, computation and sections, over the engineering packages
-    "cases": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening"}), NUMERIC),
-    ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown", "screening"}), NUMERIC),
+    "cases": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening", "blowdown"}), NUMERIC),
+    # vessel depressurisation in time: over thermo, the letdown (valve outlet) and the cold-metal screening
+    "blowdown": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening"}), NUMERIC),
+    ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown", "screening", "blowdown"}), NUMERIC),
     "records": Row(Layer.RECORDS, frozenset({"errors", *ENGINEERING_PACKAGES})),
     "reports": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "batch": Row(Layer.OUTPUT, BELOW_OUTPUT),

@@ -1,11 +1,11 @@
-"""Command-line interface: ``jtcheck letdown``, ``jtcheck components``, ``jtcheck demo``, ``jtcheck screen``,
-``jtcheck mdmt``.
+"""Command-line interface: ``jtcheck letdown``, ``jtcheck depressure``, ``jtcheck components``, ``jtcheck demo``,
+``jtcheck screen``, ``jtcheck mdmt``.
 
 Input is parsed and converted to SI here (through :mod:`jtcheck.units`); the engineering core sees SI only.
 Exit codes of ``jtcheck letdown``: 0 pass (without a limit: converged), 2 bad input, 3 not screened (a
 calculation did not converge or no limit), 4 margin eroded, 5 fail.
 
-One module per command group: :mod:`~jtcheck.cli.letdown`, :mod:`~jtcheck.cli.demo`,
+One module per command group: :mod:`~jtcheck.cli.letdown`, :mod:`~jtcheck.cli.depressure`, :mod:`~jtcheck.cli.demo`,
 :mod:`~jtcheck.cli.components`, :mod:`~jtcheck.cli.screen` (``screen``, ``screen-template``),
 :mod:`~jtcheck.cli.users` (``user``), :mod:`~jtcheck.cli.record` (``record``), :mod:`~jtcheck.cli.worker`;
 exit codes in :mod:`~jtcheck.cli.exits`, the case register in :mod:`~jtcheck.cli.register`.  The commands
@@ -18,6 +18,7 @@ import click
 from jtcheck import __version__
 from jtcheck.cli.components import components_cmd
 from jtcheck.cli.demo import demo_cmd
+from jtcheck.cli.depressure import depressure_cmd
 from jtcheck.cli.exits import (
     EXIT_FAIL,
     EXIT_INPUT,
@@ -45,8 +46,8 @@ def main() -> None:
     """jtcheck: temperature and phase downstream of pressure letdowns, for low-temperature screening."""
 
 
-for _command in (letdown_cmd, components_cmd, demo_cmd, screen_cmd, screen_template_cmd, user_group, record_group,
-                 worker_cmd, mdmt_cmd):
+for _command in (letdown_cmd, depressure_cmd, components_cmd, demo_cmd, screen_cmd, screen_template_cmd, user_group,
+                 record_group, worker_cmd, mdmt_cmd):
     main.add_command(_command)
 
 

@@ -38,6 +38,8 @@ from jtcheck.thermo.kernels.constants import (
 )
 from jtcheck.thermo.kernels.flash_pt import flash_pt as _flash_pt_kernel
 from jtcheck.thermo.kernels.flash_spec import flash_spec as _flash_spec_kernel
+from jtcheck.thermo.kernels.flash_uv import flash_tv as _flash_tv_kernel
+from jtcheck.thermo.kernels.flash_uv import flash_uv as _flash_uv_kernel
 from jtcheck.thermo.models.cubic.mixture import CubicMixture
 
 _STATUS_TEXT = {
@@ -181,3 +183,60 @@ def flash_ph(mix: CubicMixture, P: float, H: float, z, T_guess: float | None = N
 def flash_ps(mix: CubicMixture, P: float, S: float, z, T_guess: float | None = None) -> FlashResult:
     """Isentropic flash: the equilibrium state at pressure ``P`` [Pa] with molar entropy ``S`` [J/(mol K)]."""
     return _flash_spec(mix, P, S, z, T_guess, 1)
+
+
+def _start_pressure(T0: float, V: float, P_guess: float | None) -> float:
+    if P_guess is not None and math.isfinite(P_guess) and P_guess > 0.0:
+        return float(P_guess)
+    # ideal gas at the start temperature, kept inside the kernels' window
+    return min(max(8.314462618 * T0 / V, 1.0e3), 1.0e8)
+
+
+def flash_uv(mix: CubicMixture, U: float, V: float, z, T_guess: float | None = None,
+             P_guess: float | None = None, t_skip: float = math.inf) -> FlashResult:
+    """Equilibrium of a closed volume: the state with molar internal energy ``U`` [J/mol] and molar volume
+    ``V`` [m^3/mol] (Michelsen, Fluid Phase Equilib. 158-160 (1999) 617-626; see
+    :mod:`jtcheck.thermo.kernels.flash_uv`).
+
+    Parameters
+    ----------
+    mix : CubicMixture
+    U : float
+        Molar internal energy u = h - P v [J/mol] (same reference state as the enthalpy).
+    V : float
+        Molar volume [m^3/mol], > 0.
+    z : array_like
+        Feed mole fractions [-].
+    T_guess, P_guess : float, optional
+        Starting temperature [K] (300 K if not given) and pressure [Pa] (the ideal gas at T_guess if not given).
+    t_skip : float, optional
+        Temperature [K] above which the fluid is known to be single-phase (stability test skipped).
+
+    Returns
+    -------
+    FlashResult
+        With ``P`` the pressure found [Pa]; ``residual`` the larger of |u - U|/(R T) and |ln(v/V)|.
+    """
+    z = np.ascontiguousarray(z, dtype=float)
+    x = np.empty_like(z)
+    y = np.empty_like(z)
+    T0 = 300.0 if T_guess is None or not math.isfinite(T_guess) else float(T_guess)
+    P0 = _start_pressure(T0, float(V), P_guess)
+    st, T, P, beta, h, s, its, resid, tpd = _flash_uv_kernel(mix.kernel_params, float(U), float(V), z, T0, P0, x, y,
+                                                             float(t_skip))
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)
+
+
+def flash_tv(mix: CubicMixture, T: float, V: float, z, P_guess: float | None = None,
+             t_skip: float = math.inf) -> FlashResult:
+    """Equilibrium at temperature ``T`` [K] and molar volume ``V`` [m^3/mol] (a closed volume held at T).
+
+    ``P_guess`` [Pa] starts the pressure iteration (the ideal gas at T if not given).  ``residual`` is |ln(v/V)|.
+    """
+    z = np.ascontiguousarray(z, dtype=float)
+    x = np.empty_like(z)
+    y = np.empty_like(z)
+    P0 = _start_pressure(float(T), float(V), P_guess)
+    st, T1, P, beta, h, s, its, resid, tpd = _flash_tv_kernel(mix.kernel_params, float(T), float(V), z, P0, x, y,
+                                                              float(t_skip))
+    return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)

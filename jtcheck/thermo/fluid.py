@@ -247,3 +247,33 @@ class Fluid:
     def flash_ps(self, p_pa: float, s_j_per_mol_k: float, t_guess_k: float | None = None) -> _flash.FlashResult:
         """Equilibrium at pressure [Pa] and molar entropy [J/(mol K)]."""
         return _flash.flash_ps(self.mixture, p_pa, s_j_per_mol_k, self.zs, t_guess_k)
+
+    def volume_shift(self) -> float:
+        """Peneloux volume shift of the feed, sum z_i c_i [m^3/mol] (0 when the translation is off)."""
+        return float(self.zs @ self.vol_shifts) if self.volume_translation else 0.0
+
+    def flash_uv(self, u_j_per_mol: float, v_m3_per_mol: float, t_guess_k: float | None = None,
+                 p_guess_pa: float | None = None) -> _flash.FlashResult:
+        """Equilibrium at molar internal energy [J/mol] and molar volume [m^3/mol] (a closed vessel).
+
+        With volume translation ``v`` is the translated volume; u = h - P v is unchanged by the
+        translation.  See :func:`jtcheck.thermo.flash.flash_uv`."""
+        c = self.volume_shift()
+        res = _flash.flash_uv(self.mixture, u_j_per_mol, v_m3_per_mol + c, self.zs, t_guess_k, p_guess_pa,
+                              self.single_phase_above_k() if len(self.ids) > 1 else float("inf"))
+        return self._translated(res)
+
+    def flash_tv(self, t_k: float, v_m3_per_mol: float, p_guess_pa: float | None = None) -> _flash.FlashResult:
+        """Equilibrium at temperature [K] and molar volume [m^3/mol] (translated when the fluid says so)."""
+        c = self.volume_shift()
+        res = _flash.flash_tv(self.mixture, t_k, v_m3_per_mol + c, self.zs, p_guess_pa,
+                              self.single_phase_above_k() if len(self.ids) > 1 else float("inf"))
+        return self._translated(res)
+
+    def _translated(self, res: _flash.FlashResult) -> _flash.FlashResult:
+        shift = self.enthalpy_shift(res.P) if res.converged else 0.0
+        if shift:
+            from dataclasses import replace
+
+            res = replace(res, h=res.h + shift)
+        return res

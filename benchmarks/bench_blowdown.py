@@ -1,0 +1,88 @@
+"""Speed of a vessel depressurisation (jtcheck.depressure), equilibrium model.
+
+Run:  .venv/bin/python benchmarks/bench_blowdown.py
+
+Prints a table (not a test).  Case: a 6-component lean natural gas (the LEAN gas of bench_flash.py) in a
+vertical vessel 2 m inside diameter x 6 m, 30 mm carbon steel wall with 4 cells, from 100 bar abs and 30 degC
+through a 40 mm blowdown valve (Cd 0.85) to 1.5 bar abs, still air outside at 15 degC, 15 minutes.  Each run is
+timed warm (the compiled kernels loaded and the fluid's phase envelope computed by a first, untimed run); the
+table says how many UV flashes (one per Runge-Kutta stage) and PS flashes (nozzle searches) each run made.
+Also a pure-propane vessel with liquid (the same model with two phases), for the flash counts.
+
+Target (issue 16): the 15-minute 6-component gas blowdown with wall conduction, equilibrium model, <= 3 s.
+The reference library is not timed here: no general-purpose library on the package registry offers a vessel
+blowdown to compare against (CoolProp, thermo and chemicals give properties and flashes only); the single-flash
+comparison is bench_flash.py's.
+"""
+from __future__ import annotations
+
+import platform
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+
+from bench_flash import LEAN  # noqa: E402
+
+TARGET_S = 3.0
+
+
+def gas_case():
+    from jtcheck import Fluid
+    from jtcheck.blowdown import HeatInput, Orifice, Vessel
+
+    fluid = Fluid(LEAN, eos="PR")
+    kwargs = dict(p0_pa=100e5, t0_k=303.15, vessel=Vessel("vertical", 2.0, 6.0, 0.03),
+                  orifices=Orifice(0.04, 0.85, 1.5e5), heat_input=HeatInput("ambient", 288.15), end_time_s=900.0,
+                  wall_nodes=4)
+    return fluid, kwargs
+
+
+def liquid_case():
+    from jtcheck import Fluid
+    from jtcheck.blowdown import HeatInput, Orifice, Vessel
+
+    fluid = Fluid({"propane": 1.0}, eos="PR")
+    kwargs = dict(p0_pa=9.5e5, t0_k=298.15, vessel=Vessel("horizontal", 2.0, 6.0, 0.02),
+                  orifices=Orifice(0.03, 0.85, 1.2e5), heat_input=HeatInput("ambient", 288.15), end_time_s=900.0,
+                  liquid_level_m=0.8, wall_nodes=4)
+    return fluid, kwargs
+
+
+def timed(make, repeats: int = 3):
+    from jtcheck import depressure
+
+    fluid, kwargs = make()
+    depressure(fluid, **kwargs)          # warm: kernels loaded, envelope computed
+    best = float("inf")
+    res = None
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        res = depressure(fluid, **kwargs)
+        best = min(best, time.perf_counter() - t0)
+    return best, res
+
+
+def main() -> None:
+    import numba
+    import numpy as np
+
+    print(f"python {platform.python_version()}, numpy {np.__version__}, numba {numba.__version__}, "
+          f"{platform.machine()}")
+    print(f"{'case':44s} {'time s':>8s} {'steps':>6s} {'rejected':>8s} {'flashes':>8s} {'converged':>9s} "
+          f"{'t_end s':>8s} {'P_end bar':>9s} {'Tmin K':>7s} {'Twall K':>7s}")
+    for name, make in (("6-component gas, 15 min, wall 4 cells", gas_case),
+                       ("propane with liquid, 15 min, wall 4 cells", liquid_case)):
+        best, r = timed(make)
+        walls = [v for v in (r.min_wall_gas_t.value, r.min_wall_liquid_t.value) if np.isfinite(v)]
+        print(f"{name:44s} {best:8.3f} {r.steps:6d} {r.rejected_steps:8d} {r.flashes:8d} {str(r.converged):>9s} "
+              f"{r.time[-1]:8.1f} {r.pressure[-1] / 1e5:9.3f} {r.min_fluid_t.value:7.2f} {min(walls):7.2f}")
+        if name.startswith("6-component"):
+            verdict = "meets" if best <= TARGET_S else "MISSES"
+            print(f"  target <= {TARGET_S:g} s: {verdict}")
+    print("flashes: UV flashes (one per Runge-Kutta stage) plus the PS flashes of the nozzle searches")
+
+
+if __name__ == "__main__":
+    main()

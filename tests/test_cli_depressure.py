@@ -1,0 +1,49 @@
+"""The command line: jtcheck depressure."""
+from __future__ import annotations
+
+import csv
+import json
+
+import pytest
+from click.testing import CliRunner
+
+from jtcheck.cli import EXIT_FAIL, EXIT_INPUT, main
+
+BASE = ["depressure", "--fluid", "methane=1", "--p0", "50 bara", "--t0", "20 degC", "--diameter", "1 m",
+        "--length", "2 m", "--wall-thickness", "20 mm", "--orifice", "25 mm", "--back-pressure", "1.2 bara",
+        "--end-time", "5 min", "--quiet"]
+
+
+def run(*args):
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def test_prints_summary_table_and_caution_and_writes_the_series(tmp_path):
+    path = tmp_path / "series.csv"
+    res = run(*BASE, "--design-pressure", "60 barg", "--series", str(path))
+    assert res.exit_code == 0, res.output
+    assert "peak mass flow" in res.output and "coldest fluid" in res.output
+    assert "target 7.913 bara" in res.output   # API 521 common basis: 690 kPa g (below 50 % of 60 bar g) + 1 atm
+    assert "licensed engineer" in res.output
+    with path.open() as fh:
+        rows = list(csv.DictReader(fh))
+    assert float(rows[0]["pressure_pa"]) == pytest.approx(50e5)
+    assert float(rows[-1]["time_s"]) <= 300.0 + 1e-9 and len(rows) > 20
+
+
+def test_json_and_exit_code_follow_the_screening():
+    res = run(*BASE, "--json", "--mdmt", "20 degC")
+    data = json.loads(res.output)
+    assert data["converged"] is True
+    assert data["outcome"] == "fail"       # the gas cools far below 20 degC
+    assert res.exit_code == EXIT_FAIL
+    assert len(data["time"]) == len(data["pressure"]) == len(data["t_wall_gas"])
+
+
+@pytest.mark.parametrize("extra,field", [(["--orifice", "25 furlongs"], "orifice"),
+                                          (["--back-pressure", "60 bara"], "back_pressure"),
+                                          (["--cd", "x"], "cd")])
+def test_bad_input_exits_2_naming_the_field(extra, field):
+    res = CliRunner().invoke(main, BASE + extra)
+    assert res.exit_code == EXIT_INPUT
+    assert field in res.output
