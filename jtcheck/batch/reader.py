@@ -26,6 +26,7 @@ from pathlib import Path
 from typing import Any, BinaryIO
 
 from jtcheck import itemlists
+from jtcheck.batch.cells import formula_safe, unquote_cell
 from jtcheck.batch.layout import (
     ABSOLUTE_PRESSURE,
     CHOICE,
@@ -232,7 +233,7 @@ def _cell_text(value: Any) -> str:
         return repr(value)
     if isinstance(value, (datetime, date, time)):
         return value.isoformat()
-    return str(value).strip()
+    return unquote_cell(str(value).strip())
 
 
 def _is_number(value: Any) -> bool:
@@ -912,9 +913,9 @@ def bad_rows_file(result: ReadResult) -> bytes:
     (the ``problems`` column is ignored)."""
     out = io.StringIO(newline="")
     w = csv.writer(out, lineterminator="\r\n")
-    w.writerow([*result.header, PROBLEMS_HEADER])
+    w.writerow([formula_safe(h) for h in (*result.header, PROBLEMS_HEADER)])
     for bad in result.bad_rows:
-        w.writerow([*bad.cells, problems_text(bad.problems, bad.row)])
+        w.writerow([formula_safe(c) for c in (*bad.cells, problems_text(bad.problems, bad.row))])
     return out.getvalue().encode("utf-8-sig")
 
 
