@@ -246,6 +246,34 @@ def test_record_verify_with_another_trust_root_is_not_trusted(issued_record, tmp
     assert res.exit_code == 6 and "NOT TRUSTED" in res.output
 
 
+def test_record_verify_works_on_the_file_alone_and_creates_no_register(issued_record, tmp_path, monkeypatch):
+    """Outside the project folder, with no DATABASE_URL: the signatures are checked, the report says no register
+    was found, the genuine record is valid, and no register file appears."""
+    from jtcheck.reports.pki import InstancePKI
+
+    root = tmp_path / "ca.pem"
+    root.write_bytes(InstancePKI(tmp_path, b"test passphrase").trust_root_pem())
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.setenv("JTCHECK_INSTANCE", str(elsewhere / "instance"))
+    monkeypatch.delenv("DATABASE_URL", raising=False)
+    res = CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root)])
+    assert res.exit_code == 0, res.output
+    assert "no register found" in res.output and "VALID SIGNATURES" in res.output
+    assert not (elsewhere / "instance").exists()
+    data = json.loads(CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root),
+                                                "--json"]).output)
+    assert data["ok"] and data["register"]["consulted"] is False
+    # a changed byte is still NOT VALID without a register
+    pdf = bytearray(issued_record.read_bytes())
+    at = pdf.find(b"stream", 2000) + 20
+    pdf[at] ^= 0x01
+    bad = tmp_path / "changed.pdf"
+    bad.write_bytes(bytes(pdf))
+    res = CliRunner().invoke(main, ["record", "verify", str(bad), "--trust-root", str(root)])
+    assert res.exit_code == 6 and "NOT VALID" in res.output and not (elsewhere / "instance").exists()
+
+
 def test_record_verify_needs_a_trust_root_when_the_instance_has_no_ca(empty_register, tmp_path):
     pdf = tmp_path / "x.pdf"
     pdf.write_bytes(b"%PDF-1.7\n")
