@@ -16,10 +16,11 @@ of :func:`create_app` overrides them (tests).
 """
 from __future__ import annotations
 
+import hashlib
 from pathlib import Path
 from typing import Any
 
-from flask import Flask, current_app
+from flask import Flask, current_app, request
 from flask_limiter import Limiter
 from flask_limiter.util import get_remote_address
 from flask_wtf.csrf import CSRFProtect
@@ -52,6 +53,20 @@ def templates_path() -> Path:
 
 def _login_limit() -> str:
     return current_app.config["LOGIN_RATE_LIMIT"]
+
+
+def _account_limit() -> str:
+    return current_app.config["LOGIN_ACCOUNT_RATE_LIMIT"]
+
+
+def _account_key() -> str:
+    """The per-account bucket of the sign-in throttle: a digest of the e-mail typed (never the text itself)."""
+    email = request.form.get("email", "").strip().lower()[:254]
+    return "login-account:" + hashlib.sha256(email.encode("utf-8", "replace")).hexdigest()
+
+
+def _sign_in_failed(response) -> bool:
+    return response.status_code == 401
 
 
 def create_app(config: dict[str, Any] | None = None) -> Flask:
@@ -99,7 +114,10 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     for bp in (accounts.bp, cases.bp, record_views.bp, batch_views.bp, fluids.bp, materials.bp, api.bp, health.bp):
         app.register_blueprint(bp)
     csrf.exempt(api.bp)             # token-authenticated only: no cookie, so no cross-site forgery
-    app.view_functions["auth.login"] = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])
+    # sign-in: a limit per address, and one per account counting failed attempts only (many addresses, one account)
+    login = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])
+    login = limiter.limit(_account_limit, methods=["POST"], key_func=_account_key, deduct_when=_sign_in_failed)(login)
+    app.view_functions["auth.login"] = login
     app.extensions["jtcheck_limiter"] = limiter
     app.extensions["jtcheck_diagrams"] = DiagramCache(app.config["DIAGRAM_CACHE_SIZE"])
 

@@ -188,3 +188,33 @@ def test_api_token_is_shown_once_and_stored_as_a_hash(app, world):
     assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 200
     c.post("/account/token/revoke")
     assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 401
+
+
+def test_login_is_throttled_per_account_from_any_address(app, world, monkeypatch):
+    """Failed sign-ins for one account are counted over every address; a success does not count."""
+    monkeypatch.setitem(app.config, "LOGIN_ACCOUNT_RATE_LIMIT", "5 per hour")
+    c = app.test_client()
+    email = world.emails[Role.CHECKER]
+    ok = c.post("/login", data={"email": email, "password": PASSWORD}, environ_base={"REMOTE_ADDR": "198.51.100.1"})
+    assert ok.status_code == 302
+    c.post("/logout")
+    codes = [c.post("/login", data={"email": email.upper(), "password": "wrong"},
+                    environ_base={"REMOTE_ADDR": f"198.51.100.{10 + k}"}).status_code for k in range(6)]
+    assert codes == [401] * 5 + [429]
+    blocked = c.post("/login", data={"email": email, "password": PASSWORD}, environ_base={"REMOTE_ADDR": "203.0.113.9"})
+    assert blocked.status_code == 429
+    # another account from the same addresses is not affected
+    other = c.post("/login", data={"email": world.emails[Role.APPROVER], "password": PASSWORD},
+                   environ_base={"REMOTE_ADDR": "198.51.100.10"})
+    assert other.status_code == 302
+
+
+def test_a_failed_sign_in_logs_no_submitted_value(app, world, caplog):
+    c = app.test_client()
+    secret = "my-Secret-Passw0rd-typed-in-the-wrong-field"
+    with caplog.at_level("INFO"):
+        c.post("/login", data={"email": secret, "password": secret})
+        c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": secret})
+    text = caplog.text
+    assert "failed sign-in" in text
+    assert secret not in text and world.emails[Role.ENGINEER] not in text

@@ -37,7 +37,9 @@ def login():
         user = service.get_user_by_email(session, email) if email and len(email) <= 254 else None
         ok = verify_password(user.password_hash if user is not None else None, password)
         if not ok or user is None or not user.active:
-            current_app.logger.info("failed sign-in for %r from %s", email[:254], request.remote_addr)
+            # no submitted value goes to the log (a password typed into the e-mail field would land there)
+            current_app.logger.info("failed sign-in from %s (%s)", request.remote_addr,
+                                    f"account id {user.id}" if user is not None else "no such account")
             form.general.append(_FAILED)
             return render_template("accounts/login.html", form=form), 401
         if needs_rehash(user.password_hash):
