@@ -153,6 +153,11 @@ class User(Base):
     api_token_hash: Mapped[str | None] = mapped_column(String(255), unique=True)
     active: Mapped[bool] = mapped_column(Boolean, default=True)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    #: every session carries the generation it was signed in with; raising it ends them all (sign-out, password)
+    session_generation: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     def __repr__(self) -> str:
         return f"User(id={self.id!r}, email={self.email!r}, role={self.role!s})"
@@ -170,6 +175,9 @@ class Site(Base):
     default_margin_k: Mapped[float | None] = mapped_column(Float)
     default_margin_basis: Mapped[str] = mapped_column(Text, default="", server_default="")
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     units: Mapped[list[PlantUnit]] = relationship(back_populates="site", order_by="PlantUnit.name")
 
@@ -185,6 +193,9 @@ class PlantUnit(Base):
     name: Mapped[str] = mapped_column(String(200))
     description: Mapped[str] = mapped_column(Text, default="")
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     site: Mapped[Site] = relationship(back_populates="units")
 
@@ -206,6 +217,9 @@ class FluidRecord(Base):
     updated_by_id: Mapped[int] = mapped_column(ForeignKey("users.id"))
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     created_by: Mapped[User] = relationship(foreign_keys=[created_by_id])
     updated_by: Mapped[User] = relationship(foreign_keys=[updated_by_id])
@@ -240,6 +254,9 @@ class Material(Base):
     editable: Mapped[bool] = mapped_column(Boolean, default=True)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
 
 class Case(Base):
@@ -607,6 +624,8 @@ class BatchJob(Base):
     reading: Mapped[dict[str, Any] | None] = mapped_column(JSON)
     message: Mapped[str] = mapped_column(Text, default="")
     runner: Mapped[str] = mapped_column(String(8), default="thread")
+    #: how often a worker took the job (a job whose worker died is requeued once, then marked failed).
+    attempts: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
 
     created_by: Mapped[User] = relationship()
 

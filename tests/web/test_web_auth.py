@@ -7,7 +7,7 @@ import pytest
 from sqlalchemy import select
 from web_helpers import PASSWORD, app_config, sign_in
 
-from jtcheck.records.models import Role, User
+from jtcheck.records.models import AuditEntry, Role, User
 from jtcheck.web import create_app
 from jtcheck.web.config import SECRET_KEY_FILENAME
 from jtcheck.web.database import db_session
@@ -173,6 +173,53 @@ def test_password_change_checks_input_and_ends_other_sessions(app, world):
     assert two.get("/account").status_code == 302          # the other one ends
     assert sign_in(app.test_client(), email).status_code == 401
     assert sign_in(app.test_client(), email, "a new long password").status_code == 302
+
+
+def _new_account(app, world, email: str) -> None:
+    with app.app_context():
+        from jtcheck.records import service
+        from jtcheck.web.accounts.passwords import hash_password
+
+        s = db_session()
+        admin = service.get_user_by_email(s, world.emails[Role.ADMIN])
+        service.create_user(s, admin, email=email, name=email.split("@")[0], role="engineer",
+                            password_hash=hash_password(PASSWORD))
+
+
+def test_sign_out_ends_every_session_and_a_replayed_cookie(app, world):
+    """A copy of the session cookie taken before signing out no longer works (client-side sessions are ended by
+    the user's session generation), and neither does the user's other browser."""
+    email = "leaver@example.org"
+    _new_account(app, world, email)
+    one, two = app.test_client(), app.test_client()
+    sign_in(one, email)
+    sign_in(two, email)
+    stolen = one.get_cookie("jtcheck_session").value
+    assert one.get("/account").status_code == 200
+    one.post("/logout")
+    replay = app.test_client()
+    replay.set_cookie("jtcheck_session", stolen)
+    assert replay.get("/account").status_code == 302
+    assert two.get("/account").status_code == 302
+    assert sign_in(one, email).status_code == 302 and one.get("/account").status_code == 200
+
+
+def test_password_change_revokes_the_api_token(app, world):
+    email = "tokenholder@example.org"
+    _new_account(app, world, email)
+    c = app.test_client()
+    sign_in(c, email)
+    page = c.post("/account/token").data.decode()
+    token = page.split('<p class="secret">', 1)[1].split("</p>", 1)[0].strip()
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 200
+    ok = c.post("/account/password", data={"current_password": PASSWORD, "new_password": "another long password",
+                                           "repeat_password": "another long password"})
+    assert ok.status_code == 302
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 401
+    with app.app_context():
+        entries = db_session().scalars(select(AuditEntry).where(AuditEntry.entity == "user",
+                                                                AuditEntry.field == "api_token_hash")).all()
+    assert any(e.new_value == "(revoked)" for e in entries)
 
 
 def test_api_token_is_shown_once_and_stored_as_a_hash(app, world):

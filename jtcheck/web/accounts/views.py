@@ -84,7 +84,8 @@ def change_password():
         return render_template("accounts/account.html", user=user, form=form, token=None), 422
     user = service.update_user(db_session(), user, user.id, {"password_hash": hash_password(new)})
     sign_in(user)   # a fresh session; sessions signed in with the old password end
-    flash("Your password is changed. Other sessions signed in with the old password are signed out.")
+    flash("Your password is changed. Every other session of yours is signed out, and your API token is revoked "
+          "(make a new one below if you need it).")
     return redirect(url_for("auth.account"))
 
 
