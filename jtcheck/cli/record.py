@@ -41,7 +41,8 @@ def report_json(report) -> str:
                         "intact": c.intact, "trusted": c.trusted, "covers_whole_file": c.covers_whole_file,
                         "modified_after": c.modified_after, "problems": list(c.problems)}
                        for c in sigs.signatures],
-        "register": {"consulted": report.register.consulted, "found": report.register.found, "record_number": report.register.record_number,
+        "register": {"consulted": report.register.consulted, "found": report.register.found,
+                     "record_number": report.register.record_number,
                      "revision": report.register.revision, "status": report.register.status,
                      "message": report.register.message},
         "problems": [*sigs.problems, *report.problems]}, indent=2)

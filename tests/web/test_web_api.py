@@ -167,7 +167,7 @@ def test_case_api_bad_field_is_named_and_nothing_is_stored(app, api, world, fiel
 def test_case_api_bad_patch_changes_nothing(app, api, world, field, change):
     case_id = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world)).get_json()["id"]
     audit = count(app, AuditEntry)
-    resp = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case_id}", json=change)
+    resp = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case_id}", json={**change, "version": 1})
     assert resp.status_code == 422, resp.get_json()
     assert resp.get_json()["error"]["field"] == field
     assert count(app, AuditEntry) == audit
@@ -204,7 +204,8 @@ def test_fluid_crud_and_conflicts(app, api):
     assert dup.status_code == 409 and dup.get_json()["error"]["field"] == "name"
     bad = api(Role.ENGINEER, "POST", "/api/v1/fluids", json={"name": unique("x"), "composition": {"methane": 2}})
     assert bad.status_code == 422 and bad.get_json()["error"]["field"] == "composition"
-    patched = api(Role.ENGINEER, "PATCH", f"/api/v1/fluids/{fluid['id']}", json={"eos": "SRK", "kij": "zero"})
+    patched = api(Role.ENGINEER, "PATCH", f"/api/v1/fluids/{fluid['id']}", json={"eos": "SRK", "kij": "zero",
+                                                                           "version": fluid["version"]})
     assert patched.status_code == 200 and patched.get_json()["eos"] == "SRK" and patched.get_json()["kij"] == "zero"
     assert api(Role.CHECKER, "GET", f"/api/v1/fluids/{fluid['id']}").get_json()["name"] == name
     assert name in [f["name"] for f in api(Role.CHECKER, "GET", "/api/v1/fluids").get_json()["fluids"]]

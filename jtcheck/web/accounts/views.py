@@ -5,9 +5,10 @@ from flask import Blueprint, current_app, flash, redirect, render_template, requ
 
 from jtcheck.errors import InputError
 from jtcheck.records import service
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Role, User
 from jtcheck.records.tokens import create_token, revoke_token
+from jtcheck.records.versions import parse_version
 from jtcheck.web.accounts.passwords import (
     check_new_password,
     generate_password,
@@ -146,13 +147,22 @@ def edit_user(user_id: int):
     if request.method == "GET":
         return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                                form=FormState.of({"name": user.name, "role": Role(user.role).value,
-                                                  "active": "1" if user.active else ""}), new_password=None)
-    form = FormState.from_request(("name", "role", "active"))
+                                                  "active": "1" if user.active else "",
+                                                  "version": str(user.version)}), new_password=None)
+    form = FormState.from_request(("name", "role", "active", "version"))
     changes = {"name": form.get("name"), "role": form.get("role"), "active": form.get("active") == "1"}
     try:
-        user = service.update_user(db_session(), admin, user_id, changes)
+        version = parse_version(form.get("version"), required=True)
+        user = service.update_user(db_session(), admin, user_id, changes, expected_version=version)
+    except ConcurrentEditError as exc:
+        form.general.append(str(exc))
+        return render_template("accounts/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
+                               new_password=None), 409
     except InputError as exc:
-        form.add(exc.field, exc.message)
+        if exc.field == "version":
+            form.general.append(f"version: {exc.message}")
+        else:
+            form.add(exc.field, exc.message)
         return render_template("accounts/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
                                new_password=None), 422
     flash(f"Saved {user.email}.")
@@ -169,4 +179,5 @@ def reset_password(user_id: int):
         sign_in(user)   # keep the admin who reset their own password signed in
     return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                            form=FormState.of({"name": user.name, "role": Role(user.role).value,
-                                              "active": "1" if user.active else ""}), new_password=password)
+                                              "active": "1" if user.active else "", "version": str(user.version)}),
+                           new_password=password)

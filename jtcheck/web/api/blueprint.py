@@ -10,6 +10,7 @@ from flask import Blueprint, Response, jsonify, request
 from jtcheck import __version__
 from jtcheck.errors import InputError
 from jtcheck.notices import CAUTION
+from jtcheck.records.versions import parse_version
 from jtcheck.web.api import schemas
 from jtcheck.web.api.openapi import ApiRegistry
 from jtcheck.web.cases.inputs import FieldInputError
@@ -41,6 +42,16 @@ def unknown_keys(data: Mapping[str, Any], allowed: tuple[str, ...]) -> None:
     for key in data:
         if key not in allowed:
             raise InputError(str(key), f"unknown field; allowed: {', '.join(allowed)}")
+
+
+def patch_version(data: dict[str, Any]) -> int:
+    """The required ``version`` of a PATCH body (taken out of ``data``): a JSON integer >= 1."""
+    version = data.pop("version", None)
+    if version is not None and (isinstance(version, bool) or not isinstance(version, int)):
+        raise InputError("version", f"must be the whole-number version you edited, got {version!r}")
+    number = parse_version(version, required=True)
+    assert number is not None
+    return number
 
 
 def field_errors(exc: FieldInputError) -> ApiError:

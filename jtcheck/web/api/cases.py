@@ -12,7 +12,7 @@ from jtcheck.errors import InputError
 from jtcheck.records import service
 from jtcheck.records.models import CaseRevision
 from jtcheck.web import removal
-from jtcheck.web.api.blueprint import api, body, created, field_errors, int_arg
+from jtcheck.web.api.blueprint import api, body, created, field_errors, int_arg, patch_version
 from jtcheck.web.api.openapi import QueryParam
 from jtcheck.web.api.serialize import (
     audit_json,
@@ -102,7 +102,8 @@ def get_case(case_id: int):
 @api.route("/cases/<int:case_id>", "PATCH", summary="Change a case's inputs", tag="cases", request="CasePatch",
            response="Case", errors=(403, 404, 409))
 def update_case(case_id: int):
-    """Only the fields sent are changed; send "version" to be refused (409) if someone saved in between.
+    """Only the fields sent are changed; "version" (the version you edited) is required, and a save made by someone
+    else in between is refused (409, naming the fields changed since and who changed them).
 
     Refused (403) while the case's current calculation record is in review (for check, checked, for
     approval): reject it first.  A change to a case whose current record is issued (approved, superseded,
@@ -111,10 +112,8 @@ def update_case(case_id: int):
     user = require_editor("edit case inputs")
     data = body()
     session = db_session()
-    version = data.pop("version", None)
-    if version is not None and (isinstance(version, bool) or not isinstance(version, int)):
-        raise InputError("version", f"must be the integer version you edited, got {version!r}")
     case = service.get_case(session, user, case_id)
+    version = patch_version(data)
     try:
         values = convert(data, current=case)
         case = service.update_case(session, user, case_id, changed_only(case, values), expected_version=version)

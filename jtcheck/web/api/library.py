@@ -12,7 +12,7 @@ from jtcheck.records import service
 from jtcheck.records.errors import NotFound
 from jtcheck.records.models import FluidRecord
 from jtcheck.web import removal
-from jtcheck.web.api.blueprint import api, body, created, unknown_keys
+from jtcheck.web.api.blueprint import api, body, created, patch_version, unknown_keys
 from jtcheck.web.api.serialize import (
     fluid_json,
     material_json,
@@ -75,9 +75,13 @@ def get_fluid(fluid_id: int):
 @api.route("/fluids/<int:fluid_id>", "PATCH", summary="Change a fluid", tag="fluids", request="FluidPatch",
            response="Fluid", errors=(403, 404, 409))
 def update_fluid(fluid_id: int):
-    """Results already stored keep the fluid they were computed with."""
+    """Results already stored keep the fluid they were computed with.  "version" (the version you edited) is
+    required; a save made by someone else in between is refused (409, naming what changed and who changed it)."""
     user = require_editor("edit fluids")
-    record = service.update_fluid(db_session(), user, fluid_id, _fluid_values(body()))
+    data = body()
+    _fluid_or_404(fluid_id)
+    version = patch_version(data)
+    record = service.update_fluid(db_session(), user, fluid_id, _fluid_values(data), expected_version=version)
     return jsonify(fluid_json(record))
 
 

@@ -137,8 +137,11 @@ def register(api: ApiRegistry) -> None:
     s("CaseInput", {"type": "object", "additionalProperties": False, "properties": case_props,
                     "required": ["unit_id", "tag", "kind", "fluid_id", "inlet_pressure", "inlet_temperature",
                                  "outlet_pressure"]})
-    s("CasePatch", {"type": "object", "additionalProperties": False, "properties": {
-        **case_props, "version": {"type": "integer", "description": "The version you edited; 409 if stale."}}})
+    version = {"type": "integer", "minimum": 1, "maximum": 2**31 - 1,
+               "description": "The version you edited (from the record you read): required; 409, naming what changed "
+                              "and who changed it, when someone saved in between."}
+    s("CasePatch", {"type": "object", "additionalProperties": False, "required": ["version"], "properties": {
+        **case_props, "version": version}})
     s("Case", {"type": "object", "properties": {
         "id": {"type": "integer"}, "tag": {"type": "string"}, "service": {"type": "string"},
         "kind": {"type": "string"}, "kind_label": {"type": "string"}, "status": {"type": "string"},
@@ -174,11 +177,13 @@ def register(api: ApiRegistry) -> None:
                      "properties": {"name": {"type": "string"},
                                     "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
                                     "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
-    s("FluidPatch", {"type": "object", "additionalProperties": False, "properties": {
-        "name": {"type": "string"}, "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
+    s("FluidPatch", {"type": "object", "additionalProperties": False, "required": ["version"], "properties": {
+        "version": version, "name": {"type": "string"},
+        "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
         "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
     s("Fluid", {"type": "object", "properties": {
-        "id": {"type": "integer"}, "name": {"type": "string"}, "eos": {"type": "string"}, "kij": {"type": "string"},
+        "id": {"type": "integer"}, "version": {"type": "integer"}, "name": {"type": "string"},
+        "eos": {"type": "string"}, "kij": {"type": "string"},
         "notes": {"type": "string"}, "composition": {"type": "array", "items": {
             "type": "object", "properties": {"component": {"type": "string"}, "mole_fraction": {"type": "number"}}}}}})
     s("FluidList", {"type": "object", "properties": {"fluids": {"type": "array", "items": _ref("Fluid")}}})

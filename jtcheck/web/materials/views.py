@@ -5,8 +5,9 @@ from flask import Blueprint, flash, redirect, render_template, request, url_for
 
 from jtcheck.errors import InputError
 from jtcheck.records import service
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Material
+from jtcheck.records.versions import parse_version
 from jtcheck.units import parse_temperature, temperature_from_k
 from jtcheck.web.database import db_session
 from jtcheck.web.forms import FormState
@@ -73,14 +74,21 @@ def edit(material_id: int):
             "name": material.name, "specification": material.specification,
             "min_metal_temperature": input_number(temperature_from_k(material.min_metal_temperature_k, "degC")),
             "min_metal_temperature_unit": "degC", "notes": material.notes, "source": material.source,
-            "editable": "1" if material.editable else ""}), material)
-    form = FormState.from_request(MATERIAL_FORM_FIELDS)
+            "editable": "1" if material.editable else "", "version": str(material.version)}), material)
+    form = FormState.from_request((*MATERIAL_FORM_FIELDS, "version"))
     try:
+        version = parse_version(form.get("version"), required=True)
         values = _values(form)
         if abs(values["min_metal_temperature_k"] - material.min_metal_temperature_k) < 1e-9:
             del values["min_metal_temperature_k"]   # shown in degC and sent back: unchanged
-        material = service.update_material(db_session(), user, material_id, values)
+        material = service.update_material(db_session(), user, material_id, values, expected_version=version)
+    except ConcurrentEditError as exc:
+        form.general.append(str(exc))
+        return _render(form, material, 409)
     except InputError as exc:
+        if exc.field == "version":
+            form.general.append(f"version: {exc.message}")
+            return _render(form, material, 422)
         form.add(_field(exc), exc.message)
         return _render(form, material, 409 if "already exists" in exc.message else 422)
     flash(f"Material {material.name} saved.")
