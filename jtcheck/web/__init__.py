@@ -31,7 +31,7 @@ from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
 from jtcheck.reports.numbers import fmt_number
-from jtcheck.web import database, errors, security
+from jtcheck.web import database, errors, limits, security
 from jtcheck.web.batches import views as batch_views
 from jtcheck.web.cases.diagram import DiagramCache
 from jtcheck.web.cases.results import units_of
@@ -96,6 +96,7 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     if proxies > 0:
         app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies, x_host=proxies)  # type: ignore[method-assign]
 
+    limits.init_app(app)            # ids in URLs within range, no control characters in queries and forms
     database.init_app(app)
     security.init_app(app)          # first: an anonymous request goes to sign-in before anything else
     record_views.init_app(app)      # the upload limit of the verify page, before the CSRF check reads the form
