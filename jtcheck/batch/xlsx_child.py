@@ -94,7 +94,7 @@ def read_rows(data: bytes, max_rows: int, max_columns: int, max_cells: int) -> l
     with zipfile.ZipFile(io.BytesIO(data)) as archive:
         with archive.open(_first_sheet_part(archive)) as stream:
             count_cells(stream, max_rows, max_columns, max_cells)
-    from openpyxl import load_workbook   # imported before the ceiling was set (main)
+    from openpyxl import load_workbook  # imported before the ceiling was set (main)
 
     wb = load_workbook(io.BytesIO(data), read_only=True, data_only=True)
     try:

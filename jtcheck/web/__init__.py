@@ -121,6 +121,8 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     app.view_functions["auth.login"] = login
     app.extensions["jtcheck_limiter"] = limiter
     app.extensions["jtcheck_diagrams"] = DiagramCache(app.config["DIAGRAM_CACHE_SIZE"])
+    if app.config.get("BATCH_RECOVER_ON_START", True):
+        batch_views.recover_at_start(app)
 
     app.jinja_env.filters["num"] = fmt_number
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
