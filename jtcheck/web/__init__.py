@@ -96,11 +96,12 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     if proxies > 0:
         app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies, x_host=proxies)  # type: ignore[method-assign]
 
-    limits.init_app(app)            # ids in URLs within range, no control characters in queries and forms
     database.init_app(app)
     security.init_app(app)          # first: an anonymous request goes to sign-in before anything else
     record_views.init_app(app)      # the upload limit of the verify page, before the CSRF check reads the form
     batch_views.init_app(app)       # the same for the batch upload
+    limits.init_app(app)            # ids in URLs within range, no control characters in queries and forms (after
+                                    # the upload limits: it reads the form)
     csrf = CSRFProtect(app)
     limiter = Limiter(get_remote_address, app=app, headers_enabled=False)
     errors.register(app)
