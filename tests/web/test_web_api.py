@@ -299,3 +299,19 @@ def test_api_case_in_psig_round_trips(api, world):
     assert case["display"]["inlet_pressure"]["value"] == pytest.approx(1000.0, rel=1e-12)
     assert case["display"]["outlet_pressure"] == {"value": pytest.approx(150.0, rel=1e-12), "unit": "psig"}
     assert case["display"]["inlet_temperature"] == {"value": pytest.approx(100.0, rel=1e-12), "unit": "degF"}
+
+
+def test_results_and_lists_come_a_page_at_a_time(api, world):
+    case_id = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world)).get_json()["id"]
+    ids = [api(Role.ENGINEER, "POST", f"/api/v1/cases/{case_id}/compute").get_json()["id"] for _ in range(3)]
+    first = api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results?limit=2").get_json()
+    assert [r["id"] for r in first["results"]] == ids[::-1][:2]           # newest first
+    assert (first["count"], first["total"], first["next_offset"]) == (2, 3, 2)
+    last = api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results?limit=2&offset=2").get_json()
+    assert [r["id"] for r in last["results"]] == [ids[0]] and last["next_offset"] is None
+    assert api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results").get_json()["limit"] == 20
+    for bad in ("limit=0", "limit=1001", "offset=-1", "offset=2147483648"):
+        resp = api(Role.CHECKER, "GET", f"/api/v1/fluids?{bad}")
+        assert resp.status_code == 422 and resp.get_json()["error"]["field"] == bad.split("=")[0]
+    fluids = api(Role.CHECKER, "GET", "/api/v1/fluids?limit=1").get_json()
+    assert fluids["count"] == 1 and fluids["total"] >= 1 and fluids["limit"] == 1
