@@ -143,7 +143,7 @@ class ApiRegistry:
             codes = set(op.errors) | ({401} if not op.public else set())
             has_body = bool(op.request) or op.request_media != JSON
             if has_body:
-                codes |= {400, 422}
+                codes |= {400, 413, 422}
             for code in sorted(codes):
                 responses[str(code)] = {"description": ERROR_TEXT[code], "content": {
                     "application/json": {"schema": {"$ref": "#/components/schemas/Error"}}}}

@@ -172,12 +172,13 @@ def register(api: ApiRegistry) -> None:
         "conditions": {"type": "array", "items": {"type": "object"}}, "basis": {"type": "object"},
         "current": {"type": "boolean"}, "caution": {"type": "string"}}})
     s("ResultList", page_schema("results", _ref("Result")))
+    fluid_name = {"type": "string", "minLength": 1, "maxLength": 200, "pattern": r"\S"}
     s("FluidInput", {"type": "object", "required": ["name", "composition"], "additionalProperties": False,
-                     "properties": {"name": {"type": "string"},
+                     "properties": {"name": fluid_name,
                                     "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
                                     "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
     s("FluidPatch", {"type": "object", "additionalProperties": False, "required": ["version"], "properties": {
-        "version": version, "name": {"type": "string"},
+        "version": version, "name": fluid_name,
         "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
         "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
     s("Fluid", {"type": "object", "properties": {
