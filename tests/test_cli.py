@@ -56,11 +56,20 @@ def test_same_answer_in_us_units():
     (["--p-in", "100 furlongs", "--t-in", "40 degC", "--p-out", "10 bara"], "p_in"),
     (["--p-in", "100 bara", "--t-in", "40", "--p-out", "10 bara"], "t_in"),
     (["--p-in", "100 bara", "--t-in", "40 degC", "--p-out", "10 bara", "--eos", "XYZ"], "eos"),
+    # below the heat-capacity data (the flash divided by zero near 0 K and printed a traceback)
+    (["--p-in", "100 bara", "--t-in", "1 K", "--p-out", "10 bara"], "t_in"),
+    (["--p-in", "100 bara", "--t-in", "49.9 K", "--p-out", "10 bara"], "t_in"),
 ])
 def test_bad_input_exits_2_naming_the_field(args, field):
     res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, *args])
     assert res.exit_code == EXIT_INPUT
     assert f"error: {field}:" in res.output
+
+
+def test_huge_composition_amounts_are_bad_input_not_an_overflow():
+    res = CliRunner().invoke(main, ["letdown", "--fluid", "methane=1e308,ethane=1e308", "--p-in", "100 bara",
+                                    "--t-in", "40 degC", "--p-out", "10 bara"])
+    assert res.exit_code == EXIT_INPUT and "amount 1e+308 is above 100" in res.output
 
 
 def test_unknown_component_exits_2_with_suggestion():
