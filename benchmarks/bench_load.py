@@ -28,6 +28,9 @@ What it does, and undoes (the server, database and helpers are those of ``benchm
    compute  ``POST /api/v1/letdown`` (nothing stored)        10
    ======== ================================================ ======
 
+   With ``--hostile N``, N more users upload a zip bomb (an XLSX of about 1 MB that unpacks to over 256 MB) to the
+   batch page back to back, and one more asks ``GET /healthz`` every 0.2 s: the bombs must all be refused (422)
+   and /healthz must keep answering (its p95 is printed as kind "health"; target under 1 s);
 5. prints a table (requests, p50, p95, p99, max, errors per request and per kind) and the verdict against the
    targets: page views and API reads p95 <= 300 ms, computes p95 <= 1.5 s, 0 errors;
 6. stops gunicorn and drops the database (also when interrupted).
@@ -60,7 +63,7 @@ import load_web  # noqa: E402 - the server, database and percentile helpers of t
 DB_NAME = "jtcheck_bench_load"
 AGENT = "jtcheck-bench-load"
 PASSWORD = "bench-load-" + secrets.token_urlsafe(12)
-TARGET_S = {"page": 0.300, "api": 0.300, "compute": 1.500}
+TARGET_S = {"page": 0.300, "api": 0.300, "compute": 1.500, "health": 1.000, "hostile": 60.0}
 
 #: (kind, label, method, path template, weight); ``{id}`` is a case of the benchmark.
 REQUESTS = (
@@ -212,6 +215,64 @@ def one_request(bench: Bench, rng: random.Random) -> None:
             bench.samples.append(Sample(kind, label, latency, error))
 
 
+def _record(bench: Bench, kind: str, label: str, t0: float, error: str) -> None:
+    if t0 >= bench.measure_from:
+        with bench.lock:
+            bench.samples.append(Sample(kind, label, time.monotonic() - t0, error))
+
+
+def health_loop(bench: Bench) -> None:
+    while time.monotonic() < bench.stop_at:
+        t0 = time.monotonic()
+        try:
+            status, _, _ = http_call(bench.port, "GET", "/healthz", {})
+            error = "" if status == 200 else f"HTTP {status}"
+        except (OSError, http.client.HTTPException) as exc:
+            error = f"{type(exc).__name__}: {exc}"
+        _record(bench, "health", "GET /healthz", t0, error)
+        time.sleep(0.2)
+
+
+def hostile_loop(bench: Bench, bomb: bytes) -> None:
+    """Upload the zip bomb to the batch page again and again; a refusal (422) is the expected answer."""
+    while time.monotonic() < bench.stop_at:
+        t0 = time.monotonic()
+        try:
+            status, headers, page = http_call(bench.port, "GET", "/batches", {"Cookie": bench.cookie})
+            token = re.search(rb'name="csrf_token"[^>]*value="([^"]+)"', page)
+            boundary = "jtcheck-bench-" + secrets.token_hex(6)
+            body = (f"--{boundary}\r\nContent-Disposition: form-data; name=\"csrf_token\"\r\n\r\n"
+                    f"{token.group(1).decode() if token else ''}\r\n--{boundary}\r\nContent-Disposition: form-data; "
+                    f"name=\"file\"; filename=\"bomb.xlsx\"\r\nContent-Type: application/octet-stream\r\n\r\n"
+                    ).encode() + bomb + f"\r\n--{boundary}--\r\n".encode()
+            status, _, page = http_call(bench.port, "POST", "/batches", {
+                "Cookie": bench.cookie, "Content-Type": f"multipart/form-data; boundary={boundary}"}, body)
+            error = "" if status == 422 and b"unpacked is read" in page else f"HTTP {status}: not refused as expected"
+        except (OSError, http.client.HTTPException) as exc:
+            error = f"{type(exc).__name__}: {exc}"
+        _record(bench, "hostile", "POST /batches (zip bomb)", t0, error)
+
+
+def zip_bomb() -> bytes:
+    """An XLSX of about 1 MB whose sheet unpacks to over 256 MB (one row of empty inline-string cells)."""
+    import io
+    import zipfile
+
+    from jtcheck.batch.layout import MAX_UNPACKED_BYTES
+
+    block = b'<c t="inlineStr"><is><t></t></is></c>' * 100_000
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED, compresslevel=1) as z:
+        z.writestr("[Content_Types].xml", "<Types/>")
+        z.writestr("xl/workbook.xml", "<workbook/>")
+        with z.open("xl/worksheets/sheet1.xml", "w", force_zip64=True) as f:
+            f.write(b"<worksheet><sheetData><row r=\"1\">")
+            for _ in range(MAX_UNPACKED_BYTES // len(block) + 2):
+                f.write(block)
+            f.write(b"</row></sheetData></worksheet>")
+    return out.getvalue()
+
+
 def user_loop(bench: Bench, seed: int) -> None:
     rng = random.Random(seed)
     time.sleep(rng.uniform(0, bench.think_s))            # users do not all start at once
@@ -232,7 +293,8 @@ def report(bench: Bench, seconds: float, header: str) -> bool:
     print(head)
     print("-" * len(head))
     order = [(k, label) for k, label, *_ in REQUESTS]
-    for kind in TARGET_S:
+    order += [("health", "GET /healthz"), ("hostile", "POST /batches (zip bomb)")]
+    for kind in ("page", "api", "compute"):
         order.append((kind, f"all {kind}"))
     met = True
     for key in order:
@@ -242,7 +304,7 @@ def report(bench: Bench, seconds: float, header: str) -> bool:
         lat = sorted(s.latency_s for s in group)
         errors = sum(1 for s in group if s.error)
         p95 = load_web.percentile(lat, 95)
-        if key[1].startswith("all "):
+        if key[1].startswith("all ") or key[0] == "health":
             met &= errors == 0 and p95 <= TARGET_S[key[0]]
         print(f"{key[0]:<9}{key[1]:<36}{len(group):>9}{len(group) / seconds:>7.1f}"
               f"{load_web.percentile(lat, 50) * 1e3:>9.1f}{p95 * 1e3:>9.1f}{load_web.percentile(lat, 99) * 1e3:>9.1f}"
@@ -251,7 +313,8 @@ def report(bench: Bench, seconds: float, header: str) -> bool:
     for s in first_errors:
         print(f"error: {s.label}: {s.error}")
     print(f"targets: page views and API reads p95 <= {TARGET_S['page'] * 1e3:.0f} ms, computes p95 <= "
-          f"{TARGET_S['compute']:.1f} s, 0 errors: {'MET' if met else 'NOT MET'}")
+          f"{TARGET_S['compute']:.1f} s, /healthz p95 < 1 s (with --hostile), 0 errors (a refused bomb is no error): "
+          f"{'MET' if met else 'NOT MET'}")
     return met
 
 
@@ -263,6 +326,8 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--think", type=float, default=1.0, help="mean think time between a user's requests [s]")
     ap.add_argument("--cases", type=int, default=60, help="cases made before the load (default 60)")
     ap.add_argument("--workers", type=int, default=None, help="gunicorn workers (default: the configuration's)")
+    ap.add_argument("--hostile", type=int, default=0, metavar="N",
+                    help="N more users upload zip bombs meanwhile, and /healthz is timed (default 0)")
     ap.add_argument("--pg", default=os.environ.get("JTCHECK_LOAD_PG", load_web.DEFAULT_PG),
                     help="maintenance database of the PostgreSQL server on this machine")
     args = ap.parse_args(argv)
@@ -296,12 +361,19 @@ def main(argv: list[str] | None = None) -> int:
         print(f"running: {args.users} users, think time {args.think:g} s (0.5-1.5 x), {args.warmup:g} s warm-up + "
               f"{args.seconds:g} s measured ...", flush=True)
         threads = [threading.Thread(target=user_loop, args=(bench, k), daemon=True) for k in range(args.users)]
+        if args.hostile:
+            bomb = zip_bomb()
+            threads += [threading.Thread(target=hostile_loop, args=(bench, bomb), daemon=True)
+                        for _ in range(args.hostile)]
+            threads.append(threading.Thread(target=health_loop, args=(bench,), daemon=True))
         for t in threads:
             t.start()
         for t in threads:
             t.join(timeout=args.warmup + args.seconds + 120)
-        header = (f"jtcheck load benchmark: {args.users} users, {args.seconds:g} s measured after {args.warmup:g} s "
-                  f"warm-up, think time {args.think:g} s; gunicorn {workers} sync workers (deploy/gunicorn.conf.py), "
+        hostile = f" + {args.hostile} uploading zip bombs" if args.hostile else ""
+        header = (f"jtcheck load benchmark: {args.users} users{hostile}, {args.seconds:g} s measured after "
+                  f"{args.warmup:g} s warm-up, think time {args.think:g} s; gunicorn {workers} sync workers "
+                  f"(deploy/gunicorn.conf.py), "
                   f"PostgreSQL; {os.cpu_count()} cores shared by server, database, users (and other work: 1-min "
                   f"load average {load_before:.1f} before, {os.getloadavg()[0]:.1f} after)")
         report(bench, args.seconds, header)
