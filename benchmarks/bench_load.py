@@ -245,8 +245,9 @@ def hostile_loop(bench: Bench, bomb: bytes) -> None:
                     f"{token.group(1).decode() if token else ''}\r\n--{boundary}\r\nContent-Disposition: form-data; "
                     f"name=\"file\"; filename=\"bomb.xlsx\"\r\nContent-Type: application/octet-stream\r\n\r\n"
                     ).encode() + bomb + f"\r\n--{boundary}--\r\n".encode()
+            cookie = _cookie(headers) or bench.cookie      # the page may store the form's CSRF secret in the session
             status, _, page = http_call(bench.port, "POST", "/batches", {
-                "Cookie": bench.cookie, "Content-Type": f"multipart/form-data; boundary={boundary}"}, body)
+                "Cookie": cookie, "Content-Type": f"multipart/form-data; boundary={boundary}"}, body)
             error = "" if status == 422 and b"unpacked is read" in page else f"HTTP {status}: not refused as expected"
         except (OSError, http.client.HTTPException) as exc:
             error = f"{type(exc).__name__}: {exc}"
