@@ -56,11 +56,20 @@ def test_same_answer_in_us_units():
     (["--p-in", "100 furlongs", "--t-in", "40 degC", "--p-out", "10 bara"], "p_in"),
     (["--p-in", "100 bara", "--t-in", "40", "--p-out", "10 bara"], "t_in"),
     (["--p-in", "100 bara", "--t-in", "40 degC", "--p-out", "10 bara", "--eos", "XYZ"], "eos"),
+    # below the heat-capacity data (the flash divided by zero near 0 K and printed a traceback)
+    (["--p-in", "100 bara", "--t-in", "1 K", "--p-out", "10 bara"], "t_in"),
+    (["--p-in", "100 bara", "--t-in", "49.9 K", "--p-out", "10 bara"], "t_in"),
 ])
 def test_bad_input_exits_2_naming_the_field(args, field):
     res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, *args])
     assert res.exit_code == EXIT_INPUT
     assert f"error: {field}:" in res.output
+
+
+def test_huge_composition_amounts_are_bad_input_not_an_overflow():
+    res = CliRunner().invoke(main, ["letdown", "--fluid", "methane=1e308,ethane=1e308", "--p-in", "100 bara",
+                                    "--t-in", "40 degC", "--p-out", "10 bara"])
+    assert res.exit_code == EXIT_INPUT and "amount 1e+308 is above 100" in res.output
 
 
 def test_unknown_component_exits_2_with_suggestion():
@@ -244,6 +253,34 @@ def test_record_verify_with_another_trust_root_is_not_trusted(issued_record, tmp
     root.write_bytes(other.trust_root_pem())
     res = CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root)])
     assert res.exit_code == 6 and "NOT TRUSTED" in res.output
+
+
+def test_record_verify_works_on_the_file_alone_and_creates_no_register(issued_record, tmp_path, monkeypatch):
+    """Outside the project folder, with no DATABASE_URL: the signatures are checked, the report says no register
+    was found, the genuine record is valid, and no register file appears."""
+    from jtcheck.reports.pki import InstancePKI
+
+    root = tmp_path / "ca.pem"
+    root.write_bytes(InstancePKI(tmp_path, b"test passphrase").trust_root_pem())
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.setenv("JTCHECK_INSTANCE", str(elsewhere / "instance"))
+    monkeypatch.delenv("DATABASE_URL", raising=False)
+    res = CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root)])
+    assert res.exit_code == 0, res.output
+    assert "no register found" in res.output and "VALID SIGNATURES" in res.output
+    assert not (elsewhere / "instance").exists()
+    data = json.loads(CliRunner().invoke(main, ["record", "verify", str(issued_record), "--trust-root", str(root),
+                                                "--json"]).output)
+    assert data["ok"] and data["register"]["consulted"] is False
+    # a changed byte is still NOT VALID without a register
+    pdf = bytearray(issued_record.read_bytes())
+    at = pdf.find(b"stream", 2000) + 20
+    pdf[at] ^= 0x01
+    bad = tmp_path / "changed.pdf"
+    bad.write_bytes(bytes(pdf))
+    res = CliRunner().invoke(main, ["record", "verify", str(bad), "--trust-root", str(root)])
+    assert res.exit_code == 6 and "NOT VALID" in res.output and not (elsewhere / "instance").exists()
 
 
 def test_record_verify_needs_a_trust_root_when_the_instance_has_no_ca(empty_register, tmp_path):

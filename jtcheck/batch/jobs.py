@@ -41,7 +41,7 @@ from dataclasses import asdict, dataclass, replace
 from datetime import timedelta
 from typing import Any
 
-from sqlalchemy import Engine, update
+from sqlalchemy import Engine, select, update
 from sqlalchemy.orm import Session
 
 from jtcheck.errors import InputError, JtcheckError
@@ -62,8 +62,13 @@ QUEUE_NAME = "jtcheck-batches"
 PROGRESS_INTERVAL_S = 0.5
 #: Longest time an RQ job may run before RQ stops it [s] (config ``BATCH_JOB_TIMEOUT_S``).
 JOB_TIMEOUT_S = 6 * 3600
-#: A running job without a sign of life for this long is marked failed [s] (config ``BATCH_STALE_AFTER_S``).
-STALE_AFTER_S = 30 * 60
+#: A running worker writes a sign of life this often, also while one row takes long [s].
+HEARTBEAT_S = 15.0
+#: A running job without a sign of life for this long is orphaned [s] (config ``BATCH_STALE_AFTER_S``):
+#: requeued once, then marked failed (:func:`recover_orphans`).
+STALE_AFTER_S = 120
+#: How often a job is started before an orphaned one is marked failed instead of requeued.
+MAX_ATTEMPTS = 2
 #: Longest text of an upload-form limit field.
 MAX_OPTION_TEXT = 40
 #: Longest stored file name.
@@ -401,7 +406,10 @@ def _failure_text(exc: BaseException) -> str:
 class _Worker:
     """The run of one job in one process: its own session, progress writes, the final store."""
 
-    def __init__(self, engine: Engine, job_id: int, screen: ScreenFn | None = None):
+    def __init__(self, engine: Engine, job_id: int, screen: ScreenFn | None = None,
+                 config: Mapping[str, Any] | None = None):
+        self.engine = engine
+        self.config = config
         self.sessions = make_session_factory(engine)
         self.job_id = job_id
         self.screen = screen
@@ -417,7 +425,36 @@ class _Worker:
     def claim(self) -> bool:
         now = utcnow()
         return self._write({"status": BatchStatus.RUNNING, "started_at": now, "heartbeat_at": now, "done": 0,
-                            "message": ""}, only_if=(BatchStatus.QUEUED,))
+                            "message": "", "attempts": BatchJob.attempts + 1}, only_if=(BatchStatus.QUEUED,))
+
+    def beat(self) -> None:
+        """A sign of life (also while one row takes long), so that the job is never taken for orphaned."""
+        self._write({"heartbeat_at": utcnow()}, only_if=(BatchStatus.RUNNING,))
+
+    @contextmanager
+    def heartbeat(self, interval_s: float | None = None) -> Iterator[None]:
+        """Beat every ``interval_s`` (default :data:`HEARTBEAT_S`) in a thread while the block runs."""
+        stop = threading.Event()
+        interval = HEARTBEAT_S if interval_s is None else interval_s
+
+        def loop() -> None:
+            beats = 0
+            while not stop.wait(interval):
+                beats += 1
+                try:
+                    self.beat()
+                    if self.config is not None and beats % 4 == 0:    # about every minute: other runners' orphans
+                        recover_orphans(self.engine, self.config)
+                except Exception:       # the database is away for a moment: the next beat tries again
+                    logger.warning("batch %s: heartbeat not written", self.job_id, exc_info=True)
+
+        thread = threading.Thread(target=loop, name=f"jtcheck-batch-{self.job_id}-heartbeat", daemon=True)
+        thread.start()
+        try:
+            yield
+        finally:
+            stop.set()
+            thread.join(5.0)
 
     def progress(self, done: int, total: int) -> None:
         now = time.monotonic()
@@ -441,6 +478,10 @@ class _Worker:
                 return BatchStatus(job.status).value
         if not self.claim():
             return "taken"          # another worker was first
+        with self.heartbeat():
+            return self._screen()
+
+    def _screen(self) -> str:
         with self.sessions() as session:
             job = session.get(BatchJob, self.job_id)
             assert job is not None
@@ -469,8 +510,9 @@ class _Worker:
         return BatchStatus.DONE.value if stored else "expired"
 
 
-def _run(engine: Engine, job_id: int, *, reraise: bool, screen: ScreenFn | None = None) -> str:
-    worker = _Worker(engine, job_id, screen)
+def _run(engine: Engine, job_id: int, *, reraise: bool, screen: ScreenFn | None = None,
+         config: Mapping[str, Any] | None = None) -> str:
+    worker = _Worker(engine, job_id, screen, config)
     try:
         return worker.run()
     except Exception as exc:
@@ -491,8 +533,9 @@ def run_job(database_url: str, job_id: int) -> str:
     nothing to do: a job runs once).  A failure is stored with the job and raised again, so that RQ lists it too.
     """
     engine = make_engine(database_url)
+    config = {"DATABASE_URL": database_url, "REDIS_URL": os.environ.get("REDIS_URL", ""), "BATCH_RUNNER": "rq"}
     try:
-        return _run(engine, int(job_id), reraise=True)
+        return _run(engine, int(job_id), reraise=True, config=config)
     finally:
         engine.dispose()
 
@@ -547,7 +590,7 @@ def start_job(app_or_config: Any, job_id: int, *, screen: ScreenFn | None = None
     def target() -> None:
         engine = app_engine or make_engine(database_url)
         try:
-            _run(engine, job_id, reraise=False, screen=screen)
+            _run(engine, job_id, reraise=False, screen=screen, config=dict(config))
         finally:
             if app_engine is None:
                 engine.dispose()
@@ -630,6 +673,81 @@ def work(redis_url: str, *, burst: bool = False, simple: bool = False) -> bool:
 
 
 # -- reading a job's state ----------------------------------------------------------------------------------
+def _orphan_message(attempts: int, stale_after_s: float) -> str:
+    return (f"the worker stopped without finishing: no sign of life for {stale_after_s:.0f} s (the service or the "
+            f"worker was probably restarted); the job was started {attempts} time{'s' if attempts != 1 else ''}. "
+            "Restart it from its page, or upload the file again")
+
+
+def recover_orphans(engine: Engine, config: Mapping[str, Any] | None = None, *,
+                    stale_after_s: float | None = None, start: bool = True) -> dict[str, list[int]]:
+    """Jobs of a dead runner: running (or queued for a thread) without a sign of life for ``stale_after_s``.
+
+    Each is requeued and started again (``start``) if it was started fewer than :data:`MAX_ATTEMPTS` times,
+    else marked failed with the reason (its page offers a restart).  Called when the web service starts and by
+    every running worker's heartbeat, so that progress never freezes silently.  Safe with several processes:
+    each job changes hands in one conditional UPDATE.
+
+    Returns ``{"requeued": [ids], "failed": [ids]}``.
+    """
+    config = dict(config or {})
+    stale = float(stale_after_s if stale_after_s is not None
+                  else config.get("BATCH_STALE_AFTER_S") or STALE_AFTER_S)
+    cutoff = utcnow() - timedelta(seconds=stale)
+    out: dict[str, list[int]] = {"requeued": [], "failed": []}
+    sessions = make_session_factory(engine)
+    with sessions() as session:
+        silent = (BatchJob.heartbeat_at.is_(None) | (BatchJob.heartbeat_at < cutoff))
+        candidates = session.execute(
+            select(BatchJob.id, BatchJob.status, BatchJob.attempts, BatchJob.heartbeat_at, BatchJob.runner)
+            .where(silent, (BatchJob.status == BatchStatus.RUNNING.value)
+                   | ((BatchJob.status == BatchStatus.QUEUED.value) & (BatchJob.runner == "thread")))).all()
+        for job_id, status, attempts, beat, _runner in candidates:
+            same = (BatchJob.heartbeat_at.is_(None) if beat is None else BatchJob.heartbeat_at == beat)
+            where = (BatchJob.id == job_id, BatchJob.status == str(status), same)
+            with _writing(session):
+                if int(attempts or 0) < MAX_ATTEMPTS:
+                    n = session.execute(update(BatchJob).where(*where).values(
+                        status=BatchStatus.QUEUED, heartbeat_at=utcnow(),
+                        message=f"requeued: the worker stopped (attempt {int(attempts or 0) + 1} of {MAX_ATTEMPTS})")
+                        .execution_options(synchronize_session=False)).rowcount
+                    kind = "requeued"
+                else:
+                    n = session.execute(update(BatchJob).where(*where).values(
+                        status=BatchStatus.FAILED, finished_at=utcnow(),
+                        message=_orphan_message(int(attempts or 0), stale))
+                        .execution_options(synchronize_session=False)).rowcount
+                    kind = "failed"
+            if n:
+                out[kind].append(int(job_id))
+                logger.warning("batch %s: orphaned job %s", job_id, kind)
+    if start:
+        for job_id in out["requeued"]:
+            start_job({**config, "DATABASE_URL": config.get("DATABASE_URL") or str(engine.url.render_as_string(
+                hide_password=False))}, job_id)
+    return out
+
+
+def restart_job(session: Session, user: User, job_id: int) -> BatchJob:
+    """Queue a failed job again (its creator, or an admin); the caller starts it with :func:`start_job`."""
+    job = session.get(BatchJob, job_id, populate_existing=True)
+    if job is None:
+        raise InputError("job", f"there is no batch {job_id}")
+    if Role(user.role) is not Role.ADMIN and job.created_by_id != user.id:
+        raise PermissionDenied("restart batches", "only the one who uploaded it, or an admin, may restart it")
+    if BatchStatus(job.status) is not BatchStatus.FAILED:
+        raise InputError("job", f"batch {job.id} is {BatchStatus(job.status).value}; only a failed batch is restarted")
+    with _writing(session):
+        n = session.execute(update(BatchJob).where(BatchJob.id == job.id, BatchJob.status == BatchStatus.FAILED.value)
+                            .values(status=BatchStatus.QUEUED, attempts=0, done=0, heartbeat_at=utcnow(),
+                                    finished_at=None, message="restarted")
+                            .execution_options(synchronize_session=False)).rowcount
+        if n:
+            session.add(AuditEntry(user=user, entity="batch_job", entity_id=job.id, action="restart"))
+    session.refresh(job)
+    return job
+
+
 def expire_if_stale(session: Session, job: BatchJob, stale_after_s: float = STALE_AFTER_S) -> bool:
     """Mark ``job`` failed if its worker fell silent: running without a sign of life for ``stale_after_s``, or
     queued that long for a thread of a process that no longer runs it.  True if the job was marked."""
@@ -641,8 +759,7 @@ def expire_if_stale(session: Session, job: BatchJob, stale_after_s: float = STAL
         return False      # waiting for an rq worker: not stale, only waiting
     if last is None or utcnow() - last < timedelta(seconds=stale_after_s):
         return False
-    message = (f"the worker stopped without finishing: no sign of life for {stale_after_s / 60:.0f} minutes (the "
-               "service or the worker was probably restarted); upload the file again")
+    message = _orphan_message(int(job.attempts or 0), stale_after_s)
     with _writing(session):
         same_beat = (BatchJob.heartbeat_at.is_(None) if job.heartbeat_at is None
                      else BatchJob.heartbeat_at == job.heartbeat_at)

@@ -34,6 +34,17 @@ from jtcheck.units import (
 MAX_ROWS = 200_000
 #: Largest file accepted [bytes] (50 MB).
 MAX_BYTES = 50 * 1024 * 1024
+#: Largest unpacked size of an XLSX workbook (the sum of its parts) [bytes]: the limit counts what the file
+#: becomes when unzipped, not its compressed size (a zip bomb of 1 MB may unpack to gigabytes).
+MAX_UNPACKED_BYTES = 256 * 1024 * 1024
+#: Most columns a row may have (cells after the last one with a value count too).
+MAX_COLUMNS = 256
+#: Most cells a sheet may have (rows times the cells each row stores).
+MAX_CELLS = 8_000_000
+#: Memory a workbook may take while it is read, in its own process [MiB] (environment JTCHECK_PARSE_MEMORY_MB).
+PARSE_MEMORY_MB = 1024
+#: Longest time reading a workbook may take [s].
+PARSE_TIMEOUT_S = 300
 
 # kinds of quantity a column holds
 TEXT = "text"

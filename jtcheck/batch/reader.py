@@ -26,6 +26,7 @@ from pathlib import Path
 from typing import Any, BinaryIO
 
 from jtcheck import itemlists
+from jtcheck.batch.cells import formula_safe, unquote_cell
 from jtcheck.batch.layout import (
     ABSOLUTE_PRESSURE,
     CHOICE,
@@ -38,8 +39,13 @@ from jtcheck.batch.layout import (
     MASS_FLOW,
     MASS_FLOW_UNIT,
     MAX_BYTES,
+    MAX_CELLS,
+    MAX_COLUMNS,
     MAX_ROWS,
+    MAX_UNPACKED_BYTES,
     NO_WORDS,
+    PARSE_MEMORY_MB,
+    PARSE_TIMEOUT_S,
     PERCENT,
     PRESSURE,
     PRESSURE_DIFFERENCE,
@@ -239,7 +245,7 @@ def _cell_text(value: Any) -> str:
         return repr(value)
     if isinstance(value, (datetime, date, time)):
         return value.isoformat()
-    return str(value).strip()
+    return unquote_cell(str(value).strip())
 
 
 def _is_number(value: Any) -> bool:
@@ -311,33 +317,61 @@ def _csv_rows(data: bytes) -> tuple[list[tuple[int, list[Any]]], str, list[str]]
     return rows, delimiter, notes
 
 
-def _xlsx_rows(data: bytes) -> list[tuple[int, list[Any]]]:
+def check_archive(data: bytes) -> None:
+    """Refuse an XLSX whose parts unpack to more than :data:`MAX_UNPACKED_BYTES` (read from the archive's
+    directory, before anything is unpacked; Python's zipfile never unpacks more than a part declares)."""
     import zipfile
 
-    from openpyxl import load_workbook
-
     try:
-        wb = load_workbook(io.BytesIO(data), read_only=True, data_only=True)
-    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
+        with zipfile.ZipFile(io.BytesIO(data)) as archive:
+            infos = archive.infolist()
+    except (zipfile.BadZipFile, OSError, ValueError) as exc:
         raise InputError("file", f"not a readable XLSX workbook ({exc.__class__.__name__}: {exc}); save the list "
                                  "as .xlsx or as CSV") from None
+    if len(infos) > 10_000:
+        raise InputError("file", f"the workbook has {len(infos):,} parts; at most 10,000 are read")
+    unpacked = sum(i.file_size for i in infos)
+    if unpacked > MAX_UNPACKED_BYTES:
+        raise InputError("file", f"the workbook unpacks to {unpacked / 1e6:,.0f} MB; at most "
+                                 f"{MAX_UNPACKED_BYTES // (1024 * 1024)} MB unpacked is read (delete unused sheets "
+                                 "and formatting, or save the list as CSV)")
+
+
+def _parse_memory_mb() -> int:
+    raw = os.environ.get("JTCHECK_PARSE_MEMORY_MB", "").strip()
+    return int(raw) if raw.isdigit() and int(raw) >= 128 else PARSE_MEMORY_MB
+
+
+def _xlsx_rows(data: bytes) -> list[tuple[int, list[Any]]]:
+    """The first sheet's rows, read in a process of its own (:mod:`jtcheck.batch.xlsx_child`) with a memory
+    ceiling, after the archive's unpacked size was checked; InputError naming the limit a workbook passes."""
+    import pickle
+    import subprocess
+    import sys
+
+    check_archive(data)
+    memory_mb = _parse_memory_mb()
+    script = Path(__file__).with_name("xlsx_child.py")
     try:
-        if not wb.worksheets:
-            raise InputError("file", "the workbook has no sheet")
-        ws = wb.worksheets[0]
-        ws.reset_dimensions()   # read every row, whatever the stored dimension says
-        rows: list[tuple[int, list[Any]]] = []
-        n = 0
-        for k, values in enumerate(ws.iter_rows(values_only=True), start=1):
-            cells = list(values)
-            if any(v is not None and _cell_text(v) != "" for v in cells):
-                n += 1
-                if n > MAX_ROWS + 1:
-                    raise _too_many_rows()
-                rows.append((k, cells))
-        return rows
-    finally:
-        wb.close()
+        done = subprocess.run([sys.executable, "-I", str(script), str(MAX_ROWS), str(MAX_COLUMNS), str(MAX_CELLS),
+                               str(memory_mb)], input=data, capture_output=True, timeout=PARSE_TIMEOUT_S, check=False)
+    except subprocess.TimeoutExpired:
+        raise InputError("file", f"reading the workbook took longer than {PARSE_TIMEOUT_S} s; save the list as CSV "
+                                 "or split it") from None
+    if done.returncode == 3 or (done.returncode != 0 and b"MemoryError" in done.stderr):
+        raise InputError("file", f"reading the workbook needs more than {memory_mb} MB of memory (the limit); "
+                                 "delete unused sheets and formatting, save the list as CSV or split it")
+    if done.returncode != 0 or not done.stdout:
+        tail = done.stderr.decode("utf-8", "replace").strip().splitlines()[-1:] or ["no answer"]
+        raise InputError("file", f"the workbook could not be read ({tail[0][:200]}); save the list as .xlsx or as CSV")
+    kind, payload = pickle.loads(done.stdout)   # noqa: S301 - our own child process, plain values only
+    if kind == "refused":
+        raise InputError("file", payload)
+    if kind == "unreadable":
+        raise InputError("file", f"not a readable XLSX workbook ({payload}); save the list as .xlsx or as CSV")
+    if sum(1 for _, cells in payload if any(v is not None and _cell_text(v) != "" for v in cells)) > MAX_ROWS + 1:
+        raise _too_many_rows()
+    return payload
 
 
 def _raw_rows(source, filename) -> tuple[list[tuple[int, list[Any]]], str, str | None, list[str], str]:
@@ -960,9 +994,9 @@ def bad_rows_file(result: ReadResult) -> bytes:
     (the ``problems`` column is ignored)."""
     out = io.StringIO(newline="")
     w = csv.writer(out, lineterminator="\r\n")
-    w.writerow([*result.header, PROBLEMS_HEADER])
+    w.writerow([formula_safe(h) for h in (*result.header, PROBLEMS_HEADER)])
     for bad in result.bad_rows:
-        w.writerow([*bad.cells, problems_text(bad.problems, bad.row)])
+        w.writerow([formula_safe(c) for c in (*bad.cells, problems_text(bad.problems, bad.row))])
     return out.getvalue().encode("utf-8-sig")
 
 

@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from jtcheck import __version__
+from jtcheck.batch.cells import FORMULA_START, formula_safe
 from jtcheck.batch.layout import ABSOLUTE_PRESSURE, COLUMNS, KIND_COLUMNS, PRESSURE, TEMPERATURE, Column
 from jtcheck.batch.reader import CaseSource, ReadResult, canonical_unit
 from jtcheck.notices import CAUTION
@@ -264,9 +265,6 @@ def write_results(screening: BatchScreening, cases: ReadResult | Sequence[BatchC
     return None
 
 
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-
-
 def _csv_cell(value: Any, kind: str) -> Any:
     if value is None:
         return ""
@@ -275,8 +273,8 @@ def _csv_cell(value: Any, kind: str) -> Any:
             text = f"{value:.{_DECIMALS[kind]}f}".rstrip("0").rstrip(".")
             return "0" if text in ("-0", "") else text
         return repr(value)
-    if isinstance(value, str) and value.startswith(_FORMULA_START):
-        return "'" + value     # never let a spreadsheet take a text cell for a formula
+    if isinstance(value, str):
+        return formula_safe(value)     # never let a spreadsheet take a text cell (or a piece of it) for a formula
     return value
 
 
@@ -330,7 +328,7 @@ def _xlsx_bytes(headers: Sequence[_Out], rows: Sequence[Sequence[Any]], screenin
     for row in rows:
         out = []
         for v, kind in zip(row, kinds, strict=True):
-            if isinstance(v, str) and v.startswith("="):
+            if isinstance(v, str) and v.startswith(FORMULA_START):
                 cell = WriteOnlyCell(ws, value=v)
                 cell.data_type = "s"           # text that looks like a formula stays text
                 out.append(cell)

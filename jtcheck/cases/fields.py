@@ -19,7 +19,8 @@ from jtcheck.errors import InputError
 
 # Allowed ranges, (low, high, low is inclusive) in SI units.
 PRESSURE_RANGE_PA = (0.0, 1.0e9, False)           # absolute; 1e9 Pa = 10 000 bar
-INLET_TEMPERATURE_RANGE_K = (0.0, 2000.0, False)  # the range of the heat-capacity data
+# the range of the heat-capacity data: 50 K is the lowest temperature any component's fit covers (letdown.throttle)
+INLET_TEMPERATURE_RANGE_K = (50.0, 2000.0, True)
 LIMIT_TEMPERATURE_RANGE_K = (0.0, 1000.0, False)  # MDMT and cold limits
 MARGIN_RANGE_K = (0.0, 100.0, True)
 MASS_FLOW_RANGE_KG_PER_S = (0.0, 1.0e5, False)

@@ -8,7 +8,7 @@ from pathlib import Path
 import click
 
 from jtcheck.cli.exits import EXIT_RECORD_INVALID, fail_input
-from jtcheck.cli.register import instance_dir, register_session
+from jtcheck.cli.register import existing_register_url, instance_dir, reading_session
 from jtcheck.errors import InputError
 
 
@@ -41,7 +41,8 @@ def report_json(report) -> str:
                         "intact": c.intact, "trusted": c.trusted, "covers_whole_file": c.covers_whole_file,
                         "modified_after": c.modified_after, "problems": list(c.problems)}
                        for c in sigs.signatures],
-        "register": {"found": report.register.found, "record_number": report.register.record_number,
+        "register": {"consulted": report.register.consulted, "found": report.register.found,
+                     "record_number": report.register.record_number,
                      "revision": report.register.revision, "status": report.register.status,
                      "message": report.register.message},
         "problems": [*sigs.problems, *report.problems]}, indent=2)
@@ -65,8 +66,12 @@ def print_report(file: str, report) -> None:
     for p in sigs.problems:   # document-level problems (those of one signature are printed under it)
         if not any(p.endswith(q) for q in shown):
             click.echo(f"problem    {p}")
-    click.echo("VALID: every signature intact and trusted, unchanged, and the stored record" if report.ok
-               else "NOT VALID")
+    if not report.ok:
+        click.echo("NOT VALID")
+    elif report.register.consulted:
+        click.echo("VALID: every signature intact and trusted, unchanged, and the stored record")
+    else:
+        click.echo("VALID SIGNATURES: every signature intact and trusted, unchanged (no register was consulted)")
 
 
 @record_group.command("verify")
@@ -76,13 +81,20 @@ def print_report(file: str, report) -> None:
 @click.option("--json", "as_json", is_flag=True, help="Print the report as JSON.")
 def record_verify(file, trust_root, as_json):
     """Check every signature of a record (who, role, when, intact, trusted, changed afterwards) and that the file
-    is the record stored in the register.  Exit 0 only when all of it holds; 6 otherwise."""
+    is the record stored in the register.  Exit 0 only when all of it holds; 6 otherwise.
+
+    The file is enough: without a register (no DATABASE_URL and no register in the instance folder) the
+    signatures alone are checked and the report says so; a register is never created by this command."""
     from jtcheck.reports.issue import verify_against_register
 
     pdf = Path(file).read_bytes()
     roots = trust_roots(trust_root)
-    with register_session() as session:
-        report = verify_against_register(session, pdf, roots)
+    url, why_none = existing_register_url()
+    if url is None:
+        report = verify_against_register(None, pdf, roots, no_register=why_none)
+    else:
+        with reading_session(url) as session:
+            report = verify_against_register(session, pdf, roots)
     if as_json:
         click.echo(report_json(report))
     else:

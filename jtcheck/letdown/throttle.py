@@ -27,6 +27,11 @@ from jtcheck.thermo.kernels.letdown_batch import letdown_batch
 CO2_TRIPLE_T_K = 216.592
 CO2_TRIPLE_P_PA = 0.51795e6
 
+#: Lowest inlet temperature a letdown accepts [K]: the lowest temperature covered by the heat-capacity fits of the
+#: component library (``cp_tmin_k`` in ``thermo/data/components.csv``); below it the models are not valid (and
+#: near 0 K the flash divides by zero).
+T_IN_MIN_K = 50.0
+
 #: Batches at least this large compute the fluid's phase envelope first to skip needless stability tests.
 BATCH_ENVELOPE_MIN = 200
 
@@ -60,6 +65,9 @@ def check_letdown_inputs(p_in, t_in, p_out):
                                   f"{p_in_b.ravel()[k]:g} Pa; a letdown needs p_out <= p_in")
     if np.any(t_in_b > 2000.0):
         raise InputError("t_in", "inlet temperature must be below 2000 K (the range of the heat-capacity data)")
+    if np.any(t_in_b < T_IN_MIN_K):
+        raise InputError("t_in", f"inlet temperature must be at least {T_IN_MIN_K:g} K (the lowest temperature of "
+                                 f"the heat-capacity data), got {float(t_in_b.min()):g} K")
     return p_in_b, t_in_b, p_out_b
 
 

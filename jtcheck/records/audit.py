@@ -41,3 +41,34 @@ def audit_trail(session: Session, user: User, entity: str, entity_id: int) -> li
     stmt = (select(AuditEntry).where(AuditEntry.entity == entity, AuditEntry.entity_id == entity_id)
             .order_by(AuditEntry.id))
     return list(session.scalars(stmt))
+
+
+def changes_since(session: Session, entity: str, entity_id: int, edits: int) -> list[AuditEntry]:
+    """The audit entries of the last ``edits`` saves of one record, oldest first (what changed since a version).
+
+    A save is one transaction: its entries are written by one user within a moment of each other, so the
+    entries are grouped by user and by gaps of less than a second.
+    """
+    if edits <= 0:
+        return []
+    stmt = (select(AuditEntry).where(AuditEntry.entity == entity, AuditEntry.entity_id == entity_id,
+                                     AuditEntry.action == "update").order_by(AuditEntry.id.desc()).limit(200))
+    out: list[AuditEntry] = []
+    groups = 0
+    last: AuditEntry | None = None
+    for entry in session.scalars(stmt):
+        if last is None or entry.user_id != last.user_id or (last.at - entry.at).total_seconds() > 1.0:
+            groups += 1
+            if groups > edits:
+                break
+        out.append(entry)
+        last = entry
+    return out[::-1]
+
+
+def changes_text(entries: list[AuditEntry]) -> str:
+    """The fields of ``entries`` with who changed them, in plain words (for a 409 answer)."""
+    seen: dict[str, str] = {}
+    for e in entries:
+        seen.setdefault(str(e.field), e.user.name if e.user is not None else "the system")
+    return ", ".join(f"{field} (by {who})" for field, who in seen.items())

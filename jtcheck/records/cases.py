@@ -39,6 +39,7 @@ from jtcheck.records.models import (
     User,
 )
 from jtcheck.records.transactions import lock_case_row, transaction
+from jtcheck.records.versions import check_version
 from jtcheck.records.workflow import current_revision, open_revision
 
 #: ``list_cases(outcome=NOT_COMPUTED)`` lists cases that have no stored result.
@@ -131,8 +132,7 @@ def update_case(session: Session, user: User, case_id: int, changes: Mapping[str
             case = session.get(Case, case_id, populate_existing=True)
             if case is None:
                 raise NotFound("case", case_id)
-            if expected_version is not None and case.version != expected_version:
-                raise ConcurrentEditError("case", case_id, expected_version, case.version)
+            check_version(session, "case", case, expected_version)
             revision = current_revision(session, case.id)
             if revision is not None and RevisionStatus(revision.status).under_review:
                 raise UnderReview("edit case inputs", revision.label, RevisionStatus(revision.status).value)

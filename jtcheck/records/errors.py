@@ -61,16 +61,18 @@ class ConcurrentEditError(JtcheckError):
     """
 
     def __init__(self, entity: str, entity_id: int, expected_version: int | None = None,
-                 current_version: int | None = None):
+                 current_version: int | None = None, changed: str = ""):
         self.entity = entity
         self.entity_id = entity_id
         self.expected_version = expected_version
         self.current_version = current_version
+        self.changed = changed
         versions = ""
         if expected_version is not None:
             versions = f" (you edited version {expected_version}"
             versions += f", stored is version {current_version})" if current_version is not None else ")"
-        super().__init__(f"{entity} {entity_id} was changed by someone else since you opened it{versions}; "
+        what = f"; changed since: {changed}" if changed else ""
+        super().__init__(f"{entity} {entity_id} was changed by someone else since you opened it{versions}{what}; "
                          "reload it and apply your changes again")
 
 

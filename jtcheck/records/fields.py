@@ -21,6 +21,10 @@ MAX_LONG_TEXT = 50_000
 MAX_UNIT_TEXT = 20
 
 
+#: Largest record id (the databases' 32-bit integer columns).
+MAX_ID = 2**31 - 1
+
+
 def parse_text(key: str, value: Any, label: str, max_len: int, *, required: bool = False,
                single_line: bool = False) -> str:
     """Text of at most ``max_len`` characters (None is empty text); stripped if required or single-line."""
@@ -35,6 +39,8 @@ def parse_text(key: str, value: Any, label: str, max_len: int, *, required: bool
         raise InputError(key, f"{label} is {len(text)} characters long; at most {max_len} are allowed")
     if single_line and any(ord(ch) < 32 or ord(ch) == 127 for ch in text):
         raise InputError(key, f"{label} must be one line of text without control characters")
+    if any((ord(ch) < 32 and ch not in "\t\n\r") or ord(ch) == 127 for ch in text):
+        raise InputError(key, f"{label} must be text without control characters (tabs and line breaks are allowed)")
     return text
 
 
@@ -44,6 +50,8 @@ def parse_id(key: str, value: Any, label: str) -> int:
         raise InputError(key, f"a {label} is required (the id of an existing {label})")
     if isinstance(value, bool) or not isinstance(value, numbers.Integral):
         raise InputError(key, f"{label} must be the integer id of an existing record, got {value!r}")
+    if not 1 <= int(value) <= MAX_ID:
+        raise InputError(key, f"there is no {label} with id {value!r}; ids run from 1 to {MAX_ID}")
     return int(value)
 
 

@@ -6,14 +6,16 @@ from typing import Any
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck.errors import InputError
 from jtcheck.records import audit
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.fields import MAX_LONG_TEXT, MAX_NAME, parse_text, refuse_unknown_keys
 from jtcheck.records.guard import ALL_ROLES, EDIT_ROLES, require
 from jtcheck.records.models import FluidRecord, KijMode, User
 from jtcheck.records.transactions import transaction
+from jtcheck.records.versions import check_version
 from jtcheck.thermo.fluid import Fluid
 
 
@@ -73,14 +75,28 @@ def _composition_json(fluid: Fluid) -> list[list[Any]]:
 _FLUID_FIELDS = ("name", "composition", "eos", "kij_mode", "notes")
 
 
-def update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[str, Any]) -> FluidRecord:
-    """Change a fluid; one audit entry per changed field.  Results already stored keep the fluid they used."""
+def update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[str, Any],
+                 expected_version: int | None = None) -> FluidRecord:
+    """Change a fluid; one audit entry per changed field.  Results already stored keep the fluid they used.
+
+    With ``expected_version`` (the version the edit started from) a fluid saved by someone else meanwhile is
+    not overwritten: :class:`~jtcheck.records.errors.ConcurrentEditError`, nothing changed.
+    """
     require(user, EDIT_ROLES, "edit fluids")
+    try:
+        return _update_fluid(session, user, fluid_id, changes, expected_version)
+    except StaleDataError:
+        raise ConcurrentEditError("fluid", fluid_id, expected_version) from None
+
+
+def _update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[str, Any],
+                  expected_version: int | None) -> FluidRecord:
     with transaction(session):
         refuse_unknown_keys(changes, _FLUID_FIELDS, "fluid")
-        record = session.get(FluidRecord, fluid_id)
+        record = session.get(FluidRecord, fluid_id, populate_existing=True)
         if record is None:
             raise NotFound("fluid", fluid_id)
+        check_version(session, "fluid", record, expected_version)
         new: dict[str, Any] = {}
         if "name" in changes:
             new["name"] = parse_text("name", changes["name"], "fluid name", MAX_NAME, required=True, single_line=True)

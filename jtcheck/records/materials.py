@@ -6,11 +6,12 @@ from typing import Any
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck.cases.fields import LIMIT_TEMPERATURE_RANGE_K, check_number
 from jtcheck.errors import InputError
 from jtcheck.records import audit
-from jtcheck.records.errors import NotFound, PermissionDenied
+from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
 from jtcheck.records.fields import (
     MAX_LONG_TEXT,
     MAX_NAME,
@@ -20,6 +21,7 @@ from jtcheck.records.fields import (
 from jtcheck.records.guard import ADMIN_ROLES, ALL_ROLES, require
 from jtcheck.records.models import Material, User
 from jtcheck.records.transactions import transaction
+from jtcheck.records.versions import check_version
 from jtcheck.screening.mdmt import MaterialColdSpec, material_mdmt, parse_code, parse_curve
 
 #: The cold-limit fields a material carries (jtcheck.screening.mdmt), SI, with their words and ranges.
@@ -101,18 +103,29 @@ def create_material(session: Session, user: User, *, name: str, min_metal_temper
     return material
 
 
-def update_material(session: Session, user: User, material_id: int, changes: Mapping[str, Any]) -> Material:
+def update_material(session: Session, user: User, material_id: int, changes: Mapping[str, Any],
+                    expected_version: int | None = None) -> Material:
     """Change a material (admins only; entries marked not editable are refused).
 
     Cases that copied the old limit keep it until they are edited; their stored results keep the
-    limit they used.
+    limit they used.  With ``expected_version`` a material saved by someone else meanwhile is not
+    overwritten (:class:`~jtcheck.records.errors.ConcurrentEditError`).
     """
     require(user, ADMIN_ROLES, "edit materials")
+    try:
+        return _update_material(session, user, material_id, changes, expected_version)
+    except StaleDataError:
+        raise ConcurrentEditError("material", material_id, expected_version) from None
+
+
+def _update_material(session: Session, user: User, material_id: int, changes: Mapping[str, Any],
+                     expected_version: int | None) -> Material:
     with transaction(session):
         refuse_unknown_keys(changes, _MATERIAL_FIELDS, "material")
-        material = session.get(Material, material_id)
+        material = session.get(Material, material_id, populate_existing=True)
         if material is None:
             raise NotFound("material", material_id)
+        check_version(session, "material", material, expected_version)
         if not material.editable:
             raise PermissionDenied("edit materials", f"{material.name!r} is locked (not editable)")
         values = _material_values(changes)

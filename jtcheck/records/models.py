@@ -155,6 +155,11 @@ class User(Base):
     api_token_hash: Mapped[str | None] = mapped_column(String(255), unique=True)
     active: Mapped[bool] = mapped_column(Boolean, default=True)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    #: every session carries the generation it was signed in with; raising it ends them all (sign-out, password)
+    session_generation: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     def __repr__(self) -> str:
         return f"User(id={self.id!r}, email={self.email!r}, role={self.role!s})"
@@ -172,6 +177,9 @@ class Site(Base):
     default_margin_k: Mapped[float | None] = mapped_column(Float)
     default_margin_basis: Mapped[str] = mapped_column(Text, default="", server_default="")
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     units: Mapped[list[PlantUnit]] = relationship(back_populates="site", order_by="PlantUnit.name")
 
@@ -187,6 +195,9 @@ class PlantUnit(Base):
     name: Mapped[str] = mapped_column(String(200))
     description: Mapped[str] = mapped_column(Text, default="")
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     site: Mapped[Site] = relationship(back_populates="units")
 
@@ -208,6 +219,9 @@ class FluidRecord(Base):
     updated_by_id: Mapped[int] = mapped_column(ForeignKey("users.id"))
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     created_by: Mapped[User] = relationship(foreign_keys=[created_by_id])
     updated_by: Mapped[User] = relationship(foreign_keys=[updated_by_id])
@@ -258,6 +272,9 @@ class Material(Base):
     other_stress_pa: Mapped[float] = mapped_column(Float, default=0.0)
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow, onupdate=utcnow)
+    version: Mapped[int] = mapped_column(Integer, server_default="1")
+
+    __mapper_args__ = {"version_id_col": version}
 
     def cold_spec(self, typed_limit_k: float | None | EllipsisType = ...) -> MaterialColdSpec:
         """What the material carries for its cold limit (``typed_limit_k`` replaces the typed limit, e.g. the
@@ -667,6 +684,8 @@ class BatchJob(Base):
     reading: Mapped[dict[str, Any] | None] = mapped_column(JSON)
     message: Mapped[str] = mapped_column(Text, default="")
     runner: Mapped[str] = mapped_column(String(8), default="thread")
+    #: how often a worker took the job (a job whose worker died is requeued once, then marked failed).
+    attempts: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
 
     created_by: Mapped[User] = relationship()
 

@@ -74,7 +74,7 @@ from jtcheck.records.materials import (
 from jtcheck.records.mdmt_curves import curve_rows, curve_table, update_curve_point
 from jtcheck.records.results import get_result, latest_results, result_is_current
 from jtcheck.records.sites import create_site, create_unit, list_sites
-from jtcheck.records.users import create_user, get_user_by_email, list_users, update_user
+from jtcheck.records.users import create_user, end_sessions, get_user_by_email, list_users, update_user
 
 __all__ = [
     # guard
@@ -88,7 +88,7 @@ __all__ = [
     # case_inputs
     "HYDRATE_INHIBITORS", "CASE_FIELDS", "DISPLAY_UNIT_FIELDS", "case_values",
     # users
-    "create_user", "update_user", "get_user_by_email", "list_users",
+    "create_user", "update_user", "end_sessions", "get_user_by_email", "list_users",
     # sites
     "create_site", "create_unit", "list_sites",
     # fluids

@@ -6,14 +6,16 @@ from typing import Any
 
 from sqlalchemy import func, select
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.exc import StaleDataError
 
 from jtcheck.errors import InputError
 from jtcheck.records import audit
-from jtcheck.records.errors import NotFound, PermissionDenied
+from jtcheck.records.errors import ConcurrentEditError, NotFound, PermissionDenied
 from jtcheck.records.fields import MAX_NAME, parse_text, refuse_unknown_keys
 from jtcheck.records.guard import ADMIN_ROLES, ALL_ROLES, require
 from jtcheck.records.models import Role, User
 from jtcheck.records.transactions import transaction
+from jtcheck.records.versions import check_version
 
 
 def _email(value: Any) -> str:
@@ -62,19 +64,31 @@ _USER_FIELDS = ("email", "name", "role", "active", "password_hash", "api_token_h
 _SECRET_FIELDS = frozenset({"password_hash", "api_token_hash"})
 
 
-def update_user(session: Session, actor: User, user_id: int, changes: Mapping[str, Any]) -> User:
+def update_user(session: Session, actor: User, user_id: int, changes: Mapping[str, Any],
+                expected_version: int | None = None) -> User:
     """Change a user (admins; a user may change their own ``password_hash`` and ``api_token_hash``).
 
     Hashes are audited as "(changed)", never with their value.  The last active admin cannot be
-    demoted or deactivated.
+    demoted or deactivated.  A new password ends every session of the user and revokes their API token;
+    so does deactivating the account.  With ``expected_version`` a user saved by someone else meanwhile is
+    not overwritten (:class:`~jtcheck.records.errors.ConcurrentEditError`).
     """
+    try:
+        return _update_user(session, actor, user_id, changes, expected_version)
+    except StaleDataError:
+        raise ConcurrentEditError("user", user_id, expected_version) from None
+
+
+def _update_user(session: Session, actor: User, user_id: int, changes: Mapping[str, Any],
+                 expected_version: int | None) -> User:
     with transaction(session):
         refuse_unknown_keys(changes, _USER_FIELDS, "user")
         own_secrets = isinstance(actor, User) and actor.id == user_id and set(changes) <= _SECRET_FIELDS
         require(actor, ALL_ROLES if own_secrets else ADMIN_ROLES, "edit users")
-        user = session.get(User, user_id)
+        user = session.get(User, user_id, populate_existing=True)
         if user is None:
             raise NotFound("user", user_id)
+        check_version(session, "user", user, expected_version)
         new: dict[str, Any] = {}
         for key, value in changes.items():
             if key == "email":
@@ -104,14 +118,42 @@ def update_user(session: Session, actor: User, user_id: int, changes: Mapping[st
                 User.role == Role.ADMIN, User.active.is_(True), User.id != user.id))
             if not admins:
                 raise InputError("role" if "role" in new else "active", "at least one active admin must remain")
+        if ("password_hash" in new and new["password_hash"] != user.password_hash) or new.get("active") is False:
+            new.setdefault("api_token_hash", None)     # a new password (or a deactivation) ends the API token too
         for key, value in new.items():
             old = getattr(user, key)
             if old != value:
                 setattr(user, key, value)
                 if key in _SECRET_FIELDS:
-                    audit.add_entry(session, actor, "user", user.id, "update", key, "(hidden)", "(changed)")
+                    audit.add_entry(session, actor, "user", user.id, "update", key, "(hidden)",
+                                    "(changed)" if value is not None else "(revoked)")
                 else:
                     audit.add_entry(session, actor, "user", user.id, "update", key, old, value)
+                if key == "password_hash" or (key == "active" and not value):
+                    _next_generation(session, actor, user, "password changed" if key == "password_hash"
+                                     else "account deactivated")
+    return user
+
+
+def _next_generation(session: Session, actor: User | None, user: User, why: str) -> None:
+    user.session_generation = int(user.session_generation or 0) + 1
+    audit.add_entry(session, actor, "user", user.id, "end_sessions", "session_generation", None, why)
+
+
+def end_sessions(session: Session, actor: User, user_id: int) -> User:
+    """End every signed-in session of a user (sign-out ends them all; the user themself or an admin)."""
+    try:
+        with transaction(session):
+            require(actor, ALL_ROLES if isinstance(actor, User) and actor.id == user_id else ADMIN_ROLES,
+                    "end sessions")
+            user = session.get(User, user_id, populate_existing=True)
+            if user is None:
+                raise NotFound("user", user_id)
+            _next_generation(session, actor, user, "signed out")
+    except StaleDataError:      # saved meanwhile (another sign-out): that one ended the sessions too
+        session.rollback()
+        user = session.get(User, user_id, populate_existing=True)
+        assert user is not None
     return user
 
 

@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -62,6 +62,7 @@ from jtcheck.records.errors import (
 from jtcheck.records.fields import MAX_SHORT_TEXT, parse_id, parse_text
 from jtcheck.records.guard import ALL_ROLES, EDIT_ROLES, can_compute, require
 from jtcheck.records.models import (
+    AuditEntry,
     Case,
     CaseResult,
     CaseRevision,
@@ -349,17 +350,61 @@ def revision_steps(session: Session, user: User, case_id: int, label: str | None
                                 .order_by(ReviewStep.id)))
 
 
-def may_check(user: User | None, revision: CaseRevision) -> bool:
-    """True if ``user`` may check ``revision`` now (role, four-eyes rule and status)."""
+def may_check(user: User | None, revision: CaseRevision, authors: Mapping[int, list[str]] | None = None) -> bool:
+    """True if ``user`` may check ``revision`` now (role, four-eyes rule over preparer and ``authors``, status)."""
     return (can_compute(user) and Role(user.role) in CHECK_ROLES and user.id != revision.preparer_id
-            and _status(revision) is RevisionStatus.FOR_CHECK)
+            and user.id not in (authors or {}) and _status(revision) is RevisionStatus.FOR_CHECK)
 
 
-def may_approve(user: User | None, revision: CaseRevision) -> bool:
-    """True if ``user`` may approve ``revision`` now (role, four-eyes rule and status)."""
+def may_approve(user: User | None, revision: CaseRevision, authors: Mapping[int, list[str]] | None = None) -> bool:
+    """True if ``user`` may approve ``revision`` now (role, four-eyes rule over preparer, checker and ``authors``,
+    status)."""
     return (can_compute(user) and Role(user.role) in APPROVE_ROLES
-            and user.id not in (revision.preparer_id, revision.checker_id)
+            and user.id not in (revision.preparer_id, revision.checker_id) and user.id not in (authors or {})
             and _status(revision) is RevisionStatus.FOR_APPROVAL)
+
+
+#: Audit actions that write a case's or a fluid's inputs.
+_AUTHORING = ("create", "update")
+
+
+def input_authors(session: Session, revision: CaseRevision) -> dict[int, list[str]]:
+    """Who wrote the inputs a revision records: user id -> the inputs whose value as submitted they wrote.
+
+    From the audit log up to the submission (up to now for a draft): for each field of the case and of its
+    fluid, the user of the last change; a field never changed since the record was created counts for its
+    creator (``"(created)"``).  The four-eyes rule keeps these people from checking or approving it.
+    """
+    case = session.get(Case, revision.case_id)
+    if case is None:
+        return {}
+    until = revision.submitted_at or utcnow()
+    out: dict[int, list[str]] = {}
+    for entity, entity_id in (("case", case.id), ("fluid", case.fluid_id)):
+        entries = session.scalars(select(AuditEntry).where(
+            AuditEntry.entity == entity, AuditEntry.entity_id == entity_id, AuditEntry.action.in_(_AUTHORING),
+            AuditEntry.at <= until).order_by(AuditEntry.id))
+        creator: int | None = None
+        last: dict[str, int | None] = {}
+        for e in entries:
+            if e.action == "create":
+                creator, last = e.user_id, {}
+            elif e.field:
+                last[e.field] = e.user_id
+        if creator is not None:
+            out.setdefault(creator, []).append(f"{entity} (created)")
+        for field, uid in last.items():
+            if uid is not None:
+                out.setdefault(uid, []).append(f"{entity} {field}")
+    return out
+
+
+def _refuse_authors(session: Session, user: User, revision: CaseRevision, action: str, role: str) -> None:
+    fields = input_authors(session, revision).get(user.id)
+    if fields:
+        shown = ", ".join(fields[:6]) + (f" and {len(fields) - 6} more" if len(fields) > 6 else "")
+        raise FourEyesError(action, f"the {role} must not be anyone who wrote the inputs of revision "
+                                    f"{revision.label}; you wrote: {shown} (see the audit trail)")
 
 
 # -- opening revisions (also used by cases.add_case and cases.update_case) ------------------------------
@@ -467,6 +512,7 @@ def check(session: Session, user: User, case_id: int, sign: SignFn, comment: str
         revision = _expect(_current(session, case.id), {RevisionStatus.FOR_CHECK}, action)
         if revision.preparer_id == user.id:
             raise FourEyesError(action, f"the checker must not be the preparer of revision {revision.label}")
+        _refuse_authors(session, user, revision, action, "checker")
         pdf = _signed(sign, _request(revision, user, CHECKER, json.loads(revision.snapshot or "{}"), comment,
                                      revision.letter))
         planned = (revision.id, revision.version)
@@ -526,6 +572,7 @@ def approve(session: Session, user: User, case_id: int, sign: SignFn, comment: s
             raise FourEyesError(action, f"the approver must not be the preparer of revision {revision.label}")
         if revision.checker_id == user.id:
             raise FourEyesError(action, f"the approver must not be the checker of revision {revision.label}")
+        _refuse_authors(session, user, revision, action, "approver")
         number = _next_number(session, case.id)
         pdf = _signed(sign, _request(revision, user, APPROVER, json.loads(revision.snapshot or "{}"), comment,
                                      str(number)))

@@ -63,12 +63,15 @@ class RegisterMatch:
     case_id: int | None = None
     snapshot_sha256: str = ""
     message: str = ""
+    #: False when no register was there to ask (a file checked on its own): the verdict rests on the signatures.
+    consulted: bool = True
 
 
 @dataclass(frozen=True)
 class FullVerification:
     """Signatures plus the register: ``ok`` only when every signature is intact and trusted, nothing changed
-    after signing, and the file is the stored record."""
+    after signing, and the file is the stored record (when a register was consulted; without one the verdict
+    rests on the signatures alone, and :attr:`RegisterMatch.message` says so)."""
 
     signatures: RecordVerification
     register: RegisterMatch
@@ -76,7 +79,8 @@ class FullVerification:
 
     @property
     def ok(self) -> bool:
-        return self.signatures.ok and self.register.found and not self.problems
+        return (self.signatures.ok and (self.register.found or not self.register.consulted)
+                and not self.problems)
 
 
 def register_match(session: Session, pdf: bytes) -> RegisterMatch:
@@ -93,12 +97,18 @@ def register_match(session: Session, pdf: bytes) -> RegisterMatch:
                          f"matches the stored record {record_number(rev.case_id)} revision {rev.label} ({rev.status})")
 
 
-def verify_against_register(session: Session | None, pdf: bytes, trust_roots: list[bytes]) -> FullVerification:
-    """Check the signatures against ``trust_roots`` and the file against the register (when a session is given)."""
+def verify_against_register(session: Session | None, pdf: bytes, trust_roots: list[bytes],
+                            no_register: str = "") -> FullVerification:
+    """Check the signatures against ``trust_roots`` and the file against the register (when a session is given).
+
+    Without a session the file is checked on its own: ``no_register`` (else a default sentence) says why no
+    register was consulted, and the verdict rests on the signatures.
+    """
     sigs = verify_record(pdf, trust_roots)
     if session is None:
-        reg = RegisterMatch(False, message="no register was consulted: the stored hash was not checked")
+        reg = RegisterMatch(False, consulted=False, message=no_register or (
+            "no register was consulted: the signatures alone were checked, not that the file is a stored record"))
     else:
         reg = register_match(session, pdf)
-    problems = () if reg.found else (reg.message,)
+    problems = () if reg.found or not reg.consulted else (reg.message,)
     return FullVerification(sigs, reg, problems)

@@ -103,6 +103,9 @@ def normalise_composition(composition: Mapping[str, float] | Iterable[tuple[str,
             raise InputError(field, f"{label!r}: amount {amount!r} is not a finite number")
         if value < 0.0:
             raise InputError(field, f"{label!r}: amount {value:g} is negative; amounts must be >= 0")
+        if value > 100.0 * (1.0 + SUM_TOLERANCE):
+            raise InputError(field, f"{label!r}: amount {value:g} is above 100; amounts are mole fractions (summing "
+                                    "to 1) or mole percent (summing to 100)")
         comp = find_component(label, field=field)
         if comp.id in seen:
             raise InputError(field, f"{label!r} and {seen[comp.id]!r} are the same component ({comp.name}); "

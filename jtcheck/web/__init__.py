@@ -16,10 +16,11 @@ of :func:`create_app` overrides them (tests).
 """
 from __future__ import annotations
 
+import hashlib
 from pathlib import Path
 from typing import Any
 
-from flask import Flask, current_app
+from flask import Flask, current_app, request
 from flask_limiter import Limiter
 from flask_limiter.util import get_remote_address
 from flask_wtf.csrf import CSRFProtect
@@ -30,7 +31,7 @@ from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
 from jtcheck.reports.numbers import fmt_number
-from jtcheck.web import database, errors, security
+from jtcheck.web import database, errors, limits, security
 from jtcheck.web.batches import views as batch_views
 from jtcheck.web.cases.diagram import DiagramCache
 from jtcheck.web.cases.results import units_of
@@ -52,6 +53,20 @@ def templates_path() -> Path:
 
 def _login_limit() -> str:
     return current_app.config["LOGIN_RATE_LIMIT"]
+
+
+def _account_limit() -> str:
+    return current_app.config["LOGIN_ACCOUNT_RATE_LIMIT"]
+
+
+def _account_key() -> str:
+    """The per-account bucket of the sign-in throttle: a digest of the e-mail typed (never the text itself)."""
+    email = request.form.get("email", "").strip().lower()[:254]
+    return "login-account:" + hashlib.sha256(email.encode("utf-8", "replace")).hexdigest()
+
+
+def _sign_in_failed(response) -> bool:
+    return response.status_code == 401
 
 
 def create_app(config: dict[str, Any] | None = None) -> Flask:
@@ -85,6 +100,8 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     security.init_app(app)          # first: an anonymous request goes to sign-in before anything else
     record_views.init_app(app)      # the upload limit of the verify page, before the CSRF check reads the form
     batch_views.init_app(app)       # the same for the batch upload
+    limits.init_app(app)            # ids in URLs within range, no control characters in queries and forms (after
+                                    # the upload limits: it reads the form)
     csrf = CSRFProtect(app)
     limiter = Limiter(get_remote_address, app=app, headers_enabled=False)
     errors.register(app)
@@ -99,9 +116,14 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     for bp in (accounts.bp, cases.bp, record_views.bp, batch_views.bp, fluids.bp, materials.bp, api.bp, health.bp):
         app.register_blueprint(bp)
     csrf.exempt(api.bp)             # token-authenticated only: no cookie, so no cross-site forgery
-    app.view_functions["auth.login"] = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])
+    # sign-in: a limit per address, and one per account counting failed attempts only (many addresses, one account)
+    login = limiter.limit(_login_limit, methods=["POST"])(app.view_functions["auth.login"])
+    login = limiter.limit(_account_limit, methods=["POST"], key_func=_account_key, deduct_when=_sign_in_failed)(login)
+    app.view_functions["auth.login"] = login
     app.extensions["jtcheck_limiter"] = limiter
     app.extensions["jtcheck_diagrams"] = DiagramCache(app.config["DIAGRAM_CACHE_SIZE"])
+    if app.config.get("BATCH_RECOVER_ON_START", True):
+        batch_views.recover_at_start(app)
 
     app.jinja_env.filters["num"] = fmt_number
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,

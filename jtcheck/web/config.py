@@ -45,7 +45,8 @@ DEFAULTS: dict[str, Any] = {
     # rate limits (Flask-Limiter notation)
     "RATELIMIT_ENABLED": True,
     "RATELIMIT_STORAGE_URI": "memory://",
-    "LOGIN_RATE_LIMIT": "10 per minute",
+    "LOGIN_RATE_LIMIT": "10 per minute",            # per client address
+    "LOGIN_ACCOUNT_RATE_LIMIT": "20 per hour",      # failed sign-ins per account (e-mail typed), from any address
     # argon2id parameters (argon2-cffi defaults, RFC 9106 second recommendation)
     "PASSWORD_HASH_TIME_COST": 3,
     "PASSWORD_HASH_MEMORY_COST": 65536,   # [KiB]

@@ -37,19 +37,25 @@ def sign_in(user: User) -> None:
     session.clear()
     session["uid"] = user.id
     session["pw"] = session_fingerprint(user.password_hash)
+    session["gen"] = int(user.session_generation or 0)
     session.permanent = True
 
 
 def sign_out() -> None:
+    """End the signed-in user's sessions, this one and every other (the user's session generation moves on)."""
+    user = current_user()
+    if user is not None:
+        service.end_sessions(db_session(), user, user.id)
     session.clear()
 
 
 def _session_user() -> User | None:
     uid = session.get("uid")
-    if not isinstance(uid, int):
+    if not isinstance(uid, int) or isinstance(uid, bool):
         return None
     user = db_session().get(User, uid)
-    if user is None or not user.active or session.get("pw") != session_fingerprint(user.password_hash):
+    if (user is None or not user.active or session.get("pw") != session_fingerprint(user.password_hash)
+            or session.get("gen") != int(user.session_generation or 0)):
         session.clear()
         return None
     return user

@@ -287,7 +287,62 @@ def test_a_running_job_without_a_sign_of_life_is_marked_failed(engine, session, 
     session.refresh(job)
     assert not jobs.expire_if_stale(session, job, stale_after_s=2 * 3600)
     assert jobs.expire_if_stale(session, job, stale_after_s=600)
-    assert job.status is BatchStatus.FAILED and "no sign of life for 10 minutes" in job.message
+    assert job.status is BatchStatus.FAILED and "no sign of life for 600 s" in job.message
+
+
+def _orphan(session, job_id: int, attempts: int) -> None:
+    """Make job ``job_id`` look like the work of a runner that died an hour ago."""
+    old = jobs.utcnow() - timedelta(hours=1)
+    session.execute(update(BatchJob).where(BatchJob.id == job_id).values(status="running", heartbeat_at=old,
+                                                                         attempts=attempts))
+    session.commit()
+
+
+def test_an_orphaned_job_is_requeued_once_then_marked_failed_and_can_be_restarted(engine, session, engineer, config):
+    job = jobs.create_job(session, engineer, "letdowns.csv", TEMPLATE, {})
+    _orphan(session, job.id, attempts=1)
+    found = jobs.recover_orphans(engine, config, start=False)
+    assert found == {"requeued": [job.id], "failed": []}
+    again = _load(engine, job.id)
+    assert again.status is BatchStatus.QUEUED and "requeued: the worker stopped (attempt 2 of 2)" in again.message
+    assert jobs.recover_orphans(engine, config, start=False) == {"requeued": [], "failed": []}   # fresh beat
+    _orphan(session, job.id, attempts=2)
+    assert jobs.recover_orphans(engine, config, start=False) == {"requeued": [], "failed": [job.id]}
+    failed = _load(engine, job.id)
+    assert failed.status is BatchStatus.FAILED and "started 2 times" in failed.message
+    assert "Restart it from its page" in failed.message
+    restarted = jobs.restart_job(session, engineer, job.id)
+    assert restarted.status is BatchStatus.QUEUED and restarted.attempts == 0
+    _run_thread(config, job.id)
+    done = _load(engine, job.id)
+    assert done.status is BatchStatus.DONE and done.attempts == 1
+
+
+def test_a_requeued_job_is_started_again_and_finishes(engine, session, engineer, config):
+    job = jobs.create_job(session, engineer, "letdowns.csv", TEMPLATE, {})
+    _orphan(session, job.id, attempts=1)
+    assert jobs.recover_orphans(engine, config)["requeued"] == [job.id]      # start=True: a thread takes it
+    deadline = time.monotonic() + TIMEOUT_S
+    while _load(engine, job.id).status is not BatchStatus.DONE and time.monotonic() < deadline:
+        time.sleep(0.2)
+    assert _load(engine, job.id).status is BatchStatus.DONE
+
+
+def test_the_worker_beats_while_one_row_takes_long(engine, session, engineer, config, monkeypatch):
+    beats = []
+    real = screening_batch.screen_batch
+
+    def slow(cases, *, compare_models=True, progress=None):
+        first = _load(engine, job.id).heartbeat_at
+        time.sleep(0.5)              # one long row: no progress written meanwhile
+        beats.append((first, _load(engine, job.id).heartbeat_at))
+        return real(cases, compare_models=compare_models, progress=progress)
+
+    monkeypatch.setattr(jobs, "HEARTBEAT_S", 0.1)
+    job = jobs.create_job(session, engineer, "letdowns.csv", TEMPLATE, {})
+    _run_thread(config, job.id, screen=slow)
+    (first, later), = beats
+    assert later > first
 
 
 # -- running on the RQ queue ----------------------------------------------------------------------------------

@@ -77,7 +77,8 @@ def test_bad_field_is_named_and_nothing_is_stored(session, engineer, case_data, 
 
 @pytest.mark.parametrize(("key", "value", "allowed"), [
     ("inlet_pressure_pa", 0.0, "0 < value <= 1e+09 Pa"),
-    ("inlet_temperature_k", 2500.0, "0 < value <= 2000 K"),
+    ("inlet_temperature_k", 2500.0, "50 <= value <= 2000 K"),
+    ("inlet_temperature_k", 1.0, "50 <= value <= 2000 K"),
     ("margin_k", -1.0, "0 <= value <= 100 K"),
     ("outlet_pressure_pa", 71 * BAR, "outlet <= inlet pressure"),
     ("kind", "gate valve", "relief_valve"),

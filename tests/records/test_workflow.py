@@ -536,3 +536,27 @@ def test_revision_status_enum():
                                                  "superseded", "voided"]
     assert RevisionStatus.SUPERSEDED.issued and not RevisionStatus.CHECKED.issued
     assert RevisionStatus.CHECKED.under_review and not RevisionStatus.DRAFT.under_review
+
+
+# -- four eyes over authorship ------------------------------------------------------------------------------------
+def test_who_changed_the_inputs_may_neither_check_nor_approve(session, users, case_data, sign):
+    """An admin edits the case's cold limit, an engineer submits it: the admin may not check it (nor approve it);
+    another checker may, and the refusal names what the admin wrote."""
+    admin, engineer = users[Role.ADMIN], users[Role.ENGINEER]
+    case = service.create_case(session, engineer, case_data())
+    service.update_case(session, admin, case.id, {"cold_limit_k": 230.0})
+    service.compute_case(session, engineer, case.id)
+    workflow.submit_for_check(session, engineer, case.id, sign)
+    before = _state(session, case.id)
+    with pytest.raises(FourEyesError, match=r"anyone who wrote the inputs of revision A; you wrote: case cold_limit_k"):
+        workflow.check(session, admin, case.id, sign)
+    assert _state(session, case.id) == before
+    revision = workflow.current_revision(session, case.id)
+    authors = workflow.input_authors(session, revision)
+    assert "case cold_limit_k" in authors[admin.id] and "case (created)" in authors[engineer.id]
+    assert not workflow.may_check(admin, revision, authors)
+    workflow.check(session, users[Role.CHECKER], case.id, sign)
+    workflow.send_for_approval(session, users[Role.CHECKER], case.id)
+    with pytest.raises(FourEyesError, match="the approver must not be anyone who wrote the inputs"):
+        workflow.approve(session, admin, case.id, sign)
+    assert str(workflow.approve(session, users[Role.APPROVER], case.id, sign).status) == "approved"

@@ -167,7 +167,7 @@ def test_case_api_bad_field_is_named_and_nothing_is_stored(app, api, world, fiel
 def test_case_api_bad_patch_changes_nothing(app, api, world, field, change):
     case_id = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world)).get_json()["id"]
     audit = count(app, AuditEntry)
-    resp = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case_id}", json=change)
+    resp = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case_id}", json={**change, "version": 1})
     assert resp.status_code == 422, resp.get_json()
     assert resp.get_json()["error"]["field"] == field
     assert count(app, AuditEntry) == audit
@@ -204,7 +204,8 @@ def test_fluid_crud_and_conflicts(app, api):
     assert dup.status_code == 409 and dup.get_json()["error"]["field"] == "name"
     bad = api(Role.ENGINEER, "POST", "/api/v1/fluids", json={"name": unique("x"), "composition": {"methane": 2}})
     assert bad.status_code == 422 and bad.get_json()["error"]["field"] == "composition"
-    patched = api(Role.ENGINEER, "PATCH", f"/api/v1/fluids/{fluid['id']}", json={"eos": "SRK", "kij": "zero"})
+    patched = api(Role.ENGINEER, "PATCH", f"/api/v1/fluids/{fluid['id']}", json={"eos": "SRK", "kij": "zero",
+                                                                           "version": fluid["version"]})
     assert patched.status_code == 200 and patched.get_json()["eos"] == "SRK" and patched.get_json()["kij"] == "zero"
     assert api(Role.CHECKER, "GET", f"/api/v1/fluids/{fluid['id']}").get_json()["name"] == name
     assert name in [f["name"] for f in api(Role.CHECKER, "GET", "/api/v1/fluids").get_json()["fluids"]]
@@ -298,3 +299,19 @@ def test_api_case_in_psig_round_trips(api, world):
     assert case["display"]["inlet_pressure"]["value"] == pytest.approx(1000.0, rel=1e-12)
     assert case["display"]["outlet_pressure"] == {"value": pytest.approx(150.0, rel=1e-12), "unit": "psig"}
     assert case["display"]["inlet_temperature"] == {"value": pytest.approx(100.0, rel=1e-12), "unit": "degF"}
+
+
+def test_results_and_lists_come_a_page_at_a_time(api, world):
+    case_id = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world)).get_json()["id"]
+    ids = [api(Role.ENGINEER, "POST", f"/api/v1/cases/{case_id}/compute").get_json()["id"] for _ in range(3)]
+    first = api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results?limit=2").get_json()
+    assert [r["id"] for r in first["results"]] == ids[::-1][:2]           # newest first
+    assert (first["count"], first["total"], first["next_offset"]) == (2, 3, 2)
+    last = api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results?limit=2&offset=2").get_json()
+    assert [r["id"] for r in last["results"]] == [ids[0]] and last["next_offset"] is None
+    assert api(Role.CHECKER, "GET", f"/api/v1/cases/{case_id}/results").get_json()["limit"] == 20
+    for bad in ("limit=0", "limit=1001", "offset=-1", "offset=2147483648"):
+        resp = api(Role.CHECKER, "GET", f"/api/v1/fluids?{bad}")
+        assert resp.status_code == 422 and resp.get_json()["error"]["field"] == bad.split("=")[0]
+    fluids = api(Role.CHECKER, "GET", "/api/v1/fluids?limit=1").get_json()
+    assert fluids["count"] == 1 and fluids["total"] >= 1 and fluids["limit"] == 1

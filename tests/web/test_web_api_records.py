@@ -289,7 +289,8 @@ def test_reject_needs_a_reason_and_sends_the_revision_back_to_draft(app, api, wo
     assert rejected["steps"][-1]["action"] == "reject" and rejected["steps"][-1]["comment"] == "wrong fluid"
     assert api(C, "GET", f"/api/v1/cases/{case_id}/revisions/A/record.pdf").status_code == 404
     # a draft again: the case may be edited
-    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "65 barg"})
+    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "65 barg",
+                                                          "version": case_version(api, case_id)})
     assert resp.status_code == 200 and resp.get_json()["current_revision"]["label"] == "A"
 
 
@@ -364,11 +365,16 @@ def test_missing_cases_and_revisions_are_404(api, issued):
         assert api(ADMIN, "POST", f"/api/v1/cases/999999/{name}").status_code == 404
 
 
+def case_version(api, case_id: int) -> int:
+    return api(E, "GET", f"/api/v1/cases/{case_id}").get_json()["version"]
+
+
 def test_a_case_under_review_cannot_be_edited(app, api, world):
     case_id = new_case(api, world)
     step(api, E, case_id, "submit")
     before = stored(app, case_id)
-    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "60 barg"})
+    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "60 barg",
+                                                          "version": case_version(api, case_id)})
     assert resp.status_code == 403
     message = resp.get_json()["error"]["message"]
     assert "revision A of this case is 'for check'" in message and "inputs are frozen" in message
@@ -385,7 +391,8 @@ def test_editing_an_issued_case_opens_revision_b_and_keeps_revision_0(app, api, 
     issued_pdf = record_bytes(api, case_id, "0")
     issued = revision(api, case_id, "0")
 
-    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "72 barg"})
+    resp = api(E, "PATCH", f"/api/v1/cases/{case_id}", json={"inlet_pressure": "72 barg",
+                                                          "version": case_version(api, case_id)})
     assert resp.status_code == 200, resp.get_json()
     case = resp.get_json()
     assert case["status"] == "draft"

@@ -395,7 +395,8 @@ def test_case_body_takes_the_hydrate_fields(api, world):
     assert resp.status_code == 201, resp.get_json()
     case = resp.get_json()
     assert case["water_saturated"] is True and case["hydrate_inhibitor"] == "MEG"
-    bad = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case['id']}", json={"hydrate_inhibitor": "glycerol"})
+    bad = api(Role.ENGINEER, "PATCH", f"/api/v1/cases/{case['id']}", json={"hydrate_inhibitor": "glycerol",
+                                                                               "version": case["version"]})
     assert bad.status_code == 422 and bad.get_json()["error"]["field"] == "hydrate_inhibitor"
 
 

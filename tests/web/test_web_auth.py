@@ -7,7 +7,7 @@ import pytest
 from sqlalchemy import select
 from web_helpers import PASSWORD, app_config, sign_in
 
-from jtcheck.records.models import Role, User
+from jtcheck.records.models import AuditEntry, Role, User
 from jtcheck.web import create_app
 from jtcheck.web.config import SECRET_KEY_FILENAME
 from jtcheck.web.database import db_session
@@ -175,6 +175,53 @@ def test_password_change_checks_input_and_ends_other_sessions(app, world):
     assert sign_in(app.test_client(), email, "a new long password").status_code == 302
 
 
+def _new_account(app, world, email: str) -> None:
+    with app.app_context():
+        from jtcheck.records import service
+        from jtcheck.web.accounts.passwords import hash_password
+
+        s = db_session()
+        admin = service.get_user_by_email(s, world.emails[Role.ADMIN])
+        service.create_user(s, admin, email=email, name=email.split("@")[0], role="engineer",
+                            password_hash=hash_password(PASSWORD))
+
+
+def test_sign_out_ends_every_session_and_a_replayed_cookie(app, world):
+    """A copy of the session cookie taken before signing out no longer works (client-side sessions are ended by
+    the user's session generation), and neither does the user's other browser."""
+    email = "leaver@example.org"
+    _new_account(app, world, email)
+    one, two = app.test_client(), app.test_client()
+    sign_in(one, email)
+    sign_in(two, email)
+    stolen = one.get_cookie("jtcheck_session").value
+    assert one.get("/account").status_code == 200
+    one.post("/logout")
+    replay = app.test_client()
+    replay.set_cookie("jtcheck_session", stolen)
+    assert replay.get("/account").status_code == 302
+    assert two.get("/account").status_code == 302
+    assert sign_in(one, email).status_code == 302 and one.get("/account").status_code == 200
+
+
+def test_password_change_revokes_the_api_token(app, world):
+    email = "tokenholder@example.org"
+    _new_account(app, world, email)
+    c = app.test_client()
+    sign_in(c, email)
+    page = c.post("/account/token").data.decode()
+    token = page.split('<p class="secret">', 1)[1].split("</p>", 1)[0].strip()
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 200
+    ok = c.post("/account/password", data={"current_password": PASSWORD, "new_password": "another long password",
+                                           "repeat_password": "another long password"})
+    assert ok.status_code == 302
+    assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 401
+    with app.app_context():
+        entries = db_session().scalars(select(AuditEntry).where(AuditEntry.entity == "user",
+                                                                AuditEntry.field == "api_token_hash")).all()
+    assert any(e.new_value == "(revoked)" for e in entries)
+
+
 def test_api_token_is_shown_once_and_stored_as_a_hash(app, world):
     c = app.test_client()
     sign_in(c, world.emails[Role.APPROVER])
@@ -188,3 +235,33 @@ def test_api_token_is_shown_once_and_stored_as_a_hash(app, world):
     assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 200
     c.post("/account/token/revoke")
     assert c.get("/api/v1/cases", headers={"Authorization": f"Bearer {token}"}).status_code == 401
+
+
+def test_login_is_throttled_per_account_from_any_address(app, world, monkeypatch):
+    """Failed sign-ins for one account are counted over every address; a success does not count."""
+    monkeypatch.setitem(app.config, "LOGIN_ACCOUNT_RATE_LIMIT", "5 per hour")
+    c = app.test_client()
+    email = world.emails[Role.CHECKER]
+    ok = c.post("/login", data={"email": email, "password": PASSWORD}, environ_base={"REMOTE_ADDR": "198.51.100.1"})
+    assert ok.status_code == 302
+    c.post("/logout")
+    codes = [c.post("/login", data={"email": email.upper(), "password": "wrong"},
+                    environ_base={"REMOTE_ADDR": f"198.51.100.{10 + k}"}).status_code for k in range(6)]
+    assert codes == [401] * 5 + [429]
+    blocked = c.post("/login", data={"email": email, "password": PASSWORD}, environ_base={"REMOTE_ADDR": "203.0.113.9"})
+    assert blocked.status_code == 429
+    # another account from the same addresses is not affected
+    other = c.post("/login", data={"email": world.emails[Role.APPROVER], "password": PASSWORD},
+                   environ_base={"REMOTE_ADDR": "198.51.100.10"})
+    assert other.status_code == 302
+
+
+def test_a_failed_sign_in_logs_no_submitted_value(app, world, caplog):
+    c = app.test_client()
+    secret = "my-Secret-Passw0rd-typed-in-the-wrong-field"
+    with caplog.at_level("INFO"):
+        c.post("/login", data={"email": secret, "password": secret})
+        c.post("/login", data={"email": world.emails[Role.ENGINEER], "password": secret})
+    text = caplog.text
+    assert "failed sign-in" in text
+    assert secret not in text and world.emails[Role.ENGINEER] not in text

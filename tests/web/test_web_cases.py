@@ -7,10 +7,10 @@ import re
 
 import pytest
 from sqlalchemy import select
-from web_helpers import P_ATM, PSI, case_form, count, created_id, field_error, unique
+from web_helpers import P_ATM, PSI, case_body, case_form, count, created_id, field_error, unique
 
 from jtcheck.notices import CAUTION
-from jtcheck.records.models import AuditEntry, Case, CaseResult, PlantUnit, Site
+from jtcheck.records.models import AuditEntry, Case, CaseResult, PlantUnit, Role, Site
 from jtcheck.units import temperature_from_k
 from jtcheck.web.database import db_session
 
@@ -270,3 +270,18 @@ def test_result_page_survives_a_diagram_that_cannot_be_drawn(app, engineer, worl
     page = resp.data.decode()
     assert "The diagram could not be drawn" in page and "Margin to cold limit" in page
     assert 'class="pt-diagram"' not in page
+
+
+def test_the_case_list_comes_a_page_at_a_time(app, engineer, api, world, monkeypatch):
+    from jtcheck.web.cases import views as case_views
+
+    monkeypatch.setattr(case_views, "CASES_PER_PAGE", 2)
+    prefix = unique("PAGED")
+    for k in range(3):
+        made = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world, tag=f"{prefix}-{k}"))
+        assert made.status_code == 201
+    first = engineer.get(f"/cases?q={prefix}").data.decode()
+    assert f"{prefix}-0" in first and f"{prefix}-1" in first and f"{prefix}-2" not in first
+    assert "page=2" in first and "Cases 1–2" in first
+    second = engineer.get(f"/cases?q={prefix}&page=2").data.decode()
+    assert f"{prefix}-2" in second and f"{prefix}-0" not in second and "page=1" in second

@@ -85,11 +85,13 @@ def test_fluid_edit_sent_back_unchanged_changes_nothing(app, engineer):
     lines = html.unescape(page.split('name="composition"', 1)[1].split(">", 1)[1].split("</textarea>", 1)[0])
     audit = count(app, AuditEntry)
     resp = engineer.post(f"/fluids/{record.id}/edit", data={"name": name, "composition": lines, "eos": "PR",
-                                                            "kij_mode": "table", "notes": ""})
+                                                            "kij_mode": "table", "notes": "",
+                                                            "version": str(record.version)})
     assert resp.status_code == 302
     assert count(app, AuditEntry) == audit
     assert engineer.post(f"/fluids/{record.id}/edit", data={"name": name, "composition": "methane=1", "eos": "PR",
-                                                            "kij_mode": "table"}).status_code == 302
+                                                            "kij_mode": "table", "version": str(record.version)}
+                         ).status_code == 302
     assert _fluid(app, name).composition_pairs() == [("methane", 1.0)]
 
 
@@ -132,13 +134,14 @@ def test_everyone_sees_the_materials_admin_adds_and_edits(app, checker, admin):
     resp = admin.post(f"/materials/{material_id}/edit", data={"name": name, "min_metal_temperature": "-52",
                                                               "min_metal_temperature_unit": "degC",
                                                               "specification": "spec", "notes": "n", "source": "s",
-                                                              "editable": ""})
+                                                              "editable": "", "version": "1"})
     assert resp.status_code == 302
     with app.app_context():
         m = db_session().get(Material, material_id)
         assert math.isclose(m.min_metal_temperature_k, 221.15) and m.editable is False
     assert admin.post(f"/materials/{material_id}/edit", data={"name": name, "min_metal_temperature": "-60",
-                                                              "min_metal_temperature_unit": "degC"}).status_code == 403
+                                                              "min_metal_temperature_unit": "degC",
+                                                              "version": "2"}).status_code == 403
 
 
 def test_admin_adds_a_material_by_its_exemption_curve(app, checker, admin):

@@ -25,7 +25,8 @@ FAST_HASHING = {"PASSWORD_HASH_TIME_COST": 1, "PASSWORD_HASH_MEMORY_COST": 8, "P
 def app_config(db_url: str, instance: str, **extra) -> dict:
     return {"TESTING": True, "DATABASE_URL": db_url, "JTCHECK_INSTANCE": instance, "SECRET_KEY": "t" * 48,
             "WTF_CSRF_ENABLED": False, "SESSION_COOKIE_SECURE": False, "DB_UPGRADE_ON_START": False,
-            "LOGIN_RATE_LIMIT": "100000 per minute", **FAST_HASHING, **extra}
+            "LOGIN_RATE_LIMIT": "100000 per minute",
+            "LOGIN_ACCOUNT_RATE_LIMIT": "100000 per minute", **FAST_HASHING, **extra}
 
 
 def sign_in(client, email: str, password: str = PASSWORD):

@@ -5,9 +5,10 @@ from flask import Blueprint, current_app, flash, redirect, render_template, requ
 
 from jtcheck.errors import InputError
 from jtcheck.records import service
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Role, User
 from jtcheck.records.tokens import create_token, revoke_token
+from jtcheck.records.versions import parse_version
 from jtcheck.web.accounts.passwords import (
     check_new_password,
     generate_password,
@@ -37,7 +38,9 @@ def login():
         user = service.get_user_by_email(session, email) if email and len(email) <= 254 else None
         ok = verify_password(user.password_hash if user is not None else None, password)
         if not ok or user is None or not user.active:
-            current_app.logger.info("failed sign-in for %r from %s", email[:254], request.remote_addr)
+            # no submitted value goes to the log (a password typed into the e-mail field would land there)
+            current_app.logger.info("failed sign-in from %s (%s)", request.remote_addr,
+                                    f"account id {user.id}" if user is not None else "no such account")
             form.general.append(_FAILED)
             return render_template("accounts/login.html", form=form), 401
         if needs_rehash(user.password_hash):
@@ -82,7 +85,8 @@ def change_password():
         return render_template("accounts/account.html", user=user, form=form, token=None), 422
     user = service.update_user(db_session(), user, user.id, {"password_hash": hash_password(new)})
     sign_in(user)   # a fresh session; sessions signed in with the old password end
-    flash("Your password is changed. Other sessions signed in with the old password are signed out.")
+    flash("Your password is changed. Every other session of yours is signed out, and your API token is revoked "
+          "(make a new one below if you need it).")
     return redirect(url_for("auth.account"))
 
 
@@ -143,13 +147,22 @@ def edit_user(user_id: int):
     if request.method == "GET":
         return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                                form=FormState.of({"name": user.name, "role": Role(user.role).value,
-                                                  "active": "1" if user.active else ""}), new_password=None)
-    form = FormState.from_request(("name", "role", "active"))
+                                                  "active": "1" if user.active else "",
+                                                  "version": str(user.version)}), new_password=None)
+    form = FormState.from_request(("name", "role", "active", "version"))
     changes = {"name": form.get("name"), "role": form.get("role"), "active": form.get("active") == "1"}
     try:
-        user = service.update_user(db_session(), admin, user_id, changes)
+        version = parse_version(form.get("version"), required=True)
+        user = service.update_user(db_session(), admin, user_id, changes, expected_version=version)
+    except ConcurrentEditError as exc:
+        form.general.append(str(exc))
+        return render_template("accounts/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
+                               new_password=None), 409
     except InputError as exc:
-        form.add(exc.field, exc.message)
+        if exc.field == "version":
+            form.general.append(f"version: {exc.message}")
+        else:
+            form.add(exc.field, exc.message)
         return render_template("accounts/user_edit.html", user=_user_or_404(user_id), roles=list(Role), form=form,
                                new_password=None), 422
     flash(f"Saved {user.email}.")
@@ -166,4 +179,5 @@ def reset_password(user_id: int):
         sign_in(user)   # keep the admin who reset their own password signed in
     return render_template("accounts/user_edit.html", user=user, roles=list(Role),
                            form=FormState.of({"name": user.name, "role": Role(user.role).value,
-                                              "active": "1" if user.active else ""}), new_password=password)
+                                              "active": "1" if user.active else "", "version": str(user.version)}),
+                           new_password=password)

@@ -10,9 +10,20 @@ from sqlalchemy.orm import Session, defer
 
 from jtcheck.errors import InputError
 from jtcheck.records import service
-from jtcheck.records.models import CaseRevision
+from jtcheck.records.models import CaseResult, CaseRevision
 from jtcheck.web import removal
-from jtcheck.web.api.blueprint import api, body, created, field_errors, int_arg
+from jtcheck.web.api.blueprint import (
+    ID_SCHEMA,
+    PAGE_PARAMS,
+    api,
+    body,
+    created,
+    field_errors,
+    int_arg,
+    page_args,
+    page_json,
+    patch_version,
+)
 from jtcheck.web.api.openapi import QueryParam
 from jtcheck.web.api.serialize import (
     audit_json,
@@ -25,13 +36,12 @@ from jtcheck.web.security import require_editor, require_viewer
 
 _CASE_FILTERS = (
     QueryParam("q", "Text in the tag or service description."),
-    QueryParam("site_id", "Site id.", {"type": "integer"}),
-    QueryParam("unit_id", "Unit id.", {"type": "integer"}),
+    QueryParam("site_id", "Site id.", ID_SCHEMA),
+    QueryParam("unit_id", "Unit id.", ID_SCHEMA),
     QueryParam("kind", "Kind of letdown (control_valve, relief_valve, blowdown_valve, choke, other)."),
     QueryParam("status", "Case status (draft ...)."),
     QueryParam("outcome", "Screening outcome of the latest result, or 'not computed'."),
-    QueryParam("limit", "At most this many cases (1-1000, default 500).", {"type": "integer"}),
-    QueryParam("offset", "Skip this many cases.", {"type": "integer"}),
+    *PAGE_PARAMS,
 )
 
 
@@ -63,16 +73,16 @@ def list_cases():
     """Cases matching every filter given, by site, unit and tag."""
     user = require_viewer("view cases")
     session = db_session()
-    limit = int_arg("limit")
+    limit, offset = page_args()
     cases = service.list_cases(
         session, user, site_id=int_arg("site_id"), unit_id=int_arg("unit_id"), kind=request.args.get("kind") or None,
         status=request.args.get("status") or None, outcome=request.args.get("outcome") or None,
-        text=request.args.get("q") or None, limit=500 if limit is None else limit, offset=int_arg("offset") or 0)
+        text=request.args.get("q") or None, limit=limit, offset=offset)
     ids = [c.id for c in cases]
     latest = service.latest_results(session, ids)
     revisions = _current_revisions(session, ids)
-    return jsonify({"count": len(cases), "cases": [case_json(c, latest.get(c.id), revision=revisions.get(c.id))
-                                                   for c in cases]})
+    return jsonify(page_json("cases", [case_json(c, latest.get(c.id), revision=revisions.get(c.id)) for c in cases],
+                             limit, offset))
 
 
 @api.route("/cases", "POST", summary="Create a case", tag="cases", request="CaseInput", response="Case", status=201,
@@ -102,7 +112,8 @@ def get_case(case_id: int):
 @api.route("/cases/<int:case_id>", "PATCH", summary="Change a case's inputs", tag="cases", request="CasePatch",
            response="Case", errors=(403, 404, 409))
 def update_case(case_id: int):
-    """Only the fields sent are changed; send "version" to be refused (409) if someone saved in between.
+    """Only the fields sent are changed; "version" (the version you edited) is required, and a save made by someone
+    else in between is refused (409, naming the fields changed since and who changed them).
 
     Refused (403) while the case's current calculation record is in review (for check, checked, for
     approval): reject it first.  A change to a case whose current record is issued (approved, superseded,
@@ -111,10 +122,8 @@ def update_case(case_id: int):
     user = require_editor("edit case inputs")
     data = body()
     session = db_session()
-    version = data.pop("version", None)
-    if version is not None and (isinstance(version, bool) or not isinstance(version, int)):
-        raise InputError("version", f"must be the integer version you edited, got {version!r}")
     case = service.get_case(session, user, case_id)
+    version = patch_version(data)
     try:
         values = convert(data, current=case)
         case = service.update_case(session, user, case_id, changed_only(case, values), expected_version=version)
@@ -148,17 +157,26 @@ def compute_case(case_id: int):
 
 
 @api.route("/cases/<int:case_id>/results", "GET", summary="Stored results of a case", tag="cases",
-           response="ResultList", errors=(403, 404))
+           response="ResultList", query=PAGE_PARAMS, errors=(403, 404, 422))
 def case_results(case_id: int):
-    """Newest first; "current" tells whether a result was computed from the case and fluid as stored now."""
+    """Newest first, a page at a time (default 20); "current" tells whether a result was computed from the case and
+    fluid as stored now."""
     _, case = _case_or_404(case_id)
-    return jsonify({"results": [result_json(r, service.result_is_current(case, r)) for r in reversed(case.results)]})
+    limit, offset = page_args(default=20)
+    session = db_session()
+    total = session.scalar(select(func.count()).select_from(CaseResult).where(CaseResult.case_id == case.id)) or 0
+    rows = session.scalars(select(CaseResult).where(CaseResult.case_id == case.id).order_by(CaseResult.id.desc())
+                           .limit(limit).offset(offset))
+    return jsonify(page_json("results", [result_json(r, service.result_is_current(case, r)) for r in rows],
+                             limit, offset, total))
 
 
 @api.route("/cases/<int:case_id>/audit", "GET", summary="Audit history of a case", tag="cases", response="AuditList",
-           errors=(403, 404))
+           query=PAGE_PARAMS, errors=(403, 404, 422))
 def case_audit(case_id: int):
-    """Who changed what and when, oldest first."""
+    """Who changed what and when, oldest first, a page at a time."""
     user, case = _case_or_404(case_id)
+    limit, offset = page_args()
     entries = service.audit_trail(db_session(), user, "case", case.id)
-    return jsonify({"entries": [audit_json(e) for e in entries]})
+    return jsonify(page_json("entries", [audit_json(e) for e in entries[offset:offset + limit]], limit, offset,
+                             len(entries)))

@@ -12,7 +12,7 @@ from jtcheck.records import service
 from jtcheck.records.errors import NotFound
 from jtcheck.records.models import FluidRecord
 from jtcheck.web import removal
-from jtcheck.web.api.blueprint import api, body, created, unknown_keys
+from jtcheck.web.api.blueprint import PAGE_PARAMS, api, body, created, page_args, page_json, patch_version, unknown_keys
 from jtcheck.web.api.serialize import (
     fluid_json,
     material_json,
@@ -45,11 +45,17 @@ def _fluid_or_404(fluid_id: int) -> FluidRecord:
     return record
 
 
-@api.route("/fluids", "GET", summary="List fluids", tag="fluids", response="FluidList", errors=(403,))
+def _page(key: str, items: list[Any]) -> Response:
+    limit, offset = page_args()
+    return jsonify(page_json(key, items[offset:offset + limit], limit, offset, len(items)))
+
+
+@api.route("/fluids", "GET", summary="List fluids", tag="fluids", response="FluidList", query=PAGE_PARAMS,
+           errors=(403, 422))
 def list_fluids():
-    """Every stored fluid, by name."""
+    """Stored fluids, by name, a page at a time."""
     user = require_viewer("view fluids")
-    return jsonify({"fluids": [fluid_json(f) for f in service.list_fluids(db_session(), user)]})
+    return _page("fluids", [fluid_json(f) for f in service.list_fluids(db_session(), user)])
 
 
 @api.route("/fluids", "POST", summary="Create a fluid", tag="fluids", request="FluidInput", response="Fluid",
@@ -75,9 +81,13 @@ def get_fluid(fluid_id: int):
 @api.route("/fluids/<int:fluid_id>", "PATCH", summary="Change a fluid", tag="fluids", request="FluidPatch",
            response="Fluid", errors=(403, 404, 409))
 def update_fluid(fluid_id: int):
-    """Results already stored keep the fluid they were computed with."""
+    """Results already stored keep the fluid they were computed with.  "version" (the version you edited) is
+    required; a save made by someone else in between is refused (409, naming what changed and who changed it)."""
     user = require_editor("edit fluids")
-    record = service.update_fluid(db_session(), user, fluid_id, _fluid_values(body()))
+    data = body()
+    _fluid_or_404(fluid_id)
+    version = patch_version(data)
+    record = service.update_fluid(db_session(), user, fluid_id, _fluid_values(data), expected_version=version)
     return jsonify(fluid_json(record))
 
 
@@ -92,11 +102,12 @@ def delete_fluid(fluid_id: int):
 
 # -- reference data ------------------------------------------------------------------------------
 @api.route("/materials", "GET", summary="List materials and their minimum metal temperatures", tag="reference",
-           response="MaterialList", errors=(403,))
+           response="MaterialList", query=PAGE_PARAMS, errors=(403, 422))
 def list_materials():
-    """Coldest limit first.  Shipped entries are typical values to verify against the applicable code."""
+    """Coldest limit first, a page at a time.  Shipped entries are typical values to verify against the applicable
+    code."""
     user = require_viewer("view materials")
-    return jsonify({"materials": [material_json(m) for m in service.list_materials(db_session(), user)]})
+    return _page("materials", [material_json(m) for m in service.list_materials(db_session(), user)])
 
 
 @api.route("/materials", "POST", summary="Add a material (admins): a typed limit, an exemption curve, or both",
@@ -132,8 +143,8 @@ def curve_table():
 
 
 @api.route("/sites", "GET", summary="List sites and their units", tag="reference", response="SiteList",
-           errors=(403,))
+           query=PAGE_PARAMS, errors=(403, 422))
 def list_sites():
-    """Sites with their units (a case belongs to a unit)."""
+    """Sites with their units (a case belongs to a unit), a page at a time."""
     user = require_viewer("view sites")
-    return jsonify({"sites": [site_json(s) for s in service.list_sites(db_session(), user)]})
+    return _page("sites", [site_json(s) for s in service.list_sites(db_session(), user)])

@@ -45,6 +45,13 @@ ERROR_TEXT = {
 }
 
 
+def _path_schema(converter: str | None) -> dict[str, Any]:
+    """The schema of a path parameter: ``int`` ids run from 0 to 2^31 - 1 (the route matches no other)."""
+    if converter == "int":
+        return {"type": "integer", "minimum": 0, "maximum": 2**31 - 1}
+    return {"type": _TYPES.get(converter, "string")}
+
+
 @dataclass(frozen=True)
 class QueryParam:
     name: str
@@ -120,8 +127,7 @@ class ApiRegistry:
             path = _CONVERTER.sub(lambda m: "{" + m.group(2) + "}", op.rule)
             helps = dict(op.path_help)
             params: list[dict[str, Any]] = [
-                {"name": m.group(2), "in": "path", "required": True, "schema": {"type": _TYPES.get(m.group(1),
-                                                                                                   "string")},
+                {"name": m.group(2), "in": "path", "required": True, "schema": _path_schema(m.group(1)),
                  **({"description": helps[m.group(2)]} if m.group(2) in helps else {})}
                 for m in _CONVERTER.finditer(op.rule)]
             params += [{"name": q.name, "in": "query", "required": False, "description": q.description,
@@ -137,7 +143,7 @@ class ApiRegistry:
             codes = set(op.errors) | ({401} if not op.public else set())
             has_body = bool(op.request) or op.request_media != JSON
             if has_body:
-                codes |= {400, 422}
+                codes |= {400, 413, 422}
             for code in sorted(codes):
                 responses[str(code)] = {"description": ERROR_TEXT[code], "content": {
                     "application/json": {"schema": {"$ref": "#/components/schemas/Error"}}}}

@@ -178,8 +178,11 @@ def register(api: ApiRegistry) -> None:
     s("CaseInput", {"type": "object", "additionalProperties": False, "properties": case_props,
                     "required": ["unit_id", "tag", "kind", "fluid_id", "inlet_pressure", "inlet_temperature",
                                  "outlet_pressure"]})
-    s("CasePatch", {"type": "object", "additionalProperties": False, "properties": {
-        **case_props, "version": {"type": "integer", "description": "The version you edited; 409 if stale."}}})
+    version = {"type": "integer", "minimum": 1, "maximum": 2**31 - 1,
+               "description": "The version you edited (from the record you read): required; 409, naming what changed "
+                              "and who changed it, when someone saved in between."}
+    s("CasePatch", {"type": "object", "additionalProperties": False, "required": ["version"], "properties": {
+        **case_props, "version": version}})
     s("Case", {"type": "object", "properties": {
         "id": {"type": "integer"}, "tag": {"type": "string"}, "service": {"type": "string"},
         "kind": {"type": "string"}, "kind_label": {"type": "string"}, "status": {"type": "string"},
@@ -198,8 +201,7 @@ def register(api: ApiRegistry) -> None:
                              "description": "The case's current (latest) calculation record; its status is the "
                                             "case's status."},
         "links": {"type": "object", "properties": {"self": {"type": "string"}, "revisions": {"type": "string"}}}}})
-    s("CaseList", {"type": "object", "properties": {"count": {"type": "integer"},
-                                                    "cases": {"type": "array", "items": _ref("Case")}}})
+    s("CaseList", page_schema("cases", _ref("Case")))
     s("Result", {"type": "object", "properties": {
         "id": {"type": "integer"}, "case_id": {"type": "integer"}, "case_version": {"type": "integer"},
         "computed_at": {"type": "string"}, "converged": {"type": "boolean"}, "message": {"type": "string"},
@@ -210,19 +212,22 @@ def register(api: ApiRegistry) -> None:
         "t_out_min_k": NUM_OR_NULL, "limits": {"type": "object"}, "p_atm_pa": {"type": "number"},
         "conditions": {"type": "array", "items": {"type": "object"}}, "basis": {"type": "object"},
         "current": {"type": "boolean"}, "caution": {"type": "string"}}})
-    s("ResultList", {"type": "object", "properties": {"results": {"type": "array", "items": _ref("Result")}}})
+    s("ResultList", page_schema("results", _ref("Result")))
+    fluid_name = {"type": "string", "minLength": 1, "maxLength": 200, "pattern": r"\S"}
     s("FluidInput", {"type": "object", "required": ["name", "composition"], "additionalProperties": False,
-                     "properties": {"name": {"type": "string"},
+                     "properties": {"name": fluid_name,
                                     "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
                                     "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
-    s("FluidPatch", {"type": "object", "additionalProperties": False, "properties": {
-        "name": {"type": "string"}, "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
+    s("FluidPatch", {"type": "object", "additionalProperties": False, "required": ["version"], "properties": {
+        "version": version, "name": fluid_name,
+        "composition": {"$ref": "#/components/schemas/FluidSpec/properties/composition"},
         "eos": EOS_ENUM, "kij": KIJ_ENUM, "notes": {"type": "string"}}})
     s("Fluid", {"type": "object", "properties": {
-        "id": {"type": "integer"}, "name": {"type": "string"}, "eos": {"type": "string"}, "kij": {"type": "string"},
+        "id": {"type": "integer"}, "version": {"type": "integer"}, "name": {"type": "string"},
+        "eos": {"type": "string"}, "kij": {"type": "string"},
         "notes": {"type": "string"}, "composition": {"type": "array", "items": {
             "type": "object", "properties": {"component": {"type": "string"}, "mole_fraction": {"type": "number"}}}}}})
-    s("FluidList", {"type": "object", "properties": {"fluids": {"type": "array", "items": _ref("Fluid")}}})
+    s("FluidList", page_schema("fluids", _ref("Fluid")))
     s("Material", {"type": "object", "properties": {
         "id": {"type": "integer"}, "name": {"type": "string"}, "specification": {"type": "string"},
         "min_metal_temperature_k": {"type": "number"}, "notes": {"type": "string"}, "source": {"type": "string"},
@@ -237,9 +242,9 @@ def register(api: ApiRegistry) -> None:
         "rows": {"type": "array", "items": {"type": "object", "description": "position, code, table, curve, x, "
                                                                             "value, unit, source, edition, "
                                                                             "provenance"}}}})
-    s("MaterialList", {"type": "object", "properties": {"materials": {"type": "array", "items": _ref("Material")}}})
-    s("SiteList", {"type": "object", "properties": {"sites": {"type": "array", "items": {"type": "object"}}}})
-    s("AuditList", {"type": "object", "properties": {"entries": {"type": "array", "items": {"type": "object"}}}})
+    s("MaterialList", page_schema("materials", _ref("Material")))
+    s("SiteList", page_schema("sites", {"type": "object"}))
+    s("AuditList", page_schema("entries", {"type": "object"}))
     s("OpenAPI", {"type": "object", "description": "This document."})
     _record_schemas(api)
 
@@ -249,6 +254,15 @@ REVISION_STATUS_ENUM = {"type": "string", "enum": [st.value for st in RevisionSt
                                        "the next approved revision, or voided); a reject sends a revision in review "
                                        "back to draft."}
 REVIEW_ACTION_ENUM = {"type": "string", "enum": [a.value for a in ReviewAction]}
+
+
+def page_schema(items_key: str, item: dict[str, Any]) -> dict[str, Any]:
+    """The schema of a page of a list (``jtcheck.web.api.blueprint.page_json``)."""
+    return {"type": "object", "required": [items_key, "count", "limit", "offset", "next_offset"], "properties": {
+        items_key: {"type": "array", "items": item}, "count": {"type": "integer", "description": "Items on this page."},
+        "total": {"type": "integer", "description": "Items in the whole list (where it is counted)."},
+        "limit": {"type": "integer"}, "offset": {"type": "integer"},
+        "next_offset": {"type": ["integer", "null"], "description": "The offset of the next page; null on the last."}}}
 
 
 def _record_schemas(api: ApiRegistry) -> None:

@@ -207,14 +207,14 @@ def result_json(result: CaseResult, current: bool | None = None) -> dict[str, An
 
 
 def fluid_json(fluid: FluidRecord) -> dict[str, Any]:
-    return {"id": fluid.id, "name": fluid.name,
+    return {"id": fluid.id, "version": fluid.version, "name": fluid.name,
             "composition": [{"component": c, "mole_fraction": z} for c, z in fluid.composition_pairs()],
             "eos": fluid.eos, "kij": KijMode(fluid.kij_mode).value, "notes": fluid.notes,
             "created_at": _iso(fluid.created_at), "updated_at": _iso(fluid.updated_at)}
 
 
 def material_json(m: Material) -> dict[str, Any]:
-    return {"id": m.id, "name": m.name, "specification": m.specification,
+    return {"id": m.id, "version": m.version, "name": m.name, "specification": m.specification,
             "min_metal_temperature_k": m.min_metal_temperature_k, "notes": m.notes, "source": m.source,
             "seeded": m.seeded, "editable": m.editable, "limit_way": m.limit_way,
             "exemption_curve": m.exemption_curve or "", "curve_code": m.curve_code, "thickness_m": m.thickness_m,

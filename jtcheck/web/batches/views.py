@@ -35,7 +35,18 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from flask import Blueprint, Flask, Response, current_app, jsonify, redirect, render_template, request, url_for
+from flask import (
+    Blueprint,
+    Flask,
+    Response,
+    current_app,
+    flash,
+    jsonify,
+    redirect,
+    render_template,
+    request,
+    url_for,
+)
 from sqlalchemy import select
 from sqlalchemy.orm import defer, joinedload
 
@@ -109,6 +120,17 @@ def init_app(app: Flask) -> None:
     """Raise the request size limit for the upload.  Call before ``CSRFProtect(app)``: its check reads the form,
     which is parsed with the limit in force at that moment."""
     app.before_request(_upload_request_limit)
+
+
+def recover_at_start(app: Flask) -> None:
+    """Jobs a dead runner left behind are requeued (or marked failed) when the service starts."""
+    try:
+        found = jobs.recover_orphans(app.extensions["jtcheck_db"].engine, app.config)
+    except Exception:     # the schema is not there yet (migrated by someone else): the pages' check will do it
+        app.logger.warning("batch jobs not checked for orphans at start", exc_info=True)
+        return
+    if found["requeued"] or found["failed"]:
+        app.logger.warning("orphaned batch jobs at start: requeued %s, failed %s", found["requeued"], found["failed"])
 
 
 # -- helpers -----------------------------------------------------------------------------------------------
@@ -285,7 +307,8 @@ def view(job_id: int):
     context: dict[str, Any] = {"job": job, "status_text": _status_text(job), "may_create": _may_create(),
                                "outcomes": jobs.OUTCOMES, "sorts": SORTS, "filters": _filters(),
                                "reading": job.reading or {}, "options": job.options or {},
-                               "waiting_long": False, "has_bad_rows": db_session().scalar(
+                               "waiting_long": False, "may_restart": _may_restart(job),
+                               "has_bad_rows": db_session().scalar(
                                    select(BatchJob.bad_rows.is_not(None)).where(BatchJob.id == job.id))}
     status = BatchStatus(job.status)
     if status is BatchStatus.QUEUED and job.runner == "rq" and job.created_at is not None:
@@ -308,6 +331,22 @@ def view(job_id: int):
                        coldest=[_row_view(r, show) for r in coldest], counts=counts,
                        by_outcome=counts.get("by_outcome") or {})
     return render_template("batches/view.html", **context)
+
+
+def _may_restart(job: BatchJob) -> bool:
+    user = current_user()
+    return (BatchStatus(job.status) is BatchStatus.FAILED and user is not None and _may_create()
+            and (Role(user.role) is Role.ADMIN or job.created_by_id == user.id))
+
+
+@bp.post("/batches/<int:job_id>/restart")
+def restart(job_id: int):
+    """Queue a failed screening again (its uploader or an admin) and start it."""
+    user = _require_creator("restart batch screenings")
+    jobs.restart_job(db_session(), user, _job(job_id, light=True).id)
+    jobs.start_job(current_app._get_current_object(), job_id)  # type: ignore[attr-defined]
+    flash("The screening was restarted.")
+    return redirect(url_for("batches.view", job_id=job_id))
 
 
 @bp.get("/batches/<int:job_id>/status")

@@ -167,6 +167,8 @@ def _case(case_id: int) -> Case:
 
 # -- list ------------------------------------------------------------------------------------------
 _FILTERS = ("q", "site_id", "unit_id", "kind", "status", "outcome")
+#: Cases on one page of the case list.
+CASES_PER_PAGE = 50
 
 
 def _int_filter(name: str, form: FormState) -> int | None:
@@ -196,11 +198,16 @@ def index():
     filters = {"site_id": _int_filter("site_id", form), "unit_id": _int_filter("unit_id", form), "kind": kind,
                "status": form.get("status") or None, "outcome": form.get("outcome") or None,
                "text": form.get("q") or None}
-    try:
-        cases = service.list_cases(session, user, **filters)
+    raw_page = request.args.get("page", "1").strip()
+    page = int(raw_page) if raw_page.isdigit() and 1 <= int(raw_page) <= 100_000 else 1
+    try:   # one case more than a page: whether there is a next page
+        cases = service.list_cases(session, user, **filters, limit=CASES_PER_PAGE + 1,
+                                   offset=(page - 1) * CASES_PER_PAGE)
     except InputError as exc:
         form.add({"text": "q"}.get(exc.field, exc.field), exc.message)
         cases = []
+    has_next = len(cases) > CASES_PER_PAGE
+    cases = cases[:CASES_PER_PAGE]
     latest = service.latest_results(session, [c.id for c in cases])
     rows = []
     for c in cases:
@@ -213,9 +220,11 @@ def index():
                      "not_screened": any(not x.converged for x in conds), "outcome": outcome})
     statuses = [s.value for s in RevisionStatus]
     statuses += sorted(set(session.scalars(select(Case.status).distinct())) - set(statuses))   # older statuses
+    args = {k: v for k, v in request.args.items() if k in _FILTERS and v}
     return render_template("cases/list.html", rows=rows, form=form, sites=service.list_sites(session, user),
                            kinds=list(CaseKind), statuses=statuses, outcomes=OUTCOME_FILTERS,
-                           can_edit=service.can_edit_cases(user))
+                           can_edit=service.can_edit_cases(user), page=page, has_next=has_next, args=args,
+                           first=(page - 1) * CASES_PER_PAGE + 1)
 
 
 # -- create and edit -------------------------------------------------------------------------------

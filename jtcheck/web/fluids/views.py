@@ -9,8 +9,9 @@ from sqlalchemy import select
 
 from jtcheck.errors import InputError, JtcheckError
 from jtcheck.records import service
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Case, FluidRecord, KijMode
+from jtcheck.records.versions import parse_version
 from jtcheck.thermo.composition import normalise_composition
 from jtcheck.web import removal
 from jtcheck.web.database import db_session
@@ -165,16 +166,24 @@ def edit(fluid_id: int):
     if request.method == "GET":
         lines = "\n".join(f"{c}={z:.12g}" for c, z in record.composition_pairs())
         return _render(FormState.of({"name": record.name, "composition": lines, "eos": record.eos,
-                                     "kij_mode": KijMode(record.kij_mode).value, "notes": record.notes}), record)
-    form = FormState.from_request(FLUID_FORM_FIELDS)
+                                     "kij_mode": KijMode(record.kij_mode).value, "notes": record.notes,
+                                     "version": str(record.version)}), record)
+    form = FormState.from_request((*FLUID_FORM_FIELDS, "version"))
     try:
+        version = parse_version(form.get("version"), required=True)
         composition = composition_from_form(form)
         changes = {"name": form.get("name"), "composition": composition, "eos": form.get("eos"),
                    "kij_mode": form.get("kij_mode"), "notes": form.get("notes")}
         if _same_composition(record, composition):
             del changes["composition"]   # shown and sent back unchanged: keep the stored fractions exactly
-        record = service.update_fluid(db_session(), user, fluid_id, changes)
+        record = service.update_fluid(db_session(), user, fluid_id, changes, expected_version=version)
+    except ConcurrentEditError as exc:
+        form.general.append(str(exc))
+        return _render(form, _fluid(fluid_id), 409)
     except InputError as exc:
+        if exc.field == "version":
+            form.general.append(f"version: {exc.message}")
+            return _render(form, _fluid(fluid_id), 422)
         form.add(_field(exc), exc.message)
         return _render(form, _fluid(fluid_id), 409 if "already exists" in exc.message else 422)
     flash(f"Fluid {record.name} saved.")

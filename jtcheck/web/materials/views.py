@@ -5,8 +5,9 @@ from flask import Blueprint, flash, redirect, render_template, request, url_for
 
 from jtcheck.errors import InputError
 from jtcheck.records import service
-from jtcheck.records.errors import NotFound
+from jtcheck.records.errors import ConcurrentEditError, NotFound
 from jtcheck.records.models import Material
+from jtcheck.records.versions import parse_version
 from jtcheck.units import parse_temperature, temperature_from_k
 from jtcheck.web.database import db_session
 from jtcheck.web.forms import FormState
@@ -129,15 +130,24 @@ def edit(material_id: int):
     if material is None:
         raise NotFound("material", material_id)
     if request.method == "GET":
-        return _render(_form_of(material), material)
-    form = FormState.from_request(MATERIAL_FORM_FIELDS)
+        form = _form_of(material)
+        form.values["version"] = str(material.version)
+        return _render(form, material)
+    form = FormState.from_request((*MATERIAL_FORM_FIELDS, "version"))
     try:
+        version = parse_version(form.get("version"), required=True)
         values = _values(form)
         for key in [k for k, v in values.items() if isinstance(v, float) and isinstance(getattr(material, k), float)
                     and abs(v - getattr(material, k)) <= 1e-9 * max(1.0, abs(v))]:
             del values[key]   # shown rounded in display units and sent back: unchanged
-        material = service.update_material(db_session(), user, material_id, values)
+        material = service.update_material(db_session(), user, material_id, values, expected_version=version)
+    except ConcurrentEditError as exc:
+        form.general.append(str(exc))
+        return _render(form, material, 409)
     except InputError as exc:
+        if exc.field == "version":
+            form.general.append(f"version: {exc.message}")
+            return _render(form, material, 422)
         form.add(_field(exc), exc.message)
         return _render(form, material, 409 if "already exists" in exc.message else 422)
     flash(f"Material {material.name} saved.")

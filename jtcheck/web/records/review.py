@@ -127,13 +127,14 @@ def review_context(case: Case, user: User, form: FormState | None = None, step: 
     approved = next((r for r in reversed(revisions) if RevisionStatus(r.status) is RevisionStatus.APPROVED), None)
     if current is not None:
         status = RevisionStatus(current.status)
+        authors = workflow.input_authors(session, current) if status.under_review else {}
         if service.can_edit_cases(user) and status is RevisionStatus.DRAFT and has_current_result:
             offered.append((STEPS["submit"], current))
-        if workflow.may_check(user, current):
+        if workflow.may_check(user, current, authors):
             offered.append((STEPS["check"], current))
         if _may_send(user, current):
             offered.append((STEPS["send-for-approval"], current))
-        if workflow.may_approve(user, current):
+        if workflow.may_approve(user, current, authors):
             offered.append((STEPS["approve"], current))
         if _may_reject(user, current):
             offered.append((STEPS["reject"], current))
