@@ -230,7 +230,9 @@ def register(api: ApiRegistry) -> None:
     s("FluidList", page_schema("fluids", _ref("Fluid")))
     s("Material", {"type": "object", "properties": {
         "id": {"type": "integer"}, "name": {"type": "string"}, "specification": {"type": "string"},
-        "min_metal_temperature_k": {"type": "number"}, "notes": {"type": "string"}, "source": {"type": "string"},
+        "min_metal_temperature_k": {**NUM_OR_NULL, "description": "The typed limit [K]; null for a material whose "
+                                                                  "limit comes from its exemption curve only."},
+        "notes": {"type": "string"}, "source": {"type": "string"}, "version": {"type": "integer"},
         "seeded": {"type": "boolean"}, "editable": {"type": "boolean"}, "limit_way": {"type": "string"},
         **MATERIAL_SI_PROPERTIES}})
     s("MaterialBody", {"type": "object", "properties": {
