@@ -6,8 +6,8 @@ added to :data:`KINDS` here, and nowhere else.
 """
 from __future__ import annotations
 
-from jtcheck.cases.fields import COMMON_FIELDS, P_ATM, Field
 from jtcheck.cases.depressuring import VESSEL_DEPRESSURING
+from jtcheck.cases.fields import COMMON_FIELDS, P_ATM, Field
 from jtcheck.cases.kind import CaseKind
 from jtcheck.cases.letdown import LETDOWN
 from jtcheck.cases.relief import RELIEF_VALVE

@@ -2,7 +2,8 @@
 
 The kind column is a VARCHAR with a CHECK constraint listing the devices (``ck_cases_case_kind``); this widens
 the list.  A depressuring case keeps its vessel, orifices, heat input and run in ``cases.parameters`` (0005).
-Downgrading refuses while a depressuring case exists (the constraint could not be restored).
+Downgrading makes the depressuring cases "other" (the older register has no such device); their inputs stay in
+``cases.parameters``.
 
 Revision ID: 0008
 Revises: 0007
@@ -52,7 +53,7 @@ def upgrade() -> None:
 
 
 def downgrade() -> None:
-    count = op.get_bind().scalar(sa.text("SELECT COUNT(*) FROM cases WHERE kind = 'vessel_depressuring'"))
-    if count:
-        raise RuntimeError(f"{count} vessel depressuring case(s) exist: delete them before downgrading below 0008")
+    # an older register has no such device: its depressuring cases become "other" (their vessel, orifices, heat
+    # input and run stay in cases.parameters, and their results and records are kept as they are)
+    op.get_bind().execute(sa.text("UPDATE cases SET kind = 'other' WHERE kind = 'vessel_depressuring'"))
     _replace_check(OLD)

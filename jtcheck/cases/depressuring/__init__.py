@@ -83,15 +83,13 @@ class VesselDepressuringKind(CaseKind):
                             target_time_s=plan.target_time_s, valve_points=VALVE_POINTS)
         limits = cold_limits(values)
         outcome, findings, paths = screen_run(result, limits, values.get("material_spec"), plan, values["p_atm_pa"])
-        coldest = [(e["t_k"], e) for e in paths.values() if e.get("t_k") is not None and math.isfinite(e["t_k"])]
         t_min, where = (None, "")
-        if result.converged and coldest:
-            colds = [(float(ex.value), words, ex) for words, ex in (
-                ("gas-wetted inner wall", result.min_wall_gas_t), ("liquid-wetted inner wall", result.min_wall_liquid_t),
-                ("blowdown valve outlet", result.min_valve_outlet_t)) if math.isfinite(ex.value)]
-            if colds:
-                t, words, ex = min(colds, key=lambda c: c[0])
-                t_min, where = t, f"{words} at {ex.time_s:.0f} s (vessel at {ex.pressure_pa / 1e5:.4g} bar abs)"
+        colds = [(float(ex.value), words, ex) for words, ex in (
+            ("gas-wetted inner wall", result.min_wall_gas_t), ("liquid-wetted inner wall", result.min_wall_liquid_t),
+            ("blowdown valve outlet", result.min_valve_outlet_t)) if math.isfinite(ex.value)]
+        if result.converged and colds:
+            t, words, ex = min(colds, key=lambda c: c[0])
+            t_min, where = t, f"{words} at {ex.time_s:.0f} s (vessel at {ex.pressure_pa / 1e5:.4g} bar abs)"
         return Screening(outcome=outcome, limits=limits, t_out_min_k=t_min, coldest_condition=where,
                          models=(fluid.eos.value,), conditions=(), findings=tuple(findings),
                          answers={"depressuring": stored_run(result, plan, paths)})
