@@ -68,7 +68,8 @@ def depressuring_view(screening: Mapping[str, Any] | None, units: DisplayUnits) 
         {"what": "Minimum fluid temperature", "value": units.T(_f((run.get("min_fluid_t") or {}).get("value"))),
          "note": _when(units, run.get("min_fluid_t"))},
         {"what": "Minimum gas-wetted inner wall temperature",
-         "value": units.T(_f((run.get("min_wall_gas_t") or {}).get("value"))), "note": _when(units, run.get("min_wall_gas_t"))},
+         "value": units.T(_f((run.get("min_wall_gas_t") or {}).get("value"))),
+         "note": _when(units, run.get("min_wall_gas_t"))},
         {"what": "Minimum liquid-wetted inner wall temperature",
          "value": units.T(_f((run.get("min_wall_liquid_t") or {}).get("value"))),
          "note": _when(units, run.get("min_wall_liquid_t")) or "no liquid in the vessel"},
@@ -108,7 +109,8 @@ def depressuring_view(screening: Mapping[str, Any] | None, units: DisplayUnits) 
             "method": str(run.get("method") or ""), "fire_basis": str(run.get("fire_basis") or ""),
             "valves_draw": str(run.get("valves_draw") or ""), "warnings": [str(w) for w in run.get("warnings") or ()],
             "vessel": inputs.get("vessel") or {}, "orifices": inputs.get("orifices") or [],
-            "heat_input": inputs.get("heat_input") or {}, "wall_material": (inputs.get("wall_material") or {}).get("name"),
+            "heat_input": inputs.get("heat_input") or {},
+            "wall_material": (inputs.get("wall_material") or {}).get("name"),
             "liquid_level_m": inputs.get("liquid_level_m"), "target_basis": str(plan.get("target_basis") or ""),
             "units": {"temperature": units.temperature, "pressure": units.inlet_pressure}}
 
