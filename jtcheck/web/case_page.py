@@ -16,6 +16,7 @@ from jtcheck.records import service
 from jtcheck.records.case_inputs import field_value
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.models import Case, CaseResult
+from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
 from jtcheck.web import removal
 from jtcheck.web.cases.diagram import DiagramCache
 from jtcheck.web.cases.results import basis_of, outcome_of, screening_view, units_of
@@ -33,9 +34,15 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
     if result is None:
         return {"result": None}
     screening = screening_view(result)
-    return {"result": result, "conditions": screening.conditions, "limits": screening.limits,
-            "units": units_of(result), "basis": basis_of(result), "current": service.result_is_current(case, result),
-            "screening": screening, "diagram": _diagrams().get(result),
+    units = units_of(result)
+    depressuring = depressuring_view(result.screening, units)
+    chart = None if depressuring is None else draw_depressuring_chart(
+        result.screening, units, limit_k=screening.limits.governing_k, target_k=screening.limits.target_k)
+    return {"result": result, "depressuring": depressuring, "depressuring_chart": chart,
+            "conditions": screening.conditions, "limits": screening.limits,
+            "units": units, "basis": basis_of(result), "current": service.result_is_current(case, result),
+            # a run in time draws its curves, not a letdown path on the P-T diagram
+            "screening": screening, "diagram": None if depressuring is not None else _diagrams().get(result),
             "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 
 
