@@ -106,3 +106,18 @@ def test_api_errors_name_the_field_of_the_object(app, api, world):
     no_vessel["orifices"] = [{"name": "RO-1", "diameter_m": 0.025, "discharge_coefficient": 0.8}]
     resp = api(Role.ENGINEER, "POST", "/api/v1/cases", json=no_vessel)
     assert resp.status_code == 422 and "vessel" in str(resp.get_json())
+
+
+def test_the_openapi_document_describes_the_depressuring_objects(api):
+    doc = api(Role.CHECKER, "GET", "/api/v1/openapi.json").get_json()
+    props = doc["components"]["schemas"]["CaseInput"]["properties"]
+    assert "vessel_depressuring" in props["kind"]["enum"]
+    vessel = next(o for o in props["vessel"]["oneOf"] if o.get("type") == "object")
+    assert {"orientation", "inner_diameter_m", "length_m", "volume_m3", "wall_thickness_m"} <= set(vessel["properties"])
+    orifice = next(o for o in props["orifices"]["oneOf"] if o.get("type") == "array")["items"]
+    assert orifice["required"] == ["name", "diameter_m", "discharge_coefficient"]
+    heat = next(o for o in props["heat_input"]["oneOf"] if o.get("type") == "object")
+    assert "fire" in heat["properties"]["kind"]["enum"]
+    run = next(o for o in props["run"]["oneOf"] if o.get("type") == "object")["properties"]
+    assert "API 521" in run["design_pressure_pa"]["description"]
+    assert "parameters" in doc["components"]["schemas"]["Case"]["properties"]
