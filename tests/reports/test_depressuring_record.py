@@ -77,3 +77,4 @@ def test_the_record_carries_the_run_its_numbers_and_the_caution(snapshot, tmp_pa
     # the curves are drawn with real text
     assert "time [min]" in flat and "inventory [kg]" in flat
     assert "Results by condition" in flat and "one run in time" in flat
+    assert "The result holds no answers" not in flat
