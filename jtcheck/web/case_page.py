@@ -11,6 +11,7 @@ from typing import Any
 
 from flask import current_app, render_template
 
+from jtcheck import depressuring_lists
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service
 from jtcheck.records.case_inputs import field_value
@@ -56,9 +57,15 @@ def _case_context(case: Case, review_form: FormState | None = None, review_step:
             continue
         unit = display_unit(q, shown)
         inputs.append((q, to_display(q, value, unit, case.p_atm_pa), unit, value))
+    # a depressuring case's vessel, orifices, heat input and run, as the form writes them
+    words = {"vessel": "Vessel", "orifices": "Orifices", "heat_input": "Heat input", "run": "Run and target"}
+    kind_inputs = [(words[name], depressuring_lists.text_of(name, value, shown.get("inlet_pressure") or "barg",
+                                                            shown.get("inlet_temperature") or "degC", case.p_atm_pa))
+                   for name, value in (case.parameters or {}).items() if name in words and value]
     user = current_user()
     review = review_context(case, user, review_form, review_step)
-    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown), "review": review,
+    return {"case": case, "inputs": inputs, "kind_inputs": kind_inputs, "p_atm_unit": p_atm_unit_for(shown),
+            "review": review,
             "can_edit": service.can_edit_cases(user) and not review["frozen"],
             "can_delete": removal.may_delete_case(user, case),
             "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,

@@ -34,7 +34,9 @@ def test_a_depressuring_case_from_the_form_is_computed_and_shown_with_its_curves
         assert case.parameters["vessel"] == {"orientation": "vertical", "inner_diameter_m": 1.2, "length_m": 3.0,
                                              "wall_thickness_m": 0.02}
         assert case.parameters["orifices"] == [{"name": "BDV-9", "diameter_m": 0.03, "discharge_coefficient": 0.85}]
-    # the edit form shows the stored inputs back as text
+    # the case page shows them, and the edit form gives them back as text
+    view = engineer.get(f"/cases/{case_id}").data.decode()
+    assert "orientation=vertical; diameter=1.2 m; length=3 m; wall=20 mm" in view and "BDV-9; 30 mm; 0.85" in view
     edit = engineer.get(f"/cases/{case_id}/edit").data.decode()
     assert "diameter=1.2 m" in edit and "BDV-9; 30 mm; 0.85" in edit and "design=100 barg" in edit
     resp = engineer.post(f"/cases/{case_id}/compute")
