@@ -123,3 +123,14 @@ def test_the_openapi_document_describes_the_depressuring_objects(api):
     run = next(o for o in props["run"]["oneOf"] if o.get("type") == "object")["properties"]
     assert "API 521" in run["design_pressure_pa"]["description"]
     assert "parameters" in doc["components"]["schemas"]["Case"]["properties"]
+
+
+def test_a_liquid_level_in_a_gas_is_refused_at_compute_naming_the_field(app, api, world):
+    body = case_body(world, tag=unique("BDV"), kind="vessel_depressuring", outlet_pressure="2 barg",
+                     vessel={"orientation": "vertical", "inner_diameter_m": 1.0, "length_m": 2.0,
+                             "wall_thickness_m": 0.015, "liquid_level_m": 0.5},
+                     orifices=[{"name": "RO-1", "diameter_m": 0.025, "discharge_coefficient": 0.8}])
+    case = api(Role.ENGINEER, "POST", "/api/v1/cases", json=body).get_json()
+    resp = api(Role.ENGINEER, "POST", f"/api/v1/cases/{case['id']}/compute")
+    assert resp.status_code == 422, resp.get_json()
+    assert "vessel.liquid_level_m" in str(resp.get_json()) and "two-phase" in str(resp.get_json())

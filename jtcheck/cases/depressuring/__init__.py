@@ -28,6 +28,7 @@ from jtcheck.cases.depressuring.inputs import (
 from jtcheck.cases.depressuring.screen import screen_run, stored_run
 from jtcheck.cases.kind import CaseKind
 from jtcheck.cases.letdown import LETDOWN_FIELDS, cold_limits
+from jtcheck.errors import InputError
 from jtcheck.screening.screen import Condition, Screening
 from jtcheck.thermo.fluid import Fluid
 
@@ -35,6 +36,9 @@ from jtcheck.thermo.fluid import Fluid
 RUN_CONDITION = "depressuring run"
 #: Times at which the blowdown valve's outlet temperature is computed.
 VALVE_POINTS = 30
+#: Where the engine's errors name an input, and where the case holds it.
+_ENGINE_FIELDS = {"liquid_level": "vessel.liquid_level_m", "t0": "inlet_temperature_k", "p0": "inlet_pressure_pa",
+                  "back_pressure": "outlet_pressure_pa", "wall_t0": "vessel.wall_t0_k"}
 #: The quantity fields: the initial pressure and temperature of the vessel and the back pressure (the register's
 #: inlet and outlet fields, so that a case of any kind has them).
 DEPRESSURING_FIELDS = LETDOWN_FIELDS[:3]
@@ -75,12 +79,15 @@ class VesselDepressuringKind(CaseKind):
         vessel, extra = vessel_of(values)
         orifices = orifices_of(values)
         plan = run_of(values, orifices)
-        result = depressure(fluid, p0_pa=values["inlet_pressure_pa"], t0_k=values["inlet_temperature_k"],
-                            vessel=vessel, orifices=orifices, liquid_level_m=extra["liquid_level_m"],
-                            wall_material=extra["wall_material"], wall_t0_k=extra["wall_t0_k"],
-                            heat_input=heat_input_of(values), end_time_s=plan.end_time_s,
-                            end_pressure_pa=plan.end_pressure_pa, target_pressure_pa=plan.target_pressure_pa,
-                            target_time_s=plan.target_time_s, valve_points=VALVE_POINTS)
+        try:
+            result = depressure(fluid, p0_pa=values["inlet_pressure_pa"], t0_k=values["inlet_temperature_k"],
+                                vessel=vessel, orifices=orifices, liquid_level_m=extra["liquid_level_m"],
+                                wall_material=extra["wall_material"], wall_t0_k=extra["wall_t0_k"],
+                                heat_input=heat_input_of(values), end_time_s=plan.end_time_s,
+                                end_pressure_pa=plan.end_pressure_pa, target_pressure_pa=plan.target_pressure_pa,
+                                target_time_s=plan.target_time_s, valve_points=VALVE_POINTS)
+        except InputError as exc:   # an input the fluid's state refuses (a liquid level in a gas): named as entered
+            raise InputError(_ENGINE_FIELDS.get(exc.field, exc.field), exc.message) from None
         limits = cold_limits(values)
         outcome, findings, paths = screen_run(result, limits, values.get("material_spec"), plan, values["p_atm_pa"])
         t_min, where = (None, "")
