@@ -183,3 +183,28 @@ def test_nitrogen_rich_gas_with_ice_is_not_screened():
     assert not cold.screened and "with ice" in cold.reason and cold.t_model_k < 273.15
     warm = jtcheck.hydrate_temperature(mix, 80e5)
     assert warm.screened and warm.water_phase == "liquid water"
+
+
+class _OtherModelFluid:
+    """A mixture that is not a jtcheck Fluid but offers the model interface (as a GERG-2008 fluid will): the hydrate
+    model must take it and draw its guest fugacities from it."""
+
+    def __init__(self, inner: Fluid, eos: str = "other model"):
+        self._inner = inner
+        self.ids, self.zs, self.mixture, self.eos = inner.ids, inner.zs, inner.mixture, eos
+
+    def with_composition(self, composition):
+        return _OtherModelFluid(self._inner.with_composition(composition), self.eos)
+
+
+def test_any_fluid_on_the_model_interface_is_taken():
+    inner = Fluid(NATURAL_GAS, eos="SRK")
+    other = jtcheck.hydrate_temperature(_OtherModelFluid(inner), np.array([20e5, 80e5]))
+    own = jtcheck.hydrate_temperature(inner, np.array([20e5, 80e5]))
+    assert np.allclose(other.t_k, own.t_k, atol=1e-9) and other.eos == "other model"
+
+
+def test_an_object_without_the_model_interface_names_what_it_lacks():
+    with pytest.raises(jtcheck.errors.InputError) as exc:
+        jtcheck.hydrate_temperature(object(), 50e5)
+    assert exc.value.field == "fluid" and "mixture" in exc.value.message

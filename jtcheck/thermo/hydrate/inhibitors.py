@@ -180,7 +180,8 @@ def _ln_gamma_water(x_inh: float, inhibitor: str, t_k: float) -> float:
 
 def ln_gamma_inhibitor(mass_percent: float, inhibitor: str, t_k: float) -> float:
     """ln gamma of the inhibitor in its aqueous solution [-] (pure-liquid reference), original UNIFAC
-    (Fredenslund et al. 1975; Hansen et al. 1991 parameters), ``mass_percent`` [mass %] in the free water, ``t_k`` [K]."""
+    (Fredenslund et al. 1975; Hansen et al. 1991 parameters); ``mass_percent`` [mass %] in the free water,
+    ``t_k`` [K]."""
     x_w = 1.0 - mole_fraction(float(mass_percent), inhibitor)
     r, q, nu, qg, amat = _pair_tables(INHIBITORS[inhibitor], _WATER)
     return float(_ln_gamma_water_kernel(x_w, float(t_k), r, q, nu, qg, amat))

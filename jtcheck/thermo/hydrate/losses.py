@@ -17,7 +17,9 @@ methanol between the inhibited water and the other phases, with the same activit
   Craven (1993) vapour pressure in CoolProp 8.0.0 down to 233 K, tests/thermo/test_hydrate_losses.py), v_M the
   molar volume of liquid methanol (40.5 cm3/mol: 32.04 g/mol at 0.791 g/cm3, 20 degC, from memory) and phi_M
   the fugacity coefficient of methanol at infinite dilution in the gas from the case's own equation of state
-  (Peng-Robinson where the case's model does not hold methanol; the result says which);
+  (Peng-Robinson where the case's model does not hold methanol; the result says which).  jtcheck's kij table
+  holds no methane-methanol value, so 0 is taken there: that makes the gas too good a solvent for methanol
+  (fitted values are positive, from memory), so the loss to the gas is over- rather than under-stated;
 * hydrocarbon liquid (when the water-free fluid flashes to two phases at the outlet): equal activity of
   methanol in the water and in the liquid, x_M,HC gamma_M,HC = x_M gamma_M, with the liquid represented by the
   n-alkane of its mean molar mass in the same UNIFAC (a screening simplification: aromatics dissolve more
