@@ -116,13 +116,24 @@ def _ln_phi_methanol(dry, comp: np.ndarray, t_k: float, p_pa: float) -> tuple[fl
     from jtcheck.thermo.models.interface import ln_phi
 
     eps = 1e-6
-    pairs = [(c, float(z) * (1.0 - eps)) for c, z in zip(dry.ids, comp, strict=True) if z > 0.0] + [("methanol", eps)]
-    try:
-        mix = dry.with_composition(pairs)
-        name = eos_name(mix)
-    except (JtcheckError, KeyError, ValueError):
-        mix = Fluid(pairs, eos="PR")
-        name = "PR (the case's model does not hold methanol)"
+    key = tuple(np.round(comp, 12).tolist())
+    store = getattr(dry, "_methanol_mixtures", None)
+    if store is None:
+        store = dry._methanol_mixtures = {}
+    got = store.get(key)
+    if got is None:
+        pairs = [(c, float(z) * (1.0 - eps)) for c, z in zip(dry.ids, comp, strict=True) if z > 0.0]
+        pairs.append(("methanol", eps))
+        try:
+            mix = dry.with_composition(pairs)
+            name = eos_name(mix)
+        except (JtcheckError, KeyError, ValueError):
+            mix = Fluid(pairs, eos="PR")
+            name = "PR (the case's model does not hold methanol)"
+        if len(store) > 1000:
+            store.clear()
+        got = store[key] = (mix, name)
+    mix, name = got
     x = np.ascontiguousarray(mix.zs, dtype=float)
     out = np.empty(x.size)
     ln_phi(mix.mixture.kernel_params, float(t_k), float(p_pa), x, VAPOUR, out)
@@ -166,7 +177,10 @@ def inhibitor_losses(fluid, p_pa: float, t_k: float, mass_percent: float, inhibi
     keep = [i for i, c in enumerate(ids) if c not in ("water", "methanol")]
     if not keep:
         return _not_computed(inhibitor, "no gas to carry methanol")
-    dry = fluid.with_composition([(ids[i], float(zs[i]) / float(zs[keep].sum())) for i in keep])
+    dry = getattr(fluid, "_loss_dry", None)       # the water-free fluid, made once per fluid
+    if dry is None:
+        dry = fluid.with_composition([(ids[i], float(zs[i]) / float(zs[keep].sum())) for i in keep])
+        fluid._loss_dry = dry
     res = dry.flash_pt(t, p)
     if not res.converged:
         return _not_computed(inhibitor, f"methanol losses not computed: the outlet flash failed ({res.message})")
