@@ -9,7 +9,10 @@ Sources
   indirect systems, International Institute of Refrigeration, 2nd ed. (2010), as fitted in CoolProp 8.0.0's
   incompressible mixtures ``INCOMP::MMA`` (methanol) and ``INCOMP::MEG``.  The freezing point tests the water
   activity directly: at the freezing point the inhibited water is in equilibrium with ice, and that same
-  activity is what the inhibitor changes in van der Waals-Platteeuw.
+  activity is what the inhibitor changes in van der Waals-Platteeuw (the link between the freezing-point depression
+  of the aqueous solution and the hydrate suppression is the basis of Najibi, Mohammadi and Tohidi, "Estimating the
+  hydrate safety margin in the presence of salt and/or organic inhibitor using freezing point depression data of
+  aqueous solutions", Ind. Eng. Chem. Res. 45 (2006) 4441).
 * Hammerschmidt, Ind. Eng. Chem. 26 (1934) 851, K = 2335 degF for methanol (as in the GPSA Engineering Data
   Book sec. 20) and 2700 degF for MEG (GPSA sec. 20, from memory): the cross-check of common practice.
 * Published inhibited hydrate equilibrium measurements (methane or a natural gas with 10-40 mass% methanol or
