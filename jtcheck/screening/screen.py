@@ -440,10 +440,10 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
                     + (f"; injection {3600 * h.injection_kg_per_s:.3g} kg/h with the losses to the other phases"
                        if math.isfinite(h.injection_kg_per_s) else "")
                     + ") would suppress it with the margin"
-                    + ("; this is an upper bound, not a checked dose (beyond the range in which the water activity "
-                       "is checked)" if h.dose_upper_bound else "")
                     + (f" (Hammerschmidt: {h.hammerschmidt_weight_percent:.1f} wt%)"
-                       if math.isfinite(h.hammerschmidt_weight_percent) else ""))
+                       if math.isfinite(h.hammerschmidt_weight_percent) else "")
+                    + ("; this is an upper bound, not a checked dose (beyond the range in which the water activity "
+                       "is checked)" if h.dose_upper_bound else ""))
         else:
             why = h.dose_note.removeprefix("no dose can be given: ").split("; ")[0]
             dose = f"No {h.inhibitor} dose is given: {why}"
