@@ -349,3 +349,15 @@ def test_generated_cases_from_the_options():
     res = CliRunner().invoke(main, ["letdown", "--fluid", FLUID, "--p-in", "70 barg", "--t-in", "20 degC",
                                     "--p-out", "10 barg", "--case-off", "start_up:"])
     assert res.exit_code == EXIT_INPUT and "case_off.start_up" in res.output
+
+
+def test_letdown_prints_the_hydrate_numbers_for_a_wet_gas():
+    # the same words and numbers as the result page's hydrate block (issue 13)
+    res = run("letdown", "--fluid", FLUID, "--p-in", "80 barg", "--t-in", "20 degC", "--p-out", "65 barg",
+              "--limit", "-29 degC", "--water-content", "7 lb/MMscf", "--mass-flow", "10")
+    assert "hydrates at the governing outlet (van der Waals-Platteeuw" in res.output, res.output
+    assert "hydrate temperature" in res.output and "water: water content" in res.output
+    assert "Hammerschmidt" in res.output and "injection" in res.output
+    dry = run("letdown", "--fluid", FLUID, "--p-in", "80 barg", "--t-in", "20 degC", "--p-out", "65 barg",
+              "--limit", "-29 degC")
+    assert "hydrates at the governing outlet" not in dry.output

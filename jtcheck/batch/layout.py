@@ -27,6 +27,8 @@ from jtcheck.units import (
     PRESSURE_UNITS,
     TEMPERATURE_DIFFERENCE_UNITS,
     TEMPERATURE_UNITS,
+    WATER_CONTENT_CHOICES,
+    WATER_CONTENT_UNITS,
     pressure_unit_names,
 )
 
@@ -57,13 +59,17 @@ ABSOLUTE_PRESSURE = "absolute pressure"
 PRESSURE_DIFFERENCE = "pressure difference"
 PERCENT = "percent"
 MASS_FLOW = "mass flow"
+#: Water carried by a gas: mg/Sm3 or lb/MMscf (jtcheck.units.WATER_CONTENT_UNITS).
+WATER_CONTENT = "water content"
 YES_NO = "yes/no"
 #: Items typed one a line in a cell, separated by '|' (jtcheck.itemlists).
 ITEMS = "items"
 
 #: Quantities whose header carries a unit in square brackets.
 UNIT_QUANTITIES = (PRESSURE, TEMPERATURE, TEMPERATURE_DIFFERENCE, ABSOLUTE_PRESSURE, PRESSURE_DIFFERENCE, PERCENT,
-                   MASS_FLOW)
+                   MASS_FLOW, WATER_CONTENT)
+#: What an empty water content and water dew point mean (shown as the columns' default).
+WATER_DEFAULT = "saturated at inlet (conservative)"
 #: The one unit of a mass-flow column.
 MASS_FLOW_UNIT = "kg/s"
 
@@ -168,6 +174,14 @@ COLUMNS: tuple[Column, ...] = (
            "Required margin above the governing limit, 0 to 100 K (K or degF)."),
     Column("water_saturated", "water saturated", YES_NO, False, "no", "",
            "yes: screen for hydrates as if the gas were water-saturated; no (or empty): as given."),
+    Column("water_content", "water content", WATER_CONTENT, False, WATER_DEFAULT, "mg/Sm3",
+           "Water the gas carries (mg/Sm3 at 15 degC, 101.325 kPa, or lb/MMscf): free water at the outlet by "
+           "Bukacek's correlation; a row with it is screened for hydrates. Empty, with no water dew point: the gas "
+           "is taken as saturated with water at the inlet, the conservative default (on rows screened for "
+           "hydrates)."),
+    Column("water_dew_point", "water dew point", TEMPERATURE, False, WATER_DEFAULT, "degC",
+           "Water dew point of the gas at the outlet pressure, instead of the water content (give one of the two); "
+           "a row with it is screened for hydrates."),
     Column("atmospheric_pressure", "atmospheric pressure", ABSOLUTE_PRESSURE, False, "1.01325 bar", "bar",
            "Atmospheric pressure for the row's gauge pressures, in an absolute unit, 0.3 to 2 bar."),
     Column("mass_flow", "mass flow", MASS_FLOW, False, "", MASS_FLOW_UNIT,
@@ -234,7 +248,8 @@ KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure
                 "mass_flow": "mass_flow_kg_per_s", "other_sources": "other_sources",
                 "heater_off_temperature": "heater_upstream_temperature_k",
                 "min_ambient_temperature": "ambient_temperature_min_k", "settle_out_volumes": "settle_out_volumes",
-                "cases_off": "credible_off"}
+                "cases_off": "credible_off", "water_content": "water_content_kg_per_sm3",
+                "water_dew_point": "water_dew_point_k"}
 
 COLUMN_BY_KEY: dict[str, Column] = {c.key: c for c in COLUMNS}
 REQUIRED_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if c.required)
@@ -287,6 +302,8 @@ def allowed_units(quantity: str) -> list[str]:
         return ["%"]
     if quantity == MASS_FLOW:
         return [MASS_FLOW_UNIT]
+    if quantity == WATER_CONTENT:
+        return list(WATER_CONTENT_CHOICES)
     return []
 
 
@@ -307,6 +324,7 @@ def unit_problem(column: Column, unit: str | None) -> str | None:
         PRESSURE_DIFFERENCE: key in PRESSURE_UNITS and not PRESSURE_UNITS[key][1],
         PERCENT: key == "%",
         MASS_FLOW: key == MASS_FLOW_UNIT,
+        WATER_CONTENT: key in WATER_CONTENT_UNITS,
     }[column.quantity]
     if ok:
         return None

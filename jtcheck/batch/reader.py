@@ -53,6 +53,7 @@ from jtcheck.batch.layout import (
     REQUIRED_KEYS,
     TEMPERATURE,
     TEMPERATURE_DIFFERENCE,
+    WATER_CONTENT,
     YES_NO,
     YES_WORDS,
     Column,
@@ -63,7 +64,7 @@ from jtcheck.batch.layout import (
 )
 from jtcheck.cases import kind_of
 from jtcheck.cases.batch import kind_hooks
-from jtcheck.cases.fields import MASS_FLOW_RANGE_KG_PER_S
+from jtcheck.cases.fields import MASS_FLOW_RANGE_KG_PER_S, WATER_CONTENT_RANGE_KG_PER_SM3
 from jtcheck.cases.letdown import COINCIDENT_OUTLET
 from jtcheck.errors import InputError, UnknownComponentError
 from jtcheck.screening.batch import BatchCase
@@ -78,6 +79,7 @@ from jtcheck.units import (
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
+    parse_water_content,
 )
 
 #: Range of the atmospheric pressure column [Pa abs].
@@ -493,6 +495,13 @@ class _Reader:
             if not (math.isfinite(value) and lo < value < hi):
                 raise InputError(col.key, f"{text!r}: the mass flow must lie above {lo:g} and below {hi:g} "
                                           f"{MASS_FLOW_UNIT}")
+            return value
+        if col.quantity == WATER_CONTENT:
+            value, _ = parse_water_content(text, col.key)
+            lo, hi, _ = WATER_CONTENT_RANGE_KG_PER_SM3
+            if not lo < value < hi:
+                raise InputError(col.key, f"{text!r}: the water content must lie above 0 and below {hi * 1e6:g} "
+                                          "mg/Sm3")
             return value
         if col.quantity == ABSOLUTE_PRESSURE:
             p = parse_pressure(text, col.key)

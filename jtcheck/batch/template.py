@@ -67,6 +67,10 @@ def template_rows() -> list[dict[str, Any]]:
             "cold_limit": "",
             "margin": _number(f.get("margin_k", 0.0)),
             "water_saturated": "yes" if f.get("water_saturated") else "no",
+            # empty: saturated at the inlet (the conservative default) on rows screened for hydrates
+            "water_content": "" if f.get("water_content_kg_per_sm3") is None
+            else _number(1e6 * f["water_content_kg_per_sm3"]),
+            "water_dew_point": degc(f.get("water_dew_point_k")),
             "atmospheric_pressure": _number(P_ATM / 1e5),
             # the relieving case of the demo's relief valves, as the register holds it
             "set_pressure": barg(f.get("set_pressure_pa")),

@@ -24,7 +24,15 @@ from typing import Any
 
 from jtcheck import __version__
 from jtcheck.batch.cells import FORMULA_START, formula_safe
-from jtcheck.batch.layout import ABSOLUTE_PRESSURE, COLUMNS, KIND_COLUMNS, PRESSURE, TEMPERATURE, Column
+from jtcheck.batch.layout import (
+    ABSOLUTE_PRESSURE,
+    COLUMNS,
+    KIND_COLUMNS,
+    PRESSURE,
+    TEMPERATURE,
+    WATER_DEFAULT,
+    Column,
+)
 from jtcheck.batch.reader import CaseSource, ReadResult, canonical_unit
 from jtcheck.notices import CAUTION
 from jtcheck.screening.batch import BatchCase, BatchRowResult, BatchScreening
@@ -125,6 +133,7 @@ def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
             cols.append(_Out(c.header(units[c.key]), "display"))
         elif c.key == "water_saturated":
             cols.append(_Out(c.name))
+            cols.append(_Out("water basis", "long"))
     for c in _quantity_columns():
         si = "Pa" if c.quantity in (PRESSURE, ABSOLUTE_PRESSURE) else "K"
         cols.append(_Out(f"SI {c.name} [{si}]", "si"))
@@ -135,6 +144,23 @@ def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
              _Out(f"margin to limit [{d_unit}]", "display"), _Out("outcome", "outcome"), _Out("findings", "long"),
              _Out("path"), _Out("message", "long")]
     return cols
+
+
+def water_basis_text(case: BatchCase | None, t_unit: str) -> str:
+    """The water a row's gas carries, as the hydrate screening takes it (the saturated-at-inlet default shown)."""
+    if case is None:
+        return ""
+    content = case.extras.get("water_content_kg_per_sm3")
+    dew = case.extras.get("water_dew_point_k")
+    if content is not None:
+        return f"water content {content * 1e6:.4g} mg/Sm3"
+    if dew is not None:
+        return f"water dew point {_temperature(dew, t_unit):.4g} {t_unit} at the outlet pressure"
+    if "water" in case.fluid.ids:
+        return "water in the composition"
+    if case.water_saturated:
+        return f"{WATER_DEFAULT}: the default"
+    return "no water given: not screened for hydrates"
 
 
 def _findings_text(findings: Sequence[Any]) -> str:
@@ -180,6 +206,7 @@ def _row_values(result: BatchRowResult, case: BatchCase | None, source: CaseSour
                 values.append(_pressure(si[c.key], u, 0.0 if c.key == "atmospheric_pressure" else p_atm))
         elif c.key == "water_saturated":
             values.append("" if case is None else ("yes" if case.water_saturated else "no"))
+            values.append(water_basis_text(case, t_unit))
     values += [si[c.key] for c in _quantity_columns()]
     governing = case.limits.governing_k if case is not None else None
     by_model = result.t_out_by_model or {}

@@ -6,6 +6,7 @@ engineering core screens in SI, and the printers convert back to the units the u
 from __future__ import annotations
 
 import json
+import math
 import sys
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -447,6 +448,41 @@ def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnit
     click.echo("\nfindings")
     for f in screening.findings:
         click.echo(f"  [{f.severity.value}] {f.topic.value}: {f.message}")
+    print_hydrates(screening, units)
+
+
+def print_hydrates(screening: Screening, units: DisplayUnits) -> None:
+    """The hydrate numbers of the governing outlet (the hydrate finding's, as the result page and record show them)."""
+    found = [f for f in screening.findings if f.topic.value == "hydrates" and "t_hydrate_k" in (f.numbers or {})]
+    if not found:
+        return
+    n = found[0].numbers
+
+    def t(k):
+        return units.temperature(k) if k is not None and math.isfinite(k) else "-"
+
+    def kgh(v):
+        return f"{3600 * v:.4g} kg/h" if v is not None and math.isfinite(v) else "-"
+
+    def pct(v):
+        return f"{v:.1f} mass %" if v is not None and math.isfinite(v) else "-"
+
+    click.echo(f"\nhydrates at the governing outlet ({n['method']})")
+    click.echo(f"  outlet {n['p_pa'] / 1e5:.2f} bar abs, {t(n['t_out_k'])}; hydrate temperature {t(n['t_hydrate_k'])}"
+               + (f", structure {n['structure']} with {n['water_phase']}" if n.get("structure") else ""))
+    sub = n.get("subcooling_k")
+    if sub is not None and math.isfinite(sub):
+        click.echo(f"  subcooling {units.difference_text(sub)}" + (" (inside the hydrate region)" if sub > 0 else ""))
+    click.echo(f"  water: {n.get('water_basis')}")
+    dose = n.get("inhibitor_weight_percent")
+    dose_text = pct(dose) if dose is not None and math.isfinite(dose) else "no dose"
+    bound = " (an upper bound, not a checked dose)" if n.get("dose_upper_bound") else ""
+    click.echo(f"  {n['inhibitor']} in the free water: {dose_text}{bound}; model "
+               f"{pct(n.get('model_weight_percent'))}, Hammerschmidt {pct(n.get('hammerschmidt_weight_percent'))}")
+    click.echo(f"  injection {kgh(n.get('injection_kg_per_s'))}: free water "
+               f"{kgh(n.get('injection_to_water_kg_per_s'))}, lost to the gas "
+               f"{kgh(n.get('injection_lost_to_gas_kg_per_s'))}, to a hydrocarbon liquid "
+               f"{kgh(n.get('injection_lost_to_liquid_kg_per_s'))}")
 
 
 def print_kind_answers(answers: dict, units: DisplayUnits) -> None:

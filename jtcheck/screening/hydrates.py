@@ -12,7 +12,10 @@ Screening (:func:`assess_hydrates`)
   the gas is dry enough and the result says so.
 * Inhibitor dose: the larger of the model's (water activity of the inhibited water by original UNIFAC,
   :mod:`jtcheck.thermo.hydrate.inhibitors`) and Hammerschmidt's, each inside its range (methanol, MEG);
-  otherwise no dose, with the reason.  Injection rate from the free water of the case's flow.
+  otherwise no dose, with the reason.  Above the concentration up to which UNIFAC's water activity is checked
+  against published freezing points the dose is marked an upper bound.  Injection rate: the free water of the
+  case's flow times the dose, plus methanol lost to the gas and to a hydrocarbon liquid
+  (:mod:`jtcheck.thermo.hydrate.losses`).
 
 Cross-checks kept from the earlier screening (the rest of this module)
 ----------------------------------------------------------------------
@@ -854,8 +857,17 @@ class HydrateAssessment:
     model_weight_percent, hammerschmidt_weight_percent : float
         The two doses [mass %] (NaN where that method does not apply).
     injection_kg_per_s : float
-        Inhibitor injection for the case's flow [kg/s] (free water at the outlet times the dose ratio;
-        NaN when the flow or the free water is unknown).
+        Inhibitor injection for the case's flow [kg/s]: what the free water at the outlet needs (its water
+        times the dose ratio) plus, for methanol, what is lost to the gas and to a hydrocarbon liquid
+        (:mod:`jtcheck.thermo.hydrate.losses`); NaN when the flow, the free water or the losses are unknown.
+    injection_to_water_kg_per_s, injection_lost_to_gas_kg_per_s, injection_lost_to_liquid_kg_per_s : float
+        Its three parts [kg/s] (NaN when unknown).
+    dose_upper_bound : bool
+        The model's dose lies above the concentration up to which its water activity is checked
+        (:data:`jtcheck.thermo.hydrate.inhibitors.ACTIVITY_CHECKED_MASS_PERCENT`): the dose is an upper bound,
+        not a checked number.
+    loss_note : str
+        The losses in words, or why they were not computed.
     dose_note : str
     gas_gravity : float
     katz_t_hydrate_k : float
@@ -888,6 +900,11 @@ class HydrateAssessment:
     model_weight_percent: float
     hammerschmidt_weight_percent: float
     injection_kg_per_s: float
+    injection_to_water_kg_per_s: float
+    injection_lost_to_gas_kg_per_s: float
+    injection_lost_to_liquid_kg_per_s: float
+    dose_upper_bound: bool
+    loss_note: str
     dose_note: str
     gas_gravity: float
     katz_t_hydrate_k: float
@@ -1016,10 +1033,11 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         Bad fluid, pressure, temperature, margin, water input or inhibitor; the field is named.
     """
     from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, METHOD_NAME
-    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K, hydrate_point
+    from jtcheck.thermo.hydrate.equilibrium import T_RANGE_K, check_fluid, hydrate_point
+    from jtcheck.thermo.hydrate.inhibitors import ACTIVITY_CHECKED_MASS_PERCENT
+    from jtcheck.thermo.hydrate.losses import inhibitor_losses
 
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    check_fluid(fluid)
     if np.ndim(p_out_pa) != 0:
         raise InputError("p_out", "assess_hydrates takes one outlet pressure [Pa]")
     if np.ndim(t_out_k) != 0:
@@ -1103,6 +1121,7 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
     w_model = w_ham = nan
     dose_note = ""
     weight, ratio, dose_ok = 0.0, 0.0, True
+    upper_bound = False
     if required > 0.0:
         w_model, why = model_dose(fluid, p, t - total_margin, inh)
         parts = []
@@ -1119,25 +1138,46 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         if math.isfinite(w_model) and candidates:
             weight = max(candidates)
             ratio = float(inhibitor_mass_ratio(weight))
+            checked = ACTIVITY_CHECKED_MASS_PERCENT.get(inh.value, 0.0)
+            upper_bound = w_model > checked
             dose_note = (f"dose {weight:.1f} mass% {inh.value} in the free water: the larger of van der "
                          "Waals-Platteeuw "
                          f"with UNIFAC water activity ({w_model:.1f} mass%)"
                          + (f" and Hammerschmidt ({w_ham:.1f} mass%)" if math.isfinite(w_ham)
                                else " (Hammerschmidt not applicable)"))
+            if upper_bound:
+                dose_note += (f"; an upper bound, not a checked dose: above {checked:g} mass% {inh.value} UNIFAC "
+                              "under-predicts the freezing-point depression of the solution (published freezing "
+                              "points), so it gives too small a suppression and too large a dose; the need may be "
+                              "smaller (confirm with inhibited hydrate data)")
         else:
             weight, ratio, dose_ok = nan, nan, False
             dose_note = "no dose can be given: " + "; ".join(parts or ["no method holds"])
         if parts and math.isfinite(weight):
             dose_note += "; " + "; ".join(parts)
-    injection = nan
+    injection = to_water = to_gas = to_liquid = nan
+    loss_note = ""
     if math.isfinite(weight) and weight > 0.0 and mass_flow_kg_per_s and water is not None and \
             math.isfinite(water.free_water_kg_per_sm3):
         m_gas = fluid.molar_mass        # kg/mol
         sm3_per_s = mass_flow_kg_per_s / m_gas * 8.314462618 * 288.15 / 101325.0
-        injection = sm3_per_s * water.free_water_kg_per_sm3 * ratio
-        dose_note += (f"; injection {injection * 3600:.3g} kg/h for the free water of the case's flow"
-                      + ("; methanol lost to the gas and to any hydrocarbon liquid comes on top (not included)"
-                         if inh is Inhibitor.METHANOL else ""))
+        to_water = sm3_per_s * water.free_water_kg_per_sm3 * ratio
+        loss = inhibitor_losses(fluid, p, t, weight, inh.value)
+        loss_note = loss.note
+        if loss.computed:
+            to_gas = mass_flow_kg_per_s * loss.gas_mass_fraction * loss.gas_kg_per_kg
+            to_liquid = mass_flow_kg_per_s * loss.liquid_mass_fraction * loss.liquid_kg_per_kg
+            injection = to_water + to_gas + to_liquid
+            dose_note += (f"; injection {injection * 3600:.3g} kg/h for the case's flow: {to_water * 3600:.3g} kg/h "
+                          f"to the free water, {to_gas * 3600:.3g} kg/h lost to the gas"
+                          + (f", {to_liquid * 3600:.3g} kg/h lost to the hydrocarbon liquid" if to_liquid > 0.0 else
+                             "") + f" ({loss.note}; {loss.method})")
+        elif inh is Inhibitor.METHANOL:
+            dose_note += (f"; no injection rate: {loss.note} (the free water alone would take {to_water * 3600:.3g} "
+                          "kg/h)")
+        else:
+            injection = to_water
+            dose_note += f"; injection {injection * 3600:.3g} kg/h for the free water of the case's flow ({loss.note})"
 
     katz = _katz_cross_check(fluid, p, gravity)
     validity = [f"{METHOD_NAME}: " + ("inside its checked range (largest checked deviation "
@@ -1156,5 +1196,7 @@ def assess_hydrates(fluid: Fluid, p_out_pa: float, t_out_k: float, *, water_pres
         checked_deviation_k=CHECKED_DEVIATION_K, design_margin_k=margin, required_depression_k=required,
         inhibitor=inh.value, inhibitor_weight_percent=weight, inhibitor_kg_per_kg_water=ratio,
         model_weight_percent=w_model, hammerschmidt_weight_percent=w_ham, injection_kg_per_s=injection,
+        injection_to_water_kg_per_s=to_water, injection_lost_to_gas_kg_per_s=to_gas,
+        injection_lost_to_liquid_kg_per_s=to_liquid, dose_upper_bound=upper_bound, loss_note=loss_note,
         dose_note=dose_note, gas_gravity=gravity, katz_t_hydrate_k=katz, water=water,
         within_validity=bool(screened and dose_ok), validity_note="; ".join(validity), notes=tuple(notes))

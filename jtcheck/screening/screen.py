@@ -419,7 +419,14 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
                "inhibitor_kg_per_kg_water": h.inhibitor_kg_per_kg_water,
                "model_weight_percent": h.model_weight_percent,
                "hammerschmidt_weight_percent": h.hammerschmidt_weight_percent,
-               "injection_kg_per_s": h.injection_kg_per_s, "within_validity": h.within_validity}
+               "injection_kg_per_s": h.injection_kg_per_s,
+               "injection_to_water_kg_per_s": h.injection_to_water_kg_per_s,
+               "injection_lost_to_gas_kg_per_s": h.injection_lost_to_gas_kg_per_s,
+               "injection_lost_to_liquid_kg_per_s": h.injection_lost_to_liquid_kg_per_s,
+               "dose_upper_bound": h.dose_upper_bound, "within_validity": h.within_validity,
+               "water_basis": h.water.basis if h.water is not None else "free water assumed",
+               "water_content_mg_per_sm3": h.water.content_mg_per_sm3 if h.water is not None else float("nan"),
+               "water_dew_point_outlet_k": h.water.dew_point_outlet_k if h.water is not None else float("nan")}
     basis = "; ".join([h.validity_note, *h.notes])
     if not h.screened:
         return Finding(Topic.HYDRATES, Severity.CAUTION,
@@ -429,7 +436,14 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
     if h.in_hydrate_region:
         if math.isfinite(h.inhibitor_weight_percent):
             dose = (f"{h.inhibitor} at {h.inhibitor_weight_percent:.1f} wt% in the free water "
-                    f"({h.inhibitor_kg_per_kg_water:.2f} kg per kg of water) would suppress it with the margin")
+                    f"({h.inhibitor_kg_per_kg_water:.2f} kg per kg of water"
+                    + (f"; injection {3600 * h.injection_kg_per_s:.3g} kg/h with the losses to the other phases"
+                       if math.isfinite(h.injection_kg_per_s) else "")
+                    + ") would suppress it with the margin"
+                    + (f" (Hammerschmidt: {h.hammerschmidt_weight_percent:.1f} wt%)"
+                       if math.isfinite(h.hammerschmidt_weight_percent) else "")
+                    + ("; this is an upper bound, not a checked dose (beyond the range in which the water activity "
+                       "is checked)" if h.dose_upper_bound else ""))
         else:
             why = h.dose_note.removeprefix("no dose can be given: ").split("; ")[0]
             dose = f"No {h.inhibitor} dose is given: {why}"

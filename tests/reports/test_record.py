@@ -331,3 +331,15 @@ def test_the_record_shows_each_margin_term_and_the_total(snapshots):
     text = html.unescape(render_html(snapshots["PCV-1101"], "A4"))
     assert "entered margin" in text and "model spread (PR vs SRK at " in text
     assert "total margin" in text and "|PR - SRK| outlet temperature at the condition that governs" in text
+
+
+def test_the_record_shows_the_hydrate_numbers(snapshots):
+    # the demo separator gas is water-saturated (invented Kestrel Ridge data): the record's hydrate block gives the
+    # hydrate temperature at the governing outlet, the subcooling, the water basis and the dose with Hammerschmidt
+    snap = snapshots["PSV-2101"]
+    hyd = [f for f in snap["result"]["screening"]["findings"] if f["topic"] == "hydrates"][0]
+    page = render_html(snap, "A4")
+    assert "Hydrates at the governing outlet" in page
+    assert f"{hyd['numbers']['t_hydrate_k'] - 273.15:.2f} degC" in page
+    assert f"{hyd['numbers']['subcooling_k']:.2f} K" in page
+    assert "Hammerschmidt" in page and "Injection rate" in page and hyd["numbers"]["water_basis"] in page

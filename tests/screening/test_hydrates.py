@@ -415,7 +415,11 @@ def test_injection_rate_from_the_free_water(dry_gas):
                         mass_flow_kg_per_s=10.0)
     sm3_per_s = 10.0 / dry_gas.molar_mass * 8.314462618 * 288.15 / 101325.0
     expected = sm3_per_s * a.water.free_water_kg_per_sm3 * a.inhibitor_kg_per_kg_water
-    assert a.injection_kg_per_s == pytest.approx(expected) and a.injection_kg_per_s > 0
+    assert a.injection_to_water_kg_per_s == pytest.approx(expected) and expected > 0
+    # methanol lost to the gas comes on top (jtcheck.thermo.hydrate.losses); no hydrocarbon liquid here
+    assert a.injection_lost_to_gas_kg_per_s > 0.0 and a.injection_lost_to_liquid_kg_per_s == 0.0
+    assert a.injection_kg_per_s == pytest.approx(expected + a.injection_lost_to_gas_kg_per_s)
+    assert "lost to the gas" in a.dose_note
 
 
 @pytest.mark.parametrize("inhibitor", ["methanol", "MEG"])
@@ -446,3 +450,26 @@ def test_water_in_the_composition_gives_the_content():
     a = assess_hydrates(wet, 50e5, 285.0, p_in_pa=100e5, t_in_k=320.0)
     assert a.water.basis == "water content" and a.water.content_mg_per_sm3 == pytest.approx(7619, rel=1e-3)
     assert a.water.free_water and a.hydrate_risk
+
+
+def test_a_dose_beyond_the_checked_activity_is_an_upper_bound(wet_gas):
+    # UNIFAC's water activity is checked against published freezing points up to 13 mass% methanol
+    # (tests/thermo/test_hydrate_inhibitors.py); a dose above that is reported as an upper bound, never as checked
+    from jtcheck.thermo.hydrate.inhibitors import ACTIVITY_CHECKED_MASS_PERCENT
+
+    mild = assess_hydrates(wet_gas, 40e5, 286.0)
+    assert mild.hydrate_risk and mild.model_weight_percent <= ACTIVITY_CHECKED_MASS_PERCENT["methanol"]
+    assert not mild.dose_upper_bound and "upper bound" not in mild.dose_note
+    deep = assess_hydrates(wet_gas, 40e5, 280.0)
+    assert deep.hydrate_risk and deep.model_weight_percent > ACTIVITY_CHECKED_MASS_PERCENT["methanol"]
+    assert deep.dose_upper_bound and "an upper bound, not a checked dose" in deep.dose_note
+
+
+def test_methanol_lost_to_a_hydrocarbon_liquid_is_in_the_injection():
+    # a rich gas that drops a hydrocarbon liquid at 40 bar, 7 degC (non-formers within the model's 5 mol%)
+    rich = Fluid({"methane": 0.70, "propane": 0.15, "n-butane": 0.10, "n-pentane": 0.03, "n-hexane": 0.02}, eos="PR")
+    a = assess_hydrates(rich, 40e5, 280.0, water_present=True, p_in_pa=100e5, t_in_k=313.15, mass_flow_kg_per_s=5.0,
+                        water_basis="saturated at inlet")
+    assert a.hydrate_risk and a.injection_lost_to_liquid_kg_per_s > 0.0 and a.injection_lost_to_gas_kg_per_s > 0.0
+    assert a.injection_kg_per_s == pytest.approx(a.injection_to_water_kg_per_s + a.injection_lost_to_gas_kg_per_s
+                                                 + a.injection_lost_to_liquid_kg_per_s)

@@ -52,13 +52,21 @@ NATURAL_GAS = {"methane": 0.932, "ethane": 0.0425, "propane": 0.0161, "nitrogen"
 NATURAL_GAS_DATA = [(277.7, 1.6), (279.1, 1.924), (281.8, 2.648), (283.9, 3.392), (286.7, 4.82), (289.2, 6.964),
                     (290.2, 8.136), (291.2, 9.481), (292.1, 10.501), (293.3, 14.13), (293.3, 13.78), (294.0, 17.16),
                     (295.0, 20.264), (295.6, 22.99), (296.7, 27.5)]
+# A second natural gas, with 9.4 % nitrogen and butanes: the worked example of the K-value method (Katz and co-workers;
+# as carried in the GPSA Engineering Data Book sec. 20 and in Ahmed, Reservoir Engineering Handbook - attribution from
+# memory), its composition and "the experimentally observed hydrate-formation pressure is 325 psia at 50 F" as stated
+# in a stored public copy of the exercise.  (283.15 K, 2.2408 MPa.)
+SECOND_NATURAL_GAS = {"carbon dioxide": 0.002, "nitrogen": 0.094, "methane": 0.784, "ethane": 0.060, "propane": 0.036,
+                      "isobutane": 0.005, "n-butane": 0.019}
+SECOND_NATURAL_GAS_DATA = [((50.0 - 32.0) / 1.8 + 273.15, 325.0 * 0.006894757293168361)]
 # Lower quadruple points (ice, liquid water, hydrate, gas), Sloan and Koh (2008) Table 4.1, from memory.
 QUADRUPLE = [("methane", 272.9, 2.563), ("ethane", 273.1, 0.530), ("propane", 273.1, 0.172),
              ("carbon dioxide", 273.1, 1.256), ("hydrogen sulfide", 272.8, 0.093)]
 
 SETS = [("methane", {"methane": 1.0}, METHANE), ("carbon dioxide", {"carbon dioxide": 1.0}, CO2),
         ("propane", {"propane": 1.0}, PROPANE), ("ethane", {"ethane": 1.0}, ETHANE),
-        ("hydrogen sulfide", {"hydrogen sulfide": 1.0}, H2S), ("natural gas", NATURAL_GAS, NATURAL_GAS_DATA)]
+        ("hydrogen sulfide", {"hydrogen sulfide": 1.0}, H2S), ("natural gas", NATURAL_GAS, NATURAL_GAS_DATA),
+        ("second natural gas", SECOND_NATURAL_GAS, SECOND_NATURAL_GAS_DATA)]
 
 
 def _in_claimed_range(t_k, p_mpa):
@@ -108,6 +116,12 @@ def test_each_gas_within_2_k(name, comp, data):
     ({"propane": 1.0}, 3e5, "sII"),
     ({"isobutane": 1.0}, 1.3e5, "sII"),
     (NATURAL_GAS, 50e5, "sII"),
+    (SECOND_NATURAL_GAS, 22e5, "sII"),
+    # binaries: a little propane turns methane's sI into sII; methane with CO2 stays sI (both form sI alone)
+    ({"methane": 0.99, "propane": 0.01}, 60e5, "sII"),
+    ({"methane": 0.95, "propane": 0.05}, 20e5, "sII"),
+    ({"methane": 0.9, "carbon dioxide": 0.1}, 60e5, "sI"),
+    ({"methane": 0.5, "carbon dioxide": 0.5}, 20e5, "sI"),
 ])
 def test_structure_that_forms_first(comp, p_pa, structure):
     res = jtcheck.hydrate_temperature(Fluid(comp), p_pa)
@@ -183,3 +197,28 @@ def test_nitrogen_rich_gas_with_ice_is_not_screened():
     assert not cold.screened and "with ice" in cold.reason and cold.t_model_k < 273.15
     warm = jtcheck.hydrate_temperature(mix, 80e5)
     assert warm.screened and warm.water_phase == "liquid water"
+
+
+class _OtherModelFluid:
+    """A mixture that is not a jtcheck Fluid but offers the model interface (as a GERG-2008 fluid will): the hydrate
+    model must take it and draw its guest fugacities from it."""
+
+    def __init__(self, inner: Fluid, eos: str = "other model"):
+        self._inner = inner
+        self.ids, self.zs, self.mixture, self.eos = inner.ids, inner.zs, inner.mixture, eos
+
+    def with_composition(self, composition):
+        return _OtherModelFluid(self._inner.with_composition(composition), self.eos)
+
+
+def test_any_fluid_on_the_model_interface_is_taken():
+    inner = Fluid(NATURAL_GAS, eos="SRK")
+    other = jtcheck.hydrate_temperature(_OtherModelFluid(inner), np.array([20e5, 80e5]))
+    own = jtcheck.hydrate_temperature(inner, np.array([20e5, 80e5]))
+    assert np.allclose(other.t_k, own.t_k, atol=1e-9) and other.eos == "other model"
+
+
+def test_an_object_without_the_model_interface_names_what_it_lacks():
+    with pytest.raises(jtcheck.errors.InputError) as exc:
+        jtcheck.hydrate_temperature(object(), 50e5)
+    assert exc.value.field == "fluid" and "mixture" in exc.value.message

@@ -242,6 +242,15 @@ def test_water_saturated_gas_is_screened_for_hydrates_with_the_inhibitor_chosen(
     found = hydrates(wet)
     assert found["severity"] == "hazard" and found["numbers"]["inhibitor"] == "MEG"
     assert found["numbers"]["t_hydrate_k"] > found["numbers"]["t_out_k"]
+    # the same numbers as the result page's hydrate block: subcooling, the dose with Hammerschmidt beside it, the
+    # injection and its parts, the water basis (saturated at inlet: the default)
+    n = found["numbers"]
+    assert n["subcooling_k"] == pytest.approx(n["t_hydrate_k"] - n["t_out_k"])
+    for key in ("inhibitor_weight_percent", "model_weight_percent", "hammerschmidt_weight_percent",
+                "injection_kg_per_s",
+                "injection_to_water_kg_per_s", "injection_lost_to_gas_kg_per_s", "dose_upper_bound"):
+        assert key in n
+    assert n["water_basis"] == "saturated at inlet"
 
 
 def test_water_content_makes_a_dry_gas_not_a_hydrate_risk(api):

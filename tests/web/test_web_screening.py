@@ -500,3 +500,20 @@ def test_curve_material_shows_the_mdmt_working_and_the_json_carries_it(app, engi
     stored_result = next(r for r in body["results"] if r["id"] == result_id)
     working = stored_result["screening"]["limits"]["mdmt_working"]
     assert working["working"]["code"] == "B31.3" and working["stress_ratio"] < 1.0
+
+
+def test_the_hydrate_block_shows_the_finding_numbers(app, engineer, world):
+    # a water-saturated lean gas let down to a cold outlet: the page shows the hydrate temperature at the outlet, the
+    # subcooling, the dose in the free water with Hammerschmidt beside it and the injection rate (issue 13)
+    case_id = new_case(engineer, world, water_saturated="on", inlet_pressure="80", inlet_pressure_unit="barg",
+                       inlet_temperature="20", outlet_pressure="65", outlet_pressure_unit="barg",
+                       inlet_temperature_min="", mass_flow="10")
+    result_id, page = compute(engineer, case_id)
+    hyd = [f for f in stored(app, result_id).screening["findings"] if f["topic"] == "hydrates"][0]
+    n = hyd["numbers"]
+    assert "Hydrates at the governing outlet" in page and "Hydrate temperature at the outlet pressure" in page
+    assert f"{fmt_number(n['t_hydrate_k'] - 273.15, 'temperature')} degC" in page
+    assert f"{fmt_number(n['subcooling_k'], 'difference')} K" in page
+    assert "Hammerschmidt" in page and n["inhibitor_weight_percent"] is not None, (hyd["message"], hyd["basis"])
+    assert f"{fmt_number(n['inhibitor_weight_percent'])} mass %" in page
+    assert n["injection_kg_per_s"] > 0.0 and f"{fmt_number(n['injection_kg_per_s'] * 3600)} kg/h" in page

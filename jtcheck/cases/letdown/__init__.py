@@ -229,8 +229,8 @@ class LetdownKind(CaseKind):
     parameters = ("settle_out_volumes", "credible_off")
     remedies_sentence = ("Where the outlet is too cold it gives the preheat and the outlet-pressure limit that would "
                          "keep it above the limit plus margin.")
-    page_sections = ("cases/kinds/generated_cases.html",)
-    record_sections = ("kinds/generated_cases.html",)
+    page_sections = ("cases/kinds/hydrate_result.html", "cases/kinds/generated_cases.html")
+    record_sections = ("kinds/hydrate_record.html", "kinds/generated_cases.html")
     method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
               "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
     input_sections = ("cases/kinds/letdown_inputs.html",)

@@ -39,6 +39,8 @@ __all__ = [
     "P_RANGE_PA",
     "T_RANGE_K",
     "HydrateEquilibrium",
+    "check_fluid",
+    "eos_name",
     "hydrate_temperature",
 ]
 
@@ -122,6 +124,29 @@ class HydrateEquilibrium:
     eos: str
     checked_deviation_k: float
     water_activity: float
+
+
+def check_fluid(fluid, field: str = "fluid") -> None:
+    """Raise :class:`InputError` unless ``fluid`` is a mixture on one of jtcheck's thermodynamic models.
+
+    Any object with the model interface of :mod:`jtcheck.thermo.models` serves (duck typing, not a class
+    check): component ``ids``, mole fractions ``zs``, ``with_composition`` (the same model for another
+    composition), and a ``mixture`` whose ``kernel_params`` the compiled flash and fugacity kernels take.
+    A :class:`jtcheck.thermo.fluid.Fluid` on the cubic equations of state is one; a model family added behind
+    the same interface (GERG-2008) serves the hydrate model unchanged, the guest fugacities coming from it.
+    """
+    missing = [a for a in ("ids", "zs", "with_composition", "mixture") if not hasattr(fluid, a)]
+    if not missing and not hasattr(fluid.mixture, "kernel_params"):
+        missing.append("mixture.kernel_params")
+    if missing:
+        raise InputError(field, f"expected a jtcheck Fluid (a mixture on one of its thermodynamic models), got "
+                                f"{type(fluid).__name__} without {', '.join(missing)}")
+
+
+def eos_name(fluid) -> str:
+    """Name of the fluid's model (equation of state) as results show it."""
+    eos = getattr(fluid, "eos", "")
+    return str(getattr(eos, "value", eos))
 
 
 def _composition_reason(ids, zs) -> str:
@@ -225,7 +250,8 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
     Parameters
     ----------
     fluid : jtcheck.thermo.fluid.Fluid
-        The gas; water among its components is left out of the gas (it is taken as saturating it).
+        The gas, on any of jtcheck's models (:func:`check_fluid`): the guest fugacities come from the
+        fluid's own model; water among its components is left out of the gas (it is taken as saturating it).
     p_pa : float or array_like
         Pressure(s), [Pa].
     water_activity : float
@@ -241,10 +267,7 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
     InputError
         ``fluid`` is not a Fluid; a pressure not finite or not positive; ``water_activity`` outside (0, 1].
     """
-    from jtcheck.thermo.fluid import Fluid
-
-    if not isinstance(fluid, Fluid):
-        raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
+    check_fluid(fluid)
     try:
         p = np.asarray(p_pa, dtype=float)
     except (TypeError, ValueError):
@@ -291,7 +314,7 @@ def hydrate_temperature(fluid, p_pa, *, water_activity: float = 1.0) -> HydrateE
         for k, pk in enumerate(flat.tolist()):
             t[k], t_model[k], structure[k], water[k], reasons[k] = cache[(pk, key_aw)]
     screened = np.isfinite(t)
-    eos = fluid.eos.value if hasattr(fluid.eos, "value") else str(fluid.eos)
+    eos = eos_name(fluid)
     if p.ndim == 0:
         return HydrateEquilibrium(float(p), float(t[0]), structure[0], water[0], bool(screened[0]), reasons[0],
                                   float(t_model[0]), METHOD_NAME, eos, CHECKED_DEVIATION_K, aw)

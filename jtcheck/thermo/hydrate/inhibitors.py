@@ -26,8 +26,8 @@ from numba import njit
 
 from jtcheck.errors import InputError
 
-__all__ = ["INHIBITORS", "MAX_MASS_PERCENT", "MOLAR_MASS_G_PER_MOL", "SOURCE", "mass_percent_for_activity",
-           "water_activity"]
+__all__ = ["ACTIVITY_CHECKED_MASS_PERCENT", "INHIBITORS", "MAX_MASS_PERCENT", "MOLAR_MASS_G_PER_MOL", "SOURCE",
+           "alkane", "ln_gamma_in_alkane", "ln_gamma_inhibitor", "mass_percent_for_activity", "water_activity"]
 
 SOURCE = ("original UNIFAC (Fredenslund, Jones and Prausnitz, AIChE J. 21 (1975) 1086) with the parameters of "
           "Hansen et al., Ind. Eng. Chem. Res. 30 (1991) 2352")
@@ -70,16 +70,27 @@ MOLAR_MASS_G_PER_MOL = {"methanol": 32.042, "ethanol": 46.069, "MEG": 62.068, "D
 MAX_MASS_PERCENT = {"methanol": 50.0, "ethanol": 40.0, "MEG": 60.0, "DEG": 50.0, "TEG": 50.0}
 
 
+#: Highest inhibitor concentration in the free water up to which the water activity of original UNIFAC is checked
+#: [mass %]: up to it the freezing point of the solution that the model gives lies within 1.5 K of the published
+#: freezing points (Melinder, Properties of secondary working fluids for indirect systems, IIR, 2nd ed. (2010), as
+#: fitted in CoolProp 8.0.0's incompressible mixtures MMA (methanol) and MEG; tests/thermo/test_hydrate_inhibitors.py).
+#: Above it the model under-predicts the depression more and more (methanol 20 mass%: 3.5 K; 40 mass%: 13 K; MEG
+#: 40 mass%: 10 K): its water activity is too high, the suppression it gives too small and the dose it gives too
+#: large, so a dose above this is reported as an upper bound (the need may be smaller), never as a checked number.
+ACTIVITY_CHECKED_MASS_PERCENT = {"methanol": 13.0, "MEG": 17.0}
+
+
 _jit = njit(cache=True, nogil=True)
 
 
-def _tables(inhibitor: str):
-    """Per-inhibitor arrays of the binary (water, inhibitor): r, q (2,), group counts nu (2, G), group areas
-    Q (G,) and interaction parameters a (G, G) [K] (kept once made)."""
-    got = _TABLES.get(inhibitor)
+def _pair_tables(mol0: dict[str, int], mol1: dict[str, int]):
+    """Arrays of the binary (mol0, mol1): r, q (2,), group counts nu (2, G), group areas Q (G,) and interaction
+    parameters a (G, G) [K] (kept once made)."""
+    key = (tuple(sorted(mol0.items())), tuple(sorted(mol1.items())))
+    got = _TABLES.get(key)
     if got is not None:
         return got
-    mols = [_WATER, INHIBITORS[inhibitor]]
+    mols = [mol0, mol1]
     names = sorted({g for m in mols for g in m})
     r = np.array([sum(_SUB[g][1] * n for g, n in m.items()) for m in mols])
     q = np.array([sum(_SUB[g][2] * n for g, n in m.items()) for m in mols])
@@ -87,11 +98,22 @@ def _tables(inhibitor: str):
     qg = np.array([_SUB[g][2] for g in names])
     main = [_MAIN.index(_SUB[g][0]) for g in names]
     amat = np.ascontiguousarray(_A[np.ix_(main, main)])
-    _TABLES[inhibitor] = (r, q, nu, qg, amat)
-    return _TABLES[inhibitor]
+    _TABLES[key] = (r, q, nu, qg, amat)
+    return _TABLES[key]
 
 
-_TABLES: dict[str, tuple] = {}
+def _tables(inhibitor: str):
+    """The binary (water, inhibitor) (:func:`_pair_tables`)."""
+    return _pair_tables(_WATER, INHIBITORS[inhibitor])
+
+
+def alkane(carbon_number: float) -> dict[str, int]:
+    """UNIFAC groups of the n-alkane with about ``carbon_number`` carbons (2 CH3 and the rest CH2; at least ethane)."""
+    n = max(2, int(round(carbon_number)))
+    return {"CH3": 2, "CH2": n - 2} if n > 2 else {"CH3": 2}
+
+
+_TABLES: dict[tuple, tuple] = {}
 
 
 @_jit
@@ -154,6 +176,22 @@ def _ln_gamma_water(x_inh: float, inhibitor: str, t_k: float) -> float:
     """ln gamma of water in the binary (water, inhibitor) by original UNIFAC [-]."""
     r, q, nu, qg, amat = _tables(inhibitor)
     return float(_ln_gamma_water_kernel(float(x_inh), float(t_k), r, q, nu, qg, amat))
+
+
+def ln_gamma_inhibitor(mass_percent: float, inhibitor: str, t_k: float) -> float:
+    """ln gamma of the inhibitor in its aqueous solution [-] (pure-liquid reference), original UNIFAC
+    (Fredenslund et al. 1975; Hansen et al. 1991 parameters); ``mass_percent`` [mass %] in the free water,
+    ``t_k`` [K]."""
+    x_w = 1.0 - mole_fraction(float(mass_percent), inhibitor)
+    r, q, nu, qg, amat = _pair_tables(INHIBITORS[inhibitor], _WATER)
+    return float(_ln_gamma_water_kernel(x_w, float(t_k), r, q, nu, qg, amat))
+
+
+def ln_gamma_in_alkane(inhibitor: str, carbon_number: float, x_inh: float, t_k: float) -> float:
+    """ln gamma of the inhibitor [-] (pure-liquid reference) at mole fraction ``x_inh`` [-] in a liquid n-alkane of
+    ``carbon_number`` carbons (the stand-in for a hydrocarbon condensate), original UNIFAC as above, ``t_k`` [K]."""
+    r, q, nu, qg, amat = _pair_tables(INHIBITORS[inhibitor], alkane(carbon_number))
+    return float(_ln_gamma_water_kernel(1.0 - float(x_inh), float(t_k), r, q, nu, qg, amat))
 
 
 def mole_fraction(mass_percent: float, inhibitor: str) -> float:
