@@ -87,6 +87,8 @@ def test_demo_runs_the_invented_site():
     res = run("demo")
     assert res.exit_code == 0
     assert "Kestrel Ridge" in res.output and "invented" in res.output
+    # the vessel depressuring case is not run as a letdown: the output says where to see it
+    assert "BDV-2102" in res.output and "a vessel depressuring case (a run in time, not a letdown)" in res.output
 
 
 @pytest.fixture()

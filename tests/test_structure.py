@@ -34,7 +34,7 @@ class Row(NamedTuple):
     libraries: frozenset[str] | None = None
 
 
-CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists"})
+CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists", "depressuring_lists"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
 #: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown,
@@ -51,6 +51,8 @@ ALLOWED_IMPORTS: dict[str, Row] = {
     "units": Row(Layer.CORE, frozenset({"errors"})),
     # lists of items typed as text (header sections, settle-out volumes), read at the edges like units
     "itemlists": Row(Layer.CORE, frozenset({"errors", "units"})),
+    # a vessel depressuring case's inputs typed as text (vessel, orifices, heat input, run), read at the edges
+    "depressuring_lists": Row(Layer.CORE, frozenset({"errors", "units", "itemlists"})),
     "thermo": Row(Layer.THERMO, frozenset({"errors"}), NUMERIC),
     "letdown": Row(Layer.ENGINEERING, frozenset({"errors", "thermo"}), NUMERIC),
     # screening may import letdown; letdown never imports screening

@@ -588,6 +588,9 @@ def _choice(col: Column, text: str) -> str:
         word = text.strip().lower().replace(" ", "_").replace("-", "_")
         if word in KINDS:
             return word
+        if word == "vessel_depressuring":   # a run in time, not a row of a letdown list
+            raise _CellError("vessel depressuring cases are not taken in letdown lists: enter each as a case in the "
+                             f"register (web form or JSON API); allowed here: {', '.join(KINDS)}")
         raise _CellError(f"{text!r} is not a kind of letdown; allowed: {', '.join(KINDS)}")
     word = text.strip().upper().replace("-", "").replace(" ", "")
     word = {"PENGROBINSON": "PR", "SOAVEREDLICHKWONG": "SRK"}.get(word, word)

@@ -4,6 +4,7 @@ The rows are the demo cases of the case register (:mod:`jtcheck.records.demo`): 
 every number are invented.  Each fluid is written as an inline composition (so the template screens
 without a case register), and the MDMT is that of the demo case's typical material.  Relief and
 blowdown valves are screened like every row: an isenthalpic letdown from the inlet to the outlet pressure.
+The demo's vessel depressuring case (a run in time) is not a row: letdown lists do not take that kind.
 """
 from __future__ import annotations
 
@@ -12,7 +13,7 @@ import io
 from typing import Any
 
 from jtcheck import itemlists
-from jtcheck.batch.layout import COLUMNS, LAYOUT_HEADINGS, MAX_ROWS, layout_rows
+from jtcheck.batch.layout import COLUMNS, KINDS, LAYOUT_HEADINGS, MAX_ROWS, layout_rows
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 
 #: The header of the template: every column of the layout, with its template unit.
@@ -49,6 +50,8 @@ def template_rows() -> list[dict[str, Any]]:
 
     rows = []
     for _unit, fluid_name, material, f in CASES:
+        if str(getattr(f["kind"], "value", f["kind"])) not in KINDS:
+            continue        # the demo's vessel depressuring case is a run in time, not a row of a letdown list
         values = {
             "tag": f["tag"],
             "service": f"{f['service']} (invented; {fluid_name})",

@@ -76,6 +76,8 @@ class CaseKind:
     vectorised: bool = False
     #: What the kind offers when a case is too cold, in one sentence (the record's purpose says it).
     remedies_sentence: str = ""
+    #: Whether pages and records show the table of letdown conditions (a depressuring run shows its curves).
+    shows_conditions: bool = True
 
     def field_named(self, name: str) -> Field | None:
         """The field of this kind with form/API name or SI key ``name``; None if the kind has none."""
@@ -97,6 +99,11 @@ class CaseKind:
         last two off).
         """
         raise NotImplementedError
+
+    def result_entries(self, screening: Screening, values: Mapping[str, Any]) -> list[dict[str, Any]] | None:
+        """The stored entries of ``CaseResult.results`` when the kind's screening has no letdown conditions to
+        store (None: one entry per screened condition, as a letdown)."""
+        return None
 
     def conditions(self, values: Mapping[str, Any]) -> Sequence[Any]:
         """The credible conditions the kind computes, in order."""

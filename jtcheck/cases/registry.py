@@ -6,6 +6,7 @@ added to :data:`KINDS` here, and nowhere else.
 """
 from __future__ import annotations
 
+from jtcheck.cases.depressuring import VESSEL_DEPRESSURING
 from jtcheck.cases.fields import COMMON_FIELDS, P_ATM, Field
 from jtcheck.cases.kind import CaseKind
 from jtcheck.cases.letdown import LETDOWN
@@ -13,7 +14,7 @@ from jtcheck.cases.relief import RELIEF_VALVE
 from jtcheck.errors import InputError
 
 #: Every case kind, by name, in the order forms and lists show them.
-KINDS: dict[str, CaseKind] = {k.name: k for k in (LETDOWN, RELIEF_VALVE)}
+KINDS: dict[str, CaseKind] = {k.name: k for k in (LETDOWN, RELIEF_VALVE, VESSEL_DEPRESSURING)}
 _BY_DEVICE: dict[str, CaseKind] = {d: k for k in KINDS.values() for d in k.devices}
 
 

@@ -20,6 +20,10 @@ def demo_cmd():
     for unit, fluid_name, _material, fields in CASES:
         fluid_text = ",".join(f"{k}={v}" for k, v in compositions[fluid_name].items())
         title = f"\n{SITE_NAME} / {unit} / {fields['tag']}: {fields['service']}\n"
+        if str(getattr(fields["kind"], "value", fields["kind"])) == "vessel_depressuring":
+            click.echo(title + "a vessel depressuring case (a run in time, not a letdown): see it in the case register "
+                               "(make run) or run it with jtcheck depressure")
+            continue
         p_in = f"{(fields['inlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         p_out = f"{(fields['outlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         t_in = f"{fields['inlet_temperature_k'] - 273.15:.6g} degC"

@@ -176,8 +176,13 @@ def add_result(session: Session, user: User, case_id: int) -> CaseResult:
 
 def _prepare_computation(case: Case) -> dict[str, Any]:
     fluid = case.fluid.to_fluid()   # built once: the letdowns, the stored inputs and the basis share it
-    screening = case_kind(case).compute(fluid, kind_values(case))
-    entries = [_condition_entry(cs, fluid.eos.value) for cs in screening.conditions]
+    kind, values = case_kind(case), kind_values(case)
+    screening = kind.compute(fluid, values)
+    entries = kind.result_entries(screening, values)
+    if entries is None:
+        entries = [_condition_entry(cs, fluid.eos.value) for cs in screening.conditions]
+    else:
+        entries = [json_safe(e) for e in entries]
     inputs = result_inputs(case, fluid)
     return {"version": case.version, "inputs": inputs, "basis": fluid.basis(), "entries": entries,
             "screening": screening}

@@ -132,6 +132,19 @@ CASES: tuple[tuple[str, str, str, dict[str, Any]], ...] = (
         "inlet_temperature_k": T0 + 10.0,             # 10 degC
         "outlet_pressure_pa": 0.2 * BAR + P_ATM,      # 0.2 barg at the vent
         "margin_k": 5.0}),
+    ("Inlet separation", "Kestrel separator gas", _LTCS, {
+        "tag": "BDV-2102", "kind": CaseKind.VESSEL_DEPRESSURING,
+        "service": "Inlet separator V-2100 emergency depressuring to flare (fire case not taken: no heat input)",
+        "inlet_pressure_pa": 70 * BAR + P_ATM,        # 70 barg settled-out pressure at the start
+        "inlet_temperature_k": T0 + 25.0,             # 25 degC
+        "outlet_pressure_pa": 2 * BAR + P_ATM,        # 2 barg flare header back pressure
+        "margin_k": 5.0,
+        "vessel": {"orientation": "vertical", "inner_diameter_m": 1.8, "length_m": 5.0,   # 1.8 m x 5 m T/T
+                   "wall_thickness_m": 0.035, "wall_material": "carbon steel"},           # 35 mm wall
+        "orifices": [{"name": "BDV-2102 restriction orifice", "diameter_m": 0.035,      # 35 mm bore
+                      "discharge_coefficient": 0.85}],
+        "heat_input": {"kind": "none"},
+        "run": {"end_time_s": 900.0, "design_pressure_pa": 100 * BAR + P_ATM}}),        # 15 min; design 100 barg
     ("Fuel gas", "Kestrel fuel gas", _CS, {
         "tag": "PCV-3101", "kind": CaseKind.CONTROL_VALVE,
         "service": "Fuel gas letdown downstream of heater E-3100",
@@ -156,7 +169,7 @@ def _demo_user(session: Session) -> User:
 
 
 def load_demo(session: Session, user: User | None = None) -> Site:
-    """Load the invented Kestrel Ridge gas terminal: site, units, fluids, six cases, computed and screened.
+    """Load the invented Kestrel Ridge gas terminal: site, units, fluids, seven cases, computed and screened.
 
     All of it is one transaction; if the site already exists, nothing is changed and it is returned.
     The typical materials are seeded first if missing.  Every number is invented (see module docstring).

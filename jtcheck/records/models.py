@@ -96,13 +96,14 @@ class Role(enum.StrEnum):
 
 
 class CaseKind(enum.StrEnum):
-    """The kind of letdown a case describes."""
+    """The device a case describes: a kind of letdown, a relief valve, or a vessel being depressured."""
 
     CONTROL_VALVE = "control_valve"
     RELIEF_VALVE = "relief_valve"
     BLOWDOWN_VALVE = "blowdown_valve"
     CHOKE = "choke"
     OTHER = "other"
+    VESSEL_DEPRESSURING = "vessel_depressuring"
 
     @property
     def label(self) -> str:
@@ -116,6 +117,7 @@ _KIND_LABELS = {
     CaseKind.BLOWDOWN_VALVE: "blowdown valve",
     CaseKind.CHOKE: "choke",
     CaseKind.OTHER: "other letdown",
+    CaseKind.VESSEL_DEPRESSURING: "vessel depressuring (blowdown in time)",
 }
 
 

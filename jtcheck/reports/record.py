@@ -41,6 +41,7 @@ from jtcheck.errors import InputError, JtcheckError
 from jtcheck.notices import CAUTION
 from jtcheck.records.snapshot import snapshot_digest
 from jtcheck.reports import charts
+from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
 from jtcheck.reports.numbers import finite_or_none, fmt_number, fmt_quantity, fmt_signed
 from jtcheck.reports.screening_display import (
     OUTCOME_LABELS,
@@ -468,7 +469,18 @@ def _charts(snapshot: Mapping[str, Any], ctx: Mapping[str, Any]) -> dict[str, st
     display: ScreeningDisplay = ctx["_display"]
     units = ctx["units"]
     limits = display.limits
-    out: dict[str, str | None] = {"pt": None, "sweep": None, "pt_error": None, "sweep_error": None}
+    out: dict[str, str | None] = {"pt": None, "sweep": None, "pt_error": None, "sweep_error": None,
+                                  "depressuring": None, "depressuring_error": None}
+    if ctx.get("depressuring") is not None:   # a run in time: its curves, not a letdown path
+        try:
+            svg = draw_depressuring_chart(result.get("screening"), ctx["_units"], limit_k=limits.governing_k,
+                                          target_k=limits.target_k, style=charts.PRINT, text_as_paths=False,
+                                          css_class="chart-depressuring", figsize=(7.6, 8.0),
+                                          margins=(0.1, 0.07, 0.72, 0.98))
+            out["depressuring"] = None if svg is None else _svg_uri(svg)
+        except (ValueError, TypeError, KeyError) as exc:
+            out["depressuring_error"] = str(exc)[:200]
+        return out
     try:
         ends = [charts.LetdownEnds(c.name, c.converged, c.p_in_pa, c.t_in_k, c.p_out_pa, c.t_out_k)
                 for c in display.conditions]
@@ -506,6 +518,8 @@ def render_html(snapshot: Mapping[str, Any], paper: str = "A4") -> str:
     if not isinstance(snapshot, Mapping):
         raise InputError("snapshot", "give the snapshot of a revision (a dict)")
     ctx = record_context(snapshot, name)
+    ctx["shows_conditions"] = _kind_of(snapshot.get("case") or {}).shows_conditions
+    ctx["depressuring"] = depressuring_view((snapshot.get("result") or {}).get("screening"), ctx["_units"])
     ctx["charts"] = _charts(snapshot, ctx)
     return _environment().get_template("record.html").render(**ctx)
 

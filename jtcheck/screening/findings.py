@@ -67,6 +67,7 @@ class Topic(enum.StrEnum):
     MODEL_VALIDITY = "model validity"
     CONVERGENCE = "convergence"
     RELIEF = "relief valve"
+    DEPRESSURING = "depressuring target"
 
 
 @dataclass(frozen=True)

@@ -11,11 +11,13 @@ from typing import Any
 
 from flask import current_app, render_template
 
+from jtcheck import depressuring_lists
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service
 from jtcheck.records.case_inputs import field_value
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.models import Case, CaseResult
+from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
 from jtcheck.web import removal
 from jtcheck.web.cases.diagram import DiagramCache
 from jtcheck.web.cases.results import basis_of, outcome_of, screening_view, units_of
@@ -33,9 +35,15 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
     if result is None:
         return {"result": None}
     screening = screening_view(result)
-    return {"result": result, "conditions": screening.conditions, "limits": screening.limits,
-            "units": units_of(result), "basis": basis_of(result), "current": service.result_is_current(case, result),
-            "screening": screening, "diagram": _diagrams().get(result),
+    units = units_of(result)
+    depressuring = depressuring_view(result.screening, units)
+    chart = None if depressuring is None else draw_depressuring_chart(
+        result.screening, units, limit_k=screening.limits.governing_k, target_k=screening.limits.target_k)
+    return {"result": result, "depressuring": depressuring, "depressuring_chart": chart,
+            "conditions": screening.conditions, "limits": screening.limits,
+            "units": units, "basis": basis_of(result), "current": service.result_is_current(case, result),
+            # a run in time draws its curves, not a letdown path on the P-T diagram
+            "screening": screening, "diagram": None if depressuring is not None else _diagrams().get(result),
             "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 
 
@@ -49,9 +57,15 @@ def _case_context(case: Case, review_form: FormState | None = None, review_step:
             continue
         unit = display_unit(q, shown)
         inputs.append((q, to_display(q, value, unit, case.p_atm_pa), unit, value))
+    # a depressuring case's vessel, orifices, heat input and run, as the form writes them
+    words = {"vessel": "Vessel", "orifices": "Orifices", "heat_input": "Heat input", "run": "Run and target"}
+    kind_inputs = [(words[name], depressuring_lists.text_of(name, value, shown.get("inlet_pressure") or "barg",
+                                                            shown.get("inlet_temperature") or "degC", case.p_atm_pa))
+                   for name, value in (case.parameters or {}).items() if name in words and value]
     user = current_user()
     review = review_context(case, user, review_form, review_step)
-    return {"case": case, "inputs": inputs, "p_atm_unit": p_atm_unit_for(shown), "review": review,
+    return {"case": case, "inputs": inputs, "kind_inputs": kind_inputs, "p_atm_unit": p_atm_unit_for(shown),
+            "review": review,
             "can_edit": service.can_edit_cases(user) and not review["frozen"],
             "can_delete": removal.may_delete_case(user, case),
             "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,

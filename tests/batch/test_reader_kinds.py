@@ -142,3 +142,11 @@ def test_the_vectorised_start_up_conditions_are_the_scalar_ones():
         assert row.coldest_condition == scalar.coldest_condition == ("start-up into depressured outlet "
                                                                       "(min inlet temperature)")
         assert row.t_screen_k == pytest.approx(scalar.t_out_min_k, abs=0.01) and row.outcome == scalar.outcome
+
+
+def test_a_vessel_depressuring_row_is_refused_with_where_to_enter_it():
+    data = csv_bytes(HEADER, [(2, row("BDV-1", kind="vessel depressuring", set_p="", over="", built=""))])
+    read = read_cases(data, filename="bdv.csv")
+    assert not read.ok
+    assert any(e.column == "kind" and "enter each as a case in the register" in e.reason for e in read.errors), \
+        [(e.column, e.reason) for e in read.errors]

@@ -53,7 +53,7 @@ def test_all_fields_lists_each_field_once_in_check_order():
     assert {f.key for f in COMMON_FIELDS} <= set(keys)
     assert keys.index("margin_k") < keys.index("set_pressure_pa")
     assert [k.name for k in kinds_with("set_pressure_pa")] == ["relief_valve"]
-    assert [k.name for k in kinds_with("inlet_pressure_pa")] == ["letdown", "relief_valve"]
+    assert [k.name for k in kinds_with("inlet_pressure_pa")] == ["letdown", "relief_valve", "vessel_depressuring"]
 
 
 @pytest.mark.parametrize(("value", "match"), [

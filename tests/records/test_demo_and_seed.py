@@ -30,8 +30,9 @@ def test_demo_loads_the_invented_terminal_with_computed_cases(session, users):
     assert {u.name for u in site.units} == {"Inlet separation", "Town main PRS", "Fuel gas", "LPG storage",
                                             "CO2 export"}
     cases = service.list_cases(session, users[Role.CHECKER], site_id=site.id)
-    assert len(cases) == len(CASES) == 6
-    assert {c.kind for c in cases} == {CaseKind.CONTROL_VALVE, CaseKind.RELIEF_VALVE, CaseKind.BLOWDOWN_VALVE}
+    assert len(cases) == len(CASES) == 7
+    assert {c.kind for c in cases} == {CaseKind.CONTROL_VALVE, CaseKind.RELIEF_VALVE, CaseKind.BLOWDOWN_VALVE,
+                                       CaseKind.VESSEL_DEPRESSURING}
     assert "PCV-1101" in {c.tag for c in cases}
     latest = service.latest_results(session, [c.id for c in cases])
     for case in cases:
@@ -47,6 +48,12 @@ def test_demo_loads_the_invented_terminal_with_computed_cases(session, users):
     assert by_tag["PSV-2101"].screening["answers"]["relief_valve"]["t_downstream_k"] is not None
     assert any(f["topic"] == "CO2 solids" for f in by_tag["BDV-5102"].screening["findings"])
     assert by_tag["BDV-5102"].outcome == "fail"
+    # a vessel depressured in time: the target met, the blowdown valve outlet below the LTCS limit at the back
+    # pressure (the outcome), the walls above it
+    run = by_tag["BDV-2102"].screening["answers"]["depressuring"]
+    assert run["converged"] and run["target_met"] is True
+    assert run["paths"]["valve_outlet"]["outcome"] == "fail" and run["paths"]["wall_gas"]["outcome"] == "pass"
+    assert by_tag["BDV-2102"].outcome == "fail"
     demo_fluids = session.scalars(select(FluidRecord).where(FluidRecord.name.like("Kestrel%"))).all()
     assert len(demo_fluids) == 5
 

@@ -52,7 +52,7 @@ def test_first_start_makes_an_admin_with_a_random_password_and_loads_the_demo(tm
         with app.app_context():
             s = db_session()
             assert s.scalar(select(Site.name)) == SITE_NAME
-            assert s.scalar(select(func.count()).select_from(Case)) == 6
+            assert s.scalar(select(func.count()).select_from(Case)) == 7
             admin = s.scalar(select(User).where(User.email == email))
             assert admin.role == Role.ADMIN and password not in admin.password_hash
         c = app.test_client()

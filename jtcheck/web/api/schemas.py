@@ -193,6 +193,10 @@ def register(api: ApiRegistry) -> None:
         "display_units": {"type": "object", "additionalProperties": {"type": "string"}},
         "water_saturated": {"type": "boolean"}, "hydrate_inhibitor": {"type": "string"},
         "basis": {"type": "string"}, "references": {"type": "string"},
+        "parameters": {"type": "object", "description": "The kind's inputs without a column of their own, SI: a "
+                                                        "depressuring case's vessel, orifices, heat_input and run; "
+                                                        "a relief valve's header sections; a letdown's settle-out "
+                                                        "volumes and generated cases switched off."},
         "latest_result": {"type": ["object", "null"], "properties": {
             "id": {"type": "integer"}, "computed_at": STR_OR_NULL, "converged": {"type": "boolean"},
             "t_out_min_k": NUM_OR_NULL, "outcome": _nullable(OUTCOME_ENUM), "outcome_sentence": STR_OR_NULL,
@@ -362,12 +366,60 @@ _CASE_LISTS = {
 }
 
 
+_NUM = {"type": "number"}
+#: A vessel depressuring case's inputs (jtcheck.cases.depressuring.inputs): objects in SI, or the form's text.
+_DEPRESSURING_OBJECTS = {
+    "vessel": {"oneOf": [{"type": "object", "additionalProperties": False, "properties": {
+        "orientation": {"type": "string", "enum": ["vertical", "horizontal"]},
+        "inner_diameter_m": {**_NUM, "description": "Inside diameter [m]"},
+        "length_m": {**_NUM, "description": "Length tangent to tangent [m] (or give volume_m3)"},
+        "volume_m3": {**_NUM, "description": "Volume [m3] (in place of the length; cylinder with flat ends)"},
+        "wall_thickness_m": {**_NUM, "description": "Wall thickness [m]"},
+        "liquid_level_m": {**NUM_OR_NULL, "description": "Initial liquid level [m]"},
+        "wall_material": {"type": "string", "enum": ["carbon steel", "stainless steel"],
+                          "description": "Thermal properties of the wall; the cold limit is the case's material"},
+        "wall_t0_k": {**NUM_OR_NULL, "description": "Initial wall temperature [K] (default: the fluid's)"}}},
+        {"type": "string"}, {"type": "null"}],
+        "description": "Vessel depressuring cases: the vessel, as an object in SI or as text "
+                       "'orientation=vertical; diameter=1.8 m; length=5 m; wall=35 mm'."},
+    "orifices": {"oneOf": [{"type": "array", "items": {"type": "object", "additionalProperties": False,
+                                                       "required": ["name", "diameter_m", "discharge_coefficient"],
+                                                       "properties": {
+        "name": {"type": "string"}, "diameter_m": {**_NUM, "description": "Bore diameter [m]"},
+        "discharge_coefficient": {**_NUM, "description": "Cd [-], above 0 and at most 1"},
+        "back_pressure_pa": {**NUM_OR_NULL, "description": "Back pressure [Pa abs] (default: the outlet pressure)"}}}},
+        *_LINES["oneOf"]],
+        "description": "Vessel depressuring cases: blowdown valves and restriction orifices, objects in SI or one a "
+                       "line 'name; bore diameter; discharge coefficient; back pressure'."},
+    "heat_input": {"oneOf": [{"type": "object", "additionalProperties": False, "properties": {
+        "kind": {"type": "string", "enum": ["none", "ambient", "fire"]},
+        "ambient_t_k": {**_NUM, "description": "Air temperature [K]"},
+        "environment_factor": {**_NUM, "description": "API 521 environment factor F [-] (fire)"},
+        "adequate_drainage": {"type": "boolean", "description": "API 521 drainage and fire-fighting (fire)"}}},
+        {"type": "string"}, {"type": "null"}],
+        "description": "Vessel depressuring cases: heat from outside (none, ambient, or an API 521 fire; common "
+                       "basis, verify against the edition in force)."},
+    "run": {"oneOf": [{"type": "object", "additionalProperties": False, "properties": {
+        "end_time_s": {**_NUM, "description": "Stop at this time [s] (default 900)"},
+        "end_pressure_pa": {**NUM_OR_NULL, "description": "Stop at this pressure [Pa abs]"},
+        "design_pressure_pa": {**NUM_OR_NULL, "description": "Design pressure [Pa abs]: the target is the API 521 "
+                                                             "common basis (690 kPa gauge or 50 % of the design "
+                                                             "gauge pressure, whichever is lower, in 15 min)"},
+        "target_pressure_pa": {**NUM_OR_NULL, "description": "A target pressure [Pa abs] instead"},
+        "target_time_s": {**NUM_OR_NULL, "description": "Time to reach the target [s] (default 900)"}}},
+        {"type": "string"}, {"type": "null"}],
+        "description": "Vessel depressuring cases: when the run stops and the depressuring target."},
+}
+
+
 def _case_property(key: str) -> dict[str, Any]:
     """The schema of one case-body field (every key :data:`case_inputs.INPUT_FIELDS` accepts)."""
     if key in _CASE_TEXT:
         return _CASE_TEXT[key]
     if key in _CASE_LISTS:
         return _CASE_LISTS[key]
+    if key in _DEPRESSURING_OBJECTS:
+        return _DEPRESSURING_OBJECTS[key]
     q = next((q for q in CASE_QUANTITIES if q.name == key), None)
     if q is None:   # a field the case input accepts but this module does not know yet
         return {"description": key.replace("_", " ")}

@@ -69,6 +69,7 @@ def case_json(case: Case, latest: CaseResult | None = None, current: bool | None
         "water_saturated": bool(getattr(case, "water_saturated", False)),
         "hydrate_inhibitor": getattr(case, "hydrate_inhibitor", None) or "methanol",
         "basis": case.basis, "references": case.references,
+        "parameters": {k: v for k, v in (case.parameters or {}).items() if k != "margin_source"},
         "created_at": _iso(case.created_at), "updated_at": _iso(case.updated_at),
         "created_by": case.created_by.name if case.created_by else None,
         "updated_by": case.updated_by.name if case.updated_by else None,

@@ -18,7 +18,7 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
-from jtcheck import itemlists
+from jtcheck import depressuring_lists, itemlists
 from jtcheck.cases.letdown import HYDRATE_INHIBITORS
 from jtcheck.errors import InputError
 from jtcheck.records.case_inputs import KIND_PARAMETERS, field_value
@@ -37,7 +37,8 @@ ID_FIELDS = ("unit_id", "fluid_id", "material_id")
 SCREENING_FIELDS = ("water_saturated", "hydrate_inhibitor")
 #: Structured inputs of the case kinds, typed one item a line (jtcheck.itemlists): name -> reader.
 LIST_FIELDS = {"header_sections": itemlists.header_sections, "other_sources": itemlists.other_sources,
-               "settle_out_volumes": itemlists.settle_out_volumes, "credible_off": itemlists.credible_off}
+               "settle_out_volumes": itemlists.settle_out_volumes, "credible_off": itemlists.credible_off,
+               **depressuring_lists.READERS}
 #: Every key a case body may hold (API and form alike).
 INPUT_FIELDS = ("tag", "service", "kind", *ID_FIELDS, *(q.name for q in CASE_QUANTITIES), "p_atm",
                 *SCREENING_FIELDS, *(k for k in LIST_FIELDS if k in KIND_PARAMETERS), "basis", "references")
@@ -208,6 +209,8 @@ def list_text(name: str, rows: Any, shown: Mapping[str, str], p_atm_pa: float) -
         return itemlists.settle_out_volumes_text(rows, p_unit, t_unit, p_atm_pa)
     if name == "other_sources":
         return itemlists.other_sources_text(rows, p_unit, t_unit, p_atm_pa)
+    if name in depressuring_lists.READERS:
+        return depressuring_lists.text_of(name, rows, p_unit, t_unit, p_atm_pa)
     return itemlists.credible_off_text(rows)
 
 
