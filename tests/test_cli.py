@@ -85,7 +85,7 @@ def test_components_lists_the_library():
 
 def test_demo_runs_the_invented_site():
     res = run("demo")
-    assert res.exit_code == 0
+    assert res.exit_code == 5      # the worst outcome of the site: PCV-1101 and BDV-5102 fail, as in the register
     assert "Kestrel Ridge" in res.output and "invented" in res.output
 
 

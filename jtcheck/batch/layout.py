@@ -173,6 +173,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("mass_flow", "mass flow", MASS_FLOW, False, "", MASS_FLOW_UNIT,
            "Mass flow through the valve in kg/s: a relief valve's share when other sources discharge into the "
            "same header (without it 1 kg/s is taken and the finding says so)."),
+    Column("min_outlet_pressure", "min outlet pressure", PRESSURE, False, "", "barg",
+           "Lowest credible outlet pressure (the operating sweep runs down to it, as in the case register); not "
+           "above the outlet pressure."),
     # relief valves (kind relief_valve): the relieving case, screened by the relief-valve case kind
     Column("set_pressure", "set pressure", PRESSURE, False, "", "barg",
            "Relief valve set pressure (kind relief_valve): adds the relieving case; needs the overpressure."),
@@ -227,7 +230,8 @@ COLUMNS: tuple[Column, ...] = (
            "(empty: 0, the pressure stress only)."),
 )
 #: The register key of each relief-valve and generated-case column (the case kinds' inputs).
-KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",
+KIND_COLUMNS = {"min_outlet_pressure": "outlet_pressure_min_pa",
+                "set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",
                 "superimposed_back_pressure": "superimposed_back_pressure_pa",
                 "built_up_back_pressure": "built_up_back_pressure_pa", "header_limit": "header_limit_k",
                 "min_relieving_temperature": "relieving_temperature_min_k", "header_sections": "header_sections",
