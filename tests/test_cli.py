@@ -157,7 +157,8 @@ def test_failing_letdown_prints_outcome_findings_and_what_keeps_it_safe():
     assert res.exit_code == EXIT_FAIL, res.output
     assert "OUTCOME: FAIL" in res.output
     assert "[hazard] cold metal" in res.output
-    assert "preheat: heat the inlet to" in res.output and "kW" in res.output
+    assert "preheat for the cold limit plus margin: heat the inlet to" in res.output and "kW" in res.output
+    assert "The answers keep the outlet above the cold limit plus margin (cold metal)" in res.output
     assert "outlet pressure: keep it at or above" in res.output and "barg" in res.output
     assert "licensed engineer" in res.output
 

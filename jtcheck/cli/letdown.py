@@ -472,28 +472,42 @@ def print_kind_answers(answers: dict, units: DisplayUnits) -> None:
             click.echo(f"  {g['name']}: {g['status']}; {g.get('reasoning') or g.get('reason')}")
 
 
-def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
-    """What keeps it safe: the preheat needed and the lowest outlet pressure, where the screening found them."""
-    print_kind_answers(answers, units)
-    if not answers.get("preheat"):
-        return
-    click.echo("\nwhat keeps it safe (outlet at the limit plus margin, "
-               f"{units.temperature(answers['preheat']['target_k'])})")
-    gov = answers["preheat"].get("governing")
+def _preheat_line(what: str, part: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
+    gov = part.get("governing")
     if gov and gov.get("needed"):
         duty = gov.get("duty_w")
         duty_txt = f"; heater duty {duty / 1e3:.1f} kW at {mass_flow_kg_per_s:g} kg/s" if duty is not None else \
             "; give --mass-flow for the heater duty"
-        click.echo(f"  preheat: heat the inlet to {units.temperature(gov['t_in_required_k'])} (a rise of "
-                   f"{units.difference_text(gov['temperature_rise_k'])}, {gov['condition']}, {gov['model']}){duty_txt}")
-    elif not answers["preheat"].get("all_converged"):
-        click.echo("  preheat: not found (a calculation did not converge)")
-    olim = answers["outlet_pressure_limit"].get("governing")
-    if olim:
-        click.echo(f"  outlet pressure: keep it at or above {units.pressure(olim['p_out_min_pa'])} "
-                   f"({olim['condition']}, {olim['model']})")
-    elif answers["outlet_pressure_limit"].get("all_converged"):
-        click.echo("  outlet pressure: no limit found above the floor (the inlet itself may be too cold)")
+        click.echo(f"  {what}: heat the inlet to {units.temperature(gov['t_in_required_k'])} (a rise of "
+                   f"{units.difference_text(gov['temperature_rise_k'])}, {gov['condition']}, {gov['model']}) for an "
+                   f"outlet of {units.temperature(part['target_k'])}{duty_txt}")
+    elif gov:
+        click.echo(f"  {what}: no preheat needed (every outlet reaches {units.temperature(part['target_k'])})")
+    elif not part.get("all_converged"):
+        click.echo(f"  {what}: not found (a calculation did not converge)")
+
+
+def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
+    """What keeps it safe, hazard by hazard: the preheat for the cold limit and the lowest outlet pressure, the
+    preheat for hydrates, and which hazards these cover (:func:`jtcheck.screening.screen.remedies_cover`)."""
+    print_kind_answers(answers, units)
+    if not (answers.get("preheat") or answers.get("hydrate_preheat")):
+        return
+    click.echo("\nwhat keeps it safe")
+    if answers.get("preheat"):
+        _preheat_line("preheat for the cold limit plus margin", answers["preheat"], units, mass_flow_kg_per_s)
+        olim = answers["outlet_pressure_limit"].get("governing")
+        if olim:
+            click.echo(f"  outlet pressure: keep it at or above {units.pressure(olim['p_out_min_pa'])} "
+                       f"({olim['condition']}, {olim['model']}; cold limit plus margin only)")
+        elif answers["outlet_pressure_limit"].get("all_converged"):
+            click.echo("  outlet pressure: no limit found above the floor (the inlet itself may be too cold)")
+    if answers.get("hydrate_preheat"):
+        _preheat_line("preheat for hydrates (hydrate temperature plus margin)", answers["hydrate_preheat"], units,
+                      mass_flow_kg_per_s)
+        click.echo("  or inhibit: see the hydrate finding for the inhibitor dose")
+    if answers.get("remedies_cover"):
+        click.echo(f"  {answers['remedies_cover']}")
 
 
 # ---------------------------------------------------------------------------------------------

@@ -608,6 +608,10 @@ class ScreeningDisplay:
     outlet_limit: dict[str, Any] | None
     sweep: dict[str, Any] | None
     relief: dict[str, Any] | None
+    #: The preheat that keeps the outlet out of the hydrate region (same shape as ``preheat``), and which hazards
+    #: the answers cover, in words.
+    hydrate_preheat: dict[str, Any] | None = None
+    remedies_cover: str = ""
 
     @property
     def slug(self) -> str:
@@ -652,7 +656,9 @@ def screening_display(stored: StoredResult, units: DisplayUnits) -> ScreeningDis
         findings=findings_of(screening), preheat=preheat_of(units, answers.get("preheat")),
         outlet_limit=outlet_limit_of(units, answers.get("outlet_pressure_limit")),
         sweep=sweep_of(units, answers.get("sweep"), limits),
-        relief=relief_of(units, answers.get("relief_valve"), answers.get("relief_remedies")))
+        relief=relief_of(units, answers.get("relief_valve"), answers.get("relief_remedies")),
+        hydrate_preheat=preheat_of(units, answers.get("hydrate_preheat")),
+        remedies_cover=str(answers.get("remedies_cover") or ""))
 
 
 def _governing(answers: Mapping[str, Any], key: str) -> Mapping[str, Any]:

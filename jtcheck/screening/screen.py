@@ -25,7 +25,7 @@ Everything here is SI; units are converted at the edges (web, API, CLI).
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -528,6 +528,58 @@ def _answers(models: list[Fluid], screens: list[ConditionScreen], options: Scree
     return {"preheat": preheat, "outlet_pressure_limit": pressure}
 
 
+def _hydrate_preheat(models: list[Fluid], screens: list[ConditionScreen], findings: list[Finding],
+                     options: ScreeningOptions) -> dict[str, Any] | None:
+    """The preheat that takes the outlet out of the hydrate region with the hydrate margin, at the condition of the
+    hydrate hazard (None without one): the same shape as the cold-metal preheat, with ``"hazard": "hydrates"``.
+
+    The target is the hydrate temperature at the outlet pressure plus the hydrate margin (the finding's numbers);
+    each model's required inlet temperature is found as for the cold limit (:func:`required_preheat`)."""
+    hazard = next((f for f in findings if f.topic is Topic.HYDRATES and f.severity is Severity.HAZARD
+                   and f.numbers.get("t_hydrate_k") is not None), None)
+    if hazard is None:
+        return None
+    cs = next((c for c in screens if c.condition.name == hazard.condition), None)
+    if cs is None:
+        return None
+    target = float(hazard.numbers["t_hydrate_k"]) + float(hazard.numbers.get("hydrate_margin_k") or 0.0)
+    c, cases = cs.condition, []
+    for fl in models:
+        try:
+            ph = required_preheat(fl, c.p_in_pa, c.t_in_k, c.p_out_pa, target, options.mass_flow_kg_per_s)
+        except JtcheckError as exc:
+            cases.append({"condition": c.name, "model": fl.eos.value, "converged": False, "message": str(exc)})
+            continue
+        cases.append({"condition": c.name, "model": fl.eos.value, **ph.to_dict()})
+    ok = [p for p in cases if p.get("converged")]
+    return {"hazard": "hydrates", "target_k": target, "all_converged": len(ok) == len(cases), "cases": cases,
+            "governing": max(ok, key=lambda p: p.get("temperature_rise_k") or 0.0) if ok else None}
+
+
+#: What each answer keeps the outlet above, in words.
+_COVERED = {"preheat": "the cold limit plus margin (cold metal)",
+            "hydrate_preheat": "the hydrate temperature plus the hydrate margin (hydrates)"}
+
+
+def remedies_cover(answers: Mapping[str, Any], findings: Sequence[Finding]) -> str:
+    """Which hazards the answers cover, in words, naming the hazards found that they do not cover ("" when there
+    are no answers)."""
+    given = [k for k in _COVERED if answers.get(k)]
+    if not given:
+        return ""
+    covered = {"preheat": {Topic.COLD_METAL}, "hydrate_preheat": {Topic.HYDRATES}}
+    topics = set().union(*(covered[k] for k in given))
+    if answers.get("preheat"):
+        topics.add(Topic.CONVERGENCE)
+    others = sorted({f.topic.value for f in findings if f.severity is Severity.HAZARD and f.topic not in topics})
+    text = "The answers keep the outlet above " + " and above ".join(_COVERED[k] for k in given) + "."
+    if answers.get("preheat") and answers.get("hydrate_preheat"):
+        text += " Both hold at the higher of the two preheats."
+    if others:
+        text += f" They do not cover {', '.join(others)}: see those findings."
+    return text
+
+
 def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: ScreeningOptions) -> Screening:
     """Screen a case's credible conditions; see the module text for the steps.
 
@@ -585,6 +637,12 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
             answers["relief_remedies"] = relief_remedies(models, options.relief, options.limits, relief_data, t_min)
     elif options.answers:
         answers = _answers(models, screens, options, outcome)
+        hydrate = _hydrate_preheat(models, screens, findings, options)
+        if hydrate is not None:
+            answers["hydrate_preheat"] = hydrate
+        cover = remedies_cover(answers, findings)
+        if cover:
+            answers["remedies_cover"] = cover
     if sweep_data is not None:
         answers["sweep"] = sweep_data
     if relief_data is not None:
