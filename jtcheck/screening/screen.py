@@ -44,7 +44,7 @@ from jtcheck.screening.hydrates import (
     Inhibitor,
     assess_hydrates,
 )
-from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
+from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout, two_phase_inlet
 from jtcheck.screening.relief_screen import (
     HeaderSpec,
     OtherSource,
@@ -316,6 +316,7 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
     warm: list[tuple[Finding, float]] = []
     hyd: list[tuple[Any, str]] = []
     solids: list[tuple[Finding, float]] = []
+    feed: list[tuple[Finding, float]] = []
     validity: dict[str, list[str]] = {}
     for cs in screens:
         name = cs.condition.name
@@ -327,6 +328,9 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
             if f is not None:
                 dropout.append((f, f.numbers.get("outlet_liquid_fraction") or f.numbers.get("path_max_liquid_fraction")
                                 or 0.0))
+        f = two_phase_inlet(fluid, r, name)
+        if f is not None:
+            feed.append((f, 1.0 - r.inlet_vapor_fraction))
         t_eff = cs.t_screen_k if cs.t_screen_k is not None else r.t_out
         f = icing(_with_t(r, t_eff), name)
         if f is not None:
@@ -357,7 +361,7 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
             if not w.startswith(_COVERED_WARNINGS):
                 validity.setdefault(w, []).append(name)
     n = len(screens)
-    for group in (solids, dropout, ice, warm):
+    for group in (feed, solids, dropout, ice, warm):
         f = _worst_of(group, n)
         if f is not None:
             out.append(f)
