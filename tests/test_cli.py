@@ -242,7 +242,9 @@ def test_record_verify_refuses_a_changed_byte(issued_record):
     bad.write_bytes(bytes(pdf))
     res = CliRunner().invoke(main, ["record", "verify", str(bad)])
     assert res.exit_code == 6
-    assert "NOT INTACT" in res.output and "does not match any record" in res.output and "NOT VALID" in res.output
+    assert "CONTENT CHANGED: the signed content was altered after signing" in res.output
+    assert "NOT TRUSTED" not in res.output     # the content failed, not the signer
+    assert "does not match any record" in res.output and "NOT VALID" in res.output
 
 
 def test_record_verify_with_another_trust_root_is_not_trusted(issued_record, tmp_path):

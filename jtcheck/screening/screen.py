@@ -368,8 +368,18 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
     out += _hydrate_findings(hyd, options)
     for text, names in validity.items():
         where = "" if len(names) == n else f" ({', '.join(names)})"
-        out.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + where, {}, "model validity"))
+        out.append(Finding(Topic.MODEL_VALIDITY, validity_severity(text), text + where, {}, "model validity"))
     return out
+
+
+#: Words of a model-validity note that asks the engineer to act (a solid can form at the outlet, a model poor for
+#: the fluid): such a note is a caution, not information.
+_ACT_ON = ("can freeze", "can form", "caution", "poor")
+
+
+def validity_severity(text: str) -> Severity:
+    """Caution for a model-validity note that names a hazard or a model to distrust; information otherwise."""
+    return Severity.CAUTION if any(w in text.lower() for w in _ACT_ON) else Severity.INFORMATION
 
 
 def _with_t(r: LetdownResult, t: float) -> LetdownResult:
@@ -489,9 +499,12 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     spread = max(temps.values()) - min(temps.values())
     listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
     sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
+    screened = f"screened on the colder ({cs.governing_model})"
+    if cs.solids is not None:   # dry ice: the screened outlet is on the sublimation line, not either fluid-only value
+        screened = (f"these are fluid-only values: with dry ice the screened outlet is {cs.t_screen_k - 273.15:.1f} "
+                    "degC, on the CO2 sublimation line")
     return Finding(Topic.MODEL_SPREAD, sev,
-                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on the "
-                   f"colder ({cs.governing_model}).",
+                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); {screened}.",
                    {"t_out_k_by_model": temps, "spread_k": spread}, "PR and SRK side by side", cs.condition.name)
 
 

@@ -231,8 +231,9 @@ class LetdownKind(CaseKind):
                          "keep it above the limit plus margin.")
     page_sections = ("cases/kinds/generated_cases.html",)
     record_sections = ("kinds/generated_cases.html",)
-    method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
-              "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
+    method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure, with the case's equation "
+              "of state and the other of Peng-Robinson and Soave-Redlich-Kwong; screened against the cold limit, "
+              "for liquid dropout, hydrates, CO2 solids and external icing")
     input_sections = ("cases/kinds/letdown_inputs.html",)
     screening_sections = ("cases/kinds/letdown_hydrates.html",)
     vectorised = True
