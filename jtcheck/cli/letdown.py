@@ -19,6 +19,7 @@ from jtcheck.units import (
     MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     Pressure,
+    difference_label,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -26,6 +27,7 @@ from jtcheck.units import (
     parse_water_content,
     pressure_from_pa,
     temperature_from_k,
+    temperature_unit_of,
 )
 
 if TYPE_CHECKING:
@@ -339,7 +341,7 @@ class DisplayUnits:
         return dk * (1.8 if self.d_unit == "degF" else 1.0)
 
     def difference_text(self, dk: float) -> str:
-        return f"{self.difference(dk):.2f} {self.d_unit}"
+        return f"{self.difference(dk):.2f} {difference_label(self.t_unit)}"
 
     def pressure(self, pa: float, unit: str | None = None) -> str:
         """A pressure [Pa] as text, in ``unit`` (default: the unit of --p-out)."""
@@ -348,9 +350,8 @@ class DisplayUnits:
 
 
 def display_units(args: LetdownArgs, inputs: LetdownInputs) -> DisplayUnits:
-    t_unit = args.t_in.strip().split()[-1] if " " in args.t_in.strip() else "K"
-    t_unit = {"c": "degC", "f": "degF"}.get(t_unit.lower(), t_unit)
-    return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() == "degf" else "K",
+    t_unit = temperature_unit_of(args.t_in)     # "40degC", "40 C" and "40°C" are all shown in degC
+    return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() in ("degf", "degr") else "K",
                         p_unit=inputs.p_out.unit, p_atm_pa=inputs.p_atm_pa)
 
 
@@ -406,7 +407,8 @@ def print_table(fluid: Fluid, screening: Screening, result: LetdownResult, input
     click.echo(f"{'phase':18s}{result.inlet_phase:>16s}{result.phase:>16s}")
     click.echo(f"{'vapour fraction':18s}{result.inlet_vapor_fraction:>16.4f}{vf_out:>16s}")
     if result.converged:
-        click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} {units.d_unit}")
+        click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} "
+                   f"{difference_label(units.t_unit)}")
     else:
         click.echo(f"\nNOT CONVERGED: {result.message}")
 
