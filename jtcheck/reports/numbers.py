@@ -11,8 +11,9 @@ from typing import Any
 
 from jtcheck.units import temperature_from_k
 
-#: Symbols of the temperature units on one-line summaries (batch pages and the batch summary).
-UNIT_LABELS = {"degc": "°C", "degf": "°F", "k": "K", "degr": "°R"}
+#: Spellings of the temperature units on one-line summaries (batch pages and the batch summary): the same as on
+#: every other page and in the record (degC, not °C).
+UNIT_LABELS = {"degc": "degC", "degf": "degF", "k": "K", "degr": "degR"}
 
 
 def finite_or_none(value: Any) -> float | None:
@@ -59,7 +60,7 @@ def fmt_signed(q: Mapping[str, Any] | None) -> str:
 
 
 def temperature_text(value_k: Any, unit: str) -> str:
-    """A temperature [K] in ``unit`` to 0.1 with the unit's symbol ("-27.4 °C"; "–" without a number)."""
+    """A temperature [K] in ``unit`` to 0.1 with the unit's spelling ("-27.4 degC"; "–" without a number)."""
     v = finite_or_none(value_k)
     if v is None:
         return "–"

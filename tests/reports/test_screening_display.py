@@ -138,3 +138,14 @@ def test_key_numbers_are_those_the_display_shows():
 
 def test_no_sweep_chart_without_a_sweep_table():
     assert sweep_chart_data(screening_display(stored(), DisplayUnits()), DisplayUnits()) is None
+
+
+def test_one_spelling_of_the_temperature_units_and_differences_as_differences():
+    """Issue 18: "°C" on one page and "degC" on the others; a difference in degF labelled as a difference."""
+    from jtcheck.reports.batch_summary import _difference
+    from jtcheck.reports.numbers import temperature_text
+
+    assert temperature_text(250.0, "degC") == "-23.1 degC"
+    assert temperature_text(250.0, "degF") == "-9.7 degF"
+    assert _difference(5.0, "degF") == "+9.0 delta degF"
+    assert _difference(5.0, "degC") == "+5.0 K"
