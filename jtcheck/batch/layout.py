@@ -240,6 +240,20 @@ KIND_COLUMNS = {"min_outlet_pressure": "outlet_pressure_min_pa",
                 "min_ambient_temperature": "ambient_temperature_min_k", "settle_out_volumes": "settle_out_volumes",
                 "cases_off": "credible_off"}
 
+#: The register key of each letdown column that is not a kind column (the plain letdown's inputs).
+LETDOWN_COLUMNS = {"inlet_pressure": "inlet_pressure_pa", "inlet_temperature": "inlet_temperature_k",
+                   "outlet_pressure": "outlet_pressure_pa", "min_inlet_temperature": "inlet_temperature_min_k",
+                   "max_inlet_pressure": "inlet_pressure_max_pa", "mdmt": "mdmt_k", "cold_limit": "cold_limit_k",
+                   "margin": "margin_k", "water_saturated": "water_saturated", "atmospheric_pressure": "p_atm_pa"}
+#: Inputs of the case register's letdown and relief-valve cases that a letdown list has no column for, each with
+#: what a row gets instead (said in the layout's notes: nothing is dropped silently).
+NOT_IN_LIST = {
+    "water_content_kg_per_sm3": "a row is screened for hydrates as water-saturated (water saturated: yes) or "
+                                "with the water of its composition; a water content or dew point needs the register",
+    "water_dew_point_k": "as for the water content",
+    "hydrate_inhibitor": "the hydrate finding gives the methanol dose",
+}
+
 COLUMN_BY_KEY: dict[str, Column] = {c.key: c for c in COLUMNS}
 REQUIRED_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if c.required)
 
@@ -356,6 +370,8 @@ def layout_markdown(notes: bool = True) -> str:
             "(`1044 psig`), which overrides the header's.",
             f"- CSV (UTF-8, comma or semicolon) or XLSX (first sheet); at most {MAX_ROWS:,} rows and "
             f"{MAX_BYTES // (1024 * 1024)} MB.",
+            "- Inputs of the case register with no column here: "
+            + "; ".join(f"`{k}` ({why})" for k, why in NOT_IN_LIST.items()) + ".",
             "- A file with any bad cell imports nothing; every problem is listed by row and column. With "
             "keep-going, the good rows are screened and the bad ones written to a bad-rows CSV with a "
             f"`{PROBLEMS_HEADER}` column (ignored when the fixed file is read again).",

@@ -103,3 +103,51 @@ def test_every_template_column_is_a_cli_input_or_said_not_to_be():
                       "inlet temperature [degC]": 10, "outlet pressure [barg]": 5, "mystery": "x"})
         finally:
             layout.COLUMNS = orig
+
+
+@pytest.fixture(scope="module")
+def register_all(app, world, register_result):
+    with app.app_context():
+        s = db_session()
+        cases = s.query(Case).all()
+        latest = service.latest_results(s, [c.id for c in cases])
+        return {c.tag: (latest[c.id].t_out_min_k, latest[c.id].outcome) for c in cases}
+
+
+@pytest.fixture(scope="module")
+def batch_all():
+    read = read_cases(write_template("csv"), filename="template.csv")
+    assert not read.errors, read.errors
+    rows = screen_batch(read.cases).rows
+    return {r.tag: (r.t_screen_k, r.outcome) for r in rows}
+
+
+DEMO_TAGS = ("PCV-1101", "PSV-2101", "PSV-4101", "PCV-5101", "BDV-5102", "PCV-3101")
+
+
+@pytest.mark.parametrize("tag", DEMO_TAGS)
+def test_every_demo_case_gives_the_registers_answer_from_the_cli_and_the_batch(tag, register_all, batch_all):
+    from jtcheck.cli.letdown import build_fluid, parse_inputs, screen
+
+    t_reg, outcome_reg = register_all[tag]
+    args = next(a for title, a in demo_args() if f"/ {tag}:" in title)
+    s = screen(args, parse_inputs(args), build_fluid(args))
+    assert (s.outcome.value, s.t_out_min_k) == (outcome_reg, pytest.approx(t_reg, abs=0.01)), "CLI"
+    t_batch, outcome_batch = batch_all[tag]
+    assert (outcome_batch, t_batch) == (outcome_reg, pytest.approx(t_reg, abs=0.01)), "batch"
+
+
+def test_every_register_input_of_a_letdown_is_a_list_column_or_said_to_have_none():
+    """Nothing the register takes is dropped silently by the letdown list: a column, or listed (with what a row gets
+    instead) in the layout notes."""
+    from jtcheck.batch.layout import KIND_COLUMNS, LETDOWN_COLUMNS, NOT_IN_LIST, layout_markdown
+    from jtcheck.cases.letdown import LETDOWN
+    from jtcheck.cases.relief import RELIEF_VALVE
+
+    keys = {f.key for kind in (LETDOWN, RELIEF_VALVE) for f in kind.fields}
+    keys |= {k for kind in (LETDOWN, RELIEF_VALVE) for k in (*kind.flags, *kind.parameters)}
+    covered = set(KIND_COLUMNS.values()) | set(LETDOWN_COLUMNS.values())
+    missing = sorted(k for k in keys if k not in covered and k not in NOT_IN_LIST)
+    assert missing == [], f"register inputs the letdown list drops silently: {missing}"
+    notes = layout_markdown()
+    assert all(f"`{k}`" in notes for k in NOT_IN_LIST)
