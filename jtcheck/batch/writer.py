@@ -370,7 +370,7 @@ def _xlsx_bytes(headers: Sequence[_Out], rows: Sequence[Sequence[Any]], screenin
         summary.append([outcome, n])
     if bad_rows:
         summary.append(["bad rows (not read, not screened)", bad_rows])
-    summary.append(["screened by the scalar path", screening.n_scalar])
+    summary.append(["screened one by one (full screening)", screening.n_scalar])
     summary.append(["time [s]", round(screening.seconds, 2)])
     summary.append(["jtcheck version", __version__])
     for note in screening.notes:

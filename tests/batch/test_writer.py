@@ -116,7 +116,7 @@ def test_xlsx_results_sheet_and_summary(read, tmp_path):
     assert (summary["pass"], summary["margin eroded"], summary["fail"], summary["not screened"]) == (1, 1, 1, 1)
     assert summary["caution"] == CAUTION
     assert summary["file"] == "letdowns.csv" and summary["note"] == "a note"
-    assert summary["screened by the scalar path"] == 1
+    assert summary["screened one by one (full screening)"] == 1
 
 
 def test_csv_and_xlsx_to_paths_and_bytes_agree(read, tmp_path):
