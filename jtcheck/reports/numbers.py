@@ -9,7 +9,7 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
-from jtcheck.units import temperature_from_k
+from jtcheck.units import difference_label, temperature_from_k
 
 #: Spellings of the temperature units on one-line summaries (batch pages and the batch summary): the same as on
 #: every other page and in the record (degC, not °C).
@@ -47,7 +47,8 @@ def fmt_quantity(q: Mapping[str, Any] | None, kind: str = "pressure") -> str:
     """``{"value", "unit"}`` as "12.5 barg" ("–" without a value)."""
     if not q or finite_or_none(q.get("value")) is None:
         return "–"
-    return f"{fmt_number(q['value'], kind)} {q['unit']}"
+    unit = difference_label(q["unit"]) if kind == "difference" else q["unit"]
+    return f"{fmt_number(q['value'], kind)} {unit}"
 
 
 def fmt_signed(q: Mapping[str, Any] | None) -> str:
@@ -56,7 +57,7 @@ def fmt_signed(q: Mapping[str, Any] | None) -> str:
     if v is None:
         return "–"
     text = f"{v:+.2f}"
-    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {q['unit']}"
+    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {difference_label(q['unit'])}"
 
 
 def temperature_text(value_k: Any, unit: str) -> str:

@@ -149,3 +149,13 @@ def test_one_spelling_of_the_temperature_units_and_differences_as_differences():
     assert temperature_text(250.0, "degF") == "-9.7 degF"
     assert _difference(5.0, "degF") == "+9.0 delta degF"
     assert _difference(5.0, "degC") == "+5.0 K"
+
+
+def test_a_difference_in_degf_is_labelled_as_a_difference_on_pages_and_records():
+    from jtcheck.reports.numbers import fmt_quantity, fmt_signed
+    from jtcheck.reports.screening_display import DisplayUnits
+
+    assert fmt_quantity({"value": 9.0, "unit": "degF"}, "difference") == "9.00 delta degF"
+    assert fmt_signed({"value": -9.0, "unit": "degF"}) == "-9.00 delta degF"
+    assert fmt_quantity({"value": 5.0, "unit": "K"}, "difference") == "5.00 K"
+    assert DisplayUnits.entered({"inlet_temperature": "degF"}, None).difference_label == "delta degF"
