@@ -28,8 +28,9 @@ def finite_or_none(value: Any) -> float | None:
 
 
 def fmt_number(value: Any, kind: str = "pressure") -> str:
-    """A number for a page or the record: temperatures and differences to 0.01, fractions to 0.0001, others to
-    6 significant digits ("–" without a number)."""
+    """A number for a page or the record: temperatures and differences to 0.01, fractions to 0.0001, computed
+    pressures (answers) to 4 significant digits, others (inputs, shown back as entered) to 6 significant digits
+    ("–" without a number)."""
     v = finite_or_none(value)
     if v is None:
         return "–"
@@ -38,6 +39,8 @@ def fmt_number(value: Any, kind: str = "pressure") -> str:
         return "0.00" if text == "-0.00" else text
     if kind == "fraction":
         return f"{v:.4f}"
+    if kind == "computed":     # a computed pressure (an answer): 4 significant digits, no exponent
+        return f"{v:.0f}" if abs(v) >= 1e4 else f"{v:.4g}"
     if abs(v) >= 1e6:
         return f"{v:.0f}"
     return f"{v:.6g}"

@@ -159,3 +159,12 @@ def test_a_difference_in_degf_is_labelled_as_a_difference_on_pages_and_records()
     assert fmt_signed({"value": -9.0, "unit": "degF"}) == "-9.00 delta degF"
     assert fmt_quantity({"value": 5.0, "unit": "K"}, "difference") == "5.00 K"
     assert DisplayUnits.entered({"inlet_temperature": "degF"}, None).difference_label == "delta degF"
+
+
+def test_computed_pressures_get_four_significant_digits_and_inputs_six():
+    """Issue 18: "39.8143 barg" for a computed outlet-pressure limit; an entered 1.01325 bar is shown as entered."""
+    from jtcheck.reports.numbers import fmt_number
+
+    assert fmt_number(39.8143, "computed") == "39.81"
+    assert fmt_number(3981430.0, "computed") == "3981430"
+    assert fmt_number(1.01325) == "1.01325"
