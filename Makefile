@@ -18,9 +18,11 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 	touch $(VENV)/.installed $@
 
 # Serves the case register on http://127.0.0.1:$${PORT:-8000} with the invented demo site; on the first
-# start it prints a one-time admin password.  Cookies over plain http on loopback only (SESSION_COOKIE_SECURE=0).
+# start it prints a one-time admin password (`make run RESET_ADMIN=1` prints a new one for a lost password).
+# Cookies over plain http on loopback only (SESSION_COOKIE_SECURE=0).
 run: $(VENV)/.installed
-	SESSION_COOKIE_SECURE=0 $(BIN)/python -m jtcheck.web --host 127.0.0.1 --port $${PORT:-8000}
+	@echo "jtcheck: starting (the first start compiles the calculation kernels: one to two minutes)..."
+	SESSION_COOKIE_SECURE=0 JTCHECK_RESET_ADMIN_PASSWORD=$(RESET_ADMIN) $(BIN)/python -m jtcheck.web --host 127.0.0.1 --port $${PORT:-8000}
 
 # The whole suite runs twice: on SQLite (the embedded default) and on PostgreSQL.
 test: $(VENV)/.installed-test

@@ -40,6 +40,34 @@ TEMPERATURE_DIFFERENCE_UNITS: dict[str, str] = {
 _NUM_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z°_]+)?\s*$")
 
 
+#: The usual spelling of each temperature unit word (one spelling on every page: degC, not °C or C).
+TEMPERATURE_SPELLING = {"k": "K", "degc": "degC", "c": "degC", "°c": "degC", "degf": "degF", "f": "degF",
+                        "°f": "degF", "degr": "degR", "r": "degR"}
+
+
+def temperature_unit_of(text: str, default: str = "K") -> str:
+    """The unit of a temperature as typed, in its usual spelling: ``"40degC"``, ``"40 C"`` and ``"40°C"`` give
+    ``"degC"``; ``default`` when the text has no known unit."""
+    m = _NUM_UNIT.match(str(text))
+    word = (m.group(2) or "").strip().lower() if m else ""
+    return TEMPERATURE_SPELLING.get(word, default)
+
+
+def difference_label(unit: str) -> str:
+    """The label of a temperature difference shown beside temperatures in ``unit``: K for kelvin and degC (a
+    kelvin is a degree Celsius), "delta degF" for degF and "delta degR" for degR (a difference, not a reading)."""
+    key = unit.lower()
+    return {"degf": "delta degF", "f": "delta degF", "°f": "delta degF", "degr": "delta degR"}.get(key, "K")
+
+
+def round_significant(value: float, digits: int = 12) -> float:
+    """``value`` rounded to ``digits`` significant digits, as the float nearest to that decimal (so that it prints
+    without float noise: 244.14999999999998 -> 244.15); non-finite values unchanged."""
+    if not math.isfinite(value) or value == 0.0:
+        return value
+    return float(f"{value:.{digits}g}")
+
+
 @lru_cache(maxsize=1)
 def _ureg():
     import pint

@@ -85,7 +85,7 @@ def test_components_lists_the_library():
 
 def test_demo_runs_the_invented_site():
     res = run("demo")
-    assert res.exit_code == 0
+    assert res.exit_code == 5      # the worst outcome of the site: PCV-1101 and BDV-5102 fail, as in the register
     assert "Kestrel Ridge" in res.output and "invented" in res.output
     # the vessel depressuring case is not run as a letdown: the output says where to see it
     assert "BDV-2102" in res.output and "a vessel depressuring case (a run in time, not a letdown)" in res.output
@@ -159,7 +159,8 @@ def test_failing_letdown_prints_outcome_findings_and_what_keeps_it_safe():
     assert res.exit_code == EXIT_FAIL, res.output
     assert "OUTCOME: FAIL" in res.output
     assert "[hazard] cold metal" in res.output
-    assert "preheat: heat the inlet to" in res.output and "kW" in res.output
+    assert "preheat for the cold limit plus margin: heat the inlet to" in res.output and "kW" in res.output
+    assert "The answers keep the outlet above the cold limit plus margin (cold metal)" in res.output
     assert "outlet pressure: keep it at or above" in res.output and "barg" in res.output
     assert "licensed engineer" in res.output
 
@@ -243,7 +244,9 @@ def test_record_verify_refuses_a_changed_byte(issued_record):
     bad.write_bytes(bytes(pdf))
     res = CliRunner().invoke(main, ["record", "verify", str(bad)])
     assert res.exit_code == 6
-    assert "NOT INTACT" in res.output and "does not match any record" in res.output and "NOT VALID" in res.output
+    assert "CONTENT CHANGED: the signed content was altered after signing" in res.output
+    assert "NOT TRUSTED" not in res.output     # the content failed, not the signer
+    assert "does not match any record" in res.output and "NOT VALID" in res.output
 
 
 def test_record_verify_with_another_trust_root_is_not_trusted(issued_record, tmp_path):

@@ -1,4 +1,6 @@
 """Unit parsing at the edge (jtcheck.units)."""
+import re
+
 import pytest
 
 from jtcheck.errors import InputError
@@ -55,3 +57,44 @@ def test_bad_quantities_name_the_field(text, field, fragment):
 def test_round_trip_display_units():
     assert pressure_from_pa(11.01325e5, "barg") == pytest.approx(10.0)
     assert temperature_from_k(273.15, "degC") == pytest.approx(0.0, abs=1e-12)
+
+
+# -- shown in the user's units (issue 18) -------------------------------------------------------------------
+@pytest.mark.parametrize("text", ["40degC", "40 degC", "40C", "40 C", "40°C", "40 °C"])
+def test_a_temperature_typed_any_way_is_shown_in_its_unit(text):
+    from jtcheck.units import temperature_unit_of
+
+    assert temperature_unit_of(text) == "degC"
+
+
+def test_differences_are_labelled_as_differences():
+    from jtcheck.units import difference_label
+
+    assert difference_label("degC") == "K" and difference_label("K") == "K"
+    assert difference_label("degF") == "delta degF" and difference_label("degR") == "delta degR"
+
+
+def test_round_significant_removes_float_noise():
+    from jtcheck.units import round_significant
+
+    assert -29.0 + 273.15 != 244.15                       # the noise itself
+    assert repr(round_significant(-29.0 + 273.15)) == "244.15"
+    assert round_significant(1.01325, 6) == 1.01325
+
+
+def test_cli_reports_in_the_unit_typed_and_errors_in_bar(tmp_path):
+    from click.testing import CliRunner
+
+    from jtcheck.cli import main
+
+    res = CliRunner().invoke(main, ["letdown", "--fluid", "methane=0.9,ethane=0.1", "--p-in", "100 bara",
+                                    "--t-in", "40°C", "--p-out", "10 bara", "--single-model"])
+    assert re.search(r"temperature +40.00 degC +-?\d+\.\d\d degC", res.output), res.output
+    assert "313.15 K" not in res.output
+    res = CliRunner().invoke(main, ["letdown", "--fluid", "methane=0.9,ethane=0.1", "--p-in", "100 bara",
+                                    "--t-in", "40 degF", "--p-out", "10 bara", "--single-model"])
+    assert "delta degF" in res.output
+    bad = CliRunner().invoke(main, ["letdown", "--fluid", "methane=1", "--p-in", "100 bara", "--t-in", "40 degC",
+                                    "--p-out", "120 bara"])
+    assert "outlet pressure 120 bara is above the inlet pressure 100 bara" in bad.output
+    assert "e+07" not in bad.output

@@ -187,6 +187,9 @@ COLUMNS: tuple[Column, ...] = (
     Column("mass_flow", "mass flow", MASS_FLOW, False, "", MASS_FLOW_UNIT,
            "Mass flow through the valve in kg/s: a relief valve's share when other sources discharge into the "
            "same header (without it 1 kg/s is taken and the finding says so)."),
+    Column("min_outlet_pressure", "min outlet pressure", PRESSURE, False, "", "barg",
+           "Lowest credible outlet pressure (the operating sweep runs down to it, as in the case register); not "
+           "above the outlet pressure."),
     # relief valves (kind relief_valve): the relieving case, screened by the relief-valve case kind
     Column("set_pressure", "set pressure", PRESSURE, False, "", "barg",
            "Relief valve set pressure (kind relief_valve): adds the relieving case; needs the overpressure."),
@@ -241,7 +244,8 @@ COLUMNS: tuple[Column, ...] = (
            "(empty: 0, the pressure stress only)."),
 )
 #: The register key of each relief-valve and generated-case column (the case kinds' inputs).
-KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",
+KIND_COLUMNS = {"min_outlet_pressure": "outlet_pressure_min_pa",
+                "set_pressure": "set_pressure_pa", "overpressure": "overpressure_fraction",
                 "superimposed_back_pressure": "superimposed_back_pressure_pa",
                 "built_up_back_pressure": "built_up_back_pressure_pa", "header_limit": "header_limit_k",
                 "min_relieving_temperature": "relieving_temperature_min_k", "header_sections": "header_sections",
@@ -250,6 +254,17 @@ KIND_COLUMNS = {"set_pressure": "set_pressure_pa", "overpressure": "overpressure
                 "min_ambient_temperature": "ambient_temperature_min_k", "settle_out_volumes": "settle_out_volumes",
                 "cases_off": "credible_off", "water_content": "water_content_kg_per_sm3",
                 "water_dew_point": "water_dew_point_k"}
+
+#: The register key of each letdown column that is not a kind column (the plain letdown's inputs).
+LETDOWN_COLUMNS = {"inlet_pressure": "inlet_pressure_pa", "inlet_temperature": "inlet_temperature_k",
+                   "outlet_pressure": "outlet_pressure_pa", "min_inlet_temperature": "inlet_temperature_min_k",
+                   "max_inlet_pressure": "inlet_pressure_max_pa", "mdmt": "mdmt_k", "cold_limit": "cold_limit_k",
+                   "margin": "margin_k", "water_saturated": "water_saturated", "atmospheric_pressure": "p_atm_pa"}
+#: Inputs of the case register's letdown and relief-valve cases that a letdown list has no column for, each with
+#: what a row gets instead (said in the layout's notes: nothing is dropped silently).
+NOT_IN_LIST = {
+    "hydrate_inhibitor": "the hydrate finding gives the methanol dose",
+}
 
 COLUMN_BY_KEY: dict[str, Column] = {c.key: c for c in COLUMNS}
 REQUIRED_KEYS: tuple[str, ...] = tuple(c.key for c in COLUMNS if c.required)
@@ -370,6 +385,8 @@ def layout_markdown(notes: bool = True) -> str:
             "(`1044 psig`), which overrides the header's.",
             f"- CSV (UTF-8, comma or semicolon) or XLSX (first sheet); at most {MAX_ROWS:,} rows and "
             f"{MAX_BYTES // (1024 * 1024)} MB.",
+            "- Inputs of the case register with no column here: "
+            + "; ".join(f"`{k}` ({why})" for k, why in NOT_IN_LIST.items()) + ".",
             "- A file with any bad cell imports nothing; every problem is listed by row and column. With "
             "keep-going, the good rows are screened and the bad ones written to a bad-rows CSV with a "
             f"`{PROBLEMS_HEADER}` column (ignored when the fixed file is read again).",

@@ -63,6 +63,7 @@ def template_rows() -> list[dict[str, Any]]:
             "outlet_pressure": barg(f["outlet_pressure_pa"]),
             "min_inlet_temperature": degc(f.get("inlet_temperature_min_k")),
             "max_inlet_pressure": barg(f.get("inlet_pressure_max_pa")),
+            "min_outlet_pressure": barg(f.get("outlet_pressure_min_pa")),
             "mdmt": degc(mdmt_k[material]),
             "cold_limit": "",
             "margin": _number(f.get("margin_k", 0.0)),

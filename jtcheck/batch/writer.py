@@ -36,7 +36,7 @@ from jtcheck.batch.layout import (
 from jtcheck.batch.reader import CaseSource, ReadResult, canonical_unit
 from jtcheck.notices import CAUTION
 from jtcheck.screening.batch import BatchCase, BatchRowResult, BatchScreening
-from jtcheck.units import P_ATM_DEFAULT_PA, PRESSURE_UNITS, pressure_from_pa, temperature_from_k
+from jtcheck.units import P_ATM_DEFAULT_PA, PRESSURE_UNITS, pressure_from_pa, round_significant, temperature_from_k
 
 #: The outcomes, best first, as words.
 OUTCOMES = ("pass", "margin eroded", "fail", "not screened")
@@ -130,7 +130,7 @@ def _headers(units: Mapping[str, str], models: Sequence[str]) -> list[_Out]:
     cols = [_Out("row"), _Out("tag"), _Out("service", "long"), _Out("kind"), _Out("fluid", "long"), _Out("eos")]
     for c in COLUMNS:
         if c.has_unit and c.key not in KIND_COLUMNS:
-            cols.append(_Out(c.header(units[c.key]), "display"))
+            cols.append(_Out(c.header(units[c.key]), "input"))
         elif c.key == "water_saturated":
             cols.append(_Out(c.name))
             cols.append(_Out("water basis", "long"))
@@ -292,14 +292,22 @@ def write_results(screening: BatchScreening, cases: ReadResult | Sequence[BatchC
     return None
 
 
+def _rounded(value: float, kind: str) -> float:
+    """A number as its column keeps it: inputs to their 6 significant digits (shown back as entered: 1.01325 bar),
+    results in display units and fractions to :data:`_DECIMALS`, SI values to 12 significant digits (no float
+    noise such as 244.14999999999998 for 244.15 K; far below any input's precision)."""
+    if kind in _DECIMALS:
+        return round(value, _DECIMALS[kind])
+    return round_significant(value, _SIGNIFICANT.get(kind, 12))
+
+
 def _csv_cell(value: Any, kind: str) -> Any:
     if value is None:
         return ""
     if isinstance(value, float):
-        if kind in _DECIMALS:
-            text = f"{value:.{_DECIMALS[kind]}f}".rstrip("0").rstrip(".")
-            return "0" if text in ("-0", "") else text
-        return repr(value)
+        text = repr(_rounded(value, kind))
+        text = text[:-2] if text.endswith(".0") else text
+        return "0" if text == "-0" else text
     if isinstance(value, str):
         return formula_safe(value)     # never let a spreadsheet take a text cell (or a piece of it) for a formula
     return value
@@ -314,8 +322,10 @@ def _csv_bytes(headers: Sequence[_Out], rows: Sequence[Sequence[Any]]) -> bytes:
     return out.getvalue().encode("utf-8-sig")
 
 
-#: Decimals kept in the columns for people (display units, vapour fraction); the SI columns keep every digit.
-_DECIMALS = {"display": 4, "fraction": 6}
+#: Decimals kept in the columns of results for people (display units: 0.01 K, 0.01 bar; vapour fraction).
+_DECIMALS = {"display": 2, "fraction": 4}
+#: Significant digits kept of the inputs shown back (as entered) and of the SI columns.
+_SIGNIFICANT = {"input": 6, "si": 12}
 _WIDTHS = {"long": 60, "outcome": 15}
 
 
@@ -359,8 +369,8 @@ def _xlsx_bytes(headers: Sequence[_Out], rows: Sequence[Sequence[Any]], screenin
                 cell = WriteOnlyCell(ws, value=v)
                 cell.data_type = "s"           # text that looks like a formula stays text
                 out.append(cell)
-            elif isinstance(v, float) and kind in _DECIMALS:
-                out.append(round(v, _DECIMALS[kind]))
+            elif isinstance(v, float) and math.isfinite(v):
+                out.append(_rounded(v, kind))
             else:
                 out.append(v)
         ws.append(out)
@@ -387,7 +397,7 @@ def _xlsx_bytes(headers: Sequence[_Out], rows: Sequence[Sequence[Any]], screenin
         summary.append([outcome, n])
     if bad_rows:
         summary.append(["bad rows (not read, not screened)", bad_rows])
-    summary.append(["screened by the scalar path", screening.n_scalar])
+    summary.append(["screened one by one (full screening)", screening.n_scalar])
     summary.append(["time [s]", round(screening.seconds, 2)])
     summary.append(["jtcheck version", __version__])
     for note in screening.notes:

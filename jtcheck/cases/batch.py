@@ -47,9 +47,15 @@ def row_kind(case: BatchCase) -> CaseKind:
 
 
 def row_screening(case: BatchCase, compare_models: bool) -> Screening:
-    """The scalar screening of one row by its kind (credible conditions; no sweep, no answers)."""
-    return row_kind(case).compute(case.fluid, row_values(case), compare_models=compare_models, answers=False,
-                                  sweep=False)
+    """The scalar screening of one row by its kind (credible conditions; no answers).
+
+    A row with a minimum credible outlet pressure is swept over its operating ranges as the case register
+    sweeps a case (the outlet range is screened by the sweep only, not by the credible conditions); other rows
+    are screened at the corners of their inlet ranges (the credible conditions), as the vectorised path does.
+    """
+    values = row_values(case)
+    return row_kind(case).compute(case.fluid, values, compare_models=compare_models, answers=False,
+                                  sweep=values.get("outlet_pressure_min_pa") is not None)
 
 
 def kind_hooks(device: str, extras: Mapping[str, Any] | None = None) -> dict[str, Any]:

@@ -36,6 +36,7 @@ Every value is SI (Pa absolute, K, m^3); the edges convert units.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -169,11 +170,28 @@ class GeneratedCases:
         status (computed, off, not generated), reasoning, reason, converged and the condition's SI values."""
         order = list(CASE_NAMES)
         rows = [*(g.to_dict() for g in self.generated), *(s.to_dict() for s in self.skipped)]
+        rows = [{**r, **{k: readable(r[k]) for k in ("reasoning", "reason") if isinstance(r.get(k), str)}}
+                for r in rows]
         return sorted(rows, key=lambda r: order.index(r["case"]))   # stable: conditions keep their order
 
     def to_dict(self) -> dict[str, Any]:
         return {"cases": self.entries(),
                 "settle_out": None if self.settle_out is None else _plain(self.settle_out.to_dict())}
+
+
+#: A register key in a reasoning text (``inlet_pressure_pa``, ``p_atm_pa``, ``settle_out_volumes``).
+_KEY = re.compile(r"\b(?:[a-z0-9]+_)+(?:pa|k|m3|kg_per_s|volumes|fraction)\b")
+
+
+def readable(text: str) -> str:
+    """A reasoning text as a user reads it: the register keys that trace each number to its input are left out
+    (the words beside them name the input), with the brackets and separators they leave."""
+    out = _KEY.sub("", text)
+    out = re.sub(r"\(\s*(?:[,;]\s*)*\)", "", out)          # "()" and "(, )"
+    out = re.sub(r"\(\s*[,;]\s*", "(", out)                  # "(; the colder outlet)"
+    out = re.sub(r"\s*[,;]\s*\)", ")", out)
+    out = re.sub(r" {2,}", " ", out).replace(" ,", ",").replace(" ;", ";").replace(" .", ".")
+    return out.strip()
 
 
 def _num(x: float) -> float | None:
@@ -251,11 +269,11 @@ def check_credible_off(off: Any) -> dict[str, str]:
 # ---------------------------------------------------------------------------------------------
 
 def _bar(p_pa: float) -> str:
-    return f"{p_pa:.6g} Pa ({p_pa / 1e5:.4g} bar abs)"
+    return f"{p_pa / 1e5:.6g} bara"
 
 
 def _kelvin(t_k: float) -> str:
-    return f"{t_k:.6g} K ({t_k - 273.15:.2f} degC)"
+    return f"{t_k - 273.15:.2f} degC"
 
 
 def _lowest_outlet(values: Mapping[str, Any]) -> tuple[float, str]:
@@ -323,12 +341,17 @@ def _start_up(values: Mapping[str, Any]) -> tuple[list[GeneratedCondition], Skip
             for c, i in zip(conds, inlets, strict=True)], None
 
 
+#: The inputs of the generated cases in words (the reasoning names them so).
+_WORDS = {"heater_upstream_temperature_k": "temperature upstream of the heater",
+          "ambient_temperature_min_k": "minimum ambient temperature"}
+
+
 def _cold_inlet(case: str, values: Mapping[str, Any], key: str,
                 why: str) -> tuple[list[GeneratedCondition], SkippedCase | None]:
     """Heater loss and minimum ambient: the inlet at ``values[key]`` at the normal and maximum inlet pressure."""
     t_k = values.get(key)
     if t_k is None:
-        return [], SkippedCase(case, NOT_GENERATED, f"no {key} given")
+        return [], SkippedCase(case, NOT_GENERATED, f"no {_WORDS.get(key, key)} given ({key})")
     t_in = values["inlet_temperature_k"]
     if t_k >= t_in:
         return [], SkippedCase(case, NOT_GENERATED, f"{key} {_kelvin(t_k)} is not below the normal inlet "

@@ -20,6 +20,7 @@ from jtcheck.units import (
     MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     Pressure,
+    difference_label,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -27,6 +28,7 @@ from jtcheck.units import (
     parse_water_content,
     pressure_from_pa,
     temperature_from_k,
+    temperature_unit_of,
 )
 
 if TYPE_CHECKING:
@@ -340,7 +342,7 @@ class DisplayUnits:
         return dk * (1.8 if self.d_unit == "degF" else 1.0)
 
     def difference_text(self, dk: float) -> str:
-        return f"{self.difference(dk):.2f} {self.d_unit}"
+        return f"{self.difference(dk):.2f} {difference_label(self.t_unit)}"
 
     def pressure(self, pa: float, unit: str | None = None) -> str:
         """A pressure [Pa] as text, in ``unit`` (default: the unit of --p-out)."""
@@ -349,9 +351,8 @@ class DisplayUnits:
 
 
 def display_units(args: LetdownArgs, inputs: LetdownInputs) -> DisplayUnits:
-    t_unit = args.t_in.strip().split()[-1] if " " in args.t_in.strip() else "K"
-    t_unit = {"c": "degC", "f": "degF"}.get(t_unit.lower(), t_unit)
-    return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() == "degf" else "K",
+    t_unit = temperature_unit_of(args.t_in)     # "40degC", "40 C" and "40°C" are all shown in degC
+    return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() in ("degf", "degr") else "K",
                         p_unit=inputs.p_out.unit, p_atm_pa=inputs.p_atm_pa)
 
 
@@ -407,7 +408,8 @@ def print_table(fluid: Fluid, screening: Screening, result: LetdownResult, input
     click.echo(f"{'phase':18s}{result.inlet_phase:>16s}{result.phase:>16s}")
     click.echo(f"{'vapour fraction':18s}{result.inlet_vapor_fraction:>16.4f}{vf_out:>16s}")
     if result.converged:
-        click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} {units.d_unit}")
+        click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} "
+                   f"{difference_label(units.t_unit)}")
     else:
         click.echo(f"\nNOT CONVERGED: {result.message}")
 
@@ -508,28 +510,42 @@ def print_kind_answers(answers: dict, units: DisplayUnits) -> None:
             click.echo(f"  {g['name']}: {g['status']}; {g.get('reasoning') or g.get('reason')}")
 
 
-def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
-    """What keeps it safe: the preheat needed and the lowest outlet pressure, where the screening found them."""
-    print_kind_answers(answers, units)
-    if not answers.get("preheat"):
-        return
-    click.echo("\nwhat keeps it safe (outlet at the limit plus margin, "
-               f"{units.temperature(answers['preheat']['target_k'])})")
-    gov = answers["preheat"].get("governing")
+def _preheat_line(what: str, part: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
+    gov = part.get("governing")
     if gov and gov.get("needed"):
         duty = gov.get("duty_w")
         duty_txt = f"; heater duty {duty / 1e3:.1f} kW at {mass_flow_kg_per_s:g} kg/s" if duty is not None else \
             "; give --mass-flow for the heater duty"
-        click.echo(f"  preheat: heat the inlet to {units.temperature(gov['t_in_required_k'])} (a rise of "
-                   f"{units.difference_text(gov['temperature_rise_k'])}, {gov['condition']}, {gov['model']}){duty_txt}")
-    elif not answers["preheat"].get("all_converged"):
-        click.echo("  preheat: not found (a calculation did not converge)")
-    olim = answers["outlet_pressure_limit"].get("governing")
-    if olim:
-        click.echo(f"  outlet pressure: keep it at or above {units.pressure(olim['p_out_min_pa'])} "
-                   f"({olim['condition']}, {olim['model']})")
-    elif answers["outlet_pressure_limit"].get("all_converged"):
-        click.echo("  outlet pressure: no limit found above the floor (the inlet itself may be too cold)")
+        click.echo(f"  {what}: heat the inlet to {units.temperature(gov['t_in_required_k'])} (a rise of "
+                   f"{units.difference_text(gov['temperature_rise_k'])}, {gov['condition']}, {gov['model']}) for an "
+                   f"outlet of {units.temperature(part['target_k'])}{duty_txt}")
+    elif gov:
+        click.echo(f"  {what}: no preheat needed (every outlet reaches {units.temperature(part['target_k'])})")
+    elif not part.get("all_converged"):
+        click.echo(f"  {what}: not found (a calculation did not converge)")
+
+
+def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
+    """What keeps it safe, hazard by hazard: the preheat for the cold limit and the lowest outlet pressure, the
+    preheat for hydrates, and which hazards these cover (:func:`jtcheck.screening.screen.remedies_cover`)."""
+    print_kind_answers(answers, units)
+    if not (answers.get("preheat") or answers.get("hydrate_preheat")):
+        return
+    click.echo("\nwhat keeps it safe")
+    if answers.get("preheat"):
+        _preheat_line("preheat for the cold limit plus margin", answers["preheat"], units, mass_flow_kg_per_s)
+        olim = answers["outlet_pressure_limit"].get("governing")
+        if olim:
+            click.echo(f"  outlet pressure: keep it at or above {units.pressure(olim['p_out_min_pa'])} "
+                       f"({olim['condition']}, {olim['model']}; cold limit plus margin only)")
+        elif answers["outlet_pressure_limit"].get("all_converged"):
+            click.echo("  outlet pressure: no limit found above the floor (the inlet itself may be too cold)")
+    if answers.get("hydrate_preheat"):
+        _preheat_line("preheat for hydrates (hydrate temperature plus margin)", answers["hydrate_preheat"], units,
+                      mass_flow_kg_per_s)
+        click.echo("  or inhibit: see the hydrate finding for the inhibitor dose")
+    if answers.get("remedies_cover"):
+        click.echo(f"  {answers['remedies_cover']}")
 
 
 # ---------------------------------------------------------------------------------------------

@@ -56,8 +56,12 @@ def print_report(file: str, report) -> None:
         click.echo("signatures none")
     for k, c in enumerate(sigs.signatures, 1):
         when = c.signed_at.strftime("%Y-%m-%d %H:%M:%S UTC") if c.signed_at else "time unknown"
-        flags = ", ".join([("intact" if c.intact else "NOT INTACT"), ("trusted" if c.trusted else "NOT TRUSTED"),
-                           ("changed afterwards" if c.modified_after else "not changed afterwards")])
+        if not c.intact:   # the signed bytes changed: the content is what failed, whoever signed it
+            flags = "CONTENT CHANGED: the signed content was altered after signing (the signature no longer matches)"
+        else:
+            flags = ", ".join(["intact", ("trusted" if c.trusted else "NOT TRUSTED (the signer's certificate does "
+                                                                       "not chain to a trusted root)"),
+                               ("changed afterwards" if c.modified_after else "not changed afterwards")])
         click.echo(f"signature {k}: {c.role or c.field} - {c.signer_name} <{c.signer_email}>, {when}: {flags}")
         for p in c.problems:
             click.echo(f"    {p}")

@@ -141,7 +141,7 @@ def _print_summary(screening, result, counts: dict[str, int], single_model: bool
     """Counts by outcome, the ten coldest cases, where the results went, and the caution."""
     t_unit = result.units.get("inlet_temperature", "degC")
     click.echo(f"screened  {len(screening.rows)} cases in {screening.seconds:.1f} s "
-               f"({screening.n_scalar} by the scalar path)"
+               f"({screening.n_scalar} screened one by one)"
                + ("" if single_model else "; PR and SRK side by side, the colder governs"))
     for note in screening.notes:
         click.echo(f"note: {note}")

@@ -61,8 +61,9 @@ def check_letdown_inputs(p_in, t_in, p_out):
     over = p_out_b > p_in_b
     if over.any():
         k = int(np.flatnonzero(over.ravel())[0])
-        raise InputError("p_out", f"outlet pressure {p_out_b.ravel()[k]:g} Pa is above the inlet pressure "
-                                  f"{p_in_b.ravel()[k]:g} Pa; a letdown needs p_out <= p_in")
+        p_o, p_i = float(p_out_b.ravel()[k]), float(p_in_b.ravel()[k])
+        raise InputError("p_out", f"outlet pressure {p_o / 1e5:.6g} bara ({p_o:g} Pa) is above the inlet pressure "
+                                  f"{p_i / 1e5:.6g} bara ({p_i:g} Pa); a letdown needs p_out <= p_in")
     if np.any(t_in_b > 2000.0):
         raise InputError("t_in", "inlet temperature must be below 2000 K (the range of the heat-capacity data)")
     if np.any(t_in_b < T_IN_MIN_K):

@@ -65,7 +65,24 @@ def add_fluid(session: Session, user: User | None, name: Any, composition: Any, 
     session.add(record)
     session.flush()
     audit.add_entry(session, user, "fluid", record.id, "create", new=record.name)
+    entered = entered_composition(composition, fluid)
+    if entered is not None:   # the history keeps what was typed, the record the normalised fractions
+        audit.add_entry(session, user, "fluid", record.id, "create", "composition as entered", None, entered)
     return record
+
+
+def entered_composition(composition: Any, fluid: Fluid) -> str | None:
+    """The composition as the user entered it, with the note of its normalisation, when it was normalised (its
+    amounts did not sum to 1 or 100); None when it was stored as entered."""
+    notes = [w for w in fluid.composition.warnings if "normalised" in w]
+    if not notes:
+        return None
+    if isinstance(composition, str):
+        text = composition.strip()
+    else:
+        pairs = composition.items() if isinstance(composition, Mapping) else composition
+        text = ", ".join(f"{name}={amount}" for name, amount in pairs)
+    return f"{text} ({'; '.join(notes)})"
 
 
 def _composition_json(fluid: Fluid) -> list[list[Any]]:
@@ -117,6 +134,9 @@ def _update_fluid(session: Session, user: User, fluid_id: int, changes: Mapping[
                 setattr(record, key, value)
                 audit.add_entry(session, user, "fluid", record.id, "update", key, old, value)
                 changed = True
+        entered = entered_composition(composition, fluid) if "composition" in changes else None
+        if entered is not None:
+            audit.add_entry(session, user, "fluid", record.id, "update", "composition as entered", None, entered)
         if changed:
             record.updated_by = user
     return record

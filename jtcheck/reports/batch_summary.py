@@ -32,7 +32,7 @@ from jtcheck.reports.numbers import UNIT_LABELS, finite_or_none, temperature_tex
 from jtcheck.reports.record import templates_path
 from jtcheck.reports.screening_display import OUTCOME_LABELS
 from jtcheck.screening.findings import Outcome
-from jtcheck.units import temperature_difference_from_k
+from jtcheck.units import difference_label, temperature_difference_from_k
 
 logging.getLogger("weasyprint.progress").setLevel(logging.WARNING)
 
@@ -65,7 +65,7 @@ def _difference(value_k: Any, unit: str) -> str:
         return "–"
     d = temperature_difference_from_k(v, unit)
     text = f"{d:+.1f}"
-    label = "K" if unit.lower() in ("k", "degc") else UNIT_LABELS.get(unit.lower(), unit)
+    label = difference_label(unit)
     return f"{'0.0' if text in ('-0.0', '+0.0') else text} {label}"
 
 

@@ -11,6 +11,7 @@ register: the file's SHA-256 must be the stored hash of an issued revision.
 """
 from __future__ import annotations
 
+import datetime as dt
 import hashlib
 from dataclasses import dataclass, field
 from typing import Any
@@ -21,7 +22,8 @@ from sqlalchemy.orm import Session
 from jtcheck.records.models import CaseRevision
 from jtcheck.records.workflow import SignFn, SigningRequest
 from jtcheck.reports.pki import InstancePKI
-from jtcheck.reports.record import render_record
+from jtcheck.reports.record import date_text, history_fields, issued_fields, render_record
+from jtcheck.reports.record_fields import text_fields
 from jtcheck.reports.signing import add_signature_fields, sign_record
 from jtcheck.reports.verify import RecordVerification, verify_record
 
@@ -33,12 +35,20 @@ def record_signer(pki: InstancePKI, *, paper: str = "A4", timestamper: Any = Non
     """The signing callback the review workflow calls at submit, check and approve."""
 
     def sign(req: SigningRequest) -> bytes:
+        now = date_text(dt.datetime.now(dt.UTC))
+        fill: dict[str, str] = {}
         if req.pdf is None:
-            rendered = render_record(req.snapshot, paper)
+            rendered = render_record(req.snapshot, paper, issued_at=now)
             boxes = {role: (b.page_index, b.x1, b.y1, b.x2, b.y2) for role, b in rendered.signature_boxes.items()}
             pdf = add_signature_fields(rendered.pdf, boxes)
         else:
             pdf = req.pdf
+            fields = text_fields(pdf)
+            if req.role == "checker" and "history-check-at" in fields:
+                fill = history_fields("check", req.label, "checked", now, f"checked {req.user_name}", req.comment)
+            elif req.role == "approver" and "revision-cover" in fields:
+                n_pages = sum(1 for name in fields if name.startswith("revision-page-"))
+                fill = issued_fields(req.label, req.issued_label, now, req.user_name, req.comment, n_pages)
         word = ROLE_WORDS[req.role]
         signer = pki.signer_for(req.user_id, req.user_name, req.user_email, req.role)
         lines = [f"{word.capitalize()} by {req.user_name}", req.user_email]
@@ -47,7 +57,7 @@ def record_signer(pki: InstancePKI, *, paper: str = "A4", timestamper: Any = Non
         return sign_record(pdf, req.role, signer, role_text=word, signer_name=req.user_name,
                            reason=f"jtcheck record {req.snapshot.get('record_number', '')} revision "
                                   f"{req.issued_label}: {word}", location=location, stamp_lines=lines,
-                           timestamper=timestamper)
+                           timestamper=timestamper, fill=fill)
 
     return sign
 

@@ -9,10 +9,11 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
-from jtcheck.units import temperature_from_k
+from jtcheck.units import difference_label, temperature_from_k
 
-#: Symbols of the temperature units on one-line summaries (batch pages and the batch summary).
-UNIT_LABELS = {"degc": "°C", "degf": "°F", "k": "K", "degr": "°R"}
+#: Spellings of the temperature units on one-line summaries (batch pages and the batch summary): the same as on
+#: every other page and in the record (degC, not °C).
+UNIT_LABELS = {"degc": "degC", "degf": "degF", "k": "K", "degr": "degR"}
 
 
 def finite_or_none(value: Any) -> float | None:
@@ -27,8 +28,9 @@ def finite_or_none(value: Any) -> float | None:
 
 
 def fmt_number(value: Any, kind: str = "pressure") -> str:
-    """A number for a page or the record: temperatures and differences to 0.01, fractions to 0.0001, others to
-    6 significant digits ("–" without a number)."""
+    """A number for a page or the record: temperatures and differences to 0.01, fractions to 0.0001, computed
+    pressures (answers) to 4 significant digits, others (inputs, shown back as entered) to 6 significant digits
+    ("–" without a number)."""
     v = finite_or_none(value)
     if v is None:
         return "–"
@@ -37,6 +39,8 @@ def fmt_number(value: Any, kind: str = "pressure") -> str:
         return "0.00" if text == "-0.00" else text
     if kind == "fraction":
         return f"{v:.4f}"
+    if kind == "computed":     # a computed pressure (an answer): 4 significant digits, no exponent
+        return f"{v:.0f}" if abs(v) >= 1e4 else f"{v:.4g}"
     if abs(v) >= 1e6:
         return f"{v:.0f}"
     return f"{v:.6g}"
@@ -46,7 +50,8 @@ def fmt_quantity(q: Mapping[str, Any] | None, kind: str = "pressure") -> str:
     """``{"value", "unit"}`` as "12.5 barg" ("–" without a value)."""
     if not q or finite_or_none(q.get("value")) is None:
         return "–"
-    return f"{fmt_number(q['value'], kind)} {q['unit']}"
+    unit = difference_label(q["unit"]) if kind == "difference" else q["unit"]
+    return f"{fmt_number(q['value'], kind)} {unit}"
 
 
 def fmt_signed(q: Mapping[str, Any] | None) -> str:
@@ -55,11 +60,11 @@ def fmt_signed(q: Mapping[str, Any] | None) -> str:
     if v is None:
         return "–"
     text = f"{v:+.2f}"
-    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {q['unit']}"
+    return f"{'0.00' if text in ('-0.00', '+0.00') else text} {difference_label(q['unit'])}"
 
 
 def temperature_text(value_k: Any, unit: str) -> str:
-    """A temperature [K] in ``unit`` to 0.1 with the unit's symbol ("-27.4 °C"; "–" without a number)."""
+    """A temperature [K] in ``unit`` to 0.1 with the unit's spelling ("-27.4 degC"; "–" without a number)."""
     v = finite_or_none(value_k)
     if v is None:
         return "–"

@@ -29,7 +29,7 @@ import logging
 import os
 import threading
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from functools import cache
 from pathlib import Path
 from typing import Any
@@ -43,6 +43,7 @@ from jtcheck.records.snapshot import snapshot_digest
 from jtcheck.reports import charts
 from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
 from jtcheck.reports.numbers import finite_or_none, fmt_number, fmt_quantity, fmt_signed
+from jtcheck.reports.record_fields import add_text_fields
 from jtcheck.reports.screening_display import (
     OUTCOME_LABELS,
     ConditionView,
@@ -87,13 +88,27 @@ class SignatureBox:
         return (self.x1, self.y1, self.x2, self.y2)
 
 
+#: The text fields of a record (their slots' element ids without "field-") and their font sizes [pt]; the
+#: footer of every page adds "revision-page-<n>".  Later signatures fill them (jtcheck.reports.record_fields).
+TEXT_FIELD_SIZES = {"revision-cover": 24.0, "status": 8.6, "revision-end": 8.0,
+                    **{f"history-{step}-{part}": 7.5 for step in ("check", "approve")
+                       for part in ("revision", "status", "at", "by", "action", "comment")}}
+#: Font size of the footer [pt] (record.css, @bottom-left).
+FOOTER_SIZE_PT = 7.5
+#: The history line of each later step before its signature fills it.
+PENDING = {"check": "awaiting check", "approve": "awaiting approval"}
+
+
 @dataclass(frozen=True)
 class RenderedRecord:
-    """A rendered record: the PDF, the signature areas of ``SIGNATURE_ROLES`` and the number of pages."""
+    """A rendered record: the PDF, the signature areas of ``SIGNATURE_ROLES``, the number of pages and the
+    text fields that later signatures fill (name -> ``((page_index, x1, y1, x2, y2), initial text, size [pt])``,
+    for :func:`jtcheck.reports.record_fields.add_text_fields`)."""
 
     pdf: bytes
     signature_boxes: dict[str, SignatureBox]
     page_count: int
+    text_fields: dict[str, tuple[tuple[int, float, float, float, float], str, float]] = field(default_factory=dict)
 
 
 # -- templates -----------------------------------------------------------------------------------------------
@@ -147,6 +162,11 @@ def _date(value: Any) -> str:
         t = t.astimezone(dt.UTC)
         return t.strftime("%Y-%m-%d %H:%M UTC")
     return t.strftime("%Y-%m-%d %H:%M")
+
+
+def date_text(value: Any) -> str:
+    """A time (datetime or ISO text) as the record shows it: "2026-12-02 01:59 UTC"."""
+    return _date(value.isoformat() if isinstance(value, dt.datetime) else value)
 
 
 def _sentence_case(text: str) -> str:
@@ -440,7 +460,8 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
                     "slug": display.slug, "t_out_min": display.t_out_min, "coldest": display.coldest_condition,
                     "legacy": display.legacy},
         "findings": display.findings,
-        "preheat": display.preheat,
+        "preheat": display.preheat, "hydrate_preheat": display.hydrate_preheat,
+        "remedies_cover": display.remedies_cover,
         "outlet_limit": display.outlet_limit,
         "sweep": display.sweep,
         "relief": relief,
@@ -512,7 +533,7 @@ def _paper(paper: Any) -> tuple[str, str]:
     return entry
 
 
-def render_html(snapshot: Mapping[str, Any], paper: str = "A4") -> str:
+def render_html(snapshot: Mapping[str, Any], paper: str = "A4", issued_at: str = "") -> str:
     """The record as HTML (the page size comes with the style sheet; see :func:`render_record`)."""
     name, _ = _paper(paper)
     if not isinstance(snapshot, Mapping):
@@ -520,8 +541,47 @@ def render_html(snapshot: Mapping[str, Any], paper: str = "A4") -> str:
     ctx = record_context(snapshot, name)
     ctx["shows_conditions"] = _kind_of(snapshot.get("case") or {}).shows_conditions
     ctx["depressuring"] = depressuring_view((snapshot.get("result") or {}).get("screening"), ctx["_units"])
+    if issued_at:
+        ctx["prepared_at"] = issued_at
     ctx["charts"] = _charts(snapshot, ctx)
     return _environment().get_template("record.html").render(**ctx)
+
+
+def _pt_box(page: Any, box: Any, content: bool = False) -> tuple[float, float, float, float]:
+    """(x1, y1, x2, y2) [pt] of a layout box, origin at the page's bottom left."""
+    height_pt = page.height * PT_PER_PX
+    if content:
+        x, y, w, h = box.content_box_x(), box.content_box_y(), box.width, box.height
+    else:
+        x, y, w, h = box.border_box_x(), box.border_box_y(), box.border_width(), box.border_height()
+    return (round(x * PT_PER_PX, 2), round(height_pt - (y + h) * PT_PER_PX, 2), round((x + w) * PT_PER_PX, 2),
+            round(height_pt - y * PT_PER_PX, 2))
+
+
+def _field_slots(document: Any, initial: Mapping[str, str]) -> dict[str, tuple[tuple[int, float, float, float, float],
+                                                                              str, float]]:
+    """The text fields of the record: each slot of the layout (``id="field-..."``) and, on every page, the space
+    after "revision" in the footer, with its initial text."""
+    found: dict[str, tuple[tuple[int, float, float, float, float], str, float]] = {}
+    for index, page in enumerate(document.pages):
+        for box in page._page_box.descendants():
+            element = getattr(box, "element", None)
+            ident = (element.get("id") or "") if element is not None else ""
+            name = ident[len("field-"):] if ident.startswith("field-") else ""
+            if name in TEXT_FIELD_SIZES and name not in found:
+                found[name] = ((index, *_pt_box(page, box, content=True)), initial.get(name, ""),
+                               TEXT_FIELD_SIZES[name])
+        footer = next((b for b in page._page_box.children if getattr(b, "at_keyword", "") == "@bottom-left"), None)
+        if footer is not None:
+            texts = [b for b in footer.descendants() if type(b).__name__ == "TextBox"]
+            if texts:
+                x1, y1, x2, y2 = _pt_box(page, texts[-1])
+                found[f"revision-page-{index + 1}"] = ((index, x2 + 1.5, y1, x2 + 40.0, y2), initial["revision"],
+                                                       FOOTER_SIZE_PT)
+    missing = [n for n in TEXT_FIELD_SIZES if n not in found]
+    if missing or len(found) != len(TEXT_FIELD_SIZES) + len(document.pages):
+        raise JtcheckError(f"record layout lacks the slots of the text fields: {', '.join(missing) or 'footer'}")
+    return found
 
 
 def _signature_boxes(document: Any) -> dict[str, SignatureBox]:
@@ -547,7 +607,36 @@ def _signature_boxes(document: Any) -> dict[str, SignatureBox]:
     return found
 
 
-def render_record(snapshot: Mapping[str, Any], paper: str = "A4") -> RenderedRecord:
+def initial_fields(snapshot: Mapping[str, Any], issued_at: str = "") -> dict[str, str]:
+    """The text of the record's text fields when it is issued for check (``"revision"`` for every revision slot)."""
+    letter = str((snapshot.get("revision") or {}).get("letter") or "")
+    out = {"revision": letter, "revision-cover": letter, "revision-end": f"{letter}.",
+           "status": f"Issued for check as revision {letter}" + (f" on {issued_at}" if issued_at else "")
+                     + "; check and approval are shown by the signatures below."}
+    for step, words in PENDING.items():
+        out[f"history-{step}-status"] = words
+    return out
+
+
+def issued_fields(letter: str, label: str, at: str, name: str, comment: str, n_pages: int) -> dict[str, str]:
+    """The text fields the approver's signature fills: the issued revision ``label`` everywhere (cover, every
+    footer, the end), the status line and the approval's history line."""
+    out = {"revision-cover": label, "revision-end": f"{label}.",
+           **{f"revision-page-{i}": label for i in range(1, n_pages + 1)},
+           "status": f"Issued as revision {label}, approved {at}; revision {letter} was issued for check. "
+                     "Signatures below."}
+    out.update(history_fields("approve", label, "approved", at, f"approved {name}", comment))
+    return out
+
+
+def history_fields(step: str, revision: str, status: str, at: str, by: str, comment: str) -> dict[str, str]:
+    """The history line of a later step (``"check"`` or ``"approve"``) as text field values."""
+    action = {"check": "checked", "approve": "approved"}[step]
+    return {f"history-{step}-revision": revision, f"history-{step}-status": status, f"history-{step}-at": at,
+            f"history-{step}-by": by, f"history-{step}-action": action, f"history-{step}-comment": comment}
+
+
+def render_record(snapshot: Mapping[str, Any], paper: str = "A4", issued_at: str = "") -> RenderedRecord:
     """Render a revision's snapshot as the PDF calculation record.
 
     Parameters
@@ -556,6 +645,8 @@ def render_record(snapshot: Mapping[str, Any], paper: str = "A4") -> RenderedRec
         The frozen snapshot of the revision (:func:`jtcheck.records.snapshot.case_snapshot`).
     paper : {"A4", "Letter"}
         Paper size (any case).
+    issued_at : str
+        The date it is issued for check (the preparer's signature), shown as prepared; empty for a preview.
 
     Returns
     -------
@@ -571,11 +662,12 @@ def render_record(snapshot: Mapping[str, Any], paper: str = "A4") -> RenderedRec
     from weasyprint import HTML
 
     _, page_size = _paper(paper)
-    html = render_html(snapshot, paper)
+    html = render_html(snapshot, paper, issued_at)
     document = HTML(string=html, base_url=str(templates_path())).render(stylesheets=[_stylesheet(page_size)])
     boxes = _signature_boxes(document)
-    pdf = document.write_pdf()
-    return RenderedRecord(pdf=pdf, signature_boxes=boxes, page_count=len(document.pages))
+    slots = _field_slots(document, initial_fields(snapshot, issued_at))
+    pdf = add_text_fields(document.write_pdf(), slots)
+    return RenderedRecord(pdf=pdf, signature_boxes=boxes, page_count=len(document.pages), text_fields=slots)
 
 
 def warm_up() -> None:

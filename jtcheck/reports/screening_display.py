@@ -42,7 +42,13 @@ from jtcheck.reports.charts import SweepChartData, SweepLine
 from jtcheck.reports.numbers import finite_or_none
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome
-from jtcheck.units import P_ATM_DEFAULT_PA, pressure_from_pa, temperature_difference_from_k, temperature_from_k
+from jtcheck.units import (
+    P_ATM_DEFAULT_PA,
+    difference_label,
+    pressure_from_pa,
+    temperature_difference_from_k,
+    temperature_from_k,
+)
 
 #: The outcomes of a screening, best first.
 OUTCOMES: tuple[str, ...] = tuple(o.value for o in Outcome)
@@ -115,6 +121,11 @@ class DisplayUnits:
     def difference(self) -> str:
         """The unit of temperature differences: degF for a case in degF, else K."""
         return "degF" if self.temperature.lower() in ("degf", "f") else "K"
+
+    @property
+    def difference_label(self) -> str:
+        """How a temperature difference is labelled: K, or "delta degF" (a difference, not a reading)."""
+        return difference_label(self.difference)
 
     def pressure_unit(self, name: str) -> str:
         """The unit the pressure field ``name`` was entered in (else the outlet's or the inlet's)."""
@@ -608,6 +619,10 @@ class ScreeningDisplay:
     outlet_limit: dict[str, Any] | None
     sweep: dict[str, Any] | None
     relief: dict[str, Any] | None
+    #: The preheat that keeps the outlet out of the hydrate region (same shape as ``preheat``), and which hazards
+    #: the answers cover, in words.
+    hydrate_preheat: dict[str, Any] | None = None
+    remedies_cover: str = ""
 
     @property
     def slug(self) -> str:
@@ -652,7 +667,9 @@ def screening_display(stored: StoredResult, units: DisplayUnits) -> ScreeningDis
         findings=findings_of(screening), preheat=preheat_of(units, answers.get("preheat")),
         outlet_limit=outlet_limit_of(units, answers.get("outlet_pressure_limit")),
         sweep=sweep_of(units, answers.get("sweep"), limits),
-        relief=relief_of(units, answers.get("relief_valve"), answers.get("relief_remedies")))
+        relief=relief_of(units, answers.get("relief_valve"), answers.get("relief_remedies")),
+        hydrate_preheat=preheat_of(units, answers.get("hydrate_preheat")),
+        remedies_cover=str(answers.get("remedies_cover") or ""))
 
 
 def _governing(answers: Mapping[str, Any], key: str) -> Mapping[str, Any]:

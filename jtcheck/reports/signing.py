@@ -18,6 +18,7 @@ import functools
 import io
 import math
 import unicodedata
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
@@ -30,6 +31,7 @@ from pyhanko.stamp import TextStampStyle
 
 from jtcheck.errors import InputError, JtcheckError
 from jtcheck.reports.loops import outside_event_loop
+from jtcheck.reports.record_fields import fill_in
 
 __all__ = [
     "REASON_PREFIX",
@@ -192,7 +194,8 @@ def _stamp_style(text: str) -> TextStampStyle:
 # -- signing ------------------------------------------------------------------------------------------------
 
 def _sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name: str, reason: str | None = None,
-                location: str = "", stamp_lines: list[str] | None = None, timestamper=None) -> bytes:
+                location: str = "", stamp_lines: list[str] | None = None, timestamper=None,
+                 fill: Mapping[str, str] | None = None) -> bytes:
     """Sign the empty signature field ``field`` (PAdES, SHA-256) as an incremental update.
 
     Parameters
@@ -220,6 +223,9 @@ def _sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name:
     timestamper : pyhanko.sign.timestamps.TimeStamper, optional
         RFC 3161 time-stamp client (:func:`jtcheck.reports.pki.timestamper_from_env`); the signature then
         carries a signature time-stamp token.
+    fill : mapping, optional
+        Text field name -> value: the record's text fields this signature fills in its own update
+        (:mod:`jtcheck.reports.record_fields`: the issued revision, the dates of check and approval).
 
     Raises
     ------
@@ -242,6 +248,8 @@ def _sign_record(pdf: bytes, field: str, signer, *, role_text: str, signer_name:
         raise InputError("field", f"the document has no signature field {field!r} (fields: {have})")
     if found[field]:
         raise InputError("field", f"the signature field {field!r} is already signed")
+    if fill:
+        fill_in(w, fill)
     meta = signers.PdfSignatureMetadata(
         field_name=field,
         md_algorithm="sha256",

@@ -59,6 +59,7 @@ class Topic(enum.StrEnum):
 
     COLD_METAL = "cold metal"
     LIQUID_DROPOUT = "liquid dropout"
+    INLET_PHASE = "two-phase inlet"
     HYDRATES = "hydrates"
     CO2_SOLIDS = "CO2 solids"
     ICING = "external icing"

@@ -97,6 +97,28 @@ def liquid_dropout(fluid: Fluid, result: LetdownResult, condition: str = "") -> 
     return None
 
 
+def two_phase_inlet(fluid: Fluid, result: LetdownResult, condition: str = "") -> Finding | None:
+    """A caution when the inlet state itself is two-phase (0 < vapour fraction < 1); None otherwise.
+
+    A gas letdown whose feed flashes to two phases at the entered inlet conditions either sees a two-phase feed
+    (the valve, its trim and the downstream piping then handle liquid slugs, and a single-phase sizing does not
+    hold) or was given a composition that is not the gas that flows (a separator's gas is at its dew point, and a
+    water content above saturation leaves free water).  Both need the engineer's attention.
+    """
+    beta = result.inlet_vapor_fraction
+    if result.inlet_phase != "two-phase" or not 0.0 < beta < 1.0:
+        return None
+    water = "water" in fluid.ids and float(fluid.zs[fluid.ids.index("water")]) > 0.0
+    why = ("the composition holds more water than the gas can carry at the inlet (free water): give the gas's water "
+           "content or declare it water-saturated instead of adding water to the composition"
+           if water else "a separator's gas is at its dew point: check that the composition is the gas that flows")
+    return Finding(Topic.INLET_PHASE, Severity.CAUTION,
+                   f"The inlet is two-phase ({100 * (1.0 - beta):.1f} mol% liquid, vapour fraction {beta:.3f}): the "
+                   f"valve sees a two-phase feed, or the composition is suspect ({why}).",
+                   {"inlet_vapour_fraction": beta, "p_in_pa": result.p_in, "t_in_k": result.t_in},
+                   "PT flash of the inlet", condition)
+
+
 def icing(result: LetdownResult, condition: str = "") -> Finding | None:
     """External icing and frost on bare pipe when the outlet is below 0 degC; None otherwise."""
     if not result.converged or result.t_out >= T_ICE_K:

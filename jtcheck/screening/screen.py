@@ -25,7 +25,7 @@ Everything here is SI; units are converted at the edges (web, API, CLI).
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -44,7 +44,7 @@ from jtcheck.screening.hydrates import (
     Inhibitor,
     assess_hydrates,
 )
-from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout
+from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson, liquid_dropout, two_phase_inlet
 from jtcheck.screening.relief_screen import (
     HeaderSpec,
     OtherSource,
@@ -316,6 +316,7 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
     warm: list[tuple[Finding, float]] = []
     hyd: list[tuple[Any, str]] = []
     solids: list[tuple[Finding, float]] = []
+    feed: list[tuple[Finding, float]] = []
     validity: dict[str, list[str]] = {}
     for cs in screens:
         name = cs.condition.name
@@ -327,6 +328,9 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
             if f is not None:
                 dropout.append((f, f.numbers.get("outlet_liquid_fraction") or f.numbers.get("path_max_liquid_fraction")
                                 or 0.0))
+        f = two_phase_inlet(fluid, r, name)
+        if f is not None:
+            feed.append((f, 1.0 - r.inlet_vapor_fraction))
         t_eff = cs.t_screen_k if cs.t_screen_k is not None else r.t_out
         f = icing(_with_t(r, t_eff), name)
         if f is not None:
@@ -357,15 +361,25 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
             if not w.startswith(_COVERED_WARNINGS):
                 validity.setdefault(w, []).append(name)
     n = len(screens)
-    for group in (solids, dropout, ice, warm):
+    for group in (feed, solids, dropout, ice, warm):
         f = _worst_of(group, n)
         if f is not None:
             out.append(f)
     out += _hydrate_findings(hyd, options)
     for text, names in validity.items():
         where = "" if len(names) == n else f" ({', '.join(names)})"
-        out.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + where, {}, "model validity"))
+        out.append(Finding(Topic.MODEL_VALIDITY, validity_severity(text), text + where, {}, "model validity"))
     return out
+
+
+#: Words of a model-validity note that asks the engineer to act (a solid can form at the outlet, a model poor for
+#: the fluid): such a note is a caution, not information.
+_ACT_ON = ("can freeze", "can form", "caution", "poor")
+
+
+def validity_severity(text: str) -> Severity:
+    """Caution for a model-validity note that names a hazard or a model to distrust; information otherwise."""
+    return Severity.CAUTION if any(w in text.lower() for w in _ACT_ON) else Severity.INFORMATION
 
 
 def _with_t(r: LetdownResult, t: float) -> LetdownResult:
@@ -499,9 +513,12 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     spread = max(temps.values()) - min(temps.values())
     listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
     sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
+    screened = f"screened on the colder ({cs.governing_model})"
+    if cs.solids is not None:   # dry ice: the screened outlet is on the sublimation line, not either fluid-only value
+        screened = (f"these are fluid-only values: with dry ice the screened outlet is {cs.t_screen_k - 273.15:.1f} "
+                    "degC, on the CO2 sublimation line")
     return Finding(Topic.MODEL_SPREAD, sev,
-                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on the "
-                   f"colder ({cs.governing_model}).",
+                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); {screened}.",
                    {"t_out_k_by_model": temps, "spread_k": spread}, "PR and SRK side by side", cs.condition.name)
 
 
@@ -540,6 +557,58 @@ def _answers(models: list[Fluid], screens: list[ConditionScreen], options: Scree
     pressure = {"target_k": target, "all_converged": len(ok_ol) == len(limits), "cases": limits,
                 "governing": max(bound, key=lambda o: o["p_out_min_pa"]) if bound else None}
     return {"preheat": preheat, "outlet_pressure_limit": pressure}
+
+
+def _hydrate_preheat(models: list[Fluid], screens: list[ConditionScreen], findings: list[Finding],
+                     options: ScreeningOptions) -> dict[str, Any] | None:
+    """The preheat that takes the outlet out of the hydrate region with the hydrate margin, at the condition of the
+    hydrate hazard (None without one): the same shape as the cold-metal preheat, with ``"hazard": "hydrates"``.
+
+    The target is the hydrate temperature at the outlet pressure plus the hydrate margin (the finding's numbers);
+    each model's required inlet temperature is found as for the cold limit (:func:`required_preheat`)."""
+    hazard = next((f for f in findings if f.topic is Topic.HYDRATES and f.severity is Severity.HAZARD
+                   and f.numbers.get("t_hydrate_k") is not None), None)
+    if hazard is None:
+        return None
+    cs = next((c for c in screens if c.condition.name == hazard.condition), None)
+    if cs is None:
+        return None
+    target = float(hazard.numbers["t_hydrate_k"]) + float(hazard.numbers.get("hydrate_margin_k") or 0.0)
+    c, cases = cs.condition, []
+    for fl in models:
+        try:
+            ph = required_preheat(fl, c.p_in_pa, c.t_in_k, c.p_out_pa, target, options.mass_flow_kg_per_s)
+        except JtcheckError as exc:
+            cases.append({"condition": c.name, "model": fl.eos.value, "converged": False, "message": str(exc)})
+            continue
+        cases.append({"condition": c.name, "model": fl.eos.value, **ph.to_dict()})
+    ok = [p for p in cases if p.get("converged")]
+    return {"hazard": "hydrates", "target_k": target, "all_converged": len(ok) == len(cases), "cases": cases,
+            "governing": max(ok, key=lambda p: p.get("temperature_rise_k") or 0.0) if ok else None}
+
+
+#: What each answer keeps the outlet above, in words.
+_COVERED = {"preheat": "the cold limit plus margin (cold metal)",
+            "hydrate_preheat": "the hydrate temperature plus the hydrate margin (hydrates)"}
+
+
+def remedies_cover(answers: Mapping[str, Any], findings: Sequence[Finding]) -> str:
+    """Which hazards the answers cover, in words, naming the hazards found that they do not cover ("" when there
+    are no answers)."""
+    given = [k for k in _COVERED if answers.get(k)]
+    if not given:
+        return ""
+    covered = {"preheat": {Topic.COLD_METAL}, "hydrate_preheat": {Topic.HYDRATES}}
+    topics = set().union(*(covered[k] for k in given))
+    if answers.get("preheat"):
+        topics.add(Topic.CONVERGENCE)
+    others = sorted({f.topic.value for f in findings if f.severity is Severity.HAZARD and f.topic not in topics})
+    text = "The answers keep the outlet above " + " and above ".join(_COVERED[k] for k in given) + "."
+    if answers.get("preheat") and answers.get("hydrate_preheat"):
+        text += " Both hold at the higher of the two preheats."
+    if others:
+        text += f" They do not cover {', '.join(others)}: see those findings."
+    return text
 
 
 def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: ScreeningOptions) -> Screening:
@@ -599,6 +668,12 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
             answers["relief_remedies"] = relief_remedies(models, options.relief, options.limits, relief_data, t_min)
     elif options.answers:
         answers = _answers(models, screens, options, outcome)
+        hydrate = _hydrate_preheat(models, screens, findings, options)
+        if hydrate is not None:
+            answers["hydrate_preheat"] = hydrate
+        cover = remedies_cover(answers, findings)
+        if cover:
+            answers["remedies_cover"] = cover
     if sweep_data is not None:
         answers["sweep"] = sweep_data
     if relief_data is not None:

@@ -26,6 +26,12 @@ from jtcheck.web.database import db_session
 
 #: E-mail address of the admin account made on the first start (JTCHECK_ADMIN_EMAIL changes it).
 DEFAULT_ADMIN_EMAIL = "admin@jtcheck.local"
+#: Environment variable that asks for a new admin password at start, as --reset-admin-password does
+#: (``make run RESET_ADMIN=1`` sets it).
+RESET_ADMIN_ENV = "JTCHECK_RESET_ADMIN_PASSWORD"
+#: Printed before anything slow: the first start compiles the calculation kernels.
+STARTING = ("starting: the first start compiles the calculation kernels and computes the demo cases (one to two "
+            "minutes on a small machine; later starts reuse the compiled kernels). Please wait...")
 
 
 def _is_loopback(host: str) -> bool:
@@ -59,7 +65,7 @@ def bootstrap(app: Flask, url: str, *, demo: bool = True, reset_admin_password: 
                 lines.append(f"new password for {admin.email}: {password} ; change it after logging in at {url}")
             else:
                 lines.append(f"an admin account exists ({admin.email}); log in at {url} with its password "
-                             "(lost it? start again with --reset-admin-password)")
+                             "(lost it? start again with `make run RESET_ADMIN=1` or --reset-admin-password)")
         if demo and not session.scalar(select(func.count()).select_from(Site)):
             load_demo(session)
             lines.append(f"loaded the demo site. {DEMO_NOTICE}")
@@ -80,10 +86,13 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
     parser.add_argument("--no-demo", action="store_true", help="do not load the demo site into an empty database")
     parser.add_argument("--reset-admin-password", action="store_true",
-                        help="give the first active admin a new random password and print it")
+                        help=f"give the first active admin a new random password and print it "
+                             f"(also with {RESET_ADMIN_ENV}=1)")
     parser.add_argument("--init-only", action="store_true",
                         help="create the database, the admin account and the demo site, then exit")
     args = parser.parse_args(argv)
+    reset = args.reset_admin_password or os.environ.get(RESET_ADMIN_ENV, "").strip().lower() in ("1", "yes", "true")
+    print(f"jtcheck web: {STARTING}", flush=True)
     port = args.port if args.port is not None else int(os.environ.get("PORT", "8000"))
     logging.basicConfig(level=logging.INFO, format="%(asctime)s %(levelname)s %(name)s: %(message)s")
     logging.getLogger("alembic").setLevel(logging.WARNING)
@@ -93,7 +102,7 @@ def main(argv: list[str] | None = None) -> int:
     url = f"http://{'127.0.0.1' if args.host in ('0.0.0.0', '::') else shown_host}:{port}"
     print(f"jtcheck web: database {app.config['DATABASE_URL']}", flush=True)
     print(f"jtcheck web: instance folder {app.instance_path}", flush=True)
-    for line in bootstrap(app, url, demo=not args.no_demo, reset_admin_password=args.reset_admin_password):
+    for line in bootstrap(app, url, demo=not args.no_demo, reset_admin_password=reset):
         print(f"jtcheck web: {line}", flush=True)
     if args.init_only:
         return 0

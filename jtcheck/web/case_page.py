@@ -15,6 +15,7 @@ from jtcheck import depressuring_lists
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service
 from jtcheck.records.case_inputs import field_value
+from jtcheck.records.demo import DEMO_NOTE
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.models import Case, CaseResult
 from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
@@ -47,6 +48,12 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
             "sweep_chart": _diagrams().get(result, "sweep") if screening.sweep else None}
 
 
+def is_demo_case(case: Case) -> bool:
+    """A case of the invented demo data (loaded by :func:`jtcheck.records.demo.load_demo`), not a user's own case
+    filed in a demo unit: only those are labelled invented."""
+    return case.unit.site.name == DEMO_SITE_NAME and case.basis == DEMO_NOTE
+
+
 def _case_context(case: Case, review_form: FormState | None = None, review_step: str | None = None
                   ) -> dict[str, Any]:
     shown = dict(case.display_units or {})
@@ -68,7 +75,8 @@ def _case_context(case: Case, review_form: FormState | None = None, review_step:
             "review": review,
             "can_edit": service.can_edit_cases(user) and not review["frozen"],
             "can_delete": removal.may_delete_case(user, case),
-            "demo": case.unit.site.name == DEMO_SITE_NAME, "demo_notice": DEMO_NOTICE, "caution": CAUTION,
+            "demo": is_demo_case(case), "demo_notice": DEMO_NOTICE, "caution": CAUTION,
+            "in_demo_site": case.unit.site.name == DEMO_SITE_NAME and not is_demo_case(case),
             "result_outcome": outcome_of}
 
 

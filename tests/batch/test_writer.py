@@ -116,7 +116,7 @@ def test_xlsx_results_sheet_and_summary(read, tmp_path):
     assert (summary["pass"], summary["margin eroded"], summary["fail"], summary["not screened"]) == (1, 1, 1, 1)
     assert summary["caution"] == CAUTION
     assert summary["file"] == "letdowns.csv" and summary["note"] == "a note"
-    assert summary["screened by the scalar path"] == 1
+    assert summary["screened one by one (full screening)"] == 1
 
 
 def test_csv_and_xlsx_to_paths_and_bytes_agree(read, tmp_path):
@@ -157,3 +157,27 @@ def test_results_say_which_way_the_limit_was_found():
     assert "exemption curve" in rows[0]["limit basis"] and "coincident outlet pressure" in rows[0]["limit basis"]
     assert rows[1]["limit basis"].startswith("MDMT")
     assert rows[3]["limit basis"] == ""
+
+
+def test_numbers_are_written_as_entered_and_si_without_float_noise():
+    """An entered 1.01325 bar comes back 1.01325 (not 1.0132); -29 degC in SI is 244.15 K (not 244.14999999999998);
+    results in display units to 0.01."""
+    text = "\n".join(["tag,fluid,inlet pressure [barg],inlet temperature [degC],outlet pressure [barg],MDMT [degC],"
+                      "atmospheric pressure [bar]", f'PCV-9,"{GAS}",39.8143,40,10,-29,1.01325']).encode()
+    result = read_cases(text, filename="x.csv")
+    assert result.ok, result.errors
+    case = result.cases[0]
+    assert case.limits.mdmt_k != 244.15       # float noise in the SI value itself (-29 + 273.15)
+    row = BatchRowResult(row=case.row, tag=case.tag, outcome="pass", t_screen_k=250.123456789,
+                         coldest_condition="normal", governing_model="PR", t_out_by_model={"PR": 250.123456789},
+                         phase="vapour",
+                         vapor_fraction=0.590228, margin_to_limit_k=5.973456789, findings=(), path="batch",
+                         converged=True)
+    data = write_results(BatchScreening((row,), {"pass": 1}, n_scalar=0, seconds=0.1, notes=()), result.cases, "csv",
+                         units=result.units, sources=result.sources)
+    out = csv_table(data)[0]
+    assert out["atmospheric pressure [bar]"] == "1.01325"
+    assert out["inlet pressure [barg]"] == "39.8143"           # an input, shown back as entered
+    assert out["SI MDMT [K]"] == "244.15"
+    assert out["screened outlet [degC]"] == "-23.03"
+    assert out["vapour fraction"] == "0.5902"

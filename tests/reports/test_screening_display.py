@@ -138,3 +138,33 @@ def test_key_numbers_are_those_the_display_shows():
 
 def test_no_sweep_chart_without_a_sweep_table():
     assert sweep_chart_data(screening_display(stored(), DisplayUnits()), DisplayUnits()) is None
+
+
+def test_one_spelling_of_the_temperature_units_and_differences_as_differences():
+    """Issue 18: "°C" on one page and "degC" on the others; a difference in degF labelled as a difference."""
+    from jtcheck.reports.batch_summary import _difference
+    from jtcheck.reports.numbers import temperature_text
+
+    assert temperature_text(250.0, "degC") == "-23.1 degC"
+    assert temperature_text(250.0, "degF") == "-9.7 degF"
+    assert _difference(5.0, "degF") == "+9.0 delta degF"
+    assert _difference(5.0, "degC") == "+5.0 K"
+
+
+def test_a_difference_in_degf_is_labelled_as_a_difference_on_pages_and_records():
+    from jtcheck.reports.numbers import fmt_quantity, fmt_signed
+    from jtcheck.reports.screening_display import DisplayUnits
+
+    assert fmt_quantity({"value": 9.0, "unit": "degF"}, "difference") == "9.00 delta degF"
+    assert fmt_signed({"value": -9.0, "unit": "degF"}) == "-9.00 delta degF"
+    assert fmt_quantity({"value": 5.0, "unit": "K"}, "difference") == "5.00 K"
+    assert DisplayUnits.entered({"inlet_temperature": "degF"}, None).difference_label == "delta degF"
+
+
+def test_computed_pressures_get_four_significant_digits_and_inputs_six():
+    """Issue 18: "39.8143 barg" for a computed outlet-pressure limit; an entered 1.01325 bar is shown as entered."""
+    from jtcheck.reports.numbers import fmt_number
+
+    assert fmt_number(39.8143, "computed") == "39.81"
+    assert fmt_number(3981430.0, "computed") == "3981430"
+    assert fmt_number(1.01325) == "1.01325"

@@ -223,8 +223,8 @@ def test_summary_pdf_is_one_page_with_the_counts(checker, template_job):
     assert labels == [words[o] for o in ("fail", "margin eroded", "not screened", "pass")]
     assert [int(n) for n in re.findall(r"\b\d+\b", numbers)] == [counts[o] for o in ("fail", "margin eroded",
                                                                                       "not screened", "pass")]
-    assert f"scalar path (the robust one-case screening, used where the batch path did not converge or does not " \
-           f"apply): {job.counts['n_scalar']} of {len(TEMPLATE_TAGS)}" in " ".join(text.split())
+    assert f"one by one (the full one-case screening, used where the vectorised screening did not converge or does " \
+           f"not apply): {job.counts['n_scalar']} of {len(TEMPLATE_TAGS)}" in " ".join(text.split())
 
 
 def test_unfinished_jobs_offer_no_downloads(app, engineer, world):

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import html
 import math
+import re
 
 import pytest
 from sqlalchemy import select
@@ -38,6 +39,35 @@ def test_fluid_from_the_table(app, engineer):
             "amount_1": "0.95", "component_2": "propane", "amount_2": "0.05"}
     assert engineer.post("/fluids/new", data=data).status_code == 302
     assert [c for c, _ in _fluid(app, name).composition_pairs()] == ["methane", "propane"]
+
+
+def test_a_composition_summing_to_100_3_percent_is_normalised_with_a_warning_and_the_entry_kept(app, engineer):
+    """README: sums within 0.5 % of 1 (or 100) are normalised with a warning."""
+    name = unique("Sum 100.3")
+    resp = engineer.post("/fluids/new", data={"name": name, "composition": "methane=90.3\nethane=10", "eos": "PR",
+                                              "kij_mode": "table"}, follow_redirects=True)
+    page = resp.data.decode()
+    assert resp.status_code == 200
+    assert "Warning: the composition's amounts summed to 100.3 (mole percent); normalised to 1" in html.unescape(page)
+    record = _fluid(app, name)
+    assert math.isclose(sum(z for _, z in record.composition_pairs()), 1.0)
+    with app.app_context():
+        entries = db_session().scalars(select(AuditEntry).where(AuditEntry.entity == "fluid",
+                                                                AuditEntry.entity_id == record.id)).all()
+        entered = [e.new_value for e in entries if e.field == "composition as entered"]
+    assert entered and "methane=90.3" in entered[0] and "ethane=10" in entered[0]
+    # editing it to another unnormalised entry keeps that one too
+    edit = engineer.get(f"/fluids/{record.id}/edit").data.decode()
+    version = re.search(r'name="version" value="(\d+)"', edit).group(1)
+    resp = engineer.post(f"/fluids/{record.id}/edit", data={"name": name, "composition": "methane=0.904\nethane=0.1",
+                                                            "eos": "PR", "kij_mode": "table", "version": version},
+                         follow_redirects=True)
+    page = html.unescape(resp.data.decode())
+    assert "summed to 1.004 (mole fraction)" in page, page[page.find("<main"):][:1500]
+    with app.app_context():
+        entered = [e.new_value for e in db_session().scalars(select(AuditEntry).where(
+            AuditEntry.entity == "fluid", AuditEntry.entity_id == record.id)) if e.field == "composition as entered"]
+    assert len(entered) == 2 and "methane=0.904" in entered[1]
 
 
 def test_composition_lines_parser():

@@ -110,11 +110,11 @@ def test_failing_case_shows_fail_badge_findings_and_answers_in_the_case_units(ap
     rise = gov["temperature_rise_k"] * 1.8
     assert gov["needed"] and gov["duty_w"] > 0
     assert f"Heat the inlet to <strong>{t_req:.2f} degF</strong>" in page
-    assert f"a rise of\n    <strong>{rise:.2f} degF</strong>" in page
+    assert f"a rise of\n    <strong>{rise:.2f} delta degF</strong>" in page
     assert f"heater duty\n    <strong>{gov['duty_w'] / 1e3:.1f} kW</strong>" in page
     # the lowest outlet pressure, in psig
     p_min = answers["outlet_pressure_limit"]["governing"]["p_out_min_pa"]
-    p_text = fmt_number(pressure_from_pa(p_min, "psig", P_ATM))
+    p_text = fmt_number(pressure_from_pa(p_min, "psig", P_ATM), "computed")   # an answer: 4 significant digits
     assert f"Keep the outlet pressure at or above <strong>{p_text} psig</strong>" in page
 
     # the condition table: both models, the model spread, the screened outlet, per-condition bands

@@ -146,3 +146,23 @@ def test_batch_and_record_settings_from_the_environment(monkeypatch):
     monkeypatch.setenv("BATCH_JOB_TIMEOUT_S", "soon")
     with pytest.raises(ValueError, match="BATCH_JOB_TIMEOUT_S"):
         from_environment()
+
+
+def test_the_start_says_to_wait_and_the_admin_password_can_be_reset_through_the_environment(tmp_path, monkeypatch,
+                                                                                               capsys):
+    """``make run RESET_ADMIN=1`` passes JTCHECK_RESET_ADMIN_PASSWORD=1: a new one-time password is printed."""
+    from jtcheck.web.__main__ import RESET_ADMIN_ENV, main
+
+    monkeypatch.setenv("DATABASE_URL", f"sqlite:///{tmp_path / 'reset.sqlite3'}")
+    monkeypatch.setenv("JTCHECK_INSTANCE", str(tmp_path))
+    monkeypatch.setenv("SECRET_KEY", "r" * 48)
+    monkeypatch.delenv(RESET_ADMIN_ENV, raising=False)
+    assert main(["--init-only", "--no-demo"]) == 0
+    first = capsys.readouterr().out
+    assert first.splitlines()[0].startswith("jtcheck web: starting: the first start compiles the calculation kernels")
+    assert "with password" in first
+    assert main(["--init-only", "--no-demo"]) == 0
+    assert "make run RESET_ADMIN=1" in capsys.readouterr().out
+    monkeypatch.setenv(RESET_ADMIN_ENV, "1")
+    assert main(["--init-only", "--no-demo"]) == 0
+    assert "new password for admin@jtcheck.local: " in capsys.readouterr().out

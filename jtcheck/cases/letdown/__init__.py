@@ -88,27 +88,33 @@ def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = N
     def ref(key: str, words: str) -> str:
         return names.get(key, words) if names else words
 
+    def bar(pa: float) -> str:      # messages a person reads: bar absolute, not Pa with an exponent
+        return f"{pa / 1e5:.6g} bara"
+
+    def deg(k: float) -> str:
+        return f"{k - 273.15:.6g} degC ({k:.6g} K)"
+
     p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
     if p_out > p_in:
-        raise InputError("outlet_pressure_pa", f"outlet pressure {p_out:g} Pa is above the inlet pressure "
-                                               f"{p_in:g} Pa; allowed: {ref('outlet_pressure_pa', 'outlet')} <= "
+        raise InputError("outlet_pressure_pa", f"outlet pressure {bar(p_out)} is above the inlet pressure "
+                                               f"{bar(p_in)}; allowed: {ref('outlet_pressure_pa', 'outlet')} <= "
                                                f"{ref('inlet_pressure_pa', 'inlet pressure')} (a letdown)")
     t_min = values.get("inlet_temperature_min_k")
     if t_min is not None and t_min > values["inlet_temperature_k"]:
         raise InputError("inlet_temperature_min_k",
-                         f"minimum credible inlet temperature {t_min:g} K is above the normal inlet temperature "
-                         f"{values['inlet_temperature_k']:g} K; allowed: <= "
+                         f"minimum credible inlet temperature {deg(t_min)} is above the normal inlet temperature "
+                         f"{deg(values['inlet_temperature_k'])}; allowed: <= "
                          f"{ref('inlet_temperature_k', 'the normal inlet temperature')}")
     p_max = values.get("inlet_pressure_max_pa")
     if p_max is not None and p_max < p_in:
         raise InputError("inlet_pressure_max_pa",
-                         f"maximum credible inlet pressure {p_max:g} Pa is below the normal inlet pressure "
-                         f"{p_in:g} Pa; allowed: >= {ref('inlet_pressure_pa', 'the normal inlet pressure')}")
+                         f"maximum credible inlet pressure {bar(p_max)} is below the normal inlet pressure "
+                         f"{bar(p_in)}; allowed: >= {ref('inlet_pressure_pa', 'the normal inlet pressure')}")
     p_out_min = values.get("outlet_pressure_min_pa")
     if p_out_min is not None and p_out_min > p_out:
         raise InputError("outlet_pressure_min_pa",
-                         f"minimum credible outlet pressure {p_out_min:g} Pa is above the normal outlet pressure "
-                         f"{p_out:g} Pa; allowed: <= {ref('outlet_pressure_pa', 'the normal outlet pressure')}")
+                         f"minimum credible outlet pressure {bar(p_out_min)} is above the normal outlet pressure "
+                         f"{bar(p_out)}; allowed: <= {ref('outlet_pressure_pa', 'the normal outlet pressure')}")
     inhibitor = values.get("hydrate_inhibitor", "methanol")
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
@@ -231,8 +237,9 @@ class LetdownKind(CaseKind):
                          "keep it above the limit plus margin.")
     page_sections = ("cases/kinds/hydrate_result.html", "cases/kinds/generated_cases.html")
     record_sections = ("kinds/hydrate_record.html", "kinds/generated_cases.html")
-    method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure (jtcheck.letdown), "
-              "with the case EOS and the other of PR and SRK; screening by jtcheck.screening")
+    method = ("isenthalpic letdown: PT flash of the inlet, PH flash at the outlet pressure, with the case's equation "
+              "of state and the other of Peng-Robinson and Soave-Redlich-Kwong; screened against the cold limit, "
+              "for liquid dropout, hydrates, CO2 solids and external icing")
     input_sections = ("cases/kinds/letdown_inputs.html",)
     screening_sections = ("cases/kinds/letdown_hydrates.html",)
     vectorised = True

@@ -56,7 +56,7 @@ from jtcheck.errors import InputError
 from jtcheck.records.errors import NotFound, PermissionDenied
 from jtcheck.records.models import BatchJob, BatchStatus, Role
 from jtcheck.reports.numbers import UNIT_LABELS, finite_or_none, temperature_text
-from jtcheck.units import temperature_difference_from_k
+from jtcheck.units import difference_label, temperature_difference_from_k
 from jtcheck.web.database import db_session
 from jtcheck.web.downloads import attachment
 from jtcheck.web.errors import ApiError
@@ -174,7 +174,7 @@ class _Display:
         self.temperature = str(units.get("inlet_temperature") or "degC")
         self.difference = "degF" if self.temperature.lower() == "degf" else "K"
         self.t_label = UNIT_LABELS.get(self.temperature.lower(), self.temperature)
-        self.dt_label = "°F" if self.difference == "degF" else "K"
+        self.dt_label = difference_label(self.temperature)
 
     def t(self, k: Any) -> str:
         return temperature_text(k, self.temperature)

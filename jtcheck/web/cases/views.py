@@ -16,6 +16,7 @@ from jtcheck.cases import form_sections
 from jtcheck.errors import InputError
 from jtcheck.records import service, workflow
 from jtcheck.records.case_inputs import field_value
+from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
 from jtcheck.records.models import Case, CaseKind, RevisionStatus
 from jtcheck.units import pressure_from_pa
@@ -104,7 +105,7 @@ def _revision_notices(case: Case | None) -> dict[str, str | None]:
 def _render_form(form: FormState, user, case: Case | None, status: int = 200):
     return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
                            kind_sections=form_sections(), unit_options=_allowed_units(case),
-                           **_revision_notices(case), **_choices(user)), status
+                           demo_site_name=DEMO_SITE_NAME, **_revision_notices(case), **_choices(user)), status
 
 
 def _new_form() -> FormState:

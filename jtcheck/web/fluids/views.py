@@ -101,6 +101,18 @@ def _same_composition(record: FluidRecord, composition: list[tuple[str, float]])
         math.isclose(float(z), zs, rel_tol=1e-9, abs_tol=1e-12) for z, (_, zs) in zip(typed.zs, stored, strict=True))
 
 
+def _flash_normalised(composition: list[tuple[str, float]]) -> None:
+    """Say so when the composition was normalised (README: sums within 0.5 % of 1 or 100 are normalised with a
+    warning); the entry as typed is kept in the fluid's history."""
+    try:
+        notes = normalise_composition(composition).warnings
+    except InputError:
+        return
+    for note in notes:
+        if "normalised" in note:
+            flash(f"Warning: the composition's {note}. The entry as typed is kept in the fluid's history.")
+
+
 def _fluid(fluid_id: int) -> FluidRecord:
     require_viewer("view fluids")
     record = db_session().get(FluidRecord, fluid_id)   # the records service has no get_fluid
@@ -139,6 +151,7 @@ def new():
         form.add(_field(exc), exc.message)
         return _render(form, None, 409 if "already exists" in exc.message else 422)
     flash(f"Fluid {record.name} saved.")
+    _flash_normalised(composition)
     return redirect(url_for("fluids.view", fluid_id=record.id))
 
 
@@ -187,6 +200,8 @@ def edit(fluid_id: int):
         form.add(_field(exc), exc.message)
         return _render(form, _fluid(fluid_id), 409 if "already exists" in exc.message else 422)
     flash(f"Fluid {record.name} saved.")
+    if "composition" in changes:
+        _flash_normalised(composition)
     return redirect(url_for("fluids.view", fluid_id=record.id))
 
 

@@ -1,0 +1,33 @@
+"""Only the demo's own cases are labelled invented: a user's case filed in a demo unit is not, and the case form
+says when the demo site is the only one."""
+from __future__ import annotations
+
+import html
+
+from sqlalchemy import select
+from web_helpers import case_form, created_id
+
+from jtcheck.notices import DEMO_NOTICE
+from jtcheck.records.demo import load_demo
+from jtcheck.records.models import Case, PlantUnit
+from jtcheck.web.database import db_session
+
+
+def _demo(app):
+    with app.app_context():
+        s = db_session()
+        load_demo(s)
+        unit_id = s.scalar(select(PlantUnit.id).where(PlantUnit.name == "Town main PRS"))
+        demo_case = s.scalar(select(Case.id).where(Case.tag == "PCV-1101"))
+    return unit_id, demo_case
+
+
+def test_a_users_case_in_a_demo_unit_is_not_labelled_invented(app, engineer, world):
+    unit_id, demo_case = _demo(app)
+    resp = engineer.post("/cases/new", data=case_form(world, tag="PCV-MINE", unit_id=str(unit_id)))
+    assert resp.status_code == 302, resp.data
+    page = html.unescape(engineer.get(f"/cases/{created_id(resp)}").data.decode())
+    assert DEMO_NOTICE not in page
+    assert "filed in a unit of the invented demo site" in page
+    demo_page = html.unescape(engineer.get(f"/cases/{demo_case}").data.decode())
+    assert DEMO_NOTICE in demo_page
