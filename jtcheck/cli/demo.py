@@ -22,7 +22,8 @@ ARG_OF_COLUMN = {"inlet_pressure": "p_in", "inlet_temperature": "t_in", "outlet_
                  "overpressure": "overpressure", "superimposed_back_pressure": "superimposed_back_pressure",
                  "built_up_back_pressure": "built_up_back_pressure", "header_limit": "header_limit",
                  "min_relieving_temperature": "relieving_t_min", "heater_off_temperature": "heater_off_t",
-                 "min_ambient_temperature": "ambient_t_min", "eos": "eos", "fluid": "fluid_text"}
+                 "min_ambient_temperature": "ambient_t_min", "eos": "eos", "fluid": "fluid_text",
+                 "water_content": "water_content", "water_dew_point": "water_dew_point"}
 #: The repeatable options of the item columns (one item per line or between '|').
 ITEMS_OF_COLUMN = {"header_sections": "header_sections", "other_sources": "other_sources",
                    "settle_out_volumes": "settle_out_volumes", "cases_off": "cases_off"}
