@@ -87,7 +87,7 @@ class LetdownResult:
         Outlet vapour mole fraction [-].
     phase : str
         Outlet phase: "vapour", "liquid", "two-phase", "supercritical" (a pure component above its
-        critical pressure, counted as vapour), or "unknown" if not converged.
+        critical pressure and temperature, counted as vapour), or "unknown" if not converged.
     inlet_phase : str
     inlet_vapor_fraction : float
     h : float
@@ -269,9 +269,9 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
     beta = np.where(conv, b_out, np.nan)
     two = conv & (beta > 0.0) & (beta < 1.0)
     phase = np.where(~conv, "unknown", np.where(two, "two-phase", np.where(beta >= 0.5, "vapour", "liquid")))
-    sc = conv & ~two & pure_supercritical(fluid.mixture, fluid.zs, po)
+    sc = conv & ~two & pure_supercritical(fluid.mixture, fluid.zs, po, T)
     single_in = (b_in <= 0.0) | (b_in >= 1.0)
-    b_in = np.where(ok_in & single_in & pure_supercritical(fluid.mixture, fluid.zs, pi), 1.0, b_in)
+    b_in = np.where(ok_in & single_in & pure_supercritical(fluid.mixture, fluid.zs, pi, ti), 1.0, b_in)
     phase = np.where(sc, "supercritical", phase)
     beta = np.where(sc, 1.0, beta)
     base = tuple(fluid.warnings)

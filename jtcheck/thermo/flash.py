@@ -64,11 +64,12 @@ class FlashResult:
     P : float
         Pressure [Pa].
     beta : float
-        Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one, by the
-        phase identification parameter of Venkatarathnam and Oellrich 2011).
+        Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one; see ``phase``).
     phase : str
         ``"vapour"``, ``"liquid"``, ``"two-phase"``, or ``"supercritical"`` for a pure component
-        above its critical pressure (vapour fraction 1: no liquid can separate from it).
+        above its critical pressure and temperature (vapour fraction 1: no liquid can separate from it).
+        A single phase is labelled by :func:`jtcheck.thermo.kernels.single_phase.single_phase_beta`: a
+        gas far above its (pseudo-)critical temperature, otherwise by the phase identification parameter.
     z, x, y : numpy.ndarray
         Feed, liquid and vapour mole fractions [-] (x = y = z in a single phase).
     h : float
@@ -115,23 +116,26 @@ def _phase_label(status: int, beta: float) -> str:
     return "vapour" if beta >= 0.5 else "liquid"
 
 
-def pure_supercritical(mix: CubicMixture, z, P) -> bool | np.ndarray:
-    """Whether a pure component is above its critical pressure (no vapour-liquid distinction).
+def pure_supercritical(mix, z, P, T) -> bool | np.ndarray:
+    """Whether a pure component is supercritical: at or above both its critical pressure and temperature.
 
-    Broadcasts over ``P`` [Pa]."""
+    There it has no vapour-liquid distinction; it is counted as one gas-like phase (vapour fraction 1).
+    Below its critical temperature a pure component above its critical pressure is a compressed liquid.
+    Broadcasts over ``P`` [Pa] and ``T`` [K]."""
     z = np.asarray(z, float)
     i = int(np.argmax(z))
     if z[i] < 1.0 - 1e-12:
-        return np.zeros(np.shape(P), bool) if np.ndim(P) else False
-    return np.asarray(P) >= mix.pcs[i] if np.ndim(P) else bool(P >= mix.pcs[i])
+        return np.zeros(np.broadcast(P, T).shape, bool) if (np.ndim(P) or np.ndim(T)) else False
+    out = (np.asarray(P) >= mix.pcs[i]) & (np.asarray(T) >= mix.tcs[i])
+    return out if np.ndim(out) else bool(out)
 
 
 def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd, mix=None) -> FlashResult:
     converged = status in (ST_SINGLE, ST_TWO, ST_PURE_SAT)
     if converged:
         phase = _phase_label(status, beta)
-        if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P):
-            # above the critical pressure a pure fluid cannot split into vapour and liquid: it is
+        if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P, T):
+            # above its critical point a pure fluid cannot split into vapour and liquid: it is
             # counted as one vapour-like phase (vapour fraction 1), labelled "supercritical"
             phase, beta = "supercritical", 1.0
     else:
