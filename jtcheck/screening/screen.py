@@ -78,6 +78,16 @@ MODEL_SPREAD_CAUTION_K = 3.0
 REMEDIES = ("letdown", "relief")
 #: Letdown warnings that a finding already covers (not repeated as model-validity notes).
 _COVERED_WARNINGS = ("the fluid warms on letdown", "CO2-rich fluid let down below")
+#: Model-validity warnings raised to a caution: a state outside GERG-2008's normal range, and a hydrogen- or
+#: helium-rich fluid screened on a cubic (which errs by kelvins there, issue 15).
+_CAUTION_WARNINGS = ("outside the normal range of GERG-2008", "screen this fluid with GERG2008")
+
+
+def governs_alone(fluid: Fluid) -> bool:
+    """Whether the case's model alone decides the screened outlet: GERG-2008, the reference-grade model
+    (Kunz and Wagner 2012), governs, and the cubic models beside it show the spread.  With a cubic model
+    the colder of the models compared governs."""
+    return fluid.eos is EOS.GERG2008
 
 
 @dataclass(frozen=True)
@@ -224,7 +234,8 @@ class Screening:
 
 
 def model_fluids(fluid: Fluid, compare: bool = True) -> list[Fluid]:
-    """The case's fluid, then the same fluid under the other of PR and SRK (when ``compare``)."""
+    """The case's fluid, then the same fluid under the other of PR and SRK, or under both when the case's
+    model is GERG-2008 (when ``compare``)."""
     out = [fluid]
     if compare:
         out += [fluid.with_eos(e) for e in (EOS.PR, EOS.SRK) if e is not fluid.eos]
@@ -264,6 +275,12 @@ def _screen_condition(models: list[Fluid], cond: Condition) -> ConditionScreen:
         temps[eos] = t
     if problems:
         return ConditionScreen(cond, results, None, "", None, "not converged: " + "; ".join(problems))
+    if governs_alone(models[0]):
+        gov = models[0].eos.value
+        others = [e for e in temps if e != gov]
+        why = (f"screened on {gov}, the reference-grade model (GERG-2008, Kunz and Wagner 2012)"
+               + (f"; {', '.join(others)} beside it as the model spread" if others else ""))
+        return ConditionScreen(cond, results, temps[gov], gov, solids_by_model.get(gov), why)
     gov = min(temps, key=temps.__getitem__)
     return ConditionScreen(cond, results, temps[gov], gov, solids_by_model.get(gov),
                            f"screened on {gov} (the colder of {', '.join(temps)})")
@@ -364,7 +381,8 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
     out += _hydrate_findings(hyd, options)
     for text, names in validity.items():
         where = "" if len(names) == n else f" ({', '.join(names)})"
-        out.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + where, {}, "model validity"))
+        sev = Severity.CAUTION if any(c in text for c in _CAUTION_WARNINGS) else Severity.INFORMATION
+        out.append(Finding(Topic.MODEL_VALIDITY, sev, text + where, {}, "model validity"))
     return out
 
 
@@ -484,6 +502,14 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     temps = {eos: r.t_out for eos, r in cs.results.items() if r is not None and r.converged}
     spread = max(temps.values()) - min(temps.values())
     listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
+    if governs_alone(models[0]):
+        return Finding(Topic.MODEL_SPREAD, Severity.INFORMATION,
+                       f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on "
+                       f"{cs.governing_model}, the reference-grade model: the cubic models beside it err by kelvins "
+                       "on high-pressure letdowns (most for hydrogen and helium), so their spread is shown and not "
+                       "added to the margin.",
+                       {"t_out_k_by_model": temps, "spread_k": spread, "governing_alone": True},
+                       "GERG-2008 governs; PR and SRK beside it", cs.condition.name)
     sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
     return Finding(Topic.MODEL_SPREAD, sev,
                    f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on the "
@@ -492,8 +518,9 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
 
 
 def _with_spread(limits: ColdLimits, spread: Finding | None) -> ColdLimits:
-    """``limits`` with the model spread at the governing condition as a margin term (none with one model)."""
-    if spread is None:
+    """``limits`` with the model spread at the governing condition as a margin term (none with one model, and
+    none when GERG-2008 governs alone: the cubic models' spread is their error, not its uncertainty)."""
+    if spread is None or spread.numbers.get("governing_alone"):
         return limits
     return replace(limits, model_spread_k=float(spread.numbers["spread_k"]), spread_condition=spread.condition)
 
