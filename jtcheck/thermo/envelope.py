@@ -64,6 +64,9 @@ T_MIN_K = 10.0
 T_MAX_K = 3000.0
 #: Convergence tolerance on the residuals of the saturation equations [-].
 TOL = 1e-10
+#: Tolerance for models other than the cubic (GERG-2008): its density root at (T, P), solved iteratively,
+#: leaves ln phi of a liquid with a round-off of a few 1e-9 (measured here), so 1e-10 cannot be met.
+TOL_MULTIPARAMETER = 1e-8
 #: Largest |ln K| below which a solution is taken as the trivial one (w = z) [-].
 TRIVIAL_LNK = 1e-5
 #: |ln K| below which the continuation is in the critical region and steps in ln K [-].
@@ -256,7 +259,7 @@ def _newton(mix: Mixture, z: np.ndarray, X0: np.ndarray, spec: int,
         resid = float(np.max(np.abs(F)))
         if not math.isfinite(resid):
             return _Newton(X, False, it, resid, None, "non-finite residual")
-        if resid < TOL:
+        if resid < (TOL if isinstance(mix, CubicMixture) else TOL_MULTIPARAMETER):
             return _Newton(X, True, it, resid, J, "")
         try:
             dX = np.linalg.solve(_full(J, spec), -np.append(F, 0.0))

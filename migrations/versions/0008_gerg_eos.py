@@ -1,0 +1,40 @@
+"""GERG-2008 as an equation of state of a stored fluid: the CHECK on ``fluids.eos`` admits 'GERG2008'.
+
+``eos`` is VARCHAR(8), which holds "GERG2008" exactly.  SQLite cannot alter a CHECK constraint in place: the
+batch operation recreates the table (the named constraint is reflected, dropped and created anew).
+
+Revision ID: 0008
+Revises: 0007
+Create Date: 2026-12-05
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import sqlalchemy as sa
+from alembic import op
+
+revision: str = "0008"
+down_revision: str | None = "0007"
+branch_labels: str | Sequence[str] | None = None
+depends_on: str | Sequence[str] | None = None
+
+_WITH_GERG = "eos IN ('PR', 'SRK', 'RK', 'VDW', 'GERG2008')"
+_CUBIC_ONLY = "eos IN ('PR', 'SRK', 'RK', 'VDW')"
+
+
+def upgrade() -> None:
+    with op.batch_alter_table("fluids") as batch:
+        batch.drop_constraint("ck_fluids_eos", type_="check")
+        batch.create_check_constraint("ck_fluids_eos", _WITH_GERG)
+
+
+def downgrade() -> None:
+    # a fluid stored with GERG-2008 cannot go back to a database that does not know it; no silent change of model
+    n = op.get_bind().execute(sa.text("SELECT COUNT(*) FROM fluids WHERE eos = 'GERG2008'")).scalar()
+    if n:
+        raise RuntimeError(f"downgrade refused: {n} stored fluid(s) use GERG2008; change their equation of state "
+                           "first")
+    with op.batch_alter_table("fluids") as batch:
+        batch.drop_constraint("ck_fluids_eos", type_="check")
+        batch.create_check_constraint("ck_fluids_eos", _CUBIC_ONLY)
