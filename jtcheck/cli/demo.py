@@ -16,6 +16,7 @@ def demo_cmd():
 
     click.echo(DEMO_NOTICE)
     compositions = {f["name"]: f["composition"] for f in FLUIDS}
+    models = {f["name"]: f.get("eos", "PR") for f in FLUIDS}
     code = 0
     for unit, fluid_name, _material, fields in CASES:
         fluid_text = ",".join(f"{k}={v}" for k, v in compositions[fluid_name].items())
@@ -23,5 +24,6 @@ def demo_cmd():
         p_in = f"{(fields['inlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         p_out = f"{(fields['outlet_pressure_pa'] - P_ATM) / 1e5:.6g} barg"
         t_in = f"{fields['inlet_temperature_k'] - 273.15:.6g} degC"
-        code = max(code, run_letdown(LetdownArgs(fluid_text, p_in, t_in, p_out, eos="PR", kij="table"), title=title))
+        code = max(code, run_letdown(LetdownArgs(fluid_text, p_in, t_in, p_out, eos=models[fluid_name],
+                                                 kij="table"), title=title))
     sys.exit(code)

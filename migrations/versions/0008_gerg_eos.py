@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-import sqlalchemy as sa
 from alembic import op
 
 revision: str = "0008"
@@ -30,11 +29,9 @@ def upgrade() -> None:
 
 
 def downgrade() -> None:
-    # a fluid stored with GERG-2008 cannot go back to a database that does not know it; no silent change of model
-    n = op.get_bind().execute(sa.text("SELECT COUNT(*) FROM fluids WHERE eos = 'GERG2008'")).scalar()
-    if n:
-        raise RuntimeError(f"downgrade refused: {n} stored fluid(s) use GERG2008; change their equation of state "
-                           "first")
+    # a database before 0008 does not know GERG-2008: its fluids take PR, and each says so in its notes
+    op.execute("UPDATE fluids SET eos = 'PR', notes = notes || ' [equation of state GERG2008 changed to PR by the "
+               "downgrade of migration 0008]' WHERE eos = 'GERG2008'")
     with op.batch_alter_table("fluids") as batch:
         batch.drop_constraint("ck_fluids_eos", type_="check")
         batch.create_check_constraint("ck_fluids_eos", _CUBIC_ONLY)

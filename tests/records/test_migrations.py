@@ -137,5 +137,11 @@ def test_sqlite_fluids_admit_gerg2008_after_0008_and_still_refuse_other_models(t
             conn.execute(text(insert), {"name": "x", "eos": "BWRS"})
     finally:
         engine.dispose()
-    with pytest.raises(RuntimeError, match="GERG2008"):   # the downgrade refuses to drop the model silently
-        downgrade_database(url, "0007")
+    downgrade_database(url, "0007")   # the fluid takes PR, and its notes say so
+    engine = create_engine(url)
+    try:
+        with engine.connect() as conn:
+            eos, notes = conn.execute(text("SELECT eos, notes FROM fluids WHERE name = 'h2'")).one()
+    finally:
+        engine.dispose()
+    assert eos == "PR" and "GERG2008 changed to PR" in notes
