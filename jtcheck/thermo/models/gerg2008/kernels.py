@@ -345,7 +345,10 @@ def _root(prm, tp, x, T, P, Vr, liquid):
             else:
                 hi = rho
         if good:
-            rn = rho - (p - P) / dp
+            step = (p - P) / dp
+            rn = rho - step
+            if abs(step) <= 1e-11 * rho:
+                return rn
         else:
             rn = -1.0
         if not (lo < rn < hi):
@@ -353,8 +356,6 @@ def _root(prm, tp, x, T, P, Vr, liquid):
                 rn = 0.5 * (lo + hi)
             else:
                 rn = 1.5 * rho
-        if good and abs(rn - rho) <= 1e-11 * rho:
-            return rn
         if hi < np.inf and hi - lo <= 1e-13 * hi:
             return -1.0
         if liquid and lo > 20.0 / vm:
