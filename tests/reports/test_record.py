@@ -331,3 +331,11 @@ def test_the_record_shows_each_margin_term_and_the_total(snapshots):
     text = html.unescape(render_html(snapshots["PCV-1101"], "A4"))
     assert "entered margin" in text and "model spread (PR vs SRK at " in text
     assert "total margin" in text and "|PR - SRK| outlet temperature at the condition that governs" in text
+
+
+def test_the_record_of_a_gerg_2008_case_names_the_model_its_version_its_range_and_who_governs(snapshots):
+    page = html.unescape(re.sub(r"<[^>]+>", " ", render_html(snapshots["PCV-3101"])))
+    page = " ".join(page.split())
+    assert "GERG-2008, Kunz and Wagner 2012" in page
+    assert "normal range 90-450 K up to 35 MPa; extended range 60-700 K up to 70 MPa" in page
+    assert "screened on GERG2008, the reference-grade model" in page

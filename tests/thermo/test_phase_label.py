@@ -13,7 +13,7 @@ import pytest
 
 from jtcheck import Fluid, letdown
 
-CUBICS = ["PR", "SRK", "RK", "VDW"]
+MODELS = ["PR", "SRK", "RK", "VDW", "GERG2008"]
 
 # (component, T [K], P [Pa], expected label)
 SUPERCRITICAL_GASES = [
@@ -29,7 +29,7 @@ SUPERCRITICAL_GASES = [
 ]
 
 
-@pytest.mark.parametrize("eos", CUBICS)
+@pytest.mark.parametrize("eos", MODELS)
 @pytest.mark.parametrize("comp, t_k, p_pa, label", SUPERCRITICAL_GASES,
                          ids=[f"{c}-{t:.0f}K-{p / 1e5:g}bar" for c, t, p, _ in SUPERCRITICAL_GASES])
 def test_a_pure_gas_above_its_critical_temperature_is_never_liquid(eos, comp, t_k, p_pa, label):
@@ -38,7 +38,7 @@ def test_a_pure_gas_above_its_critical_temperature_is_never_liquid(eos, comp, t_
     assert res.phase == label and res.beta == 1.0
 
 
-@pytest.mark.parametrize("eos", CUBICS)
+@pytest.mark.parametrize("eos", MODELS)
 @pytest.mark.parametrize("p_pa", [20e5, 60e5])
 def test_propane_at_300_k_above_its_vapour_pressure_is_still_a_liquid(eos, p_pa):
     # 60 bar is above the critical pressure (42.5 bar) but below the critical temperature (369.8 K): a
@@ -47,13 +47,13 @@ def test_propane_at_300_k_above_its_vapour_pressure_is_still_a_liquid(eos, p_pa)
     assert res.converged and res.phase == "liquid" and res.beta == 0.0
 
 
-@pytest.mark.parametrize("eos", CUBICS)
+@pytest.mark.parametrize("eos", MODELS)
 def test_a_hydrogen_blend_at_room_temperature_is_a_gas(eos):
     res = Fluid({"hydrogen": 0.8, "methane": 0.2}, eos=eos).flash_pt(300.0, 10e5)
     assert res.converged and res.phase == "vapour"
 
 
-@pytest.mark.parametrize("eos", CUBICS)
+@pytest.mark.parametrize("eos", MODELS)
 def test_an_lpg_mixture_below_its_pseudo_critical_temperature_is_a_liquid(eos):
     res = Fluid({"propane": 0.6, "n-butane": 0.4}, eos=eos).flash_pt(300.0, 20e5)
     assert res.converged and res.phase == "liquid"
