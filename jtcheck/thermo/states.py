@@ -10,14 +10,13 @@ Broadcasting: ``T`` and ``P`` of shape (...) with ``x`` of shape (n,) or (..., n
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from jtcheck.errors import InputError
 from jtcheck.thermo.kernels import evaluate as _ev
 from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 from jtcheck.thermo.models.cubic.mixture import CubicMixture
+from jtcheck.thermo.models.cubic.properties import FugacityDerivatives, PhaseProperties
 from jtcheck.thermo.models.gerg2008 import GergMixture
 
 #: The mixture objects of the model families: parameters with ``kernel_params``, ``n``, ``ids``, ``tcs``,
@@ -35,54 +34,9 @@ def phase_code(phase: str) -> int:
         raise InputError("phase", f"unknown phase {phase!r}; allowed: {', '.join(PHASE_CODES)}") from None
 
 
-@dataclass(frozen=True, slots=True)
-class ModelState:
-    """Thermodynamic state of one phase from the model (SI, per mole of phase).
-
-    Attributes
-    ----------
-    Z : compressibility factor [-]
-    v : molar volume from the model, untranslated [m^3/mol]
-    h : molar enthalpy, ideal gas at 298.15 K as zero [J/mol]
-    s : molar entropy, ideal gas at 298.15 K and 101325 Pa as zero [J/(mol K)]
-    cp, cv : heat capacities [J/(mol K)]
-    dP_dT_v : (dP/dT) at constant v [Pa/K]
-    dP_dv_T : (dP/dv) at constant T [Pa mol/m^3]
-    h_res, s_res : residual enthalpy [J/mol] and entropy [J/(mol K)]
-    """
-
-    Z: np.ndarray
-    v: np.ndarray
-    h: np.ndarray
-    s: np.ndarray
-    cp: np.ndarray
-    cv: np.ndarray
-    dP_dT_v: np.ndarray
-    dP_dv_T: np.ndarray
-    h_res: np.ndarray
-    s_res: np.ndarray
-
-
-@dataclass(frozen=True, slots=True)
-class FugacityDerivatives:
-    """ln phi and its derivatives for one phase of total amount 1 mol.
-
-    Attributes
-    ----------
-    lnphi : (n,) [-]
-    dn : (n, n) d ln phi_i / d n_j at constant T, P [1/mol]
-    dT : (n,) d ln phi_i / d T at constant P, n [1/K]
-    dP : (n,) d ln phi_i / d P at constant T, n [1/Pa]
-    Z : compressibility factor [-]
-    v_partial : (n,) partial molar volumes [m^3/mol]
-    """
-
-    lnphi: np.ndarray
-    dn: np.ndarray
-    dT: np.ndarray
-    dP: np.ndarray
-    Z: float
-    v_partial: np.ndarray
+#: The properties of one phase (the cubic's result type, shared by every family): Z, v, h, s, cp, cv,
+#: (dP/dT)_v, (dP/dv)_T, h_res, s_res (SI, per mole of phase).
+ModelState = PhaseProperties
 
 
 def _flat(mix: Mixture, T, P, x):
@@ -122,12 +76,8 @@ def ln_phi(mix: Mixture, T, P, x, phase: str = "gibbs"):
 def fugacity_derivatives(mix: Mixture, T: float, P: float, x, phase: str = "gibbs") -> FugacityDerivatives:
     """ln phi with its composition, temperature and pressure derivatives at one state (see the interface)."""
     x = np.ascontiguousarray(x, dtype=float)
-    n = x.size
-    lnphi = np.empty(n)
-    dn = np.empty((n, n))
-    dT = np.empty(n)
-    dP = np.empty(n)
-    vbar = np.empty(n)
+    lnphi, dT, dP, vbar = (np.empty(x.size) for _ in range(4))
+    dn = np.empty((x.size, x.size))
     Z = _ev.fug_derivs_one(mix.kernel_params, float(T), float(P), x, phase_code(phase), lnphi, dn, dT, dP, vbar)
     return FugacityDerivatives(lnphi=lnphi, dn=dn, dT=dT, dP=dP, Z=float(Z), v_partial=vbar)
 
