@@ -571,11 +571,18 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
     Screening
         Outcome, findings and answers.  A condition that did not converge makes the outcome
         "not screened" (never "pass").
+
+    Raises
+    ------
+    jtcheck.errors.InputError
+        On GERG-2008, for a condition whose inlet lies outside its extended range (60-700 K, up to 70 MPa).
     """
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
     if not conditions:
         raise InputError("conditions", "at least one credible condition is needed")
+    for c in conditions:   # GERG-2008: an inlet outside its extended range is refused, naming the condition
+        fluid.check_state(c.t_in_k, c.p_in_pa, f"inlet of the {c.name} condition", "t_in")
     models = model_fluids(fluid, options.compare_models)
     conds = list(conditions)
     sweep_data: dict[str, Any] | None = None

@@ -162,3 +162,23 @@ def test_a_hydrogen_rich_fluid_on_a_cubic_is_a_caution_pointing_to_gerg():
 def test_a_trace_of_hydrogen_on_a_cubic_stays_information():
     fl = Fluid({"hydrogen": 0.02, "methane": 0.98}, eos="PR")
     assert not any("GERG2008" in w for w in fl.warnings) and any("Hydrogen present" in w for w in fl.warnings)
+
+
+def test_screening_refuses_a_condition_outside_the_extended_range_naming_it():
+    fl = Fluid(LEAN_GAS, eos="GERG2008")
+    with pytest.raises(InputError) as exc:
+        screen_letdown(fl, [Condition("normal", 50e5, 300.0, 10e5), Condition("hot", 50e5, 720.0, 10e5)],
+                       ScreeningOptions(ColdLimits(user_limit_k=244.15, margin_k=5.0)))
+    assert exc.value.field == "t_in" and "hot condition" in exc.value.message and "720.00 K" in exc.value.message
+
+
+def test_an_outlet_outside_the_extended_range_is_not_converged_never_a_number(monkeypatch):
+    # the extended range narrowed to start at 280 K (instead of 60 K) so that a real letdown leaves it
+    import jtcheck.thermo.fluid as fluid_module
+
+    monkeypatch.setattr(fluid_module, "gerg_ranges", lambda: ((290.0, 450.0, 35e6), (280.0, 700.0, 70e6)))
+    fl = Fluid({"nitrogen": 1.0}, eos="GERG2008")
+    r = letdown(fl, 200e5, 300.0, 20e5)       # outlet about 274 K
+    assert not r.converged and r.message.startswith("not screened: outlet temperature")
+    b = letdown(fl, np.array([200e5, 30e5]), 300.0, np.array([20e5, 20e5]))
+    assert list(b.converged) == [False, True]
