@@ -96,28 +96,36 @@ def reducing(prm, x):
 
 @_jit
 def _g_first(a, b, B):
-    """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0)."""
+    """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0).
+
+    Written with the ratios a/D, b/D, (a + b)/D (D = B a + b), which stay bounded when a and b are tiny.
+    """
     D = B * a + b
-    if D == 0.0:
+    if D < 1e-300:
         return 0.0, 0.0, 0.0
+    r = 1.0 / D
+    p = a * r
+    q = b * r
     S = a + b
-    abS = a * b * S
-    return abS / D, b * (S + a) / D - B * abS / (D * D), a * (S + b) / D - abS / (D * D)
+    return S * a * q, q * (S + a) - B * p * q * S, p * (S + b) - p * q * S
 
 
 @_jit
 def _g_second(a, b, B):
-    """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b)."""
+    """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b) (bounded ratios)."""
     D = B * a + b
-    if D == 0.0:
+    if D < 1e-300:
         return 0.0, 0.0, 0.0
+    r = 1.0 / D
+    p = a * r
+    q = b * r
     S = a + b
-    abS = a * b * S
-    D2 = D * D
-    D3 = D2 * D
-    gaa = 2.0 * b / D - 2.0 * B * b * (S + a) / D2 + 2.0 * B * B * abS / D3
-    gbb = 2.0 * a / D - 2.0 * a * (S + b) / D2 + 2.0 * abS / D3
-    gab = 2.0 * S / D - (b * (S + a) + B * a * (S + b)) / D2 + 2.0 * B * abS / D3
+    sD = S * r
+    u1 = (S + a) * r
+    u2 = (S + b) * r
+    gaa = 2.0 * q - 2.0 * B * q * u1 + 2.0 * B * B * p * q * sD
+    gbb = 2.0 * p - 2.0 * p * u2 + 2.0 * p * q * sD
+    gab = 2.0 * sD - q * u1 - B * p * u2 + 2.0 * B * p * q * sD
     return gaa, gbb, gab
 
 
@@ -311,26 +319,25 @@ def _p_dp(prm, tp, x, rho, Vr, RT):
 
 
 @_jit
-def _root(prm, tp, x, T, P, Vr, liquid):
-    """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
+def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
+    """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
 
-    A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
-    bounded below by states of the first (rising) branch with P(rho) < P, and above by any state with
-    P(rho) >= P or (dP/drho)_T <= 0; for the liquid-like root the other way round, starting from
-    three times the pseudo-critical density (the reference implementation's liquid start).  If the
-    bracket closes on a spinodal instead of a root, that root does not exist at (T, P).
+    ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
+    a hundredth of the ideal-gas density, downwards for the liquid-like root), so that the search
+    walks along one branch of P(rho) and stops at its spinodal instead of jumping past it.
     """
     RT = R_GERG * T
     vcs = prm[2]
     lo = 0.0
     hi = np.inf
+    vm = 0.0
+    for i in range(x.size):
+        vm += x[i] * vcs[i]
     if liquid:
-        vm = 0.0
-        for i in range(x.size):
-            vm += x[i] * vcs[i]
         rho = 3.0 / vm
     else:
-        rho = P / RT
+        rho = P / RT if cap <= 1.0 else 0.01 * P / RT
+    start = rho
     for _ in range(300):
         p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
@@ -348,20 +355,67 @@ def _root(prm, tp, x, T, P, Vr, liquid):
             step = (p - P) / dp
             rn = rho - step
             if abs(step) <= 1e-11 * rho:
-                return rn
+                return rn, start
         else:
             rn = -1.0
+        if cap > 1.0:
+            if liquid and hi == np.inf and lo == rho:
+                # walking down the liquid branch found no state above P: not this branch
+                return -1.0, start
+            if liquid and lo == 0.0:
+                rn = max(rn, rho / cap)
+            if not liquid and hi == np.inf:
+                rn = min(rn, rho * cap)
         if not (lo < rn < hi):
             if hi < np.inf:
                 rn = 0.5 * (lo + hi)
             else:
                 rn = 1.5 * rho
         if hi < np.inf and hi - lo <= 1e-13 * hi:
-            return -1.0
+            return -1.0, start
         if liquid and lo > 20.0 / vm:
-            return -1.0
+            return -1.0, start
         rho = rn
-    return -1.0
+    return -1.0, start
+
+
+@_jit
+def _on_branch(prm, tp, x, a, b, Vr, RT):
+    """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
+    for k in range(1, 4):
+        rho = a + 0.25 * k * (b - a)
+        if _p_dp(prm, tp, x, rho, Vr, RT)[1] <= 0.0:
+            return False
+    return True
+
+
+@_jit
+def _root(prm, tp, x, T, P, Vr, liquid):
+    """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
+
+    A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
+    bounded below by states of the first (rising) branch with P(rho) < P, and above by any state with
+    P(rho) >= P or (dP/drho)_T <= 0; for the liquid-like root the other way round, starting from
+    three times the pseudo-critical density (the reference implementation's liquid start).  If the
+    bracket closes on a spinodal instead of a root, that root does not exist at (T, P).
+
+    Inside the two-phase region P(rho) of a multiparameter equation oscillates between the spinodals
+    and has spurious roots there (Span, *Multiparameter Equations of State*, Springer 2000, ch. 3).  A
+    root is accepted only if P(rho) rises at three points between it and the end it was searched
+    from (zero density, or the liquid start); otherwise the search is repeated walking along the
+    branch in steps of at most 20 % in density, which stops at the spinodal.
+    """
+    RT = R_GERG * T
+    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 0.0)
+    if r > 0.0:
+        if liquid:
+            ok = start > r and _on_branch(prm, tp, x, r, start, Vr, RT)
+        else:
+            ok = _on_branch(prm, tp, x, 0.0, r, Vr, RT)
+        if ok:
+            return r
+    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 1.2)
+    return r
 
 
 @_jit
