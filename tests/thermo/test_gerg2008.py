@@ -422,3 +422,26 @@ def test_rich_gas_two_phase_flash_consistent():
     gk.ln_phi(mix.kernel_params, 300.15, 1e7, r.x, GIBBS, lx)
     gk.ln_phi(mix.kernel_params, 300.15, 1e7, r.y, GIBBS, ly)
     np.testing.assert_allclose(np.log(r.x) + lx, np.log(r.y) + ly, atol=1e-9)
+
+
+def test_rich_gas_letdown_two_phase():
+    """Rich gas 100 bar, 300.15 K -> 10 bar: the PH flash lands in the two-phase region (between the PT flashes at
+    250 K and 255 K, whose enthalpies bracket the inlet's), and agrees with a PT flash at its temperature."""
+    ids = ["methane", "ethane", "propane", "n-butane", "n-pentane", "n-hexane", "nitrogen", "carbon dioxide"]
+    z = np.array([0.70, 0.10, 0.08, 0.04, 0.02, 0.02, 0.02, 0.02])
+    mix = make_gerg_mixture(ids)
+    h_in = flash_pt(mix, 300.15, 100e5, z).h
+    assert flash_pt(mix, 250.0, 10e5, z).h < h_in < flash_pt(mix, 255.0, 10e5, z).h
+    out = flash_ph(mix, 10e5, h_in, z, 300.15)
+    assert out.converged and out.phase == "two-phase" and 250.0 < out.T < 255.0
+    check = flash_pt(mix, out.T, 10e5, z)
+    assert check.beta == pytest.approx(out.beta, abs=1e-8) and check.h == pytest.approx(h_in, abs=1e-5)
+
+
+def test_cold_liquid_density_root():
+    """Near-pure n-hexane at 210.62 K and 10 bar is a liquid denser than three times its critical density
+    (CoolProp 8.0.0: 8.49 kmol/m^3; its n-hexane equation differs from GERG-2008's by about 0.25 % here); the
+    liquid search reaches it."""
+    prm = make_gerg_mixture(["n-hexane"]).kernel_params
+    rho = gk.density_tp(prm, 210.0, 10e5, np.ones(1), LIQUID)
+    assert rho == pytest.approx(CoolProp.PropsSI("Dmolar", "T", 210.0, "P", 10e5, "n-Hexane"), rel=5e-3)

@@ -334,7 +334,14 @@ def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
+        # start above the liquid branch's root: from three times the pseudo-critical density, denser until
+        # P(rho) > P on a rising branch (cold liquids are denser than that)
         rho = 3.0 / vm
+        for _ in range(10):
+            p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
+            if dp > 0.0 and p > P:
+                break
+            rho *= 1.25
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
@@ -373,7 +380,7 @@ def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
                 rn = 1.5 * rho
         if hi < np.inf and hi - lo <= 1e-13 * hi:
             return -1.0, start
-        if liquid and lo > 20.0 / vm:
+        if liquid and lo > 40.0 / vm:
             return -1.0, start
         rho = rn
     return -1.0, start
