@@ -25,7 +25,7 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
 
     (marker, tcs_r, vcs_r, bv2, cv, bt2, ct,
      p_own, p_n, p_d, p_ti, p_c,
-     q_i, q_j, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
+     q_fun, pairs, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
      tuniq, ig_n3m1, ig_n, ig_th, ig_href, ig_sref,
      tcs, pcs, omegas, polar)
 
@@ -36,8 +36,10 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
     bt2, ct         beta_T,ij^2 [-] and 2 beta_T,ij gamma_T,ij sqrt(T_c,i T_c,j) [K], (n, n)
     p_*             pure-fluid terms of the mixture's components, flattened: owner, n, d, index of t in
                     tuniq, c (0: polynomial term)
-    q_*             departure terms, flattened: pair (i, j), n F_ij, d, index of t, eta, epsilon, beta,
-                    gamma, exponential (1) or polynomial (0)
+    q_fun, q_*      departure-function terms of the functions the mixture's pairs use, flattened and grouped
+                    by function: function index, n, d, index of t, eta, epsilon, beta, gamma, exponential (1)
+                    or polynomial (0)
+    pairs           (npairs, 4) floats: i, j, function index, F_ij of each pair with a departure function
     tuniq           the distinct tau exponents [-]
     ig_n3m1, ig_n, ig_th   ideal-gas n_3 - 1 (n,), n_4..n_7 and theta_4..theta_7 [K] (n, 4); columns 0 and 2
                     are sinh terms, 1 and 3 cosh terms
@@ -195,7 +197,7 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
         delta^2 tau A_ddt), A = alpha_r [-].
     """
     p_own, p_n, p_d, p_ti, p_c = prm[7], prm[8], prm[9], prm[10], prm[11]
-    q_i, q_j, q_n, q_d, q_ti = prm[12], prm[13], prm[14], prm[15], prm[16]
+    q_fun, pairs, q_n, q_d, q_ti = prm[12], prm[13], prm[14], prm[15], prm[16]
     q_eta, q_eps, q_beta, q_gam, q_exp = prm[17], prm[18], prm[19], prm[20], prm[21]
     tuniq = prm[22]
     n = x.size
@@ -210,13 +212,13 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
     # powers of delta and exp(-delta^c), c = 1..6
     d1 = delta
     d2 = d1 * d1
-    d3 = d2 * d1
-    d4 = d3 * d1
-    d5 = d4 * d1
-    d6 = d5 * d1
-    d7 = d6 * d1
-    dp = (1.0, d1, d2, d3, d4, d5, d6, d7, d7 * d1, d7 * d2, d7 * d3)
-    ec = (1.0, math.exp(-d1), math.exp(-d2), math.exp(-d3), math.exp(-d4), math.exp(-d5), math.exp(-d6))
+    dp = np.empty(11)
+    dp[0] = 1.0
+    for k in range(1, 11):
+        dp[k] = dp[k - 1] * d1
+    ec = np.empty(7)
+    for k in range(7):
+        ec[k] = math.exp(-dp[k])
     A = 0.0
     ad = 0.0
     add = 0.0
@@ -259,12 +261,14 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
                 ax[i] += v
                 adx[i] += v * g
                 atx[i] += vt
-    for m in range(q_n.size):
-        i = q_i[m]
-        j = q_j[m]
-        w = x[i] * x[j]
-        if w == 0.0 and level < 2:
-            continue
+    # departure functions: each one evaluated once, then weighted by x_i x_j F_ij for every pair that uses it
+    nq = q_n.size
+    if nq == 0:
+        return A, ad, add, addd, at, att, adt, addt
+    nfun = q_fun[nq - 1] + 1
+    fv = np.zeros((nfun, 8))
+    for m in range(nq):
+        f = q_fun[m]
         d = q_d[m]
         v = q_n[m] * tp[q_ti[m]] * dp[d]
         if q_exp[m] == 1:
@@ -282,27 +286,42 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
             Dg = 0.0
             D2g = 0.0
         f2 = g * g + Dg - g
-        A += w * v
-        ad += w * v * g
-        add += w * v * f2
+        fv[f, 0] += v
+        fv[f, 1] += v * g
+        fv[f, 2] += v * f2
         if level >= 1:
             t = tuniq[q_ti[m]]
             vt = v * t
-            at += w * vt
-            att += w * vt * (t - 1.0)
-            adt += w * vt * g
-            addt += w * vt * f2
-            addd += w * v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+            fv[f, 3] += v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+            fv[f, 4] += vt
+            fv[f, 5] += vt * (t - 1.0)
+            fv[f, 6] += vt * g
+            fv[f, 7] += vt * f2
+    for m in range(pairs.shape[0]):
+        i = int(pairs[m, 0])
+        j = int(pairs[m, 1])
+        f = int(pairs[m, 2])
+        F = pairs[m, 3]
+        w = x[i] * x[j] * F
+        A += w * fv[f, 0]
+        ad += w * fv[f, 1]
+        add += w * fv[f, 2]
+        if level >= 1:
+            addd += w * fv[f, 3]
+            at += w * fv[f, 4]
+            att += w * fv[f, 5]
+            adt += w * fv[f, 6]
+            addt += w * fv[f, 7]
             if level >= 2:
-                ax[i] += x[j] * v
-                ax[j] += x[i] * v
-                adx[i] += x[j] * v * g
-                adx[j] += x[i] * v * g
-                atx[i] += x[j] * vt
-                atx[j] += x[i] * vt
+                ax[i] += x[j] * F * fv[f, 0]
+                ax[j] += x[i] * F * fv[f, 0]
+                adx[i] += x[j] * F * fv[f, 1]
+                adx[j] += x[i] * F * fv[f, 1]
+                atx[i] += x[j] * F * fv[f, 4]
+                atx[j] += x[i] * F * fv[f, 4]
                 if level >= 3:
-                    axx[i, j] += v
-                    axx[j, i] += v
+                    axx[i, j] += F * fv[f, 0]
+                    axx[j, i] += F * fv[f, 0]
     return A, ad, add, addd, at, att, adt, addt
 
 
@@ -316,6 +335,23 @@ def _p_dp(prm, tp, x, rho, Vr, RT):
     r = alphar(prm, tp, x, rho * Vr, 0, tp, tp, tp, tp[:0].reshape((0, 0)))
     A, ad, add = r[0], r[1], r[2]
     return rho * RT * (1.0 + ad), RT * (1.0 + 2.0 * ad + add), A, ad
+
+
+@_jit
+def _liquid_start(prm, tp, x, P, Vr, RT):
+    """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
+    implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
+    vcs = prm[2]
+    vm = 0.0
+    for i in range(x.size):
+        vm += x[i] * vcs[i]
+    rho = 3.0 / vm
+    for _ in range(10):
+        p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
+        if dp > 0.0 and p > P:
+            break
+        rho *= 1.25
+    return rho
 
 
 @_jit
@@ -334,14 +370,7 @@ def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
-        # start above the liquid branch's root: from three times the pseudo-critical density, denser until
-        # P(rho) > P on a rising branch (cold liquids are denser than that)
-        rho = 3.0 / vm
-        for _ in range(10):
-            p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
-            if dp > 0.0 and p > P:
-                break
-            rho *= 1.25
+        rho = _liquid_start(prm, tp, x, P, Vr, RT)
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
@@ -436,6 +465,12 @@ def density(prm, T, P, x, phase, tp, Vr):
     rl = -1.0
     if phase != LIQUID:
         rv = _root(prm, tp, x, T, P, Vr, False)
+    if phase == GIBBS and rv > 0.0:
+        # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
+        RT = R_GERG * T
+        rs = _liquid_start(prm, tp, x, P, Vr, RT)
+        if rs > rv and _on_branch(prm, tp, x, rv, rs, Vr, RT):
+            return rv
     if phase != VAPOUR or rv < 0.0:
         rl = _root(prm, tp, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:
