@@ -393,3 +393,55 @@ def test_co2_saturation_vs_coolprop():
         out = flash_ph(mix, P, 0.5 * (hl + hv), z)
         assert out.converged and 0.0 < out.beta < 1.0
         assert out.T == pytest.approx(T_cp, abs=0.3)
+
+
+def test_no_spurious_density_root():
+    """Inside the two-phase region P(rho) of GERG-2008 oscillates (here from -880 MPa to +2700 MPa between
+    1500 and 4200 mol/m^3) and crosses P at spurious 'roots'.  A liquid-like hexane-rich phase at 300.15 K,
+    10 MPa has no vapour-like root: every phase code returns the liquid root, on a rising branch of P(rho)."""
+    ids = ["methane", "ethane", "propane", "n-butane", "n-pentane", "n-hexane", "nitrogen", "carbon dioxide"]
+    w = np.array([0.18915737, 0.0645476, 0.08099638, 0.087638, 0.09233178, 0.4750693, 0.00196908, 0.00829049])
+    prm = make_gerg_mixture(ids).kernel_params
+    rhos = {ph: gk.density_tp(prm, 300.15, 1e7, w, ph) for ph in (GIBBS, LIQUID, VAPOUR)}
+    assert rhos[GIBBS] == rhos[LIQUID] == rhos[VAPOUR]
+    r = gk.residual_tv(prm, 300.15, rhos[GIBBS], w)
+    assert rhos[GIBBS] * R * 300.15 * (1.0 + r[1]) == pytest.approx(1e7, rel=1e-9)
+    assert 1.0 + 2.0 * r[1] + r[2] > 0.0 and 1.0 + r[1] < 0.6
+
+
+def test_rich_gas_two_phase_flash_consistent():
+    """Rich gas at 300.15 K, 10 MPa (the case that found the spurious root): two phases with equal fugacities
+    and a stable split (tpd of the feed negative)."""
+    ids = ["methane", "ethane", "propane", "n-butane", "n-pentane", "n-hexane", "nitrogen", "carbon dioxide"]
+    z = np.array([0.70, 0.10, 0.08, 0.04, 0.02, 0.02, 0.02, 0.02])
+    mix = make_gerg_mixture(ids)
+    r = flash_pt(mix, 300.15, 1e7, z)
+    assert r.converged and 0.0 < r.beta < 1.0 and r.tpd_min < 0.0
+    lx = np.empty(8)
+    ly = np.empty(8)
+    gk.ln_phi(mix.kernel_params, 300.15, 1e7, r.x, GIBBS, lx)
+    gk.ln_phi(mix.kernel_params, 300.15, 1e7, r.y, GIBBS, ly)
+    np.testing.assert_allclose(np.log(r.x) + lx, np.log(r.y) + ly, atol=1e-9)
+
+
+def test_rich_gas_letdown_two_phase():
+    """Rich gas 100 bar, 300.15 K -> 10 bar: the PH flash lands in the two-phase region (between the PT flashes at
+    250 K and 255 K, whose enthalpies bracket the inlet's), and agrees with a PT flash at its temperature."""
+    ids = ["methane", "ethane", "propane", "n-butane", "n-pentane", "n-hexane", "nitrogen", "carbon dioxide"]
+    z = np.array([0.70, 0.10, 0.08, 0.04, 0.02, 0.02, 0.02, 0.02])
+    mix = make_gerg_mixture(ids)
+    h_in = flash_pt(mix, 300.15, 100e5, z).h
+    assert flash_pt(mix, 250.0, 10e5, z).h < h_in < flash_pt(mix, 255.0, 10e5, z).h
+    out = flash_ph(mix, 10e5, h_in, z, 300.15)
+    assert out.converged and out.phase == "two-phase" and 250.0 < out.T < 255.0
+    check = flash_pt(mix, out.T, 10e5, z)
+    assert check.beta == pytest.approx(out.beta, abs=1e-8) and check.h == pytest.approx(h_in, abs=1e-5)
+
+
+def test_cold_liquid_density_root():
+    """Near-pure n-hexane at 210.62 K and 10 bar is a liquid denser than three times its critical density
+    (CoolProp 8.0.0: 8.49 kmol/m^3; its n-hexane equation differs from GERG-2008's by about 0.25 % here); the
+    liquid search reaches it."""
+    prm = make_gerg_mixture(["n-hexane"]).kernel_params
+    rho = gk.density_tp(prm, 210.0, 10e5, np.ones(1), LIQUID)
+    assert rho == pytest.approx(CoolProp.PropsSI("Dmolar", "T", 210.0, "P", 10e5, "n-Hexane"), rel=5e-3)

@@ -25,7 +25,7 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
 
     (marker, tcs_r, vcs_r, bv2, cv, bt2, ct,
      p_own, p_n, p_d, p_ti, p_c,
-     q_i, q_j, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
+     q_fun, pairs, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
      tuniq, ig_n3m1, ig_n, ig_th, ig_href, ig_sref,
      tcs, pcs, omegas, polar)
 
@@ -36,8 +36,10 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
     bt2, ct         beta_T,ij^2 [-] and 2 beta_T,ij gamma_T,ij sqrt(T_c,i T_c,j) [K], (n, n)
     p_*             pure-fluid terms of the mixture's components, flattened: owner, n, d, index of t in
                     tuniq, c (0: polynomial term)
-    q_*             departure terms, flattened: pair (i, j), n F_ij, d, index of t, eta, epsilon, beta,
-                    gamma, exponential (1) or polynomial (0)
+    q_fun, q_*      departure-function terms of the functions the mixture's pairs use, flattened and grouped
+                    by function: function index, n, d, index of t, eta, epsilon, beta, gamma, exponential (1)
+                    or polynomial (0)
+    pairs           (npairs, 4) floats: i, j, function index, F_ij of each pair with a departure function
     tuniq           the distinct tau exponents [-]
     ig_n3m1, ig_n, ig_th   ideal-gas n_3 - 1 (n,), n_4..n_7 and theta_4..theta_7 [K] (n, 4); columns 0 and 2
                     are sinh terms, 1 and 3 cosh terms
@@ -96,28 +98,36 @@ def reducing(prm, x):
 
 @_jit
 def _g_first(a, b, B):
-    """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0)."""
+    """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0).
+
+    Written with the ratios a/D, b/D, (a + b)/D (D = B a + b), which stay bounded when a and b are tiny.
+    """
     D = B * a + b
-    if D == 0.0:
+    if D < 1e-300:
         return 0.0, 0.0, 0.0
+    r = 1.0 / D
+    p = a * r
+    q = b * r
     S = a + b
-    abS = a * b * S
-    return abS / D, b * (S + a) / D - B * abS / (D * D), a * (S + b) / D - abS / (D * D)
+    return S * a * q, q * (S + a) - B * p * q * S, p * (S + b) - p * q * S
 
 
 @_jit
 def _g_second(a, b, B):
-    """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b)."""
+    """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b) (bounded ratios)."""
     D = B * a + b
-    if D == 0.0:
+    if D < 1e-300:
         return 0.0, 0.0, 0.0
+    r = 1.0 / D
+    p = a * r
+    q = b * r
     S = a + b
-    abS = a * b * S
-    D2 = D * D
-    D3 = D2 * D
-    gaa = 2.0 * b / D - 2.0 * B * b * (S + a) / D2 + 2.0 * B * B * abS / D3
-    gbb = 2.0 * a / D - 2.0 * a * (S + b) / D2 + 2.0 * abS / D3
-    gab = 2.0 * S / D - (b * (S + a) + B * a * (S + b)) / D2 + 2.0 * B * abS / D3
+    sD = S * r
+    u1 = (S + a) * r
+    u2 = (S + b) * r
+    gaa = 2.0 * q - 2.0 * B * q * u1 + 2.0 * B * B * p * q * sD
+    gbb = 2.0 * p - 2.0 * p * u2 + 2.0 * p * q * sD
+    gab = 2.0 * sD - q * u1 - B * p * u2 + 2.0 * B * p * q * sD
     return gaa, gbb, gab
 
 
@@ -187,7 +197,7 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
         delta^2 tau A_ddt), A = alpha_r [-].
     """
     p_own, p_n, p_d, p_ti, p_c = prm[7], prm[8], prm[9], prm[10], prm[11]
-    q_i, q_j, q_n, q_d, q_ti = prm[12], prm[13], prm[14], prm[15], prm[16]
+    q_fun, pairs, q_n, q_d, q_ti = prm[12], prm[13], prm[14], prm[15], prm[16]
     q_eta, q_eps, q_beta, q_gam, q_exp = prm[17], prm[18], prm[19], prm[20], prm[21]
     tuniq = prm[22]
     n = x.size
@@ -202,13 +212,13 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
     # powers of delta and exp(-delta^c), c = 1..6
     d1 = delta
     d2 = d1 * d1
-    d3 = d2 * d1
-    d4 = d3 * d1
-    d5 = d4 * d1
-    d6 = d5 * d1
-    d7 = d6 * d1
-    dp = (1.0, d1, d2, d3, d4, d5, d6, d7, d7 * d1, d7 * d2, d7 * d3)
-    ec = (1.0, math.exp(-d1), math.exp(-d2), math.exp(-d3), math.exp(-d4), math.exp(-d5), math.exp(-d6))
+    dp = np.empty(11)
+    dp[0] = 1.0
+    for k in range(1, 11):
+        dp[k] = dp[k - 1] * d1
+    ec = np.empty(7)
+    for k in range(7):
+        ec[k] = math.exp(-dp[k])
     A = 0.0
     ad = 0.0
     add = 0.0
@@ -251,12 +261,14 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
                 ax[i] += v
                 adx[i] += v * g
                 atx[i] += vt
-    for m in range(q_n.size):
-        i = q_i[m]
-        j = q_j[m]
-        w = x[i] * x[j]
-        if w == 0.0 and level < 2:
-            continue
+    # departure functions: each one evaluated once, then weighted by x_i x_j F_ij for every pair that uses it
+    nq = q_n.size
+    if nq == 0:
+        return A, ad, add, addd, at, att, adt, addt
+    nfun = q_fun[nq - 1] + 1
+    fv = np.zeros((nfun, 8))
+    for m in range(nq):
+        f = q_fun[m]
         d = q_d[m]
         v = q_n[m] * tp[q_ti[m]] * dp[d]
         if q_exp[m] == 1:
@@ -274,27 +286,42 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
             Dg = 0.0
             D2g = 0.0
         f2 = g * g + Dg - g
-        A += w * v
-        ad += w * v * g
-        add += w * v * f2
+        fv[f, 0] += v
+        fv[f, 1] += v * g
+        fv[f, 2] += v * f2
         if level >= 1:
             t = tuniq[q_ti[m]]
             vt = v * t
-            at += w * vt
-            att += w * vt * (t - 1.0)
-            adt += w * vt * g
-            addt += w * vt * f2
-            addd += w * v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+            fv[f, 3] += v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+            fv[f, 4] += vt
+            fv[f, 5] += vt * (t - 1.0)
+            fv[f, 6] += vt * g
+            fv[f, 7] += vt * f2
+    for m in range(pairs.shape[0]):
+        i = int(pairs[m, 0])
+        j = int(pairs[m, 1])
+        f = int(pairs[m, 2])
+        F = pairs[m, 3]
+        w = x[i] * x[j] * F
+        A += w * fv[f, 0]
+        ad += w * fv[f, 1]
+        add += w * fv[f, 2]
+        if level >= 1:
+            addd += w * fv[f, 3]
+            at += w * fv[f, 4]
+            att += w * fv[f, 5]
+            adt += w * fv[f, 6]
+            addt += w * fv[f, 7]
             if level >= 2:
-                ax[i] += x[j] * v
-                ax[j] += x[i] * v
-                adx[i] += x[j] * v * g
-                adx[j] += x[i] * v * g
-                atx[i] += x[j] * vt
-                atx[j] += x[i] * vt
+                ax[i] += x[j] * F * fv[f, 0]
+                ax[j] += x[i] * F * fv[f, 0]
+                adx[i] += x[j] * F * fv[f, 1]
+                adx[j] += x[i] * F * fv[f, 1]
+                atx[i] += x[j] * F * fv[f, 4]
+                atx[j] += x[i] * F * fv[f, 4]
                 if level >= 3:
-                    axx[i, j] += v
-                    axx[j, i] += v
+                    axx[i, j] += F * fv[f, 0]
+                    axx[j, i] += F * fv[f, 0]
     return A, ad, add, addd, at, att, adt, addt
 
 
@@ -311,26 +338,42 @@ def _p_dp(prm, tp, x, rho, Vr, RT):
 
 
 @_jit
-def _root(prm, tp, x, T, P, Vr, liquid):
-    """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
+def _liquid_start(prm, tp, x, P, Vr, RT):
+    """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
+    implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
+    vcs = prm[2]
+    vm = 0.0
+    for i in range(x.size):
+        vm += x[i] * vcs[i]
+    rho = 3.0 / vm
+    for _ in range(10):
+        p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
+        if dp > 0.0 and p > P:
+            break
+        rho *= 1.25
+    return rho
 
-    A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
-    bounded below by states of the first (rising) branch with P(rho) < P, and above by any state with
-    P(rho) >= P or (dP/drho)_T <= 0; for the liquid-like root the other way round, starting from
-    three times the pseudo-critical density (the reference implementation's liquid start).  If the
-    bracket closes on a spinodal instead of a root, that root does not exist at (T, P).
+
+@_jit
+def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
+    """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
+
+    ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
+    a hundredth of the ideal-gas density, downwards for the liquid-like root), so that the search
+    walks along one branch of P(rho) and stops at its spinodal instead of jumping past it.
     """
     RT = R_GERG * T
     vcs = prm[2]
     lo = 0.0
     hi = np.inf
+    vm = 0.0
+    for i in range(x.size):
+        vm += x[i] * vcs[i]
     if liquid:
-        vm = 0.0
-        for i in range(x.size):
-            vm += x[i] * vcs[i]
-        rho = 3.0 / vm
+        rho = _liquid_start(prm, tp, x, P, Vr, RT)
     else:
-        rho = P / RT
+        rho = P / RT if cap <= 1.0 else 0.01 * P / RT
+    start = rho
     for _ in range(300):
         p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
@@ -348,20 +391,67 @@ def _root(prm, tp, x, T, P, Vr, liquid):
             step = (p - P) / dp
             rn = rho - step
             if abs(step) <= 1e-11 * rho:
-                return rn
+                return rn, start
         else:
             rn = -1.0
+        if cap > 1.0:
+            if liquid and hi == np.inf and lo == rho:
+                # walking down the liquid branch found no state above P: not this branch
+                return -1.0, start
+            if liquid and lo == 0.0:
+                rn = max(rn, rho / cap)
+            if not liquid and hi == np.inf:
+                rn = min(rn, rho * cap)
         if not (lo < rn < hi):
             if hi < np.inf:
                 rn = 0.5 * (lo + hi)
             else:
                 rn = 1.5 * rho
         if hi < np.inf and hi - lo <= 1e-13 * hi:
-            return -1.0
-        if liquid and lo > 20.0 / vm:
-            return -1.0
+            return -1.0, start
+        if liquid and lo > 40.0 / vm:
+            return -1.0, start
         rho = rn
-    return -1.0
+    return -1.0, start
+
+
+@_jit
+def _on_branch(prm, tp, x, a, b, Vr, RT):
+    """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
+    for k in range(1, 4):
+        rho = a + 0.25 * k * (b - a)
+        if _p_dp(prm, tp, x, rho, Vr, RT)[1] <= 0.0:
+            return False
+    return True
+
+
+@_jit
+def _root(prm, tp, x, T, P, Vr, liquid):
+    """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
+
+    A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
+    bounded below by states of the first (rising) branch with P(rho) < P, and above by any state with
+    P(rho) >= P or (dP/drho)_T <= 0; for the liquid-like root the other way round, starting from
+    three times the pseudo-critical density (the reference implementation's liquid start).  If the
+    bracket closes on a spinodal instead of a root, that root does not exist at (T, P).
+
+    Inside the two-phase region P(rho) of a multiparameter equation oscillates between the spinodals
+    and has spurious roots there (Span, *Multiparameter Equations of State*, Springer 2000, ch. 3).  A
+    root is accepted only if P(rho) rises at three points between it and the end it was searched
+    from (zero density, or the liquid start); otherwise the search is repeated walking along the
+    branch in steps of at most 20 % in density, which stops at the spinodal.
+    """
+    RT = R_GERG * T
+    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 0.0)
+    if r > 0.0:
+        if liquid:
+            ok = start > r and _on_branch(prm, tp, x, r, start, Vr, RT)
+        else:
+            ok = _on_branch(prm, tp, x, 0.0, r, Vr, RT)
+        if ok:
+            return r
+    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 1.2)
+    return r
 
 
 @_jit
@@ -375,6 +465,12 @@ def density(prm, T, P, x, phase, tp, Vr):
     rl = -1.0
     if phase != LIQUID:
         rv = _root(prm, tp, x, T, P, Vr, False)
+    if phase == GIBBS and rv > 0.0:
+        # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
+        RT = R_GERG * T
+        rs = _liquid_start(prm, tp, x, P, Vr, RT)
+        if rs > rv and _on_branch(prm, tp, x, rv, rs, Vr, RT):
+            return rv
     if phase != VAPOUR or rv < 0.0:
         rl = _root(prm, tp, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:

@@ -244,24 +244,29 @@ def make_gerg_mixture(ids) -> GergMixture:
             p_d.append(d)
             p_ti.append(t_index(t))
             p_c.append(cc)
-    q = {k: [] for k in ("i", "j", "n", "d", "ti", "eta", "eps", "beta", "gam", "exp")}
+    q = {k: [] for k in ("fun", "n", "d", "ti", "eta", "eps", "beta", "gam", "exp")}
+    pairs = []
+    funs: list[str] = []
     for a in range(n):
         for b in range(a + 1, n):
             dep = tb.pairs.get(frozenset((ids[a], ids[b])))
             if dep is None:
                 continue
             fun, F = dep
-            for nk, d, t, eta, eps, beta, gam, is_exp in tb.departure[fun]:
-                q["i"].append(a)
-                q["j"].append(b)
-                q["n"].append(nk * F)
-                q["d"].append(d)
-                q["ti"].append(t_index(t))
-                q["eta"].append(eta)
-                q["eps"].append(eps)
-                q["beta"].append(beta)
-                q["gam"].append(gam)
-                q["exp"].append(is_exp)
+            if fun not in funs:
+                funs.append(fun)
+                for nk, d, t, eta, eps, beta, gam, is_exp in tb.departure[fun]:
+                    q["fun"].append(len(funs) - 1)
+                    q["n"].append(nk)
+                    q["d"].append(d)
+                    q["ti"].append(t_index(t))
+                    q["eta"].append(eta)
+                    q["eps"].append(eps)
+                    q["beta"].append(beta)
+                    q["gam"].append(gam)
+                    q["exp"].append(is_exp)
+            pairs.append((a, b, funs.index(fun), F))
+    pairs_arr = np.array(pairs, dtype=float).reshape((len(pairs), 4))
     ig_n3m1 = np.array([tb.pure[c]["n3"] - 1.0 for c in ids])
     ig_n = np.array([[tb.pure[c][k] for k in ("n4", "n5", "n6", "n7")] for c in ids]).reshape((n, 4))
     ig_th = np.array([[tb.pure[c][k] for k in ("th4_k", "th5_k", "th6_k", "th7_k")] for c in ids]).reshape((n, 4))
@@ -283,7 +288,7 @@ def make_gerg_mixture(ids) -> GergMixture:
 
     prm = (np.uint16(kernels.MARKER), f64(tcs_r), f64(vcs_r), f64(bv2), f64(cv), f64(bt2), f64(ct),
            i64(p_own), f64(p_n), i64(p_d), i64(p_ti), i64(p_c),
-           i64(q["i"]), i64(q["j"]), f64(q["n"]), i64(q["d"]), i64(q["ti"]), f64(q["eta"]), f64(q["eps"]),
+           i64(q["fun"]), f64(pairs_arr), f64(q["n"]), i64(q["d"]), i64(q["ti"]), f64(q["eta"]), f64(q["eps"]),
            f64(q["beta"]), f64(q["gam"]), i64(q["exp"]),
            f64(tlist), f64(ig_n3m1), f64(ig_n), f64(ig_th), f64(ig_href), f64(ig_sref),
            f64(tcs), f64(pcs), f64(omegas), polar)
