@@ -667,13 +667,13 @@ def props(prm, T, P, x, phase):
     dP_drho = RT * (1.0 + 2.0 * ad + add)
     dP_dv = -rho * rho * dP_drho
     cp_ig, h_ig, s_ig = ideal_gas(prm, T, x)
-    xlnx = 0.0
-    for i in range(n):
-        if x[i] > 0.0:
-            xlnx += x[i] * math.log(x[i])
-    s_tot = s_ig - R * xlnx - R * math.log(P / P_REF) + s_res
     cv = cp_ig - R + cv_res
     cp = cv - T * dP_dT * dP_dT / dP_dv
+    s_mix = 0.0
+    for i in range(n):
+        if x[i] > 0.0:
+            s_mix -= R * x[i] * math.log(x[i])
+    s_tot = s_ig + s_mix - R * math.log(P / P_REF) + s_res
     return Z, v, h_ig + h_res, s_tot, cp, cv, dP_dT, dP_dv, h_res, s_res
 
 
@@ -687,15 +687,13 @@ def pip(prm, T, P, x, phase):
     Parameters
     ----------
     prm : tuple
-        Mixture parameters (module docstring).
-    T : float
-        Temperature [K].
-    P : float
-        Pressure [Pa].
+        GERG-2008 parameter tuple of the mixture (layout in the module docstring).
+    T, P : float
+        Temperature [K] and pressure [Pa].
     x : numpy.ndarray
         Mole fractions [-], shape (n,).
     phase : int
-        GIBBS, LIQUID or VAPOUR: which density root.
+        GIBBS, LIQUID or VAPOUR: which density root is labelled.
     """
     tp = np.empty(prm[22].size)
     Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
