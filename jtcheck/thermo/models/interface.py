@@ -93,7 +93,7 @@ def _pick(prm, cubic_fn, gerg_fn):
     return None
 
 
-@overload(ln_phi, jit_options=_JIT_OPTIONS)
+@overload(ln_phi, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_ln_phi(prm, T, P, x, phase, out):
     fn = _pick(prm, _cubic.ln_phi, _gerg.ln_phi)
     if fn is None:
@@ -104,7 +104,7 @@ def _ol_ln_phi(prm, T, P, x, phase, out):
     return impl
 
 
-@overload(props, jit_options=_JIT_OPTIONS)
+@overload(props, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_props(prm, T, P, x, phase):
     fn = _pick(prm, _cubic.props, _gerg.props)
     if fn is None:
@@ -115,7 +115,7 @@ def _ol_props(prm, T, P, x, phase):
     return impl
 
 
-@overload(fug_derivs, jit_options=_JIT_OPTIONS)
+@overload(fug_derivs, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_fug_derivs(prm, T, P, x, phase, lnphi, dn, dT, dP, vbar):
     fn = _pick(prm, _cubic.fug_derivs, _gerg.fug_derivs)
     if fn is None:
@@ -126,7 +126,7 @@ def _ol_fug_derivs(prm, T, P, x, phase, lnphi, dn, dT, dP, vbar):
     return impl
 
 
-@overload(pip, jit_options=_JIT_OPTIONS)
+@overload(pip, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_pip(prm, T, P, x, phase):
     fn = _pick(prm, _cubic.pip, _gerg.pip)
     if fn is None:
@@ -137,7 +137,7 @@ def _ol_pip(prm, T, P, x, phase):
     return impl
 
 
-@overload(critical_constants, jit_options=_JIT_OPTIONS)
+@overload(critical_constants, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_critical_constants(prm):
     fn = _pick(prm, _cubic.critical_constants, _gerg.critical_constants)
     if fn is None:
@@ -148,7 +148,7 @@ def _ol_critical_constants(prm):
     return impl
 
 
-@overload(polar_flags, jit_options=_JIT_OPTIONS)
+@overload(polar_flags, jit_options=_JIT_OPTIONS, inline="always")
 def _ol_polar_flags(prm):
     fn = _pick(prm, _cubic.polar_flags, _gerg.polar_flags)
     if fn is None:

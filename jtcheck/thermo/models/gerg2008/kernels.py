@@ -330,15 +330,93 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
 # ----------------------------------------------------------------------------------------------
 
 @_jit
-def _p_dp(prm, tp, x, rho, Vr, RT):
+def level0_coefs(prm, tp, x, cp, cq):
+    """Coefficients of the density-only sums at fixed tau and x (for the density iteration).
+
+    cp_k = x_owner n_k tau^t_k (pure-fluid terms); cq_m = (sum of x_i x_j F_ij over the pairs that use the
+    departure function of term m) n_m tau^t_m.
+    """
+    p_own, p_n, p_ti = prm[7], prm[8], prm[10]
+    q_fun, pairs, q_n, q_ti = prm[12], prm[13], prm[14], prm[16]
+    for k in range(p_n.size):
+        cp[k] = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+    nq = q_n.size
+    if nq == 0:
+        return
+    wf = np.zeros(q_fun[nq - 1] + 1)
+    for m in range(pairs.shape[0]):
+        wf[int(pairs[m, 2])] += x[int(pairs[m, 0])] * x[int(pairs[m, 1])] * pairs[m, 3]
+    for m in range(nq):
+        cq[m] = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+
+
+@_jit
+def alphar0(prm, cp, cq, delta):
+    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs`."""
+    p_d, p_c = prm[9], prm[11]
+    q_d, q_eta, q_eps, q_beta, q_gam, q_exp = prm[15], prm[17], prm[18], prm[19], prm[20], prm[21]
+    dp = np.empty(11)
+    dp[0] = 1.0
+    for k in range(1, 11):
+        dp[k] = dp[k - 1] * delta
+    ec = np.empty(7)
+    for k in range(7):
+        ec[k] = math.exp(-dp[k])
+    d2 = dp[2]
+    A = 0.0
+    ad = 0.0
+    add = 0.0
+    for k in range(cp.size):
+        v = cp[k]
+        if v == 0.0:
+            continue
+        d = p_d[k]
+        c = p_c[k]
+        v *= dp[d]
+        if c == 0:
+            g = float(d)
+            Dg = 0.0
+        else:
+            u = dp[c]
+            v *= ec[c]
+            g = d - c * u
+            Dg = -c * c * u
+        A += v
+        ad += v * g
+        add += v * (g * g + Dg - g)
+    for m in range(cq.size):
+        v = cq[m]
+        if v == 0.0:
+            continue
+        d = q_d[m]
+        v *= dp[d]
+        if q_exp[m] == 1:
+            eta = q_eta[m]
+            eps = q_eps[m]
+            beta = q_beta[m]
+            dd = delta - eps
+            v *= math.exp(-eta * dd * dd - beta * (delta - q_gam[m]))
+            e1 = 2.0 * eta * eps * delta - beta * delta
+            g = d - 2.0 * eta * d2 + e1
+            Dg = -4.0 * eta * d2 + e1
+        else:
+            g = float(d)
+            Dg = 0.0
+        A += v
+        ad += v * g
+        add += v * (g * g + Dg - g)
+    return A, ad, add
+
+
+@_jit
+def _p_dp(prm, cp, cq, x, rho, Vr, RT):
     """Pressure [Pa] and (dP/drho)_T [Pa m^3/mol] at rho [mol/m^3]; also A and delta A_d."""
-    r = alphar(prm, tp, x, rho * Vr, 0, tp, tp, tp, tp[:0].reshape((0, 0)))
-    A, ad, add = r[0], r[1], r[2]
+    A, ad, add = alphar0(prm, cp, cq, rho * Vr)
     return rho * RT * (1.0 + ad), RT * (1.0 + 2.0 * ad + add), A, ad
 
 
 @_jit
-def _liquid_start(prm, tp, x, P, Vr, RT):
+def _liquid_start(prm, cp, cq, x, P, Vr, RT):
     """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
     implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
     vcs = prm[2]
@@ -347,7 +425,7 @@ def _liquid_start(prm, tp, x, P, Vr, RT):
         vm += x[i] * vcs[i]
     rho = 3.0 / vm
     for _ in range(10):
-        p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
         if dp > 0.0 and p > P:
             break
         rho *= 1.25
@@ -355,7 +433,7 @@ def _liquid_start(prm, tp, x, P, Vr, RT):
 
 
 @_jit
-def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
+def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
     """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
 
     ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
@@ -370,12 +448,12 @@ def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
-        rho = _liquid_start(prm, tp, x, P, Vr, RT)
+        rho = _liquid_start(prm, cp, cq, x, P, Vr, RT)
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
     for _ in range(300):
-        p, dp, _, _ = _p_dp(prm, tp, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
         if liquid:
             if good and p > P:
@@ -416,17 +494,17 @@ def _root_search(prm, tp, x, T, P, Vr, liquid, cap):
 
 
 @_jit
-def _on_branch(prm, tp, x, a, b, Vr, RT):
+def _on_branch(prm, cp, cq, x, a, b, Vr, RT):
     """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
     for k in range(1, 4):
         rho = a + 0.25 * k * (b - a)
-        if _p_dp(prm, tp, x, rho, Vr, RT)[1] <= 0.0:
+        if _p_dp(prm, cp, cq, x, rho, Vr, RT)[1] <= 0.0:
             return False
     return True
 
 
 @_jit
-def _root(prm, tp, x, T, P, Vr, liquid):
+def _root(prm, cp, cq, x, T, P, Vr, liquid):
     """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
 
     A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
@@ -442,21 +520,21 @@ def _root(prm, tp, x, T, P, Vr, liquid):
     branch in steps of at most 20 % in density, which stops at the spinodal.
     """
     RT = R_GERG * T
-    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 0.0)
+    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 0.0)
     if r > 0.0:
         if liquid:
-            ok = start > r and _on_branch(prm, tp, x, r, start, Vr, RT)
+            ok = start > r and _on_branch(prm, cp, cq, x, r, start, Vr, RT)
         else:
-            ok = _on_branch(prm, tp, x, 0.0, r, Vr, RT)
+            ok = _on_branch(prm, cp, cq, x, 0.0, r, Vr, RT)
         if ok:
             return r
-    r, start = _root_search(prm, tp, x, T, P, Vr, liquid, 1.2)
+    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 1.2)
     return r
 
 
 @_jit
-def density(prm, T, P, x, phase, tp, Vr):
-    """Molar density [mol/m^3] of the chosen root at (T, P) (tp must hold tau ** tuniq at this T, x).
+def density(prm, T, P, x, phase, cp, cq, Vr):
+    """Molar density [mol/m^3] of the chosen root at (T, P) (cp, cq from :func:`level0_coefs` at this T, x).
 
     GIBBS: the root of lower Gibbs energy when both exist; LIQUID: the densest root; VAPOUR: the
     lightest.  Where only one root exists every phase code returns it.  NaN if none was found.
@@ -464,17 +542,17 @@ def density(prm, T, P, x, phase, tp, Vr):
     rv = -1.0
     rl = -1.0
     if phase != LIQUID:
-        rv = _root(prm, tp, x, T, P, Vr, False)
+        rv = _root(prm, cp, cq, x, T, P, Vr, False)
     if phase == GIBBS and rv > 0.0:
         # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
         RT = R_GERG * T
-        rs = _liquid_start(prm, tp, x, P, Vr, RT)
-        if rs > rv and _on_branch(prm, tp, x, rv, rs, Vr, RT):
+        rs = _liquid_start(prm, cp, cq, x, P, Vr, RT)
+        if rs > rv and _on_branch(prm, cp, cq, x, rv, rs, Vr, RT):
             return rv
     if phase != VAPOUR or rv < 0.0:
-        rl = _root(prm, tp, x, T, P, Vr, True)
+        rl = _root(prm, cp, cq, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:
-        rv = _root(prm, tp, x, T, P, Vr, False)
+        rv = _root(prm, cp, cq, x, T, P, Vr, False)
     if rv < 0.0 and rl < 0.0:
         return np.nan
     if rv < 0.0:
@@ -488,8 +566,8 @@ def density(prm, T, P, x, phase, tp, Vr):
     if abs(rl - rv) <= 1e-9 * rl:
         return rv
     RT = R_GERG * T
-    _, _, Av, adv = _p_dp(prm, tp, x, rv, Vr, RT)
-    _, _, Al, adl = _p_dp(prm, tp, x, rl, Vr, RT)
+    _, _, Av, adv = _p_dp(prm, cp, cq, x, rv, Vr, RT)
+    _, _, Al, adl = _p_dp(prm, cp, cq, x, rl, Vr, RT)
     gv = Av + adv - math.log(1.0 + adv)
     gl = Al + adl - math.log(1.0 + adl)
     return rl if gl < gv else rv
@@ -501,7 +579,10 @@ def state_at(prm, T, P, x, phase, tp):
     Tr, Vr = reducing(prm, x)
     tau = Tr / T
     tau_powers(prm, tau, tp)
-    rho = density(prm, T, P, x, phase, tp, Vr)
+    cp = np.empty(prm[8].size)
+    cq = np.empty(prm[14].size)
+    level0_coefs(prm, tp, x, cp, cq)
+    rho = density(prm, T, P, x, phase, cp, cq, Vr)
     return Tr, Vr, tau, rho, rho * Vr
 
 
@@ -667,13 +748,13 @@ def props(prm, T, P, x, phase):
     dP_drho = RT * (1.0 + 2.0 * ad + add)
     dP_dv = -rho * rho * dP_drho
     cp_ig, h_ig, s_ig = ideal_gas(prm, T, x)
-    xlnx = 0.0
-    for i in range(n):
-        if x[i] > 0.0:
-            xlnx += x[i] * math.log(x[i])
-    s_tot = s_ig - R * xlnx - R * math.log(P / P_REF) + s_res
     cv = cp_ig - R + cv_res
     cp = cv - T * dP_dT * dP_dT / dP_dv
+    s_mix = 0.0
+    for i in range(n):
+        if x[i] > 0.0:
+            s_mix -= R * x[i] * math.log(x[i])
+    s_tot = s_ig + s_mix - R * math.log(P / P_REF) + s_res
     return Z, v, h_ig + h_res, s_tot, cp, cv, dP_dT, dP_dv, h_res, s_res
 
 
@@ -687,15 +768,13 @@ def pip(prm, T, P, x, phase):
     Parameters
     ----------
     prm : tuple
-        Mixture parameters (module docstring).
-    T : float
-        Temperature [K].
-    P : float
-        Pressure [Pa].
+        GERG-2008 parameter tuple of the mixture (layout in the module docstring).
+    T, P : float
+        Temperature [K] and pressure [Pa].
     x : numpy.ndarray
         Mole fractions [-], shape (n,).
     phase : int
-        GIBBS, LIQUID or VAPOUR: which density root.
+        GIBBS, LIQUID or VAPOUR: which density root is labelled.
     """
     tp = np.empty(prm[22].size)
     Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
