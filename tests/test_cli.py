@@ -364,3 +364,28 @@ def test_letdown_prints_the_hydrate_numbers_for_a_wet_gas():
     dry = run("letdown", "--fluid", FLUID, "--p-in", "80 barg", "--t-in", "20 degC", "--p-out", "65 barg",
               "--limit", "-29 degC")
     assert "hydrates at the governing outlet" not in dry.output
+
+
+def test_letdown_on_gerg_2008_names_the_model_its_range_and_which_model_governs():
+    res = run("letdown", "--fluid", "hydrogen=1", "--p-in", "100 bara", "--t-in", "27 degC", "--p-out", "10 bara",
+              "--eos", "GERG2008", "--limit", "-29 degC")
+    assert res.exit_code == 0, res.output
+    assert "GERG-2008 (Kunz and Wagner 2012)" in res.output
+    assert "normal range 90-450 K up to 35 MPa" in res.output
+    assert "GERG2008 (reference-grade) is screened" in res.output
+    assert "liquid" not in res.output.split("findings")[0]   # the outlet is a gas (issue 15 defect)
+
+
+def test_letdown_on_srk_labels_hydrogen_a_gas_and_cautions_towards_gerg():
+    res = run("letdown", "--fluid", "hydrogen=1", "--p-in", "100 bara", "--t-in", "27 degC", "--p-out", "10 bara",
+              "--eos", "SRK")
+    assert res.exit_code in (0, 3), res.output
+    assert "liquid dropout" not in res.output
+    assert "[caution] model validity" in res.output and "GERG2008" in res.output
+
+
+def test_gerg_2008_refuses_a_component_it_does_not_hold_naming_it():
+    res = run("letdown", "--fluid", "methane=0.9,ethylene=0.1", "--p-in", "50 bara", "--t-in", "20 degC",
+              "--p-out", "10 bara", "--eos", "GERG")
+    assert res.exit_code == EXIT_INPUT
+    assert "Ethylene" in res.output and "not among the 21 components of GERG-2008" in res.output

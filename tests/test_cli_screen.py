@@ -262,3 +262,14 @@ def test_template_refuses_to_overwrite_and_needs_a_known_format(tmp_path):
     assert (tmp_path / "t.csv").read_text() == "mine"
     assert run("screen-template", tmp_path / "t.csv", "--force").exit_code == 0
     assert run("screen-template", tmp_path / "t.ods").exit_code == EXIT_INPUT
+
+
+def test_a_row_on_gerg_2008_is_screened_on_it_with_the_cubics_beside_it(tmp_path):
+    row = ["H2-1", "hydrogen letdown", "hydrogen=1", 100, 27, 10, -29, 5, "GERG2008"]
+    src = write_csv(tmp_path / "gerg.csv", [row], header=[*HEADER, "eos"])
+    res = run("screen", src)
+    assert res.exit_code == 0, res.output
+    out = results_csv(tmp_path / "gerg-results.csv")[0]
+    assert out["eos"] == "GERG2008" and out["governing model"] == "GERG2008"
+    assert out["outcome"] == "pass"
+    assert float(out["screened outlet [degC]"]) > 27.0   # hydrogen warms on letdown near room temperature

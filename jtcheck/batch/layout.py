@@ -76,7 +76,7 @@ MASS_FLOW_UNIT = "kg/s"
 #: Kinds of letdown (the case register's CaseKind values).
 KINDS = ("control_valve", "relief_valve", "blowdown_valve", "choke", "other")
 #: Equations of state a row may choose.
-EOS_CHOICES = ("PR", "SRK")
+EOS_CHOICES = ("PR", "SRK", "GERG2008")
 #: Words read as yes / no in the ``water saturated`` column (any letter case).
 YES_WORDS = ("yes", "y", "true", "1", "x")
 NO_WORDS = ("", "no", "n", "false", "0")
@@ -155,8 +155,10 @@ COLUMNS: tuple[Column, ...] = (
            "A fluid name from the case register's fluid library, or an inline composition "
            "'methane=0.9,ethane=0.1' (mole fractions or mole percent; quote it in a comma-delimited CSV)."),
     Column("eos", "eos", CHOICE, False, "PR", "",
-           "Equation of state: PR or SRK. Empty: PR for an inline composition, the library fluid's own "
-           "equation of state for a named fluid. The other of the two is compared side by side.", EOS_CHOICES),
+           "Equation of state: PR, SRK or GERG2008 (GERG-2008, Kunz and Wagner 2012: its 21 components only). "
+           "Empty: PR for an inline composition, the library fluid's own equation of state for a named fluid. "
+           "With PR or SRK the other of the two is compared side by side and the colder governs; with GERG2008 "
+           "it governs and PR and SRK are shown beside it.", EOS_CHOICES),
     Column("inlet_pressure", "inlet pressure", PRESSURE, True, "", "barg", "Normal inlet pressure."),
     Column("inlet_temperature", "inlet temperature", TEMPERATURE, True, "", "degC", "Normal inlet temperature."),
     Column("outlet_pressure", "outlet pressure", PRESSURE, True, "", "barg",

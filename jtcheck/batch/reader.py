@@ -593,7 +593,7 @@ def _choice(col: Column, text: str) -> str:
                              f"register (web form or JSON API); allowed here: {', '.join(KINDS)}")
         raise _CellError(f"{text!r} is not a kind of letdown; allowed: {', '.join(KINDS)}")
     word = text.strip().upper().replace("-", "").replace(" ", "")
-    word = {"PENGROBINSON": "PR", "SOAVEREDLICHKWONG": "SRK"}.get(word, word)
+    word = {"PENGROBINSON": "PR", "SOAVEREDLICHKWONG": "SRK", "GERG": "GERG2008"}.get(word, word)
     if word in EOS_CHOICES:
         return word
     raise _CellError(f"{text!r} is not an equation of state for a batch; allowed: {', '.join(EOS_CHOICES)}")

@@ -40,6 +40,7 @@ def template_rows() -> list[dict[str, Any]]:
 
     t0 = 273.15
     compositions = {f["name"]: f["composition"] for f in FLUIDS}
+    models = {f["name"]: f.get("eos", "PR") for f in FLUIDS}
     mdmt_k = {m["name"]: m["min_metal_temperature_k"] for m in SEED_MATERIALS}
 
     def barg(pa: float | None) -> Any:
@@ -57,7 +58,7 @@ def template_rows() -> list[dict[str, Any]]:
             "service": f"{f['service']} (invented; {fluid_name})",
             "kind": str(getattr(f["kind"], "value", f["kind"])),
             "fluid": _composition_text(compositions[fluid_name]),
-            "eos": "PR",
+            "eos": models[fluid_name],
             "inlet_pressure": barg(f["inlet_pressure_pa"]),
             "inlet_temperature": degc(f["inlet_temperature_k"]),
             "outlet_pressure": barg(f["outlet_pressure_pa"]),

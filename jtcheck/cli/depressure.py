@@ -98,7 +98,7 @@ def print_result(r) -> None:
 
 @click.command("depressure")
 @click.option("--fluid", "fluid_text", required=True, help='Composition, e.g. "methane=0.9, ethane=0.1".')
-@click.option("--eos", default="PR", show_default=True, help="Equation of state (PR, SRK, RK, VDW).")
+@click.option("--eos", default="PR", show_default=True, help="Equation of state (PR, SRK, RK, VDW, GERG2008).")
 @click.option("--p0", required=True, help='Initial pressure, e.g. "100 bara".')
 @click.option("--t0", required=True, help='Initial temperature, e.g. "30 degC".')
 @click.option("--orientation", type=click.Choice(["vertical", "horizontal"]), default="vertical", show_default=True)

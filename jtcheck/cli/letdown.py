@@ -393,10 +393,17 @@ def json_payload(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid, screeni
 def print_table(fluid: Fluid, screening: Screening, result: LetdownResult, inputs: LetdownInputs,
                 units: DisplayUnits) -> None:
     """Fluid and model, then inlet and outlet side by side, then the temperature change."""
+    from jtcheck.screening.screen import governs_alone
+
     comp = ", ".join(f"{n} {z:.4g}" for n, z in zip(fluid.names, fluid.zs, strict=True))
     click.echo(f"fluid      {comp}")
     click.echo(f"model      {fluid.eos.long_name}; kij: {fluid.kij_basis}")
-    if len(screening.models) > 1:
+    if "eos_range" in result.basis:
+        click.echo(f"range      {result.basis['eos_range']}")
+    if len(screening.models) > 1 and governs_alone(fluid):
+        click.echo(f"compared   {', '.join(screening.models)} side by side; {fluid.eos.value} (reference-grade) is "
+                   "screened, the others show the spread")
+    elif len(screening.models) > 1:
         click.echo(f"compared   {', '.join(screening.models)} side by side; the colder outlet is screened")
     click.echo("")
     click.echo(f"{'':18s}{'inlet':>16s}{'outlet':>16s}")
@@ -585,7 +592,9 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
 @click.option("--p-in", required=True, help='Inlet pressure with unit, e.g. "100 bara", "1450 psig".')
 @click.option("--t-in", required=True, help='Inlet temperature with unit, e.g. "40 degC", "313.15 K".')
 @click.option("--p-out", required=True, help='Outlet pressure with unit, e.g. "10 barg".')
-@click.option("--eos", default="PR", show_default=True, help="Equation of state: PR, SRK, RK or VDW.")
+@click.option("--eos", default="PR", show_default=True,
+              help="Equation of state: PR, SRK, RK, VDW or GERG2008 (GERG-2008, Kunz and Wagner 2012; its 21 "
+                   "components, 60-700 K up to 70 MPa).")
 @click.option("--kij", default="table", show_default=True,
               help="Binary interaction parameters: 'table' (published values, 0 where none) or 'zero'.")
 @click.option("--p-atm", default=None, help='Atmospheric pressure for gauge units (default "1.01325 bar").')

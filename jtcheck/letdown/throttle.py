@@ -12,7 +12,7 @@ plus residual enthalpy.
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 
 import numpy as np
 
@@ -88,7 +88,7 @@ class LetdownResult:
         Outlet vapour mole fraction [-].
     phase : str
         Outlet phase: "vapour", "liquid", "two-phase", "supercritical" (a pure component above its
-        critical pressure, counted as vapour), or "unknown" if not converged.
+        critical pressure and temperature, counted as vapour), or "unknown" if not converged.
     inlet_phase : str
     inlet_vapor_fraction : float
     h : float
@@ -192,7 +192,22 @@ def _state_warnings(fluid: Fluid, p_out, t_out, t_in) -> list[list[str]]:
                 f"outlet {t_out[k]:.1f} K is below the range of the ideal-gas heat-capacity data of {c.name} "
                 f"({c.cp_tmin_k:.0f} K): extrapolated"))
     add(t_out > t_in + 1e-6, lambda k: "the fluid warms on letdown (inverse Joule-Thomson effect)")
+    if not fluid.eos.is_cubic:
+        for k in np.flatnonzero(finite):
+            try:
+                notes[k] += fluid.check_state(t_out[k], p_out[k if p_out.size > 1 else 0], "outlet", "t_out")
+            except InputError:
+                pass   # outside the extended range: the case is marked not converged by the caller
     return notes
+
+
+def _outlet_refused(fluid: Fluid, p_out: float, t_out: float) -> str:
+    """Why an outlet state cannot be given (outside GERG-2008's extended range), or ""."""
+    try:
+        fluid.check_state(t_out, p_out, "outlet", "t_out")
+    except InputError as exc:
+        return f"not screened: {exc.message}"
+    return ""
 
 
 def letdown(fluid: Fluid, p_in, t_in, p_out) -> LetdownResult | LetdownBatch:
@@ -222,6 +237,7 @@ def letdown(fluid: Fluid, p_in, t_in, p_out) -> LetdownResult | LetdownBatch:
     check_fluid(fluid)
     scalar = all(np.ndim(v) == 0 for v in (p_in, t_in, p_out))
     p_in_b, t_in_b, p_out_b = check_letdown_inputs(p_in, t_in, p_out)
+    fluid.check_state(t_in_b, p_in_b, "inlet", "t_in")   # GERG-2008: refuse outside its extended range
     if scalar:
         return _letdown_one(fluid, float(p_in_b), float(t_in_b), float(p_out_b))
     return _letdown_many(fluid, p_in_b, t_in_b, p_out_b)
@@ -236,10 +252,14 @@ def _letdown_one(fluid: Fluid, p_in: float, t_in: float, p_out: float) -> Letdow
                              math.nan, (), (), False, f"inlet flash failed: {inlet.message}",
                              tuple(fluid.warnings), basis, ids)
     out = fluid.flash_ph(p_out, inlet.h, t_guess_k=t_in)
-    notes = list(fluid.warnings)
+    notes = list(fluid.warnings) + fluid.check_state(t_in, p_in, "inlet")
     if out.converged:
         notes += _state_warnings(fluid, p_out, out.T, t_in)[0]
         msg = out.message
+        refused = _outlet_refused(fluid, p_out, out.T)
+        if refused:
+            out = replace(out, converged=False, phase="unknown")
+            msg = refused
     else:
         msg = f"outlet flash failed: {out.message} (residual {out.residual:.3g} J/mol)"
     return LetdownResult(
@@ -266,16 +286,19 @@ def _letdown_many(fluid: Fluid, p_in: np.ndarray, t_in: np.ndarray, p_out: np.nd
     ok_in = np.isin(st_in, (ST_SINGLE, ST_TWO, ST_PURE_SAT))
     ok_out = np.isin(st_out, (ST_SINGLE, ST_TWO, ST_PURE_SAT))
     conv = ok_in & ok_out
+    if not fluid.eos.is_cubic:   # an outlet outside GERG-2008's extended range is not screened
+        conv = conv & np.array([not (c and _outlet_refused(fluid, p, t)) for c, p, t in zip(conv, po, T_out,
+                                                                                            strict=True)])
     T = np.where(conv, T_out, np.nan)
     beta = np.where(conv, b_out, np.nan)
     two = conv & (beta > 0.0) & (beta < 1.0)
     phase = np.where(~conv, "unknown", np.where(two, "two-phase", np.where(beta >= 0.5, "vapour", "liquid")))
-    sc = conv & ~two & pure_supercritical(fluid.mixture, fluid.zs, po)
+    sc = conv & ~two & pure_supercritical(fluid.mixture, fluid.zs, po, T)
     single_in = (b_in <= 0.0) | (b_in >= 1.0)
-    b_in = np.where(ok_in & single_in & pure_supercritical(fluid.mixture, fluid.zs, pi), 1.0, b_in)
+    b_in = np.where(ok_in & single_in & pure_supercritical(fluid.mixture, fluid.zs, pi, ti), 1.0, b_in)
     phase = np.where(sc, "supercritical", phase)
     beta = np.where(sc, 1.0, beta)
-    base = tuple(fluid.warnings)
+    base = tuple(fluid.warnings) + tuple(fluid.check_state(ti, pi, "inlet"))
     per_case = _state_warnings(fluid, po, T, ti)
     warns = []
     for k in range(pi.size):

@@ -45,7 +45,7 @@ UNITS = (
     ("CO2 export", "Captured CO2 compression and export (invented)."),
 )
 
-#: Invented compositions [mole fraction].
+#: Invented compositions [mole fraction], with the equation of state of each ("eos", PR when not given).
 FLUIDS: tuple[dict[str, Any], ...] = (
     {"name": "Kestrel pipeline gas", "composition": {
         "methane": 0.884, "ethane": 0.052, "propane": 0.019, "isobutane": 0.004, "n-butane": 0.005,
@@ -53,7 +53,8 @@ FLUIDS: tuple[dict[str, Any], ...] = (
     {"name": "Kestrel separator gas", "composition": {
         "methane": 0.800, "ethane": 0.080, "propane": 0.050, "isobutane": 0.010, "n-butane": 0.015,
         "n-pentane": 0.005, "n-hexane": 0.003, "nitrogen": 0.012, "carbon dioxide": 0.025}},
-    {"name": "Kestrel fuel gas", "composition": {
+    # screened on GERG-2008 (Kunz and Wagner 2012), the reference-grade model, with PR and SRK beside it
+    {"name": "Kestrel fuel gas", "eos": "GERG2008", "composition": {
         "methane": 0.930, "ethane": 0.040, "propane": 0.005, "nitrogen": 0.015, "carbon dioxide": 0.010}},
     {"name": "Kestrel LPG (propane/butane)", "composition": {
         "ethane": 0.020, "propane": 0.600, "isobutane": 0.130, "n-butane": 0.250}},
@@ -191,7 +192,8 @@ def load_demo(session: Session, user: User | None = None) -> Site:
         site = add_site(session, owner, SITE_NAME, SITE_DESCRIPTION)
         site.default_margin_k, site.default_margin_basis = SITE_MARGIN_K, SITE_MARGIN_BASIS
         units = {name: add_unit(session, owner, site.id, name, text) for name, text in UNITS}
-        fluids = {f["name"]: add_fluid(session, owner, f["name"], f["composition"], "PR", "table", DEMO_NOTE)
+        fluids = {f["name"]: add_fluid(session, owner, f["name"], f["composition"], f.get("eos", "PR"), "table",
+                                    DEMO_NOTE)
                   for f in FLUIDS}
         for unit_name, fluid_name, material_name, fields in CASES:
             material = session.scalar(select(Material).where(Material.name == material_name))

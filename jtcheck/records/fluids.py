@@ -31,7 +31,12 @@ def _checked_fluid(composition: Any, eos: Any, kij_mode: KijMode) -> Fluid:
     """Build the core's Fluid: it checks the composition and the EOS (InputError naming the field)."""
     if composition is None:
         raise InputError("composition", "a composition is required (component names with mole fractions)")
-    return Fluid(composition, eos=eos, kij=kij_mode.fluid_kij())
+    try:
+        return Fluid(composition, eos=eos, kij=kij_mode.fluid_kij())
+    except InputError as exc:
+        if exc.field == "kij":   # the register's name of the kij choice
+            raise InputError("kij_mode", exc.message) from None
+        raise
 
 
 def create_fluid(session: Session, user: User, name: str, composition: Any, eos: str = "PR",

@@ -128,7 +128,8 @@ class KijMode(enum.StrEnum):
     ZERO = "zero"     # every kij = 0, chosen by the user
 
     def fluid_kij(self) -> int | None:
-        """The ``kij`` argument of :class:`jtcheck.Fluid` for this mode."""
+        """The ``kij`` argument of :class:`jtcheck.Fluid` for this mode (GERG-2008 takes only the table mode,
+        None: a fluid with GERG-2008 and kij "zero" is refused by :class:`jtcheck.Fluid`)."""
         return None if self is KijMode.TABLE else 0
 
 
@@ -208,7 +209,7 @@ class FluidRecord(Base):
     """A named fluid: composition (component id, mole fraction) pairs, equation of state and kij set."""
 
     __tablename__ = "fluids"
-    __table_args__ = (CheckConstraint("eos IN ('PR', 'SRK', 'RK', 'VDW')", name="eos"),)
+    __table_args__ = (CheckConstraint("eos IN ('PR', 'SRK', 'RK', 'VDW', 'GERG2008')", name="eos"),)
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(200), unique=True)

@@ -32,6 +32,7 @@ from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, sort_f
 from jtcheck.screening.hydrates import Inhibitor, assess_hydrates
 from jtcheck.screening.phase_hazards import icing, inverse_joule_thomson
 from jtcheck.screening.screen import (
+    _CAUTION_WARNINGS,
     _COVERED_WARNINGS,
     CONDITION_MAX_P,
     CONDITION_MIN_T,
@@ -46,6 +47,7 @@ from jtcheck.screening.screen import (
     _with_spread,
     _worst_of,
     credible_conditions,
+    governs_alone,
     hydrate_not_applying,
     model_fluids,
     screen_letdown,
@@ -379,7 +381,7 @@ class _GroupRun:
 
     models: list[Fluid]
     t: np.ndarray            # (models, points) outlet temperatures [K]
-    t_min: np.ndarray        # colder model per point [K]
+    t_min: np.ndarray        # screened outlet per point (the colder model; the case model when GERG-2008) [K]
     phase: np.ndarray        # case model's outlet phase per point
     beta: np.ndarray         # case model's vapour fraction per point
     warnings: tuple[tuple[str, ...], ...]   # case model's letdown warnings per point
@@ -414,7 +416,7 @@ def _run_group(fluid: Fluid, models: list[Fluid], pts: _Points) -> _GroupRun:
     conv = np.vstack([np.asarray(r.converged, bool) for r in runs]).all(axis=0)
     single = np.vstack([np.isin(r.phase, _VAPOUR_PHASES) for r in runs]).all(axis=0)
     with np.errstate(invalid="ignore"):
-        t_min = t.min(axis=0)
+        t_min = t[0].copy() if governs_alone(models[0]) else t.min(axis=0)   # the screened outlet per point
         fallback = ~conv | ~single | ~np.isfinite(t_min)
         # every model's outlet clear of its own envelope
         for k, m in enumerate(models):
@@ -511,7 +513,7 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
         s, n, c = int(starts[r]), int(n_pts[r]), int(coldest[r])
         names = [_CONDITION_NAMES[kinds[p]] for p in range(s, s + n)]
         temps = t_all[c]
-        gov = min(range(len(models)), key=temps.__getitem__)
+        gov = 0 if governs_alone(models[0]) else min(range(len(models)), key=temps.__getitem__)
         spread = None
         if len(models) > 1:
             cond = Condition(names[c - s], float(pts.p_in[c]), t_in[c], float(pts.p_out[c]))
@@ -542,7 +544,8 @@ def _batch_rows(cases: Sequence[BatchCase], rows: np.ndarray, pts: _Points, star
         findings.append(hydrates.get(r) or dry)
         for text, where in validity.items():
             suffix = "" if len(where) == n else f" ({', '.join(where)})"
-            findings.append(Finding(Topic.MODEL_VALIDITY, Severity.INFORMATION, text + suffix, {}, "model validity"))
+            sev = Severity.CAUTION if any(c in text for c in _CAUTION_WARNINGS) else Severity.INFORMATION
+            findings.append(Finding(Topic.MODEL_VALIDITY, sev, text + suffix, {}, "model validity"))
         if spread is not None:
             findings.append(spread)
         limit = case.limits.governing_k

@@ -18,7 +18,7 @@ Model
 * Outlet: unknowns T and s (mol solid per mol feed); vapour y = (z - s e_CO2)/(1 - s);
   (a) f_CO2,vapour(T, p, y) = f_s(T, p);  (b) (1 - s) h_v(T, p, y) + s h_s(T, p) = h_in.
 
-The vapour enthalpy, fugacity and volume come from the fluid's cubic EOS, with the Peneloux shift
+The vapour enthalpy, fugacity and volume come from the fluid's EOS (cubic or GERG-2008), with the Peneloux shift
 applied exactly as :class:`jtcheck.thermo.fluid.Fluid` applies it (h - p sum y_i c_i, v - sum y_i c_i,
 ln phi_i - c_i p / (R T)) when the fluid has volume translation on; the inlet enthalpy of a letdown
 (``LetdownResult.h``) is in the same convention.
@@ -42,7 +42,7 @@ from jtcheck.thermo import flash as _flash
 from jtcheck.thermo.components import find_component
 from jtcheck.thermo.eos import R
 from jtcheck.thermo.fluid import Fluid
-from jtcheck.thermo.models.cubic.properties import ln_phi, phase_properties
+from jtcheck.thermo.states import ln_phi, model_state
 
 __all__ = [
     "CO2_SOLID_DENSITY_KG_PER_M3",
@@ -240,14 +240,15 @@ def _shift(fluid: Fluid) -> np.ndarray:
 def _vapour_state(fluid: Fluid, t, p, x):
     """(ln phi [-], v [m^3/mol], h [J/mol]) of the vapour root, translated as the fluid translates.
 
-    Cubic EOS of the fluid (Michelsen and Mollerup 2007, ch. 3, via :mod:`jtcheck.thermo.models.cubic.properties`);
-    Peneloux translation: v - x.c, h - p x.c, ln phi_i - c_i p/(R T).
+    The fluid's model (a cubic, Michelsen and Mollerup 2007, ch. 3, or GERG-2008, Kunz and Wagner 2012), through
+    the model interface (:mod:`jtcheck.thermo.states`); Peneloux translation (cubic only): v - x.c, h - p x.c,
+    ln phi_i - c_i p/(R T).
     """
     t = np.asarray(t, float)
     p = np.asarray(p, float)
     x = np.asarray(x, float)
     c = _shift(fluid)
-    props = phase_properties(fluid.mixture, t, p, x, "vapour")
+    props = model_state(fluid.mixture, t, p, x, "vapour")
     lnphi, _ = ln_phi(fluid.mixture, t, p, x, "vapour")
     xc = np.sum(x * c, axis=-1)
     lnphi = lnphi - c * (p / (R * t))[..., None]
@@ -259,7 +260,7 @@ def sublimation_enthalpy_j_per_mol(t_k, fluid_for_vapour_volume: Fluid | None = 
 
     dh_sub = T (v_vap - v_s) dp_sub/dT (Clapeyron 1834, exact for a first-order transition), with
     p_sub(T) and its slope from Span and Wagner, J. Phys. Chem. Ref. Data 25 (1996) 1509, eq. (3.12),
-    v_vap the saturated-vapour volume of pure CO2 at (T, p_sub) from the cubic EOS (vapour root,
+    v_vap the saturated-vapour volume of pure CO2 at (T, p_sub) from the fluid's EOS (vapour root,
     Peneloux-shifted if the fluid applies the shift) and v_s the solid molar volume from a density of
     1562 kg/m^3 (:data:`CO2_SOLID_DENSITY_KG_PER_M3`).
 

@@ -78,6 +78,16 @@ MODEL_SPREAD_CAUTION_K = 3.0
 REMEDIES = ("letdown", "relief")
 #: Letdown warnings that a finding already covers (not repeated as model-validity notes).
 _COVERED_WARNINGS = ("the fluid warms on letdown", "CO2-rich fluid let down below")
+#: Model-validity warnings raised to a caution: a state outside GERG-2008's normal range, and a hydrogen- or
+#: helium-rich fluid screened on a cubic (which errs by kelvins there, issue 15).
+_CAUTION_WARNINGS = ("outside the normal range of GERG-2008", "screen this fluid with GERG2008")
+
+
+def governs_alone(fluid: Fluid) -> bool:
+    """Whether the case's model alone decides the screened outlet: GERG-2008, the reference-grade model
+    (Kunz and Wagner 2012), governs, and the cubic models beside it show the spread.  With a cubic model
+    the colder of the models compared governs."""
+    return fluid.eos is EOS.GERG2008
 
 
 @dataclass(frozen=True)
@@ -224,7 +234,8 @@ class Screening:
 
 
 def model_fluids(fluid: Fluid, compare: bool = True) -> list[Fluid]:
-    """The case's fluid, then the same fluid under the other of PR and SRK (when ``compare``)."""
+    """The case's fluid, then the same fluid under the other of PR and SRK, or under both when the case's
+    model is GERG-2008 (when ``compare``)."""
     out = [fluid]
     if compare:
         out += [fluid.with_eos(e) for e in (EOS.PR, EOS.SRK) if e is not fluid.eos]
@@ -264,6 +275,12 @@ def _screen_condition(models: list[Fluid], cond: Condition) -> ConditionScreen:
         temps[eos] = t
     if problems:
         return ConditionScreen(cond, results, None, "", None, "not converged: " + "; ".join(problems))
+    if governs_alone(models[0]):
+        gov = models[0].eos.value
+        others = [e for e in temps if e != gov]
+        why = (f"screened on {gov}, the reference-grade model (GERG-2008, Kunz and Wagner 2012)"
+               + (f"; {', '.join(others)} beside it as the model spread" if others else ""))
+        return ConditionScreen(cond, results, temps[gov], gov, solids_by_model.get(gov), why)
     gov = min(temps, key=temps.__getitem__)
     return ConditionScreen(cond, results, temps[gov], gov, solids_by_model.get(gov),
                            f"screened on {gov} (the colder of {', '.join(temps)})")
@@ -379,7 +396,9 @@ _ACT_ON = ("can freeze", "can form", "caution", "poor")
 
 def validity_severity(text: str) -> Severity:
     """Caution for a model-validity note that names a hazard or a model to distrust; information otherwise."""
-    return Severity.CAUTION if any(w in text.lower() for w in _ACT_ON) else Severity.INFORMATION
+    if any(c in text for c in _CAUTION_WARNINGS) or any(w in text.lower() for w in _ACT_ON):
+        return Severity.CAUTION
+    return Severity.INFORMATION
 
 
 def _with_t(r: LetdownResult, t: float) -> LetdownResult:
@@ -512,6 +531,14 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     temps = {eos: r.t_out for eos, r in cs.results.items() if r is not None and r.converged}
     spread = max(temps.values()) - min(temps.values())
     listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
+    if governs_alone(models[0]):
+        return Finding(Topic.MODEL_SPREAD, Severity.INFORMATION,
+                       f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on "
+                       f"{cs.governing_model}, the reference-grade model: the cubic models beside it err by kelvins "
+                       "on high-pressure letdowns (most for hydrogen and helium), so their spread is shown and not "
+                       "added to the margin.",
+                       {"t_out_k_by_model": temps, "spread_k": spread, "governing_alone": True},
+                       "GERG-2008 governs; PR and SRK beside it", cs.condition.name)
     sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
     screened = f"screened on the colder ({cs.governing_model})"
     if cs.solids is not None:   # dry ice: the screened outlet is on the sublimation line, not either fluid-only value
@@ -523,8 +550,9 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
 
 
 def _with_spread(limits: ColdLimits, spread: Finding | None) -> ColdLimits:
-    """``limits`` with the model spread at the governing condition as a margin term (none with one model)."""
-    if spread is None:
+    """``limits`` with the model spread at the governing condition as a margin term (none with one model, and
+    none when GERG-2008 governs alone: the cubic models' spread is their error, not its uncertainty)."""
+    if spread is None or spread.numbers.get("governing_alone"):
         return limits
     return replace(limits, model_spread_k=float(spread.numbers["spread_k"]), spread_condition=spread.condition)
 
@@ -627,11 +655,18 @@ def screen_letdown(fluid: Fluid, conditions: Sequence[Condition], options: Scree
     Screening
         Outcome, findings and answers.  A condition that did not converge makes the outcome
         "not screened" (never "pass").
+
+    Raises
+    ------
+    jtcheck.errors.InputError
+        On GERG-2008, for a condition whose inlet lies outside its extended range (60-700 K, up to 70 MPa).
     """
     if not isinstance(fluid, Fluid):
         raise InputError("fluid", f"expected a jtcheck Fluid, got {type(fluid).__name__}")
     if not conditions:
         raise InputError("conditions", "at least one credible condition is needed")
+    for c in conditions:   # GERG-2008: an inlet outside its extended range is refused, naming the condition
+        fluid.check_state(c.t_in_k, c.p_in_pa, f"inlet of the {c.name} condition", "t_in")
     models = model_fluids(fluid, options.compare_models)
     conds = list(conditions)
     sweep_data: dict[str, Any] | None = None

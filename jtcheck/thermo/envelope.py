@@ -14,7 +14,9 @@ in the unknowns X = (ln K_1, .., ln K_n, ln T, ln P), one of which (X_s) is spec
 branch the incipient phase is a liquid (the feed is the vapour, vapour fraction 1); on the bubble
 branch it is a vapour (the feed is the liquid, vapour fraction 0).  The same equations hold on both
 branches: at the critical point every ln K_i passes through zero and changes sign.  Each phase takes
-the root of the cubic with the lower Gibbs energy, the stable one.
+the density root with the lower Gibbs energy, the stable one.  The model is any family of
+:mod:`jtcheck.thermo.models` (a cubic or GERG-2008): ln phi and its derivatives come through the model
+interface (:mod:`jtcheck.thermo.states`).
 
 Note on K: here K_i = w_i / z_i (incipient over feed), so that on the dew branch K_i is x_i/y_i,
 the inverse of the usual y/x.  Every result says which phase is incipient.
@@ -35,7 +37,11 @@ the inverse of the usual y/x.  Every result says which phase is incipient.
   other side of the critical point.  The critical point is then found by interpolating (T, P) at
   ln K_i = 0 with a cubic Hermite polynomial through the two points around it, and refined by the
   criticality conditions of Heidemann and Khalil, AIChE J. 26 (1980) 769-779
-  (doi:10.1002/aic.690260510), solved by Newton in (ln T, ln V).
+  (doi:10.1002/aic.690260510), solved by Newton in (ln T, ln V) (cubic models; for GERG-2008 the
+  interpolated point is reported, and ``critical_method`` says so).
+- Where the tracer stops: at ``p_start_pa`` (1 bar by default) on the bubble branch; or, with
+  ``converged=False`` and the reason, when a step fails, the points run out or the curve does not
+  close below 1000 bar.
 """
 from __future__ import annotations
 
@@ -47,8 +53,9 @@ import numpy as np
 from jtcheck.errors import InputError
 from jtcheck.thermo.eos import R
 from jtcheck.thermo.models.cubic.mixture import CubicMixture
-from jtcheck.thermo.models.cubic.properties import fugacity_derivatives, ln_phi, sqrt_a
+from jtcheck.thermo.models.cubic.properties import sqrt_a
 from jtcheck.thermo.stability import stability_test, wilson_k
+from jtcheck.thermo.states import Mixture, fugacity_derivatives, ln_phi
 
 #: Highest pressure the envelope is followed to [Pa]; an envelope still open there is reported as such.
 P_MAX_PA = 1000e5
@@ -57,6 +64,9 @@ T_MIN_K = 10.0
 T_MAX_K = 3000.0
 #: Convergence tolerance on the residuals of the saturation equations [-].
 TOL = 1e-10
+#: Tolerance for models other than the cubic (GERG-2008): its density root at (T, P), solved iteratively,
+#: leaves ln phi of a liquid with a round-off of a few 1e-9 (measured here), so 1e-10 cannot be met.
+TOL_MULTIPARAMETER = 1e-8
 #: Largest |ln K| below which a solution is taken as the trivial one (w = z) [-].
 TRIVIAL_LNK = 1e-5
 #: |ln K| below which the continuation is in the critical region and steps in ln K [-].
@@ -165,7 +175,7 @@ class PhaseEnvelope:
 # input checks
 # ---------------------------------------------------------------------------------------------
 
-def _check_feed(mix: CubicMixture, z) -> np.ndarray:
+def _check_feed(mix: Mixture, z) -> np.ndarray:
     zs = np.asarray(z, dtype=float).ravel()
     if zs.size != mix.n:
         raise InputError("z", f"needs {mix.n} mole fractions (one per component of the mixture), "
@@ -198,7 +208,7 @@ def _check_positive(name: str, value, unit: str, upper: float | None = None) -> 
 # the saturation equations
 # ---------------------------------------------------------------------------------------------
 
-def _equations(mix: CubicMixture, z: np.ndarray, X: np.ndarray):
+def _equations(mix: Mixture, z: np.ndarray, X: np.ndarray):
     """Residuals f (n+1), Jacobian (n+1, n+2) in X = (ln K, ln T, ln P), incipient composition."""
     n = z.size
     T = math.exp(X[n])
@@ -238,7 +248,7 @@ class _Newton:
     reason: str
 
 
-def _newton(mix: CubicMixture, z: np.ndarray, X0: np.ndarray, spec: int,
+def _newton(mix: Mixture, z: np.ndarray, X0: np.ndarray, spec: int,
             max_iter: int = _NEWTON_ITERATIONS) -> _Newton:
     """Newton on the saturation equations with X[spec] held at its value in ``X0``."""
     n = z.size
@@ -249,7 +259,7 @@ def _newton(mix: CubicMixture, z: np.ndarray, X0: np.ndarray, spec: int,
         resid = float(np.max(np.abs(F)))
         if not math.isfinite(resid):
             return _Newton(X, False, it, resid, None, "non-finite residual")
-        if resid < TOL:
+        if resid < (TOL if isinstance(mix, CubicMixture) else TOL_MULTIPARAMETER):
             return _Newton(X, True, it, resid, J, "")
         try:
             dX = np.linalg.solve(_full(J, spec), -np.append(F, 0.0))
@@ -285,7 +295,7 @@ def _tangent(J: np.ndarray, spec: int) -> np.ndarray:
 # saturation points
 # ---------------------------------------------------------------------------------------------
 
-def _wilson_t(mix: CubicMixture, z: np.ndarray, p_pa: float, kind: str) -> float:
+def _wilson_t(mix: Mixture, z: np.ndarray, p_pa: float, kind: str) -> float:
     """Temperature where the Wilson K-values put the feed at its bubble or dew point [K]."""
     sign = 1.0 if kind == "bubble" else -1.0
     mask = z > 0.0
@@ -310,7 +320,7 @@ def _wilson_t(mix: CubicMixture, z: np.ndarray, p_pa: float, kind: str) -> float
     return 0.5 * (lo + hi)
 
 
-def _wilson_p(mix: CubicMixture, z: np.ndarray, t_k: float, kind: str) -> float:
+def _wilson_p(mix: Mixture, z: np.ndarray, t_k: float, kind: str) -> float:
     """Pressure where the Wilson K-values put the feed at its bubble or dew point [Pa]."""
     K1 = wilson_k(mix, t_k, 1.0)          # K at 1 Pa; K(P) = K1 / P
     if kind == "bubble":
@@ -327,7 +337,7 @@ class _Attempt:
     reason: str
 
 
-def _solve_saturation(mix: CubicMixture, zs: np.ndarray, X0: np.ndarray, spec: int, free: int) -> _Attempt:
+def _solve_saturation(mix: Mixture, zs: np.ndarray, X0: np.ndarray, spec: int, free: int) -> _Attempt:
     """Successive substitution (one Newton step on the free variable per pass), then full Newton."""
     n = zs.size
     iT, iP = n, n + 1
@@ -369,7 +379,7 @@ def _solve_saturation(mix: CubicMixture, zs: np.ndarray, X0: np.ndarray, spec: i
     return _Attempt(res.X, res.converged, its, res.residual, res.reason)
 
 
-def _verify(mix: CubicMixture, zs: np.ndarray, X: np.ndarray, kind: str) -> str:
+def _verify(mix: Mixture, zs: np.ndarray, X: np.ndarray, kind: str) -> str:
     """Empty string if X is a true saturation point of this kind, else what is wrong with it.
 
     A solution of the saturation equations is a stationary point of the tangent-plane distance
@@ -389,7 +399,7 @@ def _verify(mix: CubicMixture, zs: np.ndarray, X: np.ndarray, kind: str) -> str:
     return ""
 
 
-def _scan_start(mix: CubicMixture, zs: np.ndarray, kind: str, spec: int, free: int, X_spec: float):
+def _scan_start(mix: Mixture, zs: np.ndarray, kind: str, spec: int, free: int, X_spec: float):
     """Start for Newton from a stability scan along the free variable, or a reason why there is none.
 
     The free variable (ln T at given P, ln P at given T) is scanned on a grid with the stability test;
@@ -459,7 +469,7 @@ def _scan_start(mix: CubicMixture, zs: np.ndarray, kind: str, spec: int, free: i
     return X0, ""
 
 
-def _saturation(mix: CubicMixture, z, kind: str, spec_name: str, value: float,
+def _saturation(mix: Mixture, z, kind: str, spec_name: str, value: float,
                 guess: float | None) -> SaturationPoint:
     if kind not in ("bubble", "dew"):
         raise InputError("kind", f"must be 'bubble' or 'dew', got {kind!r}")
@@ -523,7 +533,7 @@ def _saturation(mix: CubicMixture, z, kind: str, spec_name: str, value: float,
     return result(first, its, False, f"no {kind} point found at this {what}: {why}")
 
 
-def bubble_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = None) -> SaturationPoint:
+def bubble_point_t(mix: Mixture, z, p_pa: float, t_guess_k: float | None = None) -> SaturationPoint:
     """Bubble-point temperature of feed ``z`` at pressure ``p_pa``.
 
     Michelsen, Fluid Phase Equilib. 4 (1980) 1-10; Michelsen and Mollerup (2007), ch. 12:
@@ -532,8 +542,8 @@ def bubble_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = 
 
     Parameters
     ----------
-    mix : CubicMixture
-        Mixture parameters.
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family).
     z : array_like
         Feed mole fractions [-], summing to 1.
     p_pa : float
@@ -550,7 +560,7 @@ def bubble_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = 
     return _saturation(mix, z, "bubble", "P", p_pa, t_guess_k)
 
 
-def dew_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = None) -> SaturationPoint:
+def dew_point_t(mix: Mixture, z, p_pa: float, t_guess_k: float | None = None) -> SaturationPoint:
     """Dew-point temperature of feed ``z`` at pressure ``p_pa``.
 
     Same method as :func:`bubble_point_t`.  Where the dew curve is retrograde two dew temperatures
@@ -559,8 +569,8 @@ def dew_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = Non
 
     Parameters
     ----------
-    mix : CubicMixture
-        Mixture parameters.
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family).
     z : array_like
         Feed mole fractions [-], summing to 1.
     p_pa : float
@@ -577,15 +587,15 @@ def dew_point_t(mix: CubicMixture, z, p_pa: float, t_guess_k: float | None = Non
     return _saturation(mix, z, "dew", "P", p_pa, t_guess_k)
 
 
-def bubble_point_p(mix: CubicMixture, z, t_k: float, p_guess_pa: float | None = None) -> SaturationPoint:
+def bubble_point_p(mix: Mixture, z, t_k: float, p_guess_pa: float | None = None) -> SaturationPoint:
     """Bubble-point pressure of feed ``z`` at temperature ``t_k``.
 
     Same method as :func:`bubble_point_t`, with ln T specified and ln P free.
 
     Parameters
     ----------
-    mix : CubicMixture
-        Mixture parameters.
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family).
     z : array_like
         Feed mole fractions [-], summing to 1.
     t_k : float
@@ -600,7 +610,7 @@ def bubble_point_p(mix: CubicMixture, z, t_k: float, p_guess_pa: float | None = 
     return _saturation(mix, z, "bubble", "T", t_k, p_guess_pa)
 
 
-def dew_point_p(mix: CubicMixture, z, t_k: float, p_guess_pa: float | None = None) -> SaturationPoint:
+def dew_point_p(mix: Mixture, z, t_k: float, p_guess_pa: float | None = None) -> SaturationPoint:
     """Dew-point pressure of feed ``z`` at temperature ``t_k``.
 
     Same method as :func:`bubble_point_t`, with ln T specified and ln P free.  Between the
@@ -609,8 +619,8 @@ def dew_point_p(mix: CubicMixture, z, t_k: float, p_guess_pa: float | None = Non
 
     Parameters
     ----------
-    mix : CubicMixture
-        Mixture parameters.
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family).
     z : array_like
         Feed mole fractions [-], summing to 1.
     t_k : float
@@ -802,7 +812,7 @@ def _failed_envelope(message: str, p_start: float) -> PhaseEnvelope:
                          converged=False, message=message, critical_method="", p_start_pa=p_start)
 
 
-def phase_envelope(mix: CubicMixture, z, p_start_pa: float = 1e5, max_points: int = 400) -> PhaseEnvelope:
+def phase_envelope(mix: Mixture, z, p_start_pa: float = 1e5, max_points: int = 400) -> PhaseEnvelope:
     """Phase envelope of feed ``z`` by Michelsen's continuation method.
 
     Michelsen, *Calculation of phase envelopes and critical points for multicomponent mixtures*,
@@ -836,8 +846,8 @@ def phase_envelope(mix: CubicMixture, z, p_start_pa: float = 1e5, max_points: in
 
     Parameters
     ----------
-    mix : CubicMixture
-        Mixture parameters.
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family).
     z : array_like
         Feed mole fractions [-], summing to 1.
     p_start_pa : float
@@ -964,7 +974,12 @@ def phase_envelope(mix: CubicMixture, z, p_start_pa: float = 1e5, max_points: in
     crit_interp = crossings[0] if crossings else None
     if len(crossings) > 1:
         message += f"; the curve passed {len(crossings)} critical points, the first is reported"
-    if crit_interp is not None:
+    if crit_interp is not None and not isinstance(mix, CubicMixture):
+        # the Heidemann-Khalil refinement below is written on the cubic's Helmholtz function
+        critical = crit_interp
+        method = ("interpolated where ln K changes sign along the continuation (the Heidemann-Khalil "
+                  "refinement is implemented for the cubic models only)")
+    elif crit_interp is not None:
         hk = _critical_point_hk(mix, zs, *crit_interp)
         # accept the refinement only next to where the continuation crossed (within 2 K and 5 %)
         t_ok = hk is not None and abs(hk[0] - crit_interp[0]) < 2.0

@@ -1,4 +1,4 @@
-"""Equation-of-state choices and the constants of the generic two-parameter cubic.
+"""Equation-of-state choices (the cubic family and GERG-2008) and the constants of the generic cubic.
 
 The generic cubic (Michelsen and Mollerup, *Thermodynamic Models: Fundamentals and Computational
 Aspects*, 2nd ed., 2007, ch. 3) is
@@ -7,6 +7,10 @@ Aspects*, 2nd ed., 2007, ch. 3) is
 
 with d1, d2 fixed per model: van der Waals d1 = d2 = 0; Redlich-Kwong and Soave-Redlich-Kwong d1 = 1,
 d2 = 0; Peng-Robinson d1,2 = 1 +- sqrt(2).
+
+GERG-2008 (Kunz and Wagner, J. Chem. Eng. Data 57 (2012) 3032-3091, doi:10.1021/je300655b; ISO 20765-2)
+is a multiparameter Helmholtz-energy model of 21 components; it has no cubic constants, and the cubic-only
+options (kij, Peneloux volume translation) do not apply to it.
 """
 from __future__ import annotations
 
@@ -56,20 +60,41 @@ _SQ2 = math.sqrt(2.0)
 
 
 class EOS(enum.Enum):
-    """Cubic equations of state that jtcheck implements."""
+    """Equations of state that jtcheck implements: four cubics and GERG-2008."""
 
     PR = "PR"
     SRK = "SRK"
     RK = "RK"
     VDW = "VDW"
+    GERG2008 = "GERG2008"
+
+    @property
+    def is_cubic(self) -> bool:
+        """Whether the model is one of the generic two-parameter cubics (kij and volume translation apply)."""
+        return self is not EOS.GERG2008
 
     @property
     def constants(self) -> CubicConstants:
-        return _CONSTANTS[self]
+        """Constants of a cubic model; InputError for GERG-2008, which has none."""
+        try:
+            return _CONSTANTS[self]
+        except KeyError:
+            raise InputError("eos", f"{self.value} is not a cubic equation of state; cubic models: "
+                             + ", ".join(e.value for e in cubic_models())) from None
 
     @property
     def long_name(self) -> str:
         return _LONG_NAMES[self]
+
+    @property
+    def citation(self) -> str:
+        """Where the model is published."""
+        return GERG_CITATION if self is EOS.GERG2008 else _CONSTANTS[self].citation
+
+    @property
+    def version(self) -> str:
+        """The model and its edition as records name it (for example "GERG-2008, Kunz and Wagner 2012")."""
+        return _VERSIONS[self]
 
     @classmethod
     def parse(cls, value: str | EOS, field: str = "eos") -> EOS:
@@ -78,7 +103,7 @@ class EOS(enum.Enum):
             return value
         key = str(value).strip().upper().replace("-", "").replace(" ", "")
         aliases = {"PENGROBINSON": "PR", "SOAVEREDLICHKWONG": "SRK", "REDLICHKWONG": "RK",
-                   "VANDERWAALS": "VDW", "VDW": "VDW"}
+                   "VANDERWAALS": "VDW", "VDW": "VDW", "GERG": "GERG2008", "GERG2008": "GERG2008"}
         key = aliases.get(key, key)
         try:
             return cls(key)
@@ -110,7 +135,25 @@ _LONG_NAMES = {
     EOS.SRK: "Soave-Redlich-Kwong",
     EOS.RK: "Redlich-Kwong",
     EOS.VDW: "van der Waals",
+    EOS.GERG2008: "GERG-2008 (Kunz and Wagner 2012)",
 }
+
+#: Kunz and Wagner, J. Chem. Eng. Data 57 (2012) 3032-3091; the same model is ISO 20765-2.
+GERG_CITATION = ("Kunz and Wagner (2012) J. Chem. Eng. Data 57:3032, doi:10.1021/je300655b "
+                 "(GERG-2008; ISO 20765-2)")
+
+_VERSIONS = {
+    EOS.PR: "Peng-Robinson 1976, 1978 alpha for omega > 0.491",
+    EOS.SRK: "Soave-Redlich-Kwong, Soave 1972",
+    EOS.RK: "Redlich-Kwong 1949",
+    EOS.VDW: "van der Waals 1873",
+    EOS.GERG2008: "GERG-2008, Kunz and Wagner 2012",
+}
+
+
+def cubic_models() -> tuple[EOS, ...]:
+    """The cubic equations of state (those with kij and volume translation)."""
+    return tuple(e for e in EOS if e.is_cubic)
 
 
 def soave_m(eos: EOS, omega):

@@ -40,7 +40,7 @@ from jtcheck.thermo.kernels.flash_pt import flash_pt as _flash_pt_kernel
 from jtcheck.thermo.kernels.flash_spec import flash_spec as _flash_spec_kernel
 from jtcheck.thermo.kernels.flash_uv import flash_tv as _flash_tv_kernel
 from jtcheck.thermo.kernels.flash_uv import flash_uv as _flash_uv_kernel
-from jtcheck.thermo.models.cubic.mixture import CubicMixture
+from jtcheck.thermo.states import Mixture
 
 _STATUS_TEXT = {
     ST_SINGLE: "stable single phase",
@@ -64,11 +64,12 @@ class FlashResult:
     P : float
         Pressure [Pa].
     beta : float
-        Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one, by the
-        phase identification parameter of Venkatarathnam and Oellrich 2011).
+        Vapour mole fraction [-] (1 for a vapour-like single phase, 0 for a liquid-like one; see ``phase``).
     phase : str
         ``"vapour"``, ``"liquid"``, ``"two-phase"``, or ``"supercritical"`` for a pure component
-        above its critical pressure (vapour fraction 1: no liquid can separate from it).
+        above its critical pressure and temperature (vapour fraction 1: no liquid can separate from it).
+        A single phase is labelled by :func:`jtcheck.thermo.kernels.single_phase.single_phase_beta`: a
+        gas far above its (pseudo-)critical temperature, otherwise by the phase identification parameter.
     z, x, y : numpy.ndarray
         Feed, liquid and vapour mole fractions [-] (x = y = z in a single phase).
     h : float
@@ -115,23 +116,26 @@ def _phase_label(status: int, beta: float) -> str:
     return "vapour" if beta >= 0.5 else "liquid"
 
 
-def pure_supercritical(mix: CubicMixture, z, P) -> bool | np.ndarray:
-    """Whether a pure component is above its critical pressure (no vapour-liquid distinction).
+def pure_supercritical(mix: Mixture, z, P, T) -> bool | np.ndarray:
+    """Whether a pure component is supercritical: at or above both its critical pressure and temperature.
 
-    Broadcasts over ``P`` [Pa]."""
+    There it has no vapour-liquid distinction; it is counted as one gas-like phase (vapour fraction 1).
+    Below its critical temperature a pure component above its critical pressure is a compressed liquid.
+    Broadcasts over ``P`` [Pa] and ``T`` [K]."""
     z = np.asarray(z, float)
     i = int(np.argmax(z))
     if z[i] < 1.0 - 1e-12:
-        return np.zeros(np.shape(P), bool) if np.ndim(P) else False
-    return np.asarray(P) >= mix.pcs[i] if np.ndim(P) else bool(P >= mix.pcs[i])
+        return np.zeros(np.broadcast(P, T).shape, bool) if (np.ndim(P) or np.ndim(T)) else False
+    out = (np.asarray(P) >= mix.pcs[i]) & (np.asarray(T) >= mix.tcs[i])
+    return out if np.ndim(out) else bool(out)
 
 
 def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd, mix=None) -> FlashResult:
     converged = status in (ST_SINGLE, ST_TWO, ST_PURE_SAT)
     if converged:
         phase = _phase_label(status, beta)
-        if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P):
-            # above the critical pressure a pure fluid cannot split into vapour and liquid: it is
+        if phase != "two-phase" and mix is not None and pure_supercritical(mix, z, P, T):
+            # above its critical point a pure fluid cannot split into vapour and liquid: it is
             # counted as one vapour-like phase (vapour fraction 1), labelled "supercritical"
             phase, beta = "supercritical", 1.0
     else:
@@ -143,7 +147,7 @@ def _result(status, T, P, beta, z, x, y, h, s, its, resid, tpd, mix=None) -> Fla
                        message=_STATUS_TEXT[status], tpd_min=float(tpd))
 
 
-def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
+def flash_pt(mix: Mixture, T: float, P: float, z) -> FlashResult:
     """Isothermal flash at temperature ``T`` [K] and pressure ``P`` [Pa] of feed ``z`` [-]."""
     z = np.ascontiguousarray(z, dtype=float)
     x = np.empty_like(z)
@@ -152,7 +156,7 @@ def flash_pt(mix: CubicMixture, T: float, P: float, z) -> FlashResult:
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, 0.0, tpd, mix)
 
 
-def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | None, spec: int) -> FlashResult:
+def _flash_spec(mix: Mixture, P: float, target: float, z, T_guess: float | None, spec: int) -> FlashResult:
     z = np.ascontiguousarray(z, dtype=float)
     x = np.empty_like(z)
     y = np.empty_like(z)
@@ -162,12 +166,12 @@ def _flash_spec(mix: CubicMixture, P: float, target: float, z, T_guess: float | 
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)
 
 
-def flash_ph(mix: CubicMixture, P: float, H: float, z, T_guess: float | None = None) -> FlashResult:
+def flash_ph(mix: Mixture, P: float, H: float, z, T_guess: float | None = None) -> FlashResult:
     """Isenthalpic flash: the equilibrium state at pressure ``P`` [Pa] with molar enthalpy ``H`` [J/mol].
 
     Parameters
     ----------
-    mix : CubicMixture
+    mix : CubicMixture or GergMixture
     P : float
         Pressure [Pa].
     H : float
@@ -180,7 +184,7 @@ def flash_ph(mix: CubicMixture, P: float, H: float, z, T_guess: float | None = N
     return _flash_spec(mix, P, H, z, T_guess, 0)
 
 
-def flash_ps(mix: CubicMixture, P: float, S: float, z, T_guess: float | None = None) -> FlashResult:
+def flash_ps(mix: Mixture, P: float, S: float, z, T_guess: float | None = None) -> FlashResult:
     """Isentropic flash: the equilibrium state at pressure ``P`` [Pa] with molar entropy ``S`` [J/(mol K)]."""
     return _flash_spec(mix, P, S, z, T_guess, 1)
 
@@ -192,7 +196,7 @@ def _start_pressure(T0: float, V: float, P_guess: float | None) -> float:
     return min(max(8.314462618 * T0 / V, 1.0e3), 1.0e8)
 
 
-def flash_uv(mix: CubicMixture, U: float, V: float, z, T_guess: float | None = None,
+def flash_uv(mix: Mixture, U: float, V: float, z, T_guess: float | None = None,
              P_guess: float | None = None, t_skip: float = math.inf) -> FlashResult:
     """Equilibrium of a closed volume: the state with molar internal energy ``U`` [J/mol] and molar volume
     ``V`` [m^3/mol] (Michelsen, Fluid Phase Equilib. 158-160 (1999) 617-626; see
@@ -200,7 +204,7 @@ def flash_uv(mix: CubicMixture, U: float, V: float, z, T_guess: float | None = N
 
     Parameters
     ----------
-    mix : CubicMixture
+    mix : CubicMixture or GergMixture
     U : float
         Molar internal energy u = h - P v [J/mol] (same reference state as the enthalpy).
     V : float
@@ -227,7 +231,7 @@ def flash_uv(mix: CubicMixture, U: float, V: float, z, T_guess: float | None = N
     return _result(st, T, P, beta, z, x.copy(), y.copy(), h, s, its, resid, tpd, mix)
 
 
-def flash_tv(mix: CubicMixture, T: float, V: float, z, P_guess: float | None = None,
+def flash_tv(mix: Mixture, T: float, V: float, z, P_guess: float | None = None,
              t_skip: float = math.inf) -> FlashResult:
     """Equilibrium at temperature ``T`` [K] and molar volume ``V`` [m^3/mol] (a closed volume held at T).
 

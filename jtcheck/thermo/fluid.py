@@ -1,9 +1,16 @@
-"""A fluid: a checked composition under one cubic equation of state, with its kij set.
+"""A fluid: a checked composition under one equation of state (a cubic with its kij set, or GERG-2008).
 
 :class:`Fluid` holds parameters only (no solving in ``__init__``); the flashes and properties are
 functions of :mod:`jtcheck.thermo.flash` and :mod:`jtcheck.thermo.properties` that it passes them to.
 Every choice that changes an answer (EOS, kij set and which pairs defaulted to zero, volume
 translation) is recorded in :meth:`Fluid.basis` so results and records can show it.
+
+Under GERG-2008 (Kunz and Wagner, J. Chem. Eng. Data 57 (2012) 3032-3091) the fluid holds a
+``GergMixture`` instead of a ``CubicMixture``; the flashes and properties are the same functions (they
+are written over the model interface of :mod:`jtcheck.thermo.models`).  kij and the Peneloux volume
+translation belong to the cubic models and are refused for GERG-2008; a component outside GERG-2008's
+21 is refused with its name (the cubic models keep it).  :meth:`Fluid.check_state` applies GERG-2008's
+range of validity.
 """
 from __future__ import annotations
 
@@ -17,11 +24,42 @@ from jtcheck.thermo import flash as _flash
 from jtcheck.thermo.components import COMPONENT_DATA_VERSION, KIJ_DATA_VERSION, find_component, kij_matrix
 from jtcheck.thermo.composition import Composition, normalise_composition
 from jtcheck.thermo.eos import EOS, R
-from jtcheck.thermo.models.cubic.mixture import CubicMixture, make_mixture
+from jtcheck.thermo.models.cubic.mixture import make_mixture
 
 #: Components for which a cubic EOS with the classic alpha function is poor (negative acentric factor,
 #: quantum gases): the Joule-Thomson inversion is mispredicted near room temperature.
 QUANTUM_GASES = frozenset({"hydrogen", "helium", "neon"})
+
+#: Mole fraction of hydrogen, helium and neon together from which a cubic's outlet temperature is a caution:
+#: pure hydrogen's PR outlet errs by -2.3 to -6.2 K on 50-200 bar drops near room temperature (issue 15,
+#: measured against a reference multiparameter EOS), and a blend inherits part of it (our choice of 10 %).
+QUANTUM_RICH = 0.10
+
+
+def gerg_ranges():
+    """GERG-2008's normal and extended ranges of validity as ((t_min, t_max [K], p_max [Pa]), (...)).
+
+    Kunz and Wagner (2012), section 7: normal range 90-450 K up to 35 MPa, extended range 60-700 K up to
+    70 MPa."""
+    from jtcheck.thermo.models import gerg2008
+
+    return _bounds(gerg2008.NORMAL_RANGE), _bounds(gerg2008.EXTENDED_RANGE)
+
+
+def _bounds(r) -> tuple[float, float, float]:
+    """(t_min_k, t_max_k, p_max_pa) from a range given as a tuple or an object with those attributes."""
+    if isinstance(r, tuple | list):
+        return float(r[0]), float(r[1]), float(r[-1])
+    if isinstance(r, Mapping):
+        return float(r["t_min_k"]), float(r["t_max_k"]), float(r["p_max_pa"])
+    return float(r.t_min_k), float(r.t_max_k), float(r.p_max_pa)
+
+
+def gerg_component_ids() -> frozenset[str]:
+    """Component ids (jtcheck's names) that GERG-2008 holds: its 21 components."""
+    from jtcheck.thermo.models import gerg2008
+
+    return frozenset(gerg2008.GERG_COMPONENTS)
 
 
 def peneloux_shift(eos: EOS, tc_k, pc_pa, zra):
@@ -114,22 +152,97 @@ class Fluid:
         comps = self.composition.components
         ids = self.composition.ids
         self._kij_choice = kij
-        self.kij, self.kij_basis, self.kij_defaulted, self.kij_sources = _kij_from_user(kij, ids, self.eos)
         self.volume_translation = bool(volume_translation)
-        self.vol_shifts = peneloux_shift(self.eos, [c.tc_k for c in comps], [c.pc_pa for c in comps],
-                                         [c.zra for c in comps])
-        self.mixture: CubicMixture = make_mixture(
-            self.eos, ids, [c.tc_k for c in comps], [c.pc_pa for c in comps], [c.omega for c in comps],
-            [c.molar_mass_g_per_mol / 1000.0 for c in comps], self.kij, self.vol_shifts,
-            ([c.cp_a for c in comps], [c.cp_b for c in comps], [c.cp_c for c in comps],
-             [c.cp_d for c in comps], [c.cp_e for c in comps]))
         notes = list(self.composition.warnings)
-        quantum = [c.name for c, z in zip(comps, self.zs, strict=True) if c.id in QUANTUM_GASES and z >= 0.01]
-        if quantum:
-            notes.append(f"{', '.join(quantum)} present: a cubic EOS with the classic alpha function is poor for "
-                         "these gases and can predict cooling where they really warm on throttling; treat the "
-                         "outlet temperature with caution")
+        if self.eos.is_cubic:
+            self.kij, self.kij_basis, self.kij_defaulted, self.kij_sources = _kij_from_user(kij, ids, self.eos)
+            self.vol_shifts = peneloux_shift(self.eos, [c.tc_k for c in comps], [c.pc_pa for c in comps],
+                                             [c.zra for c in comps])
+            self.mixture = make_mixture(
+                self.eos, ids, [c.tc_k for c in comps], [c.pc_pa for c in comps], [c.omega for c in comps],
+                [c.molar_mass_g_per_mol / 1000.0 for c in comps], self.kij, self.vol_shifts,
+                ([c.cp_a for c in comps], [c.cp_b for c in comps], [c.cp_c for c in comps],
+                 [c.cp_d for c in comps], [c.cp_e for c in comps]))
+            quantum = [(c.name, z) for c, z in zip(comps, self.zs, strict=True) if c.id in QUANTUM_GASES and z >= 0.01]
+            share = sum(z for _, z in quantum)
+            if share >= QUANTUM_RICH:
+                notes.append(
+                    f"{', '.join(n for n, _ in quantum)} {100 * share:.0f} mol%: the cubic {self.eos.value} errs here "
+                    "by kelvins and in the direction of the Joule-Thomson effect (PR predicts cooling where "
+                    "hydrogen really warms on throttling near room temperature, about 2-6 K colder than a "
+                    "reference equation of state on 50-200 bar drops); screen this fluid with GERG2008 "
+                    "(GERG-2008, Kunz and Wagner 2012)" + ("" if self._gerg_holds(ids) else
+                                                           " where its components allow"))
+            elif quantum:
+                notes.append(f"{', '.join(n for n, _ in quantum)} present: a cubic EOS with the classic alpha "
+                             "function is poor for these gases and can predict cooling where they really warm on "
+                             "throttling; treat the outlet temperature with caution")
+        else:
+            if kij is not None:
+                raise InputError("kij", "binary interaction parameters (kij) apply to the cubic models PR, SRK, RK "
+                                        "and VDW only; GERG-2008 has its own binary reducing and departure "
+                                        "functions (leave kij unset)")
+            if self.volume_translation:
+                raise InputError("volume_translation", "the Peneloux volume translation applies to the cubic "
+                                                       "models only; GERG-2008 gives densities directly")
+            held = gerg_component_ids()
+            missing = [c.name for c in comps if c.id not in held]
+            if missing:
+                raise InputError("composition", f"{', '.join(missing)}: not among the 21 components of GERG-2008 "
+                                 f"({', '.join(sorted(held))}); choose a cubic model (PR or SRK) for this fluid")
+            from jtcheck.thermo.models.gerg2008 import make_gerg_mixture
+
+            n = len(ids)
+            self.kij = np.zeros((n, n))
+            self.kij_basis = "not used: GERG-2008 binary reducing and departure functions (Kunz and Wagner 2012)"
+            self.kij_defaulted, self.kij_sources = (), ()
+            self.vol_shifts = np.zeros(n)
+            self.mixture = make_gerg_mixture(ids)
         self.warnings: tuple[str, ...] = tuple(notes)
+
+    @staticmethod
+    def _gerg_holds(ids) -> bool:
+        try:
+            held = gerg_component_ids()
+        except ImportError:
+            return False
+        return all(i in held for i in ids)
+
+    def check_state(self, t_k, p_pa, what: str = "inlet", field: str = "t_in") -> list[str]:
+        """GERG-2008's range of validity at the states (``t_k`` [K], ``p_pa`` [Pa], arrays broadcast).
+
+        Kunz and Wagner (2012), section 7: inside the normal range (90-450 K, up to 35 MPa) nothing is said;
+        outside it, inside the extended range (60-700 K, up to 70 MPa), a warning (returned, one text for
+        all the states); outside the extended range an :class:`InputError` naming ``field`` and the
+        condition.  The cubic models have no such range here: an empty list.
+        """
+        if self.eos.is_cubic:
+            return []
+        (n_lo, n_hi, n_p), (e_lo, e_hi, e_p) = gerg_ranges()
+        t = np.atleast_1d(np.asarray(t_k, float))
+        p = np.atleast_1d(np.asarray(p_pa, float))
+        t_ok = t[np.isfinite(t)]
+        p_ok = p[np.isfinite(p)]
+        if t_ok.size and (t_ok.min() < e_lo or t_ok.max() > e_hi):
+            bad = t_ok.min() if t_ok.min() < e_lo else t_ok.max()
+            raise InputError(field, f"{what} temperature {bad:.2f} K is outside the extended range of GERG-2008 "
+                             f"({e_lo:g}-{e_hi:g} K, Kunz and Wagner 2012); use a cubic model (PR or SRK) "
+                             "and treat the result with caution")
+        if p_ok.size and p_ok.max() > e_p:
+            field_p = field.replace("t_", "p_", 1) if field.startswith("t_") else field
+            raise InputError(field_p, f"{what} pressure {p_ok.max() / 1e6:.2f} MPa is above the extended range "
+                             f"of GERG-2008 (up to {e_p / 1e6:g} MPa, Kunz and Wagner 2012)")
+        outside = []
+        if t_ok.size and (t_ok.min() < n_lo or t_ok.max() > n_hi):
+            bad = t_ok.min() if t_ok.min() < n_lo else t_ok.max()
+            outside.append(f"temperature {bad:.1f} K outside {n_lo:g}-{n_hi:g} K")
+        if p_ok.size and p_ok.max() > n_p:
+            outside.append(f"pressure {p_ok.max() / 1e6:.1f} MPa above {n_p / 1e6:g} MPa")
+        if not outside:
+            return []
+        return [f"{what} {' and '.join(outside)}: outside the normal range of GERG-2008 (Kunz and Wagner 2012), "
+                f"inside its extended range ({e_lo:g}-{e_hi:g} K, up to {e_p / 1e6:g} MPa), where its uncertainty "
+                "is larger; treat the result with caution"]
 
     # -- data --------------------------------------------------------------------------------
     @property
@@ -161,10 +274,11 @@ class Fluid:
 
     def basis(self) -> dict:
         """Model choices that change answers, for results and records."""
-        return {
+        out = {
             "eos": self.eos.value,
             "eos_name": self.eos.long_name,
-            "eos_reference": self.eos.constants.citation,
+            "eos_version": self.eos.version,
+            "eos_reference": self.eos.citation,
             "kij_basis": self.kij_basis,
             "kij_defaulted_pairs": [list(p) for p in self.kij_defaulted],
             "volume_translation": "Peneloux, applied to enthalpy and density" if self.volume_translation
@@ -172,14 +286,24 @@ class Fluid:
             "component_data": COMPONENT_DATA_VERSION,
             "kij_data": KIJ_DATA_VERSION,
         }
+        if not self.eos.is_cubic:
+            (n_lo, n_hi, n_p), (e_lo, e_hi, e_p) = gerg_ranges()
+            out["eos_range"] = (f"normal range {n_lo:g}-{n_hi:g} K up to {n_p / 1e6:g} MPa; extended range "
+                                f"{e_lo:g}-{e_hi:g} K up to {e_p / 1e6:g} MPa (Kunz and Wagner 2012)")
+            out["kij_data"] = "not used (GERG-2008)"
+        return out
 
     def with_eos(self, eos: str | EOS) -> Fluid:
         """The same fluid (composition, kij choice, volume translation) under another equation of state.
 
-        A kij table choice takes the other EOS's table; a user mapping or matrix is kept as given.
+        A kij table choice takes the other EOS's table; a user mapping or matrix is kept as given.  To or
+        from GERG-2008 the cubic-only choices (kij, volume translation) are dropped: the table and no
+        translation.
         """
-        return Fluid(list(zip(self.ids, self.zs, strict=True)), eos=eos, kij=self._kij_choice,
-                     volume_translation=self.volume_translation)
+        eos = EOS.parse(eos)
+        cubic_both = eos.is_cubic and self.eos.is_cubic
+        return Fluid(list(zip(self.ids, self.zs, strict=True)), eos=eos, kij=self._kij_choice if cubic_both else None,
+                     volume_translation=self.volume_translation and cubic_both)
 
     def with_composition(self, composition: Mapping[str, float] | Iterable[tuple[str, float]] | str) -> Fluid:
         """Another composition on this fluid's model basis (EOS, kij choice, volume translation).
@@ -188,7 +312,8 @@ class Fluid:
         """
         kij = self._kij_choice if self._kij_choice is None or np.ndim(self._kij_choice) == 0 or \
             isinstance(self._kij_choice, Mapping) else None
-        return Fluid(composition, eos=self.eos, kij=kij, volume_translation=self.volume_translation)
+        return Fluid(composition, eos=self.eos, kij=kij if self.eos.is_cubic else None,
+                     volume_translation=self.volume_translation)
 
     def __repr__(self) -> str:
         comp = ", ".join(f"{i}={z:.4g}" for i, z in zip(self.ids, self.zs, strict=True))

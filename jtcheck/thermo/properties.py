@@ -1,5 +1,5 @@
-"""Derived single-phase properties from the cubic EOS: Joule-Thomson coefficient, isentropic
-exponent, speed of sound, density.
+"""Derived single-phase properties from the fluid's model (a cubic or GERG-2008): Joule-Thomson
+coefficient, isentropic exponent, speed of sound, density.
 
 From the EOS derivatives (exact thermodynamic identities, e.g. Michelsen and Mollerup 2007, ch. 2):
 
@@ -17,8 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from jtcheck.thermo.models.cubic.mixture import CubicMixture
-from jtcheck.thermo.models.cubic.properties import phase_properties
+from jtcheck.thermo.states import Mixture, model_state
 
 
 @dataclass(frozen=True)
@@ -52,19 +51,22 @@ class PhaseState:
     speed_of_sound: np.ndarray
 
 
-def phase_state(mix: CubicMixture, T, P, x, phase: str = "gibbs", volume_shift: bool = False) -> PhaseState:
+def phase_state(mix: Mixture, T, P, x, phase: str = "gibbs", volume_shift: bool = False) -> PhaseState:
     """Properties of one phase at ``T`` [K], ``P`` [Pa], composition ``x`` [-].
 
     Parameters
     ----------
+    mix : CubicMixture or GergMixture
+        Mixture parameters (any model family: the model interface is called).
     volume_shift : bool
         Subtract the Peneloux shift sum x_i c_i from the molar volume for the density (and shift
-        the enthalpy by -P sum x_i c_i), consistent with :class:`jtcheck.thermo.fluid.Fluid`.
+        the enthalpy by -P sum x_i c_i), consistent with :class:`jtcheck.thermo.fluid.Fluid`.  Cubic
+        models only (a GERG-2008 mixture has no shift).
     """
     T = np.asarray(T, float)
     P = np.asarray(P, float)
     x = np.asarray(x, float)
-    pp = phase_properties(mix, T, P, x, phase)
+    pp = model_state(mix, T, P, x, phase)
     mw = x @ mix.mws
     dv_dT = -pp.dP_dT_v / pp.dP_dv_T
     jt = (T * dv_dT - pp.v) / pp.cp
@@ -73,7 +75,7 @@ def phase_state(mix: CubicMixture, T, P, x, phase: str = "gibbs", volume_shift: 
     w = pp.v * np.sqrt(-gamma * pp.dP_dv_T / mw)
     v = pp.v
     h = pp.h
-    if volume_shift:
+    if volume_shift and getattr(mix, "vol_shifts", None) is not None:
         c = x @ mix.vol_shifts
         v = v - c
         h = h - P * c
@@ -81,16 +83,16 @@ def phase_state(mix: CubicMixture, T, P, x, phase: str = "gibbs", volume_shift: 
                       isentropic_exponent=kappa, speed_of_sound=w)
 
 
-def joule_thomson_coefficient(mix: CubicMixture, T, P, x, phase: str = "gibbs"):
+def joule_thomson_coefficient(mix: Mixture, T, P, x, phase: str = "gibbs"):
     """Joule-Thomson coefficient (dT/dP)_h of one phase [K/Pa]."""
     return phase_state(mix, T, P, x, phase).jt_coefficient
 
 
-def isentropic_exponent(mix: CubicMixture, T, P, x, phase: str = "gibbs"):
+def isentropic_exponent(mix: Mixture, T, P, x, phase: str = "gibbs"):
     """Real-gas isentropic exponent k = -(v/P)(cp/cv)(dP/dv)_T [-]."""
     return phase_state(mix, T, P, x, phase).isentropic_exponent
 
 
-def speed_of_sound(mix: CubicMixture, T, P, x, phase: str = "gibbs"):
+def speed_of_sound(mix: Mixture, T, P, x, phase: str = "gibbs"):
     """Speed of sound of one phase [m/s]."""
     return phase_state(mix, T, P, x, phase).speed_of_sound

@@ -17,7 +17,7 @@ import numpy as np
 
 from jtcheck.thermo.kernels import stability as _stability_kernels
 from jtcheck.thermo.kernels import wilson as _wilson_kernels
-from jtcheck.thermo.models.cubic.mixture import CubicMixture
+from jtcheck.thermo.states import Mixture
 
 #: Tangent-plane distance below which a feed is declared unstable [-].
 TPD_UNSTABLE = -1e-8
@@ -54,7 +54,7 @@ class StabilityResult:
         return self.trial / z if self.trial_is_lighter else z / self.trial
 
 
-def wilson_k(mix: CubicMixture, T: float, P: float) -> np.ndarray:
+def wilson_k(mix: Mixture, T: float, P: float) -> np.ndarray:
     """Wilson K-values, ln K_i = ln(Pc_i/P) + 5.373 (1 + w_i)(1 - Tc_i/T) [-].
 
     Wilson, *A modified Redlich-Kwong equation of state*, 64th AIChE National Meeting (1968).
@@ -64,12 +64,12 @@ def wilson_k(mix: CubicMixture, T: float, P: float) -> np.ndarray:
     return K
 
 
-def stability_test(mix: CubicMixture, T: float, P: float, z) -> StabilityResult:
+def stability_test(mix: Mixture, T: float, P: float, z) -> StabilityResult:
     """Michelsen's tangent-plane stability test of feed ``z`` at ``T`` [K], ``P`` [Pa].
 
     Parameters
     ----------
-    mix : CubicMixture
+    mix : CubicMixture or GergMixture
     T : float
         Temperature [K].
     P : float

@@ -69,7 +69,7 @@ def test_postgres_engine_pings_its_pool():
 def test_migrations_are_found_and_have_one_head():
     path = db.migrations_path()
     assert (path / "env.py").is_file()
-    assert db.head_revision() == "0008"
+    assert db.head_revision() == "0009"
 
 
 def test_pyproject_ships_the_migrations_and_every_package():

@@ -58,6 +58,20 @@ def test_demo_loads_the_invented_terminal_with_computed_cases(session, users):
     assert len(demo_fluids) == 5
 
 
+def test_the_demo_fuel_gas_letdown_is_screened_on_gerg_2008_with_the_cubics_beside_it(session, users):
+    site = load_demo(session)
+    cases = service.list_cases(session, users[Role.CHECKER], site_id=site.id)
+    case = next(c for c in cases if c.tag == "PCV-3101")
+    assert case.fluid.eos == "GERG2008"
+    result = service.latest_results(session, [case.id])[case.id]
+    screening = result.screening
+    assert screening["models"] == ["GERG2008", "PR", "SRK"]
+    assert all(c["governing_model"] == "GERG2008" for c in screening["conditions"])
+    assert result.outcome == "fail"   # the invented case is colder than carbon steel's -29 degC on every model
+    assert result.inputs["basis"]["eos_version"] == "GERG-2008, Kunz and Wagner 2012"
+    assert "90-450 K" in result.inputs["basis"]["eos_range"]
+
+
 def test_demo_is_loaded_only_once(session):
     load_demo(session)
     before = [count(session, m) for m in (Site, PlantUnit, FluidRecord, Case, Material)]

@@ -119,3 +119,29 @@ def test_postgresql_refuses_truncate_of_the_audit_log(throwaway_postgres):
     finally:
         engine.dispose()
     downgrade_database(throwaway_postgres, "base")
+
+
+def test_sqlite_fluids_admit_gerg2008_after_0009_and_still_refuse_other_models(tmp_path):
+    url = f"sqlite:///{tmp_path / 'gerg.sqlite3'}"
+    upgrade_database(url)
+    engine = create_engine(url)
+    insert = ("INSERT INTO fluids (name, composition, eos, kij_mode, notes, created_by_id, updated_by_id, created_at, "
+              "updated_at, version) VALUES (:name, '[]', :eos, 'table', '', 1, 1, CURRENT_TIMESTAMP, "
+              "CURRENT_TIMESTAMP, 1)")
+    try:
+        with engine.begin() as conn:
+            conn.execute(text("PRAGMA foreign_keys=OFF"))
+            conn.execute(text(insert), {"name": "h2", "eos": "GERG2008"})
+        with pytest.raises(DBAPIError), engine.begin() as conn:
+            conn.execute(text("PRAGMA foreign_keys=OFF"))
+            conn.execute(text(insert), {"name": "x", "eos": "BWRS"})
+    finally:
+        engine.dispose()
+    downgrade_database(url, "0008")   # the fluid takes PR, and its notes say so
+    engine = create_engine(url)
+    try:
+        with engine.connect() as conn:
+            eos, notes = conn.execute(text("SELECT eos, notes FROM fluids WHERE name = 'h2'")).one()
+    finally:
+        engine.dispose()
+    assert eos == "PR" and "GERG2008 changed to PR" in notes

@@ -343,3 +343,11 @@ def test_the_record_shows_the_hydrate_numbers(snapshots):
     assert f"{hyd['numbers']['t_hydrate_k'] - 273.15:.2f} degC" in page
     assert f"{hyd['numbers']['subcooling_k']:.2f} K" in page
     assert "Hammerschmidt" in page and "Injection rate" in page and hyd["numbers"]["water_basis"] in page
+
+
+def test_the_record_of_a_gerg_2008_case_names_the_model_its_version_its_range_and_who_governs(snapshots):
+    page = html.unescape(re.sub(r"<[^>]+>", " ", render_html(snapshots["PCV-3101"])))
+    page = " ".join(page.split())
+    assert "GERG-2008, Kunz and Wagner 2012" in page
+    assert "normal range 90-450 K up to 35 MPa; extended range 60-700 K up to 70 MPa" in page
+    assert "screened on GERG2008, the reference-grade model" in page

@@ -315,3 +315,30 @@ def test_results_and_lists_come_a_page_at_a_time(api, world):
         assert resp.status_code == 422 and resp.get_json()["error"]["field"] == bad.split("=")[0]
     fluids = api(Role.CHECKER, "GET", "/api/v1/fluids?limit=1").get_json()
     assert fluids["count"] == 1 and fluids["total"] >= 1 and fluids["limit"] == 1
+
+
+# -- GERG-2008 ----------------------------------------------------------------------------------------------
+def test_letdown_on_gerg_2008_returns_the_model_its_version_and_range(api):
+    data = {**LETDOWN, "fluid": {"composition": {"nitrogen": 1.0}, "eos": "GERG2008", "kij": "table"},
+            "p_in": "200 bara", "t_in": "300 K", "p_out": "20 bara"}
+    resp = api(Role.ENGINEER, "POST", "/api/v1/letdown", json=data)
+    assert resp.status_code == 200, resp.get_json()
+    body = resp.get_json()
+    assert body["basis"]["eos"] == "GERG2008" and body["basis"]["eos_version"] == "GERG-2008, Kunz and Wagner 2012"
+    assert "extended range 60-700 K" in body["basis"]["eos_range"]
+    expected = letdown(Fluid({"nitrogen": 1.0}, eos="GERG2008"), p_in=200e5, t_in=300.0, p_out=20e5)
+    assert body["si"]["t_out_k"] == pytest.approx(expected.t_out, abs=1e-6)
+
+
+@pytest.mark.parametrize("fluid, field", [
+    ({"composition": {"methane": 0.9, "ethylene": 0.1}, "eos": "GERG2008"}, "fluid.composition"),
+    ({"composition": {"methane": 1.0}, "eos": "GERG2008", "kij": "zero"}, "fluid.kij"),
+])
+def test_letdown_on_gerg_2008_names_the_refused_field(api, fluid, field):
+    resp = api(Role.ENGINEER, "POST", "/api/v1/letdown", json={**LETDOWN, "fluid": fluid})
+    assert resp.status_code == 422 and resp.get_json()["error"]["field"] == field
+
+
+def test_openapi_document_offers_gerg2008_wherever_a_model_is_chosen(api):
+    doc = api(Role.CHECKER, "GET", "/api/v1/openapi.json").get_json()
+    assert "GERG2008" in doc["components"]["schemas"]["FluidSpec"]["properties"]["eos"]["enum"]

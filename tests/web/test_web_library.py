@@ -254,3 +254,26 @@ def test_admin_makes_a_user_who_can_sign_in_with_the_one_time_password(app, admi
     password = page.split('<p class="secret">', 1)[1].split("</p>", 1)[0].strip()
     c = app.test_client()
     assert c.post("/login", data={"email": "newbie@example.org", "password": password}).status_code == 302
+
+
+def test_a_fluid_on_gerg_2008_is_saved_and_its_page_names_the_model(app, engineer):
+    name = unique("Hydrogen blend")
+    resp = engineer.post("/fluids/new", data={"name": name, "composition": "methane=0.8\nhydrogen=0.2",
+                                              "eos": "GERG2008", "kij_mode": "table", "notes": ""})
+    assert resp.status_code == 302, resp.data
+    record = _fluid(app, name)
+    assert record.eos == "GERG2008"
+    assert "GERG-2008" in engineer.get(f"/fluids/{record.id}").data.decode()
+
+
+@pytest.mark.parametrize("field, overrides, words", [
+    ("kij_mode", {"kij_mode": "zero"}, "cubic models"),
+    ("composition", {"composition": "methane=0.9\nethylene=0.1"}, "not among the 21 components of GERG-2008"),
+])
+def test_gerg_2008_refusals_are_shown_at_the_field(app, engineer, field, overrides, words):
+    data = {"name": unique("Gerg gas"), "composition": "methane=0.9\nethane=0.1", "eos": "GERG2008",
+            "kij_mode": "table", "notes": "", **overrides}
+    resp = engineer.post("/fluids/new", data=data)
+    assert resp.status_code in (409, 422)
+    message = field_error(resp.data.decode(), field)
+    assert message is not None and words in html.unescape(message)

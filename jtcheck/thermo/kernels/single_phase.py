@@ -2,8 +2,9 @@
 
 At fixed pressure h(T) and s(T) of one phase are monotonic, so Newton steps safeguarded by a
 bracket cannot diverge (Michelsen, Fluid Phase Equilib. 33 (1987) 13-27,
-doi:10.1016/0378-3812(87)87002-4).  Also the vapour/liquid label of a single phase by the phase
-identification parameter (Venkatarathnam and Oellrich 2011).
+doi:10.1016/0378-3812(87)87002-4).  Also the vapour/liquid label of a single phase: a gas far above
+its critical temperature, otherwise by the phase identification parameter (Venkatarathnam and
+Oellrich 2011); see :func:`single_phase_beta`.
 """
 from __future__ import annotations
 
@@ -13,7 +14,7 @@ import numpy as np
 from numba import njit
 
 from jtcheck.thermo.kernels.constants import T_MAX, T_MIN
-from jtcheck.thermo.models.interface import GIBBS, pip, props
+from jtcheck.thermo.models.interface import GIBBS, critical_constants, pip, props
 
 _jit = njit(cache=True, nogil=True)
 
@@ -72,8 +73,42 @@ def solve_single(prm, P, target, z, T0, spec, phase, T_lo, T_hi, max_iter=100):
     return T, False, False, max_iter, r
 
 
+#: A mixture is labelled gas above this multiple of its pseudo-critical temperature by Kay's rule
+#: (Kay, Ind. Eng. Chem. 28 (1936) 1014-1019, T_pc = sum z_i Tc_i).  Kay's rule underestimates the true
+#: critical temperature of asymmetric mixtures; the 25 % margin is our choice ("far above"), and keeps
+#: the phase identification parameter in charge near the critical region, where it is meaningful.
+GAS_ABOVE_KAY_TPC = 1.25
+
+
 @_jit
 def single_phase_beta(prm, T, P, z):
-    """Vapour fraction [-] of a single phase, 1 (vapour-like) or 0 (liquid-like), by the phase identification
-    parameter at ``T`` [K], ``P`` [Pa]."""
+    """Vapour fraction [-] of a single phase at ``T`` [K], ``P`` [Pa]: 1 (gas, vapour-like) or 0 (liquid-like).
+
+    The rule, in order:
+
+    1. a pure component at or above its critical temperature is a gas: it cannot be liquefied by
+       compression (above its critical pressure it is also called supercritical);
+    2. a mixture at or above 1.25 times its pseudo-critical temperature by Kay's rule
+       (:data:`GAS_ABOVE_KAY_TPC`) is a gas;
+    3. otherwise the phase identification parameter of Venkatarathnam and Oellrich, Fluid Phase
+       Equilib. 301 (2011) 225-233, doi:10.1016/j.fluid.2010.12.001: above 1 liquid-like, below 1
+       vapour-like.
+
+    Rules 1 and 2 are needed because the phase identification parameter of a dilute gas tends to
+    1 + (B - T dB/dT)/v (second virial coefficient B), which exceeds 1 far above the Boyle
+    temperature: alone it calls hydrogen or helium at room temperature and a few bar "liquid".
+    """
+    tcs, pcs, oms = critical_constants(prm)
+    n = z.size
+    imax = 0
+    tpc = 0.0
+    for i in range(n):
+        tpc += z[i] * tcs[i]
+        if z[i] > z[imax]:
+            imax = i
+    if n == 1 or z[imax] > 1.0 - 1e-12:
+        if T >= tcs[imax]:
+            return 1.0
+    elif T >= GAS_ABOVE_KAY_TPC * tpc:
+        return 1.0
     return 0.0 if pip(prm, T, P, z, GIBBS) > 1.0 else 1.0

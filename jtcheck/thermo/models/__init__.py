@@ -1,6 +1,6 @@
 """Thermodynamic model families, behind one narrow interface that the flash algorithms are written over.
 
-A model family (``models/cubic/`` today; GERG-2008 next) gives the compiled algorithms of
+A model family (``models/cubic/``, ``models/gerg2008/``) gives the compiled algorithms of
 :mod:`jtcheck.thermo.kernels` (stability, phase split, PT, PH and PS flashes, the letdown batch) six
 numba-compiled functions of one parameter tuple ``prm``, which the family builds and the algorithms
 pass through untouched.  T [K], P [Pa], mole fractions x [-] of shape (n,); ``phase`` is one of the
@@ -50,8 +50,11 @@ for both families in a second process, also inside ``prange``). Two constraints 
 the parallel lowering rejects tuples nested in tuples), and it should be a plain tuple told apart
 from other families' by its element types (for example a leading marker element of a type unique to
 the family): a ``NamedTuple`` would be a cleaner key, but numba types a named tuple argument about a
-microsecond slower per kernel call, six percent of a single-phase PH flash. This dispatch is left to
-the GERG-2008 issue; today the interface binds the cubic functions directly.
+microsecond slower per kernel call, six percent of a single-phase PH flash.
+
+Two families are wired in this way: the generic cubic (``models/cubic/``, tuple led by an ``int64``
+alpha code) and GERG-2008 (``models/gerg2008/``, Kunz and Wagner 2012, tuple led by a ``numpy.uint16``
+marker); see :mod:`jtcheck.thermo.models.interface`.
 
 Still bound to the cubic, outside the compiled algorithms: :mod:`jtcheck.thermo.envelope` (it calls
 :mod:`jtcheck.thermo.models.cubic.properties`, including the cubic's sqrt(a_i) for the critical

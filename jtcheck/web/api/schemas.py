@@ -50,7 +50,9 @@ def _nullable(schema: dict[str, Any]) -> dict[str, Any]:
 
 NUM_OR_NULL = {"type": ["number", "null"]}
 STR_OR_NULL = {"type": ["string", "null"]}
-EOS_ENUM = {"type": "string", "enum": ["PR", "SRK", "RK", "VDW"]}
+EOS_ENUM = {"type": "string", "enum": ["PR", "SRK", "RK", "VDW", "GERG2008"],
+            "description": "Equation of state; GERG2008 is GERG-2008 (Kunz and Wagner 2012), 21 components, "
+                           "kij \"table\" only."}
 KIJ_ENUM = {"type": "string", "enum": ["table", "zero"],
             "description": "table: jtcheck's table of published kij (missing pairs 0, and listed); zero: every kij 0"}
 OUTCOME_ENUM = {"type": "string", "enum": [o.value for o in Outcome],

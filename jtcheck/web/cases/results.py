@@ -61,6 +61,7 @@ def basis_of(result: CaseResult) -> dict[str, Any]:
     """The model basis of a result: EOS, kij set, data and software versions."""
     stored = (result.inputs or {}).get("basis") or {}
     return {"eos": result.eos, "eos_name": stored.get("eos_name"), "eos_reference": stored.get("eos_reference"),
+            "eos_version": stored.get("eos_version"), "eos_range": stored.get("eos_range"),
             "kij_basis": result.kij_basis, "kij_defaulted_pairs": stored.get("kij_defaulted_pairs") or [],
             "volume_translation": stored.get("volume_translation"),
             "component_data_version": result.component_data_version, "kij_data_version": result.kij_data_version,

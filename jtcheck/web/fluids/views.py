@@ -23,7 +23,8 @@ bp = Blueprint("fluids", __name__)
 #: Rows of the composition table on the fluid form.
 TABLE_ROWS = 12
 EOS_CHOICES = (("PR", "Peng-Robinson (PR)"), ("SRK", "Soave-Redlich-Kwong (SRK)"), ("RK", "Redlich-Kwong (RK)"),
-               ("VDW", "van der Waals (VDW)"))
+               ("VDW", "van der Waals (VDW)"),
+               ("GERG2008", "GERG-2008 (Kunz and Wagner 2012; 21 components; kij: table only)"))
 KIJ_CHOICES = (("table", "published values from jtcheck's kij table (pairs without one: 0, listed)"),
                ("zero", "all kij = 0"))
 FLUID_FORM_FIELDS = ("name", "composition", "eos", "kij_mode", "notes",
