@@ -445,3 +445,24 @@ def test_cold_liquid_density_root():
     prm = make_gerg_mixture(["n-hexane"]).kernel_params
     rho = gk.density_tp(prm, 210.0, 10e5, np.ones(1), LIQUID)
     assert rho == pytest.approx(CoolProp.PropsSI("Dmolar", "T", 210.0, "P", 10e5, "n-Hexane"), rel=5e-3)
+
+
+@pytest.mark.parametrize("cid", ["nitrogen", "methane"])
+def test_supercritical_gases_not_liquid(cid):
+    """Pure N2 and CH4 at 300 K, far above their critical temperatures: the phase identification parameter
+    (Venkatarathnam and Oellrich 2011) is below 1 at 1 and 10 bar (vapour) and the PT flash never says liquid."""
+    mix = make_gerg_mixture([cid])
+    for P in (1e5, 10e5):
+        assert gk.pip(mix.kernel_params, 300.0, P, np.ones(1), GIBBS) < 1.0
+    for P in (1e5, 10e5, 100e5):
+        assert flash_pt(mix, 300.0, P, np.ones(1)).phase in ("vapour", "supercritical")
+
+
+@pytest.mark.parametrize("cid", ["hydrogen", "helium"])
+def test_pip_of_near_ideal_repulsive_gases(cid):
+    """For an ideal gas the phase identification parameter is exactly 1 (Venkatarathnam and Oellrich 2011, eq. for
+    P = rho R T); H2 and He at 300 K and 1 bar have Z slightly above 1 and PIP within 1e-3 above 1, so the rule
+    'PIP above 1 is liquid' alone would call these gases liquid."""
+    mix = make_gerg_mixture([cid])
+    pip = gk.pip(mix.kernel_params, 300.0, 1e5, np.ones(1), GIBBS)
+    assert 1.0 < pip < 1.001
