@@ -466,3 +466,27 @@ def test_pip_of_near_ideal_repulsive_gases(cid):
     mix = make_gerg_mixture([cid])
     pip = gk.pip(mix.kernel_params, 300.0, 1e5, np.ones(1), GIBBS)
     assert 1.0 < pip < 1.001
+
+
+def test_ps_uv_tv_flashes_run_on_gerg():
+    """The PS, UV and TV flashes (written once over the model interface) recover a GERG-2008 PT state of the rich
+    gas, single-phase (320 K, 50 bar) and two-phase (250 K, 30 bar)."""
+    from jtcheck.thermo.flash import flash_ps, flash_tv, flash_uv
+
+    ids = ["methane", "ethane", "propane", "n-butane", "nitrogen", "carbon dioxide"]
+    z = np.array([0.70, 0.10, 0.10, 0.06, 0.02, 0.02])
+    mix = make_gerg_mixture(ids)
+    for T, P in [(320.0, 50e5), (250.0, 30e5)]:
+        ref = flash_pt(mix, T, P, z)
+        assert ref.converged
+        ps = flash_ps(mix, P, ref.s, z, T_guess=T + 15.0)
+        assert ps.converged and ps.T == pytest.approx(T, abs=1e-6)
+        if ref.beta in (0.0, 1.0):
+            v = gk.props(mix.kernel_params, T, P, z, GIBBS)[1]
+        else:
+            v = (ref.beta * gk.props(mix.kernel_params, T, P, ref.y, VAPOUR)[1]
+                 + (1.0 - ref.beta) * gk.props(mix.kernel_params, T, P, ref.x, LIQUID)[1])
+        uv = flash_uv(mix, ref.h - P * v, v, z, T_guess=T + 10.0)
+        assert uv.converged and uv.T == pytest.approx(T, abs=1e-5) and uv.P == pytest.approx(P, rel=1e-6)
+        tv = flash_tv(mix, T, v, z)
+        assert tv.converged and tv.P == pytest.approx(P, rel=1e-6)
