@@ -445,3 +445,48 @@ def test_cold_liquid_density_root():
     prm = make_gerg_mixture(["n-hexane"]).kernel_params
     rho = gk.density_tp(prm, 210.0, 10e5, np.ones(1), LIQUID)
     assert rho == pytest.approx(CoolProp.PropsSI("Dmolar", "T", 210.0, "P", 10e5, "n-Hexane"), rel=5e-3)
+
+
+@pytest.mark.parametrize("cid", ["nitrogen", "methane"])
+def test_supercritical_gases_not_liquid(cid):
+    """Pure N2 and CH4 at 300 K, far above their critical temperatures: the phase identification parameter
+    (Venkatarathnam and Oellrich 2011) is below 1 at 1 and 10 bar (vapour) and the PT flash never says liquid."""
+    mix = make_gerg_mixture([cid])
+    for P in (1e5, 10e5):
+        assert gk.pip(mix.kernel_params, 300.0, P, np.ones(1), GIBBS) < 1.0
+    for P in (1e5, 10e5, 100e5):
+        assert flash_pt(mix, 300.0, P, np.ones(1)).phase in ("vapour", "supercritical")
+
+
+@pytest.mark.parametrize("cid", ["hydrogen", "helium"])
+def test_pip_of_near_ideal_repulsive_gases(cid):
+    """For an ideal gas the phase identification parameter is exactly 1 (Venkatarathnam and Oellrich 2011, eq. for
+    P = rho R T); H2 and He at 300 K and 1 bar have Z slightly above 1 and PIP within 1e-3 above 1, so the rule
+    'PIP above 1 is liquid' alone would call these gases liquid."""
+    mix = make_gerg_mixture([cid])
+    pip = gk.pip(mix.kernel_params, 300.0, 1e5, np.ones(1), GIBBS)
+    assert 1.0 < pip < 1.001
+
+
+def test_ps_uv_tv_flashes_run_on_gerg():
+    """The PS, UV and TV flashes (written once over the model interface) recover a GERG-2008 PT state of the rich
+    gas, single-phase (320 K, 50 bar) and two-phase (250 K, 30 bar)."""
+    from jtcheck.thermo.flash import flash_ps, flash_tv, flash_uv
+
+    ids = ["methane", "ethane", "propane", "n-butane", "nitrogen", "carbon dioxide"]
+    z = np.array([0.70, 0.10, 0.10, 0.06, 0.02, 0.02])
+    mix = make_gerg_mixture(ids)
+    for T, P in [(320.0, 50e5), (250.0, 30e5)]:
+        ref = flash_pt(mix, T, P, z)
+        assert ref.converged
+        ps = flash_ps(mix, P, ref.s, z, T_guess=T + 15.0)
+        assert ps.converged and ps.T == pytest.approx(T, abs=1e-6)
+        if ref.beta in (0.0, 1.0):
+            v = gk.props(mix.kernel_params, T, P, z, GIBBS)[1]
+        else:
+            v = (ref.beta * gk.props(mix.kernel_params, T, P, ref.y, VAPOUR)[1]
+                 + (1.0 - ref.beta) * gk.props(mix.kernel_params, T, P, ref.x, LIQUID)[1])
+        uv = flash_uv(mix, ref.h - P * v, v, z, T_guess=T + 10.0)
+        assert uv.converged and uv.T == pytest.approx(T, abs=1e-5) and uv.P == pytest.approx(P, rel=1e-6)
+        tv = flash_tv(mix, T, v, z)
+        assert tv.converged and tv.P == pytest.approx(P, rel=1e-6)
