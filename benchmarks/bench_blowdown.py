@@ -7,7 +7,12 @@ vertical vessel 2 m inside diameter x 6 m, 30 mm carbon steel wall with 4 cells,
 through a 40 mm blowdown valve (Cd 0.85) to 1.5 bar abs, still air outside at 15 degC, 15 minutes.  Each run is
 timed warm (the compiled kernels loaded and the fluid's phase envelope computed by a first, untimed run); the
 table says how many UV flashes (one per Runge-Kutta stage) and PS flashes (nozzle searches) each run made.
-Also a pure-propane vessel with liquid (the same model with two phases), for the flash counts.
+Also a pure-propane vessel with liquid (the same model with two phases), for the flash counts, and the first-film
+case of issue 16 (invented: a 36 m^3 horizontal vessel 2.4 m x 8 m, 40 mm wall, a 6-component lean gas at 71 bar
+abs and 300 K, 40 mm orifice to 1.5 bar abs, no heat input, 15 minutes), where a first liquid film condenses.
+Before the implicit wall coefficient (commit 27b1024) that case took 6 074 steps, 86 693 flashes and 32.8 s on
+this machine (the 3 K wall limit cut the step to ~0.1 s while the film's boiling coefficient was held); its step
+count is bounded by tests/blowdown/test_step_collapse.py.
 
 Target (issue 16): the 15-minute 6-component gas blowdown with wall conduction, equilibrium model, <= 3 s.
 The reference library is not timed here: no general-purpose library on the package registry offers a vessel
@@ -50,6 +55,17 @@ def liquid_case():
     return fluid, kwargs
 
 
+def film_case():
+    from jtcheck import Fluid
+    from jtcheck.blowdown import Orifice, Vessel
+
+    gas = {"methane": 0.88, "ethane": 0.06, "propane": 0.03, "isobutane": 0.01, "n-butane": 0.01, "nitrogen": 0.01}
+    fluid = Fluid(gas, eos="PR")
+    kwargs = dict(p0_pa=71e5, t0_k=300.0, vessel=Vessel("horizontal", 2.4, 8.0, 0.04),
+                  orifices=Orifice(0.04, 0.85, 1.5e5), heat_input="none", end_time_s=900.0, wall_nodes=4)
+    return fluid, kwargs
+
+
 def timed(make, repeats: int = 3):
     from jtcheck import depressure
 
@@ -73,7 +89,8 @@ def main() -> None:
     print(f"{'case':44s} {'time s':>8s} {'steps':>6s} {'rejected':>8s} {'flashes':>8s} {'converged':>9s} "
           f"{'t_end s':>8s} {'P_end bar':>9s} {'Tmin K':>7s} {'Twall K':>7s}")
     for name, make in (("6-component gas, 15 min, wall 4 cells", gas_case),
-                       ("propane with liquid, 15 min, wall 4 cells", liquid_case)):
+                       ("propane with liquid, 15 min, wall 4 cells", liquid_case),
+                       ("first liquid film, 36 m3, 71 bar, 15 min", film_case)):
         best, r = timed(make)
         walls = [v for v in (r.min_wall_gas_t.value, r.min_wall_liquid_t.value) if np.isfinite(v)]
         print(f"{name:44s} {best:8.3f} {r.steps:6d} {r.rejected_steps:8d} {r.flashes:8d} {str(r.converged):>9s} "
