@@ -98,3 +98,15 @@ def test_a_first_film_has_almost_no_wetted_area(orientation):
     slope = areas / vols
     assert slope[0] <= 2.0 * slope[10]                     # bounded as V -> 0, not growing like V^(-2/3)
     assert v.wetted_area_m2(1e-6) < 1e-2
+
+
+def test_the_implicit_wall_step_conserves_energy():
+    # the heat through the inside surface over the step equals the wall's energy change (no outside heat): what the
+    # wall gives the fluid is what it loses (first law)
+    mat = MATERIALS["carbon steel"]
+    w = np.array([290.0, 292.0, 294.0, 296.0])
+    law = lambda d: 20.0 * max(d, 0.0) ** (7.0 / 3.0) + 100.0   # noqa: E731
+    dt, thick, tf = 12.0, 0.04, 235.0
+    new, h = conduction_step_implicit(w, dt, thick, mat, law, tf, 0.0, 288.0, 0.0, law(55.0))
+    stored = mat.density_kg_per_m3 * mat.cp_j_per_kg_k * thick / w.size * float(np.sum(new - w))
+    assert stored == pytest.approx(h * (tf - new[0]) * dt, rel=1e-9)
