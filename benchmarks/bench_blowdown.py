@@ -66,6 +66,34 @@ def film_case():
     return fluid, kwargs
 
 
+def demo_case():
+    """The demo site's BDV-2102 (invented, Kestrel Ridge; jtcheck/records/demo.py): inlet separator V-2100."""
+    from jtcheck import Fluid
+    from jtcheck.blowdown import Orifice, Vessel
+    from jtcheck.records.demo import FLUIDS
+
+    comp = next(f["composition"] for f in FLUIDS if f["name"] == "Kestrel separator gas")
+    bar, patm = 1e5, 101325.0
+    kwargs = dict(p0_pa=70 * bar + patm, t0_k=298.15, vessel=Vessel("vertical", 1.8, 5.0, 0.035),
+                  orifices=Orifice(0.035, 0.85, 2 * bar + patm), heat_input="none", end_time_s=900.0)
+    return Fluid(comp), kwargs
+
+
+def haque_case():
+    """The non-condensable gas test of Haque et al. 1992 Part II (inputs as tests/blowdown/test_haque_experiment.py)."""
+    import math
+
+    from jtcheck import Fluid
+    from jtcheck.blowdown import HeatInput, Orifice, Vessel
+
+    d, l_cyl, atm = 1.13, 2.25, 101325.0
+    length = l_cyl + 2 * 0.0809 * d ** 3 / (0.25 * math.pi * d * d)
+    kwargs = dict(p0_pa=120 * atm, t0_k=303.0, vessel=Vessel("horizontal", d, length, 0.059),
+                  orifices=Orifice(0.00635, 0.85, 1.01e5), heat_input=HeatInput("ambient", 293.0), end_time_s=2000.0,
+                  valve_points=5)
+    return Fluid({"methane": 0.91, "ethane": 0.09}), kwargs
+
+
 def timed(make, repeats: int = 3):
     from jtcheck import depressure
 
@@ -90,7 +118,9 @@ def main() -> None:
           f"{'t_end s':>8s} {'P_end bar':>9s} {'Tmin K':>7s} {'Twall K':>7s}")
     for name, make in (("6-component gas, 15 min, wall 4 cells", gas_case),
                        ("propane with liquid, 15 min, wall 4 cells", liquid_case),
-                       ("first liquid film, 36 m3, 71 bar, 15 min", film_case)):
+                       ("first liquid film, 36 m3, 71 bar, 15 min", film_case),
+                       ("demo BDV-2102 (invented), 15 min", demo_case),
+                       ("Haque et al. 1992 II gas test, 2000 s", haque_case)):
         best, r = timed(make)
         walls = [v for v in (r.min_wall_gas_t.value, r.min_wall_liquid_t.value) if np.isfinite(v)]
         print(f"{name:44s} {best:8.3f} {r.steps:6d} {r.rejected_steps:8d} {r.flashes:8d} {str(r.converged):>9s} "
