@@ -7,7 +7,13 @@ vertical vessel 2 m inside diameter x 6 m, 30 mm carbon steel wall with 4 cells,
 through a 40 mm blowdown valve (Cd 0.85) to 1.5 bar abs, still air outside at 15 degC, 15 minutes.  Each run is
 timed warm (the compiled kernels loaded and the fluid's phase envelope computed by a first, untimed run); the
 table says how many UV flashes (one per Runge-Kutta stage) and PS flashes (nozzle searches) each run made.
-Also a pure-propane vessel with liquid (the same model with two phases), for the flash counts.
+Also a pure-propane vessel with liquid (the same model with two phases), for the flash counts, and the first-film
+case of issue 16 (invented: a 36 m^3 horizontal vessel 2.4 m x 8 m, 40 mm wall, a 6-component lean gas at 71 bar
+abs and 300 K, 40 mm orifice to 1.5 bar abs, no heat input, 15 minutes), where a first liquid film condenses.
+Before the implicit wall coefficient (commit 27b1024, this script run against that code) that case took 6 074
+steps, 86 693 flashes and 15.4 s warm (32.8 s for a first, cold run) on this machine: the 3 K wall limit cut the
+step to ~0.1 s while the film's boiling coefficient was held.  After: 263 steps, 6 434 flashes, about 1 s.  Its
+step count is bounded by tests/blowdown/test_step_collapse.py.
 
 Target (issue 16): the 15-minute 6-component gas blowdown with wall conduction, equilibrium model, <= 3 s.
 The reference library is not timed here: no general-purpose library on the package registry offers a vessel
@@ -50,6 +56,45 @@ def liquid_case():
     return fluid, kwargs
 
 
+def film_case():
+    from jtcheck import Fluid
+    from jtcheck.blowdown import Orifice, Vessel
+
+    gas = {"methane": 0.88, "ethane": 0.06, "propane": 0.03, "isobutane": 0.01, "n-butane": 0.01, "nitrogen": 0.01}
+    fluid = Fluid(gas, eos="PR")
+    kwargs = dict(p0_pa=71e5, t0_k=300.0, vessel=Vessel("horizontal", 2.4, 8.0, 0.04),
+                  orifices=Orifice(0.04, 0.85, 1.5e5), heat_input="none", end_time_s=900.0, wall_nodes=4)
+    return fluid, kwargs
+
+
+def demo_case():
+    """The demo site's BDV-2102 (invented, Kestrel Ridge; jtcheck/records/demo.py): inlet separator V-2100."""
+    from jtcheck import Fluid
+    from jtcheck.blowdown import Orifice, Vessel
+    from jtcheck.records.demo import FLUIDS
+
+    comp = next(f["composition"] for f in FLUIDS if f["name"] == "Kestrel separator gas")
+    bar, patm = 1e5, 101325.0
+    kwargs = dict(p0_pa=70 * bar + patm, t0_k=298.15, vessel=Vessel("vertical", 1.8, 5.0, 0.035),
+                  orifices=Orifice(0.035, 0.85, 2 * bar + patm), heat_input="none", end_time_s=900.0)
+    return Fluid(comp), kwargs
+
+
+def haque_case():
+    """The non-condensable gas test of Haque et al. 1992 Part II (inputs as tests/blowdown/test_haque_experiment.py)."""
+    import math
+
+    from jtcheck import Fluid
+    from jtcheck.blowdown import HeatInput, Orifice, Vessel
+
+    d, l_cyl, atm = 1.13, 2.25, 101325.0
+    length = l_cyl + 2 * 0.0809 * d ** 3 / (0.25 * math.pi * d * d)
+    kwargs = dict(p0_pa=120 * atm, t0_k=303.0, vessel=Vessel("horizontal", d, length, 0.059),
+                  orifices=Orifice(0.00635, 0.85, 1.01e5), heat_input=HeatInput("ambient", 293.0), end_time_s=2000.0,
+                  valve_points=5)
+    return Fluid({"methane": 0.91, "ethane": 0.09}), kwargs
+
+
 def timed(make, repeats: int = 3):
     from jtcheck import depressure
 
@@ -73,7 +118,10 @@ def main() -> None:
     print(f"{'case':44s} {'time s':>8s} {'steps':>6s} {'rejected':>8s} {'flashes':>8s} {'converged':>9s} "
           f"{'t_end s':>8s} {'P_end bar':>9s} {'Tmin K':>7s} {'Twall K':>7s}")
     for name, make in (("6-component gas, 15 min, wall 4 cells", gas_case),
-                       ("propane with liquid, 15 min, wall 4 cells", liquid_case)):
+                       ("propane with liquid, 15 min, wall 4 cells", liquid_case),
+                       ("first liquid film, 36 m3, 71 bar, 15 min", film_case),
+                       ("demo BDV-2102 (invented), 15 min", demo_case),
+                       ("Haque et al. 1992 II gas test, 2000 s", haque_case)):
         best, r = timed(make)
         walls = [v for v in (r.min_wall_gas_t.value, r.min_wall_liquid_t.value) if np.isfinite(v)]
         print(f"{name:44s} {best:8.3f} {r.steps:6d} {r.rejected_steps:8d} {r.flashes:8d} {str(r.converged):>9s} "

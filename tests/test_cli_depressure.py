@@ -7,7 +7,7 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from jtcheck.cli import EXIT_FAIL, EXIT_INPUT, main
+from jtcheck.cli import EXIT_FAIL, EXIT_INPUT, EXIT_NOT_SCREENED, main
 
 BASE = ["depressure", "--fluid", "methane=1", "--p0", "50 bara", "--t0", "20 degC", "--diameter", "1 m",
         "--length", "2 m", "--wall-thickness", "20 mm", "--orifice", "25 mm", "--back-pressure", "1.2 bara",
@@ -47,3 +47,19 @@ def test_bad_input_exits_2_naming_the_field(extra, field):
     res = CliRunner().invoke(main, BASE + extra)
     assert res.exit_code == EXIT_INPUT
     assert field in res.output
+
+
+def test_a_run_past_its_time_budget_is_not_screened():
+    # fail closed: past --max-seconds the run stops, not converged, not screened, with the reason
+    res = run(*BASE, "--json", "--mdmt", "-100 degC", "--max-seconds", "1e-9")
+    data = json.loads(res.output)
+    assert data["converged"] is False
+    assert data["outcome"] == "not screened"
+    assert "time budget" in data["message"]
+    assert res.exit_code == EXIT_NOT_SCREENED
+
+
+def test_a_bad_time_budget_is_an_input_error():
+    res = run(*BASE, "--max-seconds", "0")
+    assert res.exit_code == EXIT_INPUT
+    assert "max_seconds" in res.output

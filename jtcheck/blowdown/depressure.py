@@ -135,6 +135,7 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
                target_pressure_pa: float | None = None, target_time_s: float | None = 900.0,
                inside_heat_transfer=None, cold_limits: ColdLimits | None = None, rtol: float = 1e-4,
                max_step_s: float | None = None, valve_points: int = 40,
+               max_steps: int = integrate.MAX_STEPS, max_seconds: float = integrate.MAX_SECONDS,
                progress: Callable[[float, float], None] | None = None) -> DepressureResult:
     """Depressure a vessel through its orifices and follow pressure, fluid and wall temperatures in time.
 
@@ -177,6 +178,11 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
         Largest time step [s] (default end_time / 100).
     valve_points : int
         Times at which the valve outlet temperature is computed (letdowns), 2 to 500.
+    max_steps : int
+        Budget of accepted time steps, 1 to 10^6; a run that needs more stops, not converged and not screened.
+    max_seconds : float
+        Budget of computing time [s], above 0 and at most 3600; a run that exceeds it stops, not converged and
+        not screened, with the reason.
     progress : callable(time_s, pressure_pa), optional
         Called after each accepted step.
 
@@ -226,6 +232,9 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
     if isinstance(valve_points, bool) or not isinstance(valve_points, (int, np.integer)) or \
             not 2 <= valve_points <= 500:
         raise InputError("valve_points", f"must be a whole number from 2 to 500, got {valve_points!r}")
+    if isinstance(max_steps, bool) or not isinstance(max_steps, (int, np.integer)) or not 1 <= max_steps <= 10**6:
+        raise InputError("max_steps", f"must be a whole number from 1 to 1000000, got {max_steps!r}")
+    budget_s = number("max_seconds", max_seconds, "computing-time budget", "s", 0.0, 3600.0)
     inside = _inside(inside_heat_transfer)
     N0, U0, notes = initial_inventory(fluid, vessel, p0, t0, liquid_level_m)
     if model == "two-zone" and not TWO_ZONE_ENABLED:
@@ -239,7 +248,7 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
         y0 = np.concatenate([N0, [U0]])
     contents.t_guess, contents.p_guess = t0, p0
     run = integrate.run(contents, y0, tw0, vessel, mat, int(wall_nodes), heat_input, t_end, p_end, tol, dt_max,
-                        progress)
+                        progress, max_steps=int(max_steps), max_trials=2 * int(max_steps), max_seconds=budget_s)
     inputs = {"p0_pa": p0, "t0_k": t0, "vessel": vessel.to_dict(), "orifices": [o.to_dict() for o in orfs],
               "liquid_level_m": liquid_level_m, "wall_material": mat.to_dict(), "wall_t0_k": tw0,
               "wall_nodes": int(wall_nodes), "heat_input": heat_input.to_dict(), "model": model,

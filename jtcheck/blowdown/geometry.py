@@ -11,8 +11,8 @@ from dataclasses import dataclass
 from jtcheck.errors import InputError
 
 ORIENTATIONS = ("vertical", "horizontal")
-#: A pool thinner than this wets its share of a vertical vessel's bottom [m] (keeps the wetted area continuous
-#: as the first liquid appears; the horizontal segment is continuous by itself).
+#: A pool thinner than this wets its share of a vertical vessel's bottom, or of a horizontal vessel's wetted shell
+#: [m] (the wetted area starts from zero with a finite slope as the first liquid appears: a film has ~zero area).
 FILM_M = 0.005
 
 
@@ -107,7 +107,9 @@ class Vessel:
             return self.end_area_m2 * min(1.0, h / FILM_M) + math.pi * self.inner_diameter_m * h
         r = 0.5 * self.inner_diameter_m
         arc = 2.0 * r * math.acos(min(max((r - h) / r, -1.0), 1.0))
-        return arc * self.length_m + 2.0 * self._segment_area(h)
+        # the shell's wetted arc grows as sqrt(h) from zero (an infinite slope at the first liquid); a pool thinner
+        # than FILM_M wets its share of it, so a first film has a wetted area that starts at zero with a finite slope
+        return (arc * self.length_m + 2.0 * self._segment_area(h)) * min(1.0, h / FILM_M)
 
     def to_dict(self) -> dict:
         return {"orientation": self.orientation, "inner_diameter_m": self.inner_diameter_m, "length_m": self.length_m,

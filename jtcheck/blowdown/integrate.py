@@ -5,19 +5,26 @@ the embedded Runge-Kutta 3(2) pair of Bogacki and Shampine, Appl. Math. Lett. 2 
 last), with the local error held below ``rtol`` (component moles relative to the inventory, energy relative to
 n R T).  The released mass and enthalpy and the heat from each wall zone are integrated with the same stages,
 so the balances close to the flash tolerance.  Each step starts with the wall (backward Euler, the inside and
-outside convection implicit, :func:`jtcheck.blowdown.wall.conduction_step`, with the coefficients of the step's
-start); the heat it gives the fluid is held over the step, so wall and fluid exchange exactly the same energy.
+outside convection implicit, :func:`jtcheck.blowdown.wall.conduction_step_implicit`); the inside coefficient is
+taken at the end-of-step wall superheat, scaled from its start value by the correlation's own power of the
+superheat (natural convection 1/3, nucleate boiling 7/3), so a wall under a boiling film is not stiff: before,
+a first liquid film's coefficient, held at its start value, drove the liquid-wetted wall cell by tens of kelvin
+in a fraction of a second and the 3 K wall limit cut the step to ~0.1 s for minutes (issue 16).  The heat the
+wall gives the fluid is held over the step, so wall and fluid exchange exactly the same energy.
 The wall sees the fluid's end-of-step temperature: a first pass with the start temperature, then, when the wall
 coupling matters, a second pass with the linearised fixed point (the wall's conductance against the fluid's
 heat capacity), so that a thin, well-coupled wall neither lags nor oscillates.  A step is also kept below a 2 %
 change of the inventory, 2 K change of the fluid temperature and 3 K change of any wall cell.
 
 A trial state whose flash or nozzle solve fails shortens the step; when the step falls below ``MIN_STEP_S``
-the run stops, reports why, and the result is not converged (never screened as a pass).
+the run stops, reports why, and the result is not converged (never screened as a pass).  So does a run that
+exceeds its budget of accepted steps, of trial steps or of computing time (``MAX_STEPS``, ``MAX_TRIALS``,
+``MAX_SECONDS``): a register case computes inside a web request and must fail closed, not run for minutes.
 """
 from __future__ import annotations
 
 import math
+import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -27,7 +34,7 @@ from jtcheck.blowdown import heat
 from jtcheck.blowdown.contents import State, StepFailedError
 from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import HeatInput
-from jtcheck.blowdown.wall import WallMaterial, conduction_step
+from jtcheck.blowdown.wall import WallMaterial, conduction_step, conduction_step_implicit
 
 R = 8.314462618
 MIN_STEP_S = 1e-6
@@ -38,6 +45,11 @@ MAX_FLUID_CHANGE_K = 2.0
 #: coupling estimate moves that temperature by more than this [K].
 COUPLING_TOL_K = 0.2
 MAX_STEPS = 20000
+#: Budget of trial steps (accepted, rejected and shortened) and of computing time [s] of one run: a run that
+#: exceeds either stops, not converged and not screened, with the reason (a register case computes inside a web
+#: request and must not run for minutes).
+MAX_TRIALS = 40000
+MAX_SECONDS = 60.0
 
 # Bogacki-Shampine 3(2) tableau
 _B = (2.0 / 9.0, 1.0 / 3.0, 4.0 / 9.0)
@@ -123,13 +135,34 @@ def _deriv(contents, st: State, q_gas: float, q_liq: float) -> np.ndarray:
     return d
 
 
+def _coefficient_law(contents, h0: float, d0: float, zone_liquid: bool) -> Callable[[float], float] | None:
+    """The inside coefficient [W/(m^2 K)] as a function of the wall superheat d [K], scaled from its value ``h0`` at
+    the step's start superheat ``d0`` by the correlation's own power of the superheat: natural convection
+    h ~ |d|^(1/3) (McAdams 1954), nucleate boiling h ~ d^(7/3) (Mostinski 1963, q = h d with h ~ q^0.7) above the
+    liquid floor.  None where the coefficient does not depend on the superheat (a fixed coefficient, or none)."""
+    if getattr(contents.inside, "mode", "correlation") != "correlation" or not h0 > 0.0 or d0 == 0.0:
+        return None
+    if not zone_liquid:
+        return lambda d: h0 * (abs(d) / abs(d0)) ** (1.0 / 3.0)
+    floor = heat.LIQUID_NC_W_PER_M2_K
+    if d0 <= 0.0 or h0 <= floor:
+        return None
+    return lambda d: max(h0 * (d / d0) ** (7.0 / 3.0), floor) if d > 0.0 else floor
+
+
 def _wall_step(w: np.ndarray, dt: float, vessel: Vessel, mat: WallMaterial, h_in: float, area: float, t_fluid: float,
-               heat_input: HeatInput, zone_liquid: bool, area_liquid: float) -> tuple[np.ndarray, float]:
-    """(new cell temperatures, mean heat flow to the fluid over the step [W]) of one wall zone."""
+               heat_input: HeatInput, zone_liquid: bool, area_liquid: float,
+               law: Callable[[float], float] | None = None) -> tuple[np.ndarray, float]:
+    """(new cell temperatures, mean heat flow to the fluid over the step [W]) of one wall zone; with ``law`` the
+    inside coefficient is taken at the end-of-step superheat (fully implicit), else ``h_in`` is held."""
     if area <= 0.0:
         return w, 0.0
     h_o, q_o = _outside(heat_input, float(w[-1]), area_liquid, zone_liquid)
-    new = conduction_step(w, dt, vessel.wall_thickness_m, mat, h_in, t_fluid, h_o, heat_input.ambient_t_k, q_o)
+    if law is None:
+        new = conduction_step(w, dt, vessel.wall_thickness_m, mat, h_in, t_fluid, h_o, heat_input.ambient_t_k, q_o)
+    else:
+        new, h_in = conduction_step_implicit(w, dt, vessel.wall_thickness_m, mat, law, t_fluid, h_o,
+                                             heat_input.ambient_t_k, q_o, h_in)
     return new, h_in * area * (float(new[0]) - t_fluid)
 
 
@@ -148,8 +181,13 @@ def _move_metal(wg: np.ndarray, wl: np.ndarray, a_old: float, a_new: float,
                 a_total: float) -> tuple[np.ndarray, np.ndarray]:
     """Carry the metal that changes zone with the liquid level: a rising level wets metal from the gas zone, a
     falling one leaves liquid-zone metal to the gas; each zone's cells take the area-weighted mean (the wall
-    energy is conserved).  A zone without area follows the other."""
+    energy is conserved).  A zone without area follows the other; a liquid zone that vanishes gives its metal back to
+    the gas zone (before, its cells were dropped and the gas zone's copied, which created wall energy each time a
+    first film flickered in and out)."""
     if a_new <= 0.0:
+        if a_old > 0.0 and a_total > 0.0:
+            # the liquid zone vanished: its metal returns to the gas zone
+            wg = (wg * (a_total - a_old) + wl * a_old) / a_total
         return wg, wg.copy()
     if a_old <= 0.0:
         return wg, wg.copy()
@@ -179,18 +217,20 @@ def _attempt(contents, st: State, y: np.ndarray, dt: float, t_g: float, t_l: flo
     liquid-wetted wall the liquid at ``t_l``), its heat held over the Runge-Kutta stages of the fluid.  None when a
     wall cell would change by more than MAX_WALL_CHANGE_K; raises StepFailedError when a flash or nozzle solve fails."""
     m = contents.size
+    law_g = _coefficient_law(contents, st.h_gas_w_per_m2_k, float(wg[0]) - st.t_gas_k, False)
+    law_l = _coefficient_law(contents, st.h_liquid_w_per_m2_k, float(wl[0]) - st.t_liquid_k, True)
     wg_new, q_g = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_g, heat_input, False,
-                             st.area_liquid_m2)
+                             st.area_liquid_m2, law_g)
     wl_new, q_l = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_l, heat_input, True,
-                             st.area_liquid_m2)
+                             st.area_liquid_m2, law_l)
     dtw = max(float(np.max(np.abs(wg_new - wg))), float(np.max(np.abs(wl_new - wl))))
     if dtw > MAX_WALL_CHANGE_K and dt > 1e-3:
         return None
     # conductances: how each wall's heat to the fluid falls as the fluid temperature it sees rises [W/K]
     _, q_g1 = _wall_step(wg, dt, vessel, mat, st.h_gas_w_per_m2_k, st.area_gas_m2, t_g + 1.0, heat_input, False,
-                         st.area_liquid_m2)
+                         st.area_liquid_m2, law_g)
     _, q_l1 = _wall_step(wl, dt, vessel, mat, st.h_liquid_w_per_m2_k, st.area_liquid_m2, t_l + 1.0, heat_input, True,
-                         st.area_liquid_m2)
+                         st.area_liquid_m2, law_l)
     k1 = _deriv(contents, st, q_g, q_l)
     y2 = y + 0.5 * dt * k1
     k2 = _deriv(contents, contents.evaluate_y(y2[:m], wg[0], wl[0]), q_g, q_l)
@@ -207,13 +247,17 @@ def _attempt(contents, st: State, y: np.ndarray, dt: float, t_g: float, t_l: flo
 
 def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMaterial, wall_nodes: int,
         heat_input: HeatInput, end_time_s: float, end_pressure_pa: float, rtol: float, max_step_s: float,
-        progress: Callable[[float, float], None] | None = None) -> RunOutcome:
+        progress: Callable[[float, float], None] | None = None, max_steps: int = MAX_STEPS,
+        max_trials: int = MAX_TRIALS, max_seconds: float = MAX_SECONDS) -> RunOutcome:
     """Step a vessel model from its inventory ``y0`` to ``end_time_s`` or ``end_pressure_pa``.
 
     ``contents`` is the model (:class:`jtcheck.blowdown.contents.Contents` for the equilibrium model,
     :class:`jtcheck.blowdown.twozone.TwoZoneContents` for the two-zone model): ``size``, ``evaluate_y(y, tw_gas,
     tw_liq)``, ``rates(state, q_gas, q_liq)``, ``error(e, y, state)``, ``check(y)``, ``settle(y, state)`` (what
-    happens between steps), ``fixed_point(state, trial, dt)``, ``moles(y)``, ``mass(y)`` and ``energy(y)``."""
+    happens between steps), ``fixed_point(state, trial, dt)``, ``moles(y)``, ``mass(y)`` and ``energy(y)``.
+
+    ``max_steps`` (accepted steps), ``max_trials`` (trial steps of any kind) and ``max_seconds`` (computing time
+    [s]) bound the run: past any of them it stops, not converged, with the reason (fail closed)."""
     m = contents.size
     contents.rtol = rtol
     y = np.concatenate([np.asarray(y0, float), [0.0, 0.0, 0.0, 0.0]])
@@ -230,7 +274,8 @@ def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMat
     _record(s, t, st, wg, wl, vessel)
     dt = min(max_step_s, 1.0)
     dTdt = 0.0
-    steps = rejected = 0
+    steps = rejected = trials = 0
+    clock0 = time.perf_counter()
     message = ""
     stop = ""
     converged = True
@@ -245,9 +290,21 @@ def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMat
         if st.mdot_kg_per_s <= 0.0 and heat_input.kind != "fire":
             stop = "no flow: the vessel is at the back pressure"
             break
-        if steps >= MAX_STEPS:
-            converged, message, stop = False, f"stopped after {MAX_STEPS} steps without reaching the end", "failed"
+        if steps >= max_steps:
+            converged, stop = False, "failed"
+            message = f"stopped after {max_steps} steps at t = {t:.6g} s without reaching the end (step budget)"
             break
+        if trials >= max_trials:
+            converged, stop = False, "failed"
+            message = (f"stopped after {trials} trial steps ({steps} accepted) at t = {t:.6g} s without reaching the "
+                       "end (trial-step budget)")
+            break
+        if time.perf_counter() - clock0 > max_seconds:
+            converged, stop = False, "failed"
+            message = (f"stopped after {max_seconds:g} s of computing time at t = {t:.6g} s ({steps} steps) without "
+                       "reaching the end (time budget)")
+            break
+        trials += 1
         # step limit: the inventory change
         rate = st.ndot_mol_per_s / contents.moles(y[:m])
         if rate > 0.0:

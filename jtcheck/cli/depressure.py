@@ -128,10 +128,12 @@ def print_result(r) -> None:
 @click.option("--series", "series_path", default=None, help="Write every step to this CSV file (SI units).")
 @click.option("--json", "as_json", is_flag=True, help="Print the whole result as JSON.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
+@click.option("--max-seconds", default=60.0, show_default=True, type=float,
+              help="Computing-time budget [s]; past it the run stops, not converged and not screened.")
 def depressure_cmd(fluid_text, eos, p0, t0, orientation, diameter, length, wall_thickness, material, wall_nodes,
                    liquid_level, orifice, cd, back_pressure, heat, ambient, environment_factor, model, end_time,
                    end_pressure, target_pressure, design_pressure, target_time, mdmt, limit, margin, p_atm,
-                   series_path, as_json, quiet) -> None:
+                   series_path, as_json, quiet, max_seconds) -> None:
     """Depressure a vessel through its blowdown valve and follow pressure, fluid and wall temperatures in time."""
     from jtcheck import Fluid, depressure
     from jtcheck.blowdown import HeatInput, Orifice, Vessel, api521_target_pressure_pa
@@ -172,7 +174,7 @@ def depressure_cmd(fluid_text, eos, p0, t0, orientation, diameter, length, wall_
                       end_pressure_pa=None if end_pressure is None else parse_pressure(end_pressure, "end_pressure",
                                                                                        patm).pa,
                       target_pressure_pa=target, target_time_s=parse_duration(target_time, "target_time"),
-                      cold_limits=limits)
+                      cold_limits=limits, max_seconds=max_seconds)
     except InputError as err:
         fail_input(err)
     show = not quiet and not as_json

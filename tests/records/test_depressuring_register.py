@@ -112,3 +112,18 @@ def test_a_run_that_does_not_converge_is_not_screened(session, engineer, depress
     assert not result.converged
     assert result.screening["answers"]["depressuring"]["converged"] is False
     assert any(f["topic"] == "convergence" for f in result.screening["findings"])
+
+
+def test_a_run_past_its_time_budget_is_not_screened(session, engineer, depressuring_data, monkeypatch):
+    """Fail closed: a register case computes inside the web request; past its computing-time budget the run stops
+    and the case is "not screened" with the reason, never a partial curve that passes."""
+    import jtcheck.cases.depressuring as kind
+
+    monkeypatch.setattr(kind, "REGISTER_BUDGET_S", 1e-9)
+    case = service.create_case(session, engineer, depressuring_data())
+    result = service.compute_case(session, engineer, case.id)
+    assert result.outcome == "not screened"
+    assert not result.converged
+    run = result.screening["answers"]["depressuring"]
+    assert run["converged"] is False
+    assert "time budget" in run["message"]

@@ -36,6 +36,10 @@ from jtcheck.thermo.fluid import Fluid
 RUN_CONDITION = "depressuring run"
 #: Times at which the blowdown valve's outlet temperature is computed.
 VALVE_POINTS = 30
+#: Computing-time budget of a register case's run [s]: it computes inside the web request, whose worker is stopped
+#: at the server timeout (deploy/gunicorn.conf.py, 60 s by default); past this budget the run stops, not converged
+#: and not screened, with the reason, well before the request is cut.
+REGISTER_BUDGET_S = 20.0
 #: Where the engine's errors name an input, and where the case holds it.
 _ENGINE_FIELDS = {"liquid_level": "vessel.liquid_level_m", "t0": "inlet_temperature_k", "p0": "inlet_pressure_pa",
                   "back_pressure": "outlet_pressure_pa", "wall_t0": "vessel.wall_t0_k"}
@@ -85,7 +89,8 @@ class VesselDepressuringKind(CaseKind):
                                 wall_material=extra["wall_material"], wall_t0_k=extra["wall_t0_k"],
                                 heat_input=heat_input_of(values), end_time_s=plan.end_time_s,
                                 end_pressure_pa=plan.end_pressure_pa, target_pressure_pa=plan.target_pressure_pa,
-                                target_time_s=plan.target_time_s, valve_points=VALVE_POINTS)
+                                target_time_s=plan.target_time_s, valve_points=VALVE_POINTS,
+                                max_seconds=REGISTER_BUDGET_S)
         except InputError as exc:   # an input the fluid's state refuses (a liquid level in a gas): named as entered
             raise InputError(_ENGINE_FIELDS.get(exc.field, exc.field), exc.message) from None
         limits = cold_limits(values)
