@@ -3,7 +3,7 @@ PY ?= python3
 VENV ?= .venv
 BIN := $(VENV)/bin
 
-.PHONY: run test lint bench clean clean-kernels
+.PHONY: run test test-all-pg lint bench clean clean-kernels
 
 $(BIN)/python:
 	$(PY) -m venv $(VENV)
@@ -24,7 +24,9 @@ run: $(VENV)/.installed
 	@echo "jtcheck: starting (the first start compiles the calculation kernels: one to two minutes)..."
 	SESSION_COOKIE_SECURE=0 JTCHECK_RESET_ADMIN_PASSWORD=$(RESET_ADMIN) $(BIN)/python -m jtcheck.web --host 127.0.0.1 --port $${PORT:-8000}
 
-# The whole suite runs twice: on SQLite (the embedded default) and on PostgreSQL.
+# The whole suite runs on SQLite (the embedded default), then every test that touches a database (marked
+# `database`; tests/conftest.py fails a test that opens a connection without the mark) runs again on PostgreSQL.
+# `make test-all-pg` runs the whole suite on PostgreSQL.
 test: $(VENV)/.installed-test
 	$(BIN)/ruff check jtcheck tests benchmarks deploy
 	tests/tools/ensure_chromium.sh
@@ -32,6 +34,10 @@ test: $(VENV)/.installed-test
 	env -u DATABASE_URL $(BIN)/python -m pytest -q
 	@echo "== test suite on PostgreSQL =="
 	@# a database of its own per run, so that concurrent runs on one server cannot interfere
+	db=jtcheck_test_$$$$; url=$$(tests/tools/ensure_postgres.sh $$db) || exit 1; \
+	DATABASE_URL=$$url $(BIN)/python -m pytest -q -m database; rc=$$?; tests/tools/drop_postgres_db.sh $$db; exit $$rc
+
+test-all-pg: $(VENV)/.installed-test
 	db=jtcheck_test_$$$$; url=$$(tests/tools/ensure_postgres.sh $$db) || exit 1; \
 	DATABASE_URL=$$url $(BIN)/python -m pytest -q; rc=$$?; tests/tools/drop_postgres_db.sh $$db; exit $$rc
 

@@ -8,6 +8,9 @@ from click.testing import CliRunner
 
 from jtcheck.cli import EXIT_INPUT, main
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 FLUID = "methane=0.85,ethane=0.07,propane=0.03,n-butane=0.01,nitrogen=0.02,CO2=0.02"
 
 

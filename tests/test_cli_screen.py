@@ -214,6 +214,7 @@ def test_progress_only_on_a_terminal():
     assert cli._progress_wanted(True) is False
 
 
+@pytest.mark.database   # opens the case register (see tests/conftest.py)
 def test_fluid_names_resolve_against_the_case_register(tmp_path, monkeypatch):
     from jtcheck.records.demo import load_demo
 

@@ -34,6 +34,9 @@ from jtcheck.records.errors import PermissionDenied
 from jtcheck.records.models import AuditEntry, BatchJob, BatchStatus, Role, User
 from jtcheck.screening import batch as screening_batch
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 REDIS_URL = "redis://127.0.0.1:6379/15"
 #: Longest wait for a thread job [s] (the first screening of a process loads the compiled kernels).
 TIMEOUT_S = 180

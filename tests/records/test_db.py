@@ -10,6 +10,9 @@ from sqlalchemy import text
 
 from jtcheck.records import db
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 REPO = Path(__file__).resolve().parents[2]
 
 

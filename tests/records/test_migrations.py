@@ -14,6 +14,9 @@ from sqlalchemy.exc import DBAPIError, OperationalError
 from jtcheck.records.db import current_revision, downgrade_database, head_revision, upgrade_database
 from jtcheck.records.models import Base
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 TABLES = {"users", "sites", "units", "fluids", "materials", "cases", "case_results", "audit_log", "case_revisions",
           "review_steps"}
 

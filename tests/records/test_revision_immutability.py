@@ -18,6 +18,9 @@ from jtcheck.records.models import Case, CaseResult, CaseRevision, ReviewStep, R
 
 from .conftest import env_database_url
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 
 def fake_sign(request):
     return (request.pdf or b"%PDF-fake\n") + f"%{request.role}\n".encode()

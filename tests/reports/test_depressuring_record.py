@@ -17,6 +17,9 @@ from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_ch
 from jtcheck.reports.record import render_record
 from jtcheck.reports.screening_display import DisplayUnits
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 PDFTOTEXT = shutil.which("pdftotext")
 needs_poppler = pytest.mark.skipif(PDFTOTEXT is None, reason="poppler-utils (pdftotext) not installed; run "
                                                              "tests/tools/ensure_chromium.sh")

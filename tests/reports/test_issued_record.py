@@ -22,6 +22,9 @@ from jtcheck.reports.pki import InstancePKI
 from jtcheck.reports.record_fields import text_fields
 from jtcheck.reports.verify import verify_record
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 PDFTOTEXT = shutil.which("pdftotext")
 needs_poppler = pytest.mark.skipif(PDFTOTEXT is None, reason="poppler-utils not installed; run "
                                                              "tests/tools/ensure_chromium.sh")

@@ -29,6 +29,9 @@ from jtcheck.records.snapshot import case_snapshot
 from jtcheck.reports import charts
 from jtcheck.reports.record import SIGNATURE_ROLES, RenderedRecord, SignatureBox, render_html, render_record
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 PDFTOTEXT = shutil.which("pdftotext")
 PDFTOPPM = shutil.which("pdftoppm")
 needs_poppler = pytest.mark.skipif(PDFTOTEXT is None or PDFTOPPM is None,
