@@ -4,11 +4,10 @@ IChemE Part B, Process Saf. Environ. Prot. 70 (1992) 10-17, the non-condensable 
 mol %, 120 atm, 303 K, horizontal vessel 1.13 m inside diameter x 2.25 m with F&D heads, 59 mm wall, 6.35 mm
 orifice Cd 0.85 to atmosphere, ambient 293 K).
 
-The measured curves are as digitised from Wong, M.A., "Development of a mathematical model for blowdown of vessels
-containing multi-component hydrocarbon mixtures", PhD thesis, University of London (1998), and published in the
-open-source project ORS-Consulting/ORS-openthermo (validation/non-condensable_pressure.txt,
-non-condensable_gas_temp_lower.txt / _higher.txt (the spread of the gas thermocouples), non-condensable_wall_temp.txt;
-commit ac05434becd77c1dede94cb580ebf92b07d9b88b); the inputs above are those its test of the same experiment uses.
+The measured curves are the experiment's figures as digitised by Wong, M.A., "Development of a mathematical model
+for blowdown of vessels containing multi-component hydrocarbon mixtures", PhD thesis, University of London (1998)
+(pressure; the lower and higher gas thermocouple curves, their spread; the inner wall), read from a stored public
+copy of that digitisation; the inputs above are the experiment's as Haque et al. (1992) and Wong (1998) report it.
 The F&D heads are entered as the flat-ended cylinder of the same volume (head volume 0.0809 D^3 each, the usual
 approximation of an ASME flanged-and-dished head: common practice).
 """
