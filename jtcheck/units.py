@@ -140,8 +140,8 @@ def parse_pressure(text: str, field: str, p_atm_pa: float = P_ATM_DEFAULT_PA) ->
         pa += p_atm_pa
     if not pa > 0.0:
         zero = format_pressure(0.0, unit, p_atm_pa, 6) if gauge else f"0 {unit}"
-        raise InputError(field, f"{str(text).strip()!r} is not above absolute zero; allowed: above {zero}"
-                         + (f" (absolute zero with the atmospheric pressure {p_atm_pa / 1e5:.6g} bar)" if gauge else ""))
+        atm = f" (absolute zero with the atmospheric pressure {p_atm_pa / 1e5:.6g} bar)" if gauge else ""
+        raise InputError(field, f"{str(text).strip()!r} is not above absolute zero; allowed: above {zero}{atm}")
     return Pressure(pa=pa, text=str(text).strip(), unit=unit, gauge=gauge, p_atm_pa=p_atm_pa)
 
 

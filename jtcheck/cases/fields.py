@@ -48,9 +48,10 @@ _MARKS = {"pressure": marks.P, "temperature": marks.T, "difference": lambda v, f
 def _marked_range(lo: float, hi: float, lo_inclusive: bool, quantity: str, field: str) -> str:
     """A range in the user's units: ``"from -50 degC to 100 degC"`` (marked ends)."""
     mark = _MARKS[quantity]
+    absolute = " (absolute)" if quantity == "pressure" else ""
     if lo_inclusive:
-        return f"from {mark(lo, field, 6)} to {mark(hi, field, 6)}" + (" (absolute)" if quantity == "pressure" else "")
-    return f"above {mark(lo, field, 6)} and at most {mark(hi, field, 6)}" + (" (absolute)" if quantity == "pressure" else "")
+        return f"from {mark(lo, field, 6)} to {mark(hi, field, 6)}{absolute}"
+    return f"above {mark(lo, field, 6)} and at most {mark(hi, field, 6)}{absolute}"
 
 
 def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, float, bool],
