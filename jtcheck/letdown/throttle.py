@@ -66,10 +66,12 @@ def check_letdown_inputs(p_in, t_in, p_out):
         raise InputError("p_out", f"outlet pressure {marks.P(p_o, 'outlet_pressure', 6)} is above the inlet pressure "
                                   f"{marks.P(p_i, 'inlet_pressure', 6)}; a letdown needs p_out <= p_in")
     if np.any(t_in_b > 2000.0):
-        raise InputError("t_in", "inlet temperature must be below 2000 K (the range of the heat-capacity data)")
+        raise InputError("t_in", f"inlet temperature {marks.T(float(t_in_b.max()), 'inlet_temperature', 6)} is above "
+                                 f"{marks.T(2000.0, 'inlet_temperature', 6)}, the range of the heat-capacity data")
     if np.any(t_in_b < T_IN_MIN_K):
-        raise InputError("t_in", f"inlet temperature must be at least {T_IN_MIN_K:g} K (the lowest temperature of "
-                                 f"the heat-capacity data), got {float(t_in_b.min()):g} K")
+        raise InputError("t_in", f"inlet temperature {marks.T(float(t_in_b.min()), 'inlet_temperature', 6)} is below "
+                                 f"{marks.T(T_IN_MIN_K, 'inlet_temperature', 6)}, the lowest temperature of the "
+                                 "heat-capacity data")
     return p_in_b, t_in_b, p_out_b
 
 

@@ -30,7 +30,7 @@ from jtcheck import __version__
 from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records.models import CaseKind, Role
-from jtcheck.reports.numbers import fmt_number
+from jtcheck.reports.numbers import finalize_marks, fmt_number
 from jtcheck.web import database, errors, limits, security
 from jtcheck.web.batches import views as batch_views
 from jtcheck.web.cases.diagram import DiagramCache
@@ -126,6 +126,7 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
         batch_views.recover_at_start(app)
 
     app.jinja_env.filters["num"] = fmt_number
+    app.jinja_env.finalize = finalize_marks     # marked quantities in the case's units on every page
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
                                  CaseKind=CaseKind, current_user=security.current_user, result_units=units_of,
                                  case_kind=kind_of)

@@ -25,6 +25,7 @@ from jtcheck.screening.screen import Screening
 from jtcheck.units import (
     MATERIAL_OPTION_OF,
     MATERIAL_OPTIONS,
+    TextUnits,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -253,7 +254,8 @@ def compute_letdown():
     p_atm_pa = parse_p_atm(p_atm_text)
     lo, hi, _ = service.P_ATM_RANGE_PA
     if not lo <= p_atm_pa <= hi:
-        raise InputError("p_atm", f"atmospheric pressure {p_atm_pa:g} Pa is out of range; allowed: {lo:g} to {hi:g} Pa")
+        raise InputError("p_atm", f"atmospheric pressure {p_atm_text} is out of range; allowed: {lo / 1e5:g} to "
+                                  f"{hi / 1e5:g} bar")
     p_in_text = _q(data, "p_in", "100 bara")
     t_in_text = _q(data, "t_in", "40 degC")
     p_out_text = _q(data, "p_out", "10 barg")
@@ -311,7 +313,10 @@ def compute_letdown():
     display = {"p_in": p(p_in.pa), "t_in": t(t_in_k), "p_out": p(p_out.pa), "t_out": t(d["t_out"] if ok else None),
                "dt": dt(d["dt"] if ok else None), "p_in_max": p(p_in_max), "t_in_min": t(t_in_min),
                "p_out_min": p(p_out_min)}
-    return jsonify({
+    words = TextUnits.typed({k: v for k, v in data.items() if isinstance(v, str)}, p_atm_pa)
+    if data.get("units"):      # display units asked for: every quantity in them
+        words = TextUnits(temperature=t_unit, pressure=p_unit, p_atm_pa=p_atm_pa)
+    return jsonify(words.walk({
         "converged": ok, "message": result.message, "phase": result.phase, "inlet_phase": result.inlet_phase,
         "vapor_fraction": d["vapor_fraction"] if ok else None, "inlet_vapor_fraction": d["inlet_vapor_fraction"],
         "warnings": list(result.warnings),
@@ -319,4 +324,4 @@ def compute_letdown():
         "si": si, "display": display,
         "fluid": {"composition": {i: float(z) for i, z in zip(fluid.ids, fluid.zs, strict=True)},
                   "eos": fluid.eos.value, "kij": kij},
-        "screening": screened, "basis": d["basis"], "notes": notes, "caution": CAUTION})
+        "screening": screened, "basis": d["basis"], "notes": notes, "caution": CAUTION}))
