@@ -29,6 +29,7 @@ from werkzeug.middleware.proxy_fix import ProxyFix
 from jtcheck import __version__
 from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
+from jtcheck.records.demo_labels import site_label
 from jtcheck.records.models import CaseKind, Role
 from jtcheck.reports.numbers import finalize_marks, fmt_number
 from jtcheck.web import database, errors, limits, security
@@ -129,7 +130,7 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
     app.jinja_env.finalize = finalize_marks     # marked quantities in the case's units on every page
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
                                  CaseKind=CaseKind, current_user=security.current_user, result_units=units_of,
-                                 case_kind=kind_of)
+                                 case_kind=kind_of, site_label=site_label)
     return app
 
 
