@@ -55,6 +55,7 @@ def request_words() -> TextUnits:
     typed: dict[str, object] = {}
     if isinstance(body, dict):
         typed.update(body)
+        typed.update({k: v["unit"] for k, v in body.items() if isinstance(v, dict) and isinstance(v.get("unit"), str)})
         units = body.get("units")
         if isinstance(units, dict):
             typed.update({f"{k}_unit": v for k, v in units.items()})

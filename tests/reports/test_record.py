@@ -177,7 +177,8 @@ def test_record_text_has_the_case_outcome_caution_findings_and_answers(records, 
     assert "104.5 barg" in text and "10551325 Pa abs" in text
     assert snap["result"]["component_data_version"] in text and snap["result"]["kij_data_version"] in text
     assert "Peng-Robinson" in text and "isobutane / n-pentane" in text     # a kij pair set to 0
-    assert "ChemSep" in text                                                  # the kij sources
+    assert "Knapp, Doring, Oellrich" in text and "ChemSep" not in text       # the kij sources: primary
+    assert "CoolProp" not in text and "as distributed with" not in text      # the component data: primary
     assert "Relief valve" in text and "choked" in text
     # the charts are vector drawings with real text
     assert "Temperature [degC]" in text and "Pressure [barg]" in text and "Outlet temperature [degC]" in text
