@@ -101,11 +101,16 @@ def fixed(value: float, decimals: int) -> str:
     return text[1:] if text.startswith("-") and float(text) == 0.0 else text
 
 
+def _decimals_or_significant(value: float, digits: int) -> str:
+    """``digits`` decimals; 6 or more means a value shown back as typed (that many significant digits)."""
+    return significant(value, digits) if digits >= 6 else fixed(value, digits)
+
+
 def _plain(kind: str, field: str, digits: int, v: float) -> str:
     if kind == "T":
-        return f"{fixed(v - 273.15, digits)} degC"
+        return f"{_decimals_or_significant(v - 273.15, digits)} degC"
     if kind == "DT":
-        return f"{fixed(v, digits)} K"
+        return f"{_decimals_or_significant(v, digits)} K"
     if kind == "P":
         return f"{significant(v / 1e5, digits)} bar abs"
     return f"{significant(v / 1e5, digits)} bar"
