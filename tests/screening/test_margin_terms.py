@@ -8,11 +8,10 @@ rounded up to 3.5 K, tests/screening/test_hydrates.py) + the margin.  Invariants
 """
 from __future__ import annotations
 
-from jtcheck.marks import plain
-
 import pytest
 
 from jtcheck import letdown
+from jtcheck.marks import plain
 from jtcheck.screening.cold_metal import ColdLimits, classify
 from jtcheck.screening.findings import Outcome, Severity, Topic
 from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_K
