@@ -11,6 +11,7 @@ from flask import jsonify
 from jtcheck import Fluid, itemlists, letdown
 from jtcheck.cases.fields import WATER_CONTENT_RANGE_KG_PER_SM3
 from jtcheck.cases.letdown import LETDOWN, check_short, letdown_values
+from jtcheck.cases.relief import RELIEF_VALVE
 from jtcheck.errors import InputError
 from jtcheck.letdown.throttle import check_letdown_inputs
 from jtcheck.notices import CAUTION
@@ -80,11 +81,14 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
     return text
 
 
+RELIEF_KEYS = ("set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
+               "header_limit", "relieving_t_min", "header_sections", "other_sources")
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
                  "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
                  "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off", "water_content",
-                 "water_dew_point", *MATERIAL_OPTIONS)
+                 "water_dew_point", *RELIEF_KEYS, *MATERIAL_OPTIONS)
+
 
 
 def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
@@ -101,6 +105,40 @@ def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any
                                                                  p_atm_pa)
     if data.get("credible_off") is not None:
         out["credible_off"] = itemlists.credible_off(data["credible_off"], "credible_off")
+    return out
+
+
+def _relief_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
+    """The relief-valve inputs of a request (register keys, SI), only those given; as ``jtcheck letdown`` reads its
+    relief options."""
+    out: dict[str, Any] = {}
+    for key, name in (("set_pressure_pa", "set_pressure"), ("superimposed_back_pressure_pa",
+                                                            "superimposed_back_pressure")):
+        text = _q(data, name, "60 barg", required=False)
+        if text is not None:
+            out[key] = parse_pressure(text, name, p_atm_pa).pa
+    text = _q(data, "built_up_back_pressure", "2 bar", required=False)
+    if text is not None:     # a difference: no atmospheric offset
+        out["built_up_back_pressure_pa"] = parse_pressure(text, "built_up_back_pressure", 0.0).pa
+    over = data.get("overpressure")
+    if over is not None:
+        number, sign, rest = str(over).strip().partition("%")
+        try:
+            if not sign or rest.strip():
+                raise ValueError
+            out["overpressure_fraction"] = float(number) / 100.0
+        except ValueError:
+            raise InputError("overpressure", f"give a percentage with its unit, e.g. '10 %', got {over!r}") from None
+    for key, name in (("header_limit_k", "header_limit"), ("relieving_temperature_min_k", "relieving_t_min")):
+        text = _q(data, name, "-46 degC", required=False)
+        if text is not None:
+            out[key] = parse_temperature(text, name)
+    if data.get("header_sections") is not None:
+        out["header_sections"] = itemlists.header_sections(data["header_sections"], "header_sections", p_atm_pa)
+    if data.get("other_sources") is not None:
+        out["other_sources"] = itemlists.other_sources(data["other_sources"], "other_sources", p_atm_pa)
+    if out and "set_pressure_pa" not in out:
+        raise InputError("set_pressure", "relief-valve inputs need set_pressure as well")
     return out
 
 
@@ -286,11 +324,24 @@ def compute_letdown():
                                 data.get("mass_flow")))
     values.update(_generated_inputs(data, p_atm_pa))
     values.update(_water(data))
+    relief = _relief_inputs(data, p_atm_pa)
+    values.update(relief)
     check_short(values)     # the letdown kind's checks, naming the request's fields
+    kind = RELIEF_VALVE if relief else LETDOWN
+    if relief:
+        try:
+            kind.check(values)
+        except InputError as err:
+            name = err.field.split("[")[0]
+            short = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpressure",
+                     "superimposed_back_pressure_pa": "superimposed_back_pressure",
+                     "built_up_back_pressure_pa": "built_up_back_pressure", "header_limit_k": "header_limit",
+                     "relieving_temperature_min_k": "relieving_t_min"}.get(name, name)
+            raise InputError(short + err.field[len(name):], err.message) from None
     spec = _material_spec(data, limits.mdmt_k)
     if spec is not None:
         values["material_spec"] = spec
-    screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
+    screening = kind.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
         result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
