@@ -451,14 +451,16 @@ def print_conditions(screening: Screening, inputs: LetdownInputs, units: Display
     """Each credible condition with each model's outlet and the one screened (when there is more than one)."""
     if not (len(screening.conditions) > 1 or len(screening.models) > 1):
         return
-    click.echo(f"\n{'condition':34s}{'inlet':>14s}{'outlet':>12s}" + "".join(f"{m:>14s}" for m in screening.models)
+    width = max(34, *(len(cs.condition.name) + 2 for cs in screening.conditions))   # long names keep the columns
+    click.echo(f"\n{'condition':{width}s}{'inlet':>14s}{'outlet':>12s}" + "".join(f"{m:>14s}" for m in screening.models)
                + f"{'screened':>14s}")
     for cs in screening.conditions:
         c = cs.condition
         by_model = "".join(f"{units.temperature(r.t_out if r is not None and r.converged else None):>14s}"
                            for r in cs.results.values())
         p_in_txt, p_out_txt = units.pressure(c.p_in_pa, inputs.p_in.unit), units.pressure(c.p_out_pa)
-        click.echo(f"{c.name:34s}{p_in_txt:>14s}{p_out_txt:>12s}{by_model}{units.temperature(cs.t_screen_k):>14s}")
+        click.echo(f"{c.name:{width}s}{p_in_txt:>14s}{p_out_txt:>12s}{by_model}"
+                   f"{units.temperature(cs.t_screen_k):>14s}")
 
 
 def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnits) -> None:

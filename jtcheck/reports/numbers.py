@@ -87,3 +87,24 @@ def finalize_marks(context: Any, value: Any) -> Any:
     if not isinstance(words, TextUnits):
         words = TextUnits()
     return words.text(value)
+
+
+def mark_filters() -> dict[str, Any]:
+    """Jinja filters that mark an SI value (:mod:`jtcheck.marks`) for :func:`finalize_marks` to show in the case's
+    units: ``k|tq`` a temperature [K] (``k|tq(2)`` to 0.01), ``dk|dtq`` a difference [K], ``pa|pq`` an absolute
+    pressure [Pa] (``pa|pq("inlet_pressure")`` in that field's unit); "–" for no value."""
+    from jtcheck import marks
+
+    def tq(value: Any, digits: int = 2, field: str = "") -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.T(v, field, digits)
+
+    def dtq(value: Any, digits: int = 2) -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.DT(v, digits)
+
+    def pq(value: Any, field: str = "outlet_pressure", digits: int = 4) -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.P(v, field, digits)
+
+    return {"tq": tq, "dtq": dtq, "pq": pq}

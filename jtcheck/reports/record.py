@@ -42,7 +42,7 @@ from jtcheck.notices import CAUTION
 from jtcheck.records.snapshot import snapshot_digest
 from jtcheck.reports import charts
 from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
-from jtcheck.reports.numbers import finalize_marks, finite_or_none, fmt_number, fmt_quantity, fmt_signed
+from jtcheck.reports.numbers import finalize_marks, finite_or_none, fmt_number, fmt_quantity, fmt_signed, mark_filters
 from jtcheck.reports.record_fields import add_text_fields
 from jtcheck.reports.screening_display import (
     OUTCOME_LABELS,
@@ -130,6 +130,7 @@ def _environment() -> jinja2.Environment:
                              undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
                              finalize=finalize_marks)
     env.filters["num"] = fmt_number
+    env.filters.update(mark_filters())
     env.filters["q"] = fmt_quantity
     env.filters["signed"] = fmt_signed
     return env

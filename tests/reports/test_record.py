@@ -352,3 +352,24 @@ def test_the_record_of_a_gerg_2008_case_names_the_model_its_version_its_range_an
     assert "GERG-2008, Kunz and Wagner 2012" in page
     assert "normal range 90-450 K up to 35 MPa; extended range 60-700 K up to 70 MPa" in page
     assert "screened on GERG2008, the reference-grade model" in page
+
+
+def test_the_records_sentences_read_in_the_units_the_case_was_typed_in(snapshots, tmp_path):
+    """Issue 18 item 5: findings, remedies and the generated cases' reasoning in the record quote the case's units
+    (here the relief valve typed in psig and degF), never kelvin pairs or bar abs; the PDF text (pdftotext) of the
+    default case has no mark left either."""
+    import copy
+    import re
+
+    from jtcheck.marks import OPEN
+
+    snap = copy.deepcopy(snapshots["PSV-2101"])
+    snap["case"]["display_units"] = {k: ("degF" if "temperature" in k or k in ("mdmt", "cold_limit", "header_limit")
+                                         else "psig") for k in snap["case"]["display_units"]}
+    text = html.unescape(re.sub(r"<[^>]+>", " ", render_html(snap, "A4")))
+    assert OPEN not in text
+    findings = text.split("Findings")[1] if "Findings" in text else text
+    assert "degF" in findings and "psig" in findings
+    assert "bar abs" not in findings and not re.search(r"degC \(\d+\.\d\d K\)", findings)
+    pdf_text = " ".join(pdf_pages_text(render_record(snapshots["PCV-1101"], "A4").pdf, tmp_path))
+    assert OPEN not in pdf_text and "bar abs" not in pdf_text
