@@ -83,3 +83,32 @@ def test_the_result_page_shows_every_sentence_in_the_cases_units(engineer, world
     assert "bar abs" not in sentences and " Pa " not in sentences
     assert "(0 psig" in text and "1000 psig" in text        # the start-up reasoning in the case's units
     assert not re.search(r"\d \(\d+\.\d\d K\)", text)      # no "-61.8 degC (211.34 K)" pairs
+
+
+def test_every_demo_case_page_reads_without_marks_or_float_noise(app, engineer, world):
+    """The demo site's result pages: no mark left, no number with more than about 4 significant digits (float
+    noise such as 244.14999999999998 or 0.590228; temperatures keep their 0.01), no SI pressure in a sentence."""
+    from sqlalchemy import select
+
+    from jtcheck.records.demo import load_demo
+    from jtcheck.records.models import Case
+    from jtcheck.web.database import db_session
+
+    with app.app_context():
+        s = db_session()
+        load_demo(s)
+        ids = {c.tag: c.id for c in s.scalars(select(Case)).all()}
+    for tag in ("PCV-1101", "PSV-2101", "PSV-4101", "PCV-5101", "BDV-5102", "PCV-3101", "BDV-2102"):
+        page = engineer.get(f"/cases/{ids[tag]}").data.decode()
+        text = html.unescape(re.sub(r"<[^>]+>", " ", re.sub(r"<(script|style|svg)\b.*?</\1>", " ", page, flags=re.S)))
+        text = re.sub(r"= [0-9.]+ (Pa|K)\b", "", text)     # the inputs table's SI echo
+        assert OPEN not in text, tag
+        numbers = re.findall(r"\d+\.\d+", text)
+        def significant(n):
+            return len(n.replace(".", "").lstrip("0"))
+
+        noisy = [n for n in numbers if n != "1.01325"     # the entered atmosphere, as typed
+                 and (significant(n) > 6 or (len(n.split(".")[1]) >= 5 and significant(n) > 4))]
+        assert not noisy, (tag, noisy[:5])
+        bad = re.findall(r".{60}(?:bar abs|\d Pa\b).{20}", text)
+        assert not bad, (tag, bad)
