@@ -373,3 +373,22 @@ def test_the_records_sentences_read_in_the_units_the_case_was_typed_in(snapshots
     assert "bar abs" not in findings and not re.search(r"degC \(\d+\.\d\d K\)", findings)
     pdf_text = " ".join(pdf_pages_text(render_record(snapshots["PCV-1101"], "A4").pdf, tmp_path))
     assert OPEN not in pdf_text and "bar abs" not in pdf_text
+
+
+def test_every_demo_record_reads_without_marks_float_noise_or_si_sentences(snapshots):
+    """Every demo case's record: no mark left, no number with more than about 4 significant digits (inputs as
+    typed aside), no pressure in bar abs or Pa in a sentence (the inputs table's SI column aside)."""
+    from jtcheck.marks import OPEN
+
+    def significant(n):
+        return len(n.replace(".", "").lstrip("0"))
+
+    for tag, snap in snapshots.items():
+        text = html.unescape(re.sub(r"<[^>]+>", " ", re.sub(r"<(style|svg)\b.*?</\1>", " ", render_html(snap, "A4"),
+                                                            flags=re.S)))
+        text = re.sub(r"[0-9.]+ (Pa|K)( abs)?\b", "", text)       # the inputs table's SI column
+        assert OPEN not in text, tag
+        noisy = [n for n in re.findall(r"\d+\.\d+", text) if n != "1.01325"
+                 and (significant(n) > 6 or (len(n.split(".")[1]) >= 5 and significant(n) > 4))]
+        assert not noisy, (tag, noisy[:5])
+        assert not re.findall(r".{50}bar abs.{10}", text), tag
