@@ -54,3 +54,12 @@ def test_a_users_case_in_a_demo_unit_is_not_invented_in_its_record_or_the_case_l
     listing = html.unescape(engineer.get("/cases?q=PCV-MINE2").data.decode())
     row = next(line for line in listing.split("<tbody")[1].split("<tr") if "PCV-MINE2" in line)
     assert "invented" not in row.lower()
+
+
+def test_a_new_case_is_filed_in_no_unit_by_default(app, engineer, world):
+    """The case form preselects no site or unit (the demo's units included): the user chooses where a case is filed."""
+    _demo(app)
+    page = engineer.get("/cases/new").data.decode()
+    select = page.split('name="unit_id"')[1].split("</select>")[0]
+    assert "selected" not in select
+    assert '<option value="">choose…</option>' in select
