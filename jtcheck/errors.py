@@ -21,13 +21,17 @@ class InputError(JtcheckError, ValueError):
     field : str
         Name of the offending input field, as the user knows it (``p_out``, ``composition``).
     message : str
-        What is wrong and what is allowed.
+        What is wrong and what is allowed; its quantities may be marked (:mod:`jtcheck.marks`) so that the edges
+        show them in the units the user typed (:meth:`jtcheck.units.TextUnits.error`); ``str(err)`` shows them in
+        the default units.
     """
 
     def __init__(self, field: str, message: str):
+        from jtcheck.marks import plain
+
         self.field = field
         self.message = message
-        super().__init__(f"{field}: {message}")
+        super().__init__(f"{field}: {plain(message)}")
 
 
 class UnknownComponentError(InputError):

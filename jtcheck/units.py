@@ -139,7 +139,9 @@ def parse_pressure(text: str, field: str, p_atm_pa: float = P_ATM_DEFAULT_PA) ->
     if gauge:
         pa += p_atm_pa
     if not pa > 0.0:
-        raise InputError(field, f"{text!r} is {pa:g} Pa absolute; pressures must be above 0 Pa absolute")
+        zero = format_pressure(0.0, unit, p_atm_pa, 6) if gauge else f"0 {unit}"
+        atm = f" (absolute zero with the atmospheric pressure {p_atm_pa / 1e5:.6g} bar)" if gauge else ""
+        raise InputError(field, f"{str(text).strip()!r} is not above absolute zero; allowed: above {zero}{atm}")
     return Pressure(pa=pa, text=str(text).strip(), unit=unit, gauge=gauge, p_atm_pa=p_atm_pa)
 
 
@@ -155,7 +157,9 @@ def parse_temperature(text: str, field: str) -> float:
     q = _ureg().Quantity(value, _unit(TEMPERATURE_UNITS[key]))
     k = float(q.to(_unit("kelvin")).magnitude)
     if not k > 0.0:
-        raise InputError(field, f"{text!r} is {k:g} K; temperatures must be above absolute zero")
+        zero = format_temperature(0.0 + 1e-12, TEMPERATURE_UNITS[key] if key != "k" else "K", 6).split()[0]
+        raise InputError(field, f"{str(text).strip()!r} is below absolute zero; allowed: above {zero} "
+                                f"{TEMPERATURE_SPELLING.get(key, unit)} (absolute zero)")
     return k
 
 
@@ -318,3 +322,171 @@ def parse_duration(text: str, field: str) -> float:
     if not s > 0.0:
         raise InputError(field, f"{text!r} must be a duration above 0")
     return s
+
+
+# -- quantities in sentences: the one formatter ------------------------------------------------------
+#: Short names of the inputs (CLI options, JSON API keys) -> the field names sentences mark quantities with.
+FIELD_ALIASES = {"p_in": "inlet_pressure", "t_in": "inlet_temperature", "p_out": "outlet_pressure",
+                 "p_in_max": "inlet_pressure_max", "t_in_min": "inlet_temperature_min",
+                 "p_out_min": "outlet_pressure_min", "heater_off_t": "heater_upstream_temperature",
+                 "ambient_t_min": "ambient_temperature_min", "limit": "cold_limit", "set_pressure": "set_pressure",
+                 "relieving_t_min": "relieving_temperature_min", "built_up_back_pressure": "built_up_back_pressure",
+                 "superimposed_back_pressure": "superimposed_back_pressure", "p_atm": "p_atm"}
+
+
+def unit_word(text: Any) -> str | None:
+    """The unit word of a quantity as typed (``"72 barg"`` -> ``"barg"``, ``"40degC"`` -> ``"degC"``); None for text
+    that is no number with a unit."""
+    m = _NUM_UNIT.match(str(text)) if isinstance(text, str) else None
+    word = (m.group(2) or "").strip() if m else ""
+    if not word:
+        return None
+    return TEMPERATURE_SPELLING.get(word.lower(), word)
+
+
+def is_pressure_unit(unit: str | None) -> bool:
+    return bool(unit) and unit.lower() in PRESSURE_UNITS
+
+
+def is_temperature_unit(unit: str | None) -> bool:
+    return bool(unit) and unit.lower() in TEMPERATURE_UNITS
+
+
+def format_temperature(t_k: float, unit: str, decimals: int = 1) -> str:
+    """A temperature [K] in ``unit`` as text: ``"-61.8 degC"`` (the unit's usual spelling; "-" if not finite).
+
+    ``decimals`` of 6 or more means a value shown back as typed: that many significant digits, trailing zeros
+    dropped (``"2000 degF"``, ``"-29.5 degC"``)."""
+    if t_k is None or not math.isfinite(t_k):
+        return "-"
+    from jtcheck.marks import fixed, significant
+
+    value = temperature_from_k(t_k, unit)
+    text = significant(value, decimals) if decimals >= 6 else fixed(value, decimals)
+    return f"{text} {TEMPERATURE_SPELLING.get(unit.lower(), unit)}"
+
+
+def format_difference(dt_k: float, temperature_unit: str, decimals: int = 1) -> str:
+    """A temperature difference [K] beside readings in ``temperature_unit``: ``"1.9 K"`` or ``"3.4 delta degF"``."""
+    if dt_k is None or not math.isfinite(dt_k):
+        return "-"
+    from jtcheck.marks import fixed, significant
+
+    label = difference_label(temperature_unit)
+    value = dt_k * 1.8 if label != "K" else dt_k
+    return f"{significant(value, decimals) if decimals >= 6 else fixed(value, decimals)} {label}"
+
+
+def format_pressure(p_pa: float, unit: str, p_atm_pa: float = P_ATM_DEFAULT_PA, digits: int = 4) -> str:
+    """An absolute pressure [Pa] in ``unit`` (gauge units from ``p_atm_pa``) to ``digits`` significant digits, no
+    exponent: ``"72 barg"``, ``"1.013 bara"`` ("-" if not finite)."""
+    if p_pa is None or not math.isfinite(p_pa):
+        return "-"
+    from jtcheck.marks import significant
+
+    value = pressure_from_pa(p_pa, unit, p_atm_pa)
+    if abs(value) < 1e-9 * max(abs(p_pa), 1.0):
+        value = 0.0
+    return f"{significant(value, digits)} {unit}"
+
+
+_DIFFERENCE_UNITS_PA = {"bar": 1.0e5, "bara": 1.0e5, "barg": 1.0e5, "mbar": 100.0, "kpa": 1.0e3, "kpaa": 1.0e3,
+                        "kpag": 1.0e3, "mpa": 1.0e6, "mpaa": 1.0e6, "mpag": 1.0e6, "psi": 6894.757293168361,
+                        "psia": 6894.757293168361, "psig": 6894.757293168361, "pa": 1.0, "atm": 101325.0}
+
+
+def format_pressure_difference(dp_pa: float, unit: str, digits: int = 4) -> str:
+    """A pressure difference [Pa] in ``unit`` (a gauge or absolute unit gives its bare word: barg -> bar)."""
+    if dp_pa is None or not math.isfinite(dp_pa):
+        return "-"
+    from jtcheck.marks import significant
+
+    key = unit.lower()
+    factor = _DIFFERENCE_UNITS_PA.get(key)
+    if factor is None:
+        key, factor = "bar", 1.0e5
+    word = {"bara": "bar", "barg": "bar", "kpaa": "kPa", "kpag": "kPa", "mpaa": "MPa", "mpag": "MPa",
+            "psia": "psi", "psig": "psi"}.get(key, unit if key == unit.lower() else key)
+    return f"{significant(dp_pa / factor, digits)} {word}"
+
+
+@dataclass(frozen=True)
+class TextUnits:
+    """The units a person typed a case in, for the quantities marked in sentences (:mod:`jtcheck.marks`).
+
+    Attributes
+    ----------
+    temperature : str
+        Unit of temperatures whose field is not typed (the inlet temperature's).
+    pressure : str
+        Unit of pressures whose field is not typed (the outlet pressure's).
+    p_atm_pa : float
+        Atmospheric pressure of gauge units [Pa].
+    fields : tuple of (field, unit)
+        The unit each input was typed in (register field names; CLI/API short names are translated).
+    """
+
+    temperature: str = "degC"
+    pressure: str = "bara"
+    p_atm_pa: float = P_ATM_DEFAULT_PA
+    fields: tuple[tuple[str, str], ...] = ()
+
+    @classmethod
+    def typed(cls, typed: Mapping[str, Any], p_atm_pa: float | None = None) -> TextUnits:
+        """The units of inputs as typed: ``{"p_in": "100 bara", "t_in": "40degC", ...}`` (short or register
+        names; values that are no quantity text, or units given alone as ``{"inlet_pressure": "barg"}``)."""
+        fields: dict[str, str] = {}
+        for name, value in typed.items():
+            key = FIELD_ALIASES.get(str(name), str(name)).removesuffix("_unit")
+            word = unit_word(value) if isinstance(value, str) else None
+            if word is None and isinstance(value, str) and (is_pressure_unit(value) or is_temperature_unit(value)):
+                word = TEMPERATURE_SPELLING.get(value.lower(), value)
+            if word is not None and (is_pressure_unit(word) or is_temperature_unit(word)):
+                fields[key] = word
+        t = fields.get("inlet_temperature") or next((u for u in fields.values() if is_temperature_unit(u)), "degC")
+        p = fields.get("outlet_pressure") or fields.get("inlet_pressure") or next(
+            (u for u in fields.values() if is_pressure_unit(u)), "bara")
+        return cls(temperature=t, pressure=p, p_atm_pa=float(p_atm_pa or P_ATM_DEFAULT_PA),
+                   fields=tuple(sorted(fields.items())))
+
+    def unit_of(self, field: str, pressure: bool) -> str:
+        """The unit of the input ``field`` (a pressure or a temperature), else the case's."""
+        own = dict(self.fields).get(FIELD_ALIASES.get(field, field)) if field else None
+        if pressure:
+            if is_pressure_unit(own):
+                return own  # type: ignore[return-value]
+            inlet = dict(self.fields).get("inlet_pressure")
+            if field.startswith(("inlet", "set", "relieving", "settle")) and is_pressure_unit(inlet):
+                return inlet  # type: ignore[return-value]
+            return self.pressure
+        return own if is_temperature_unit(own) else self.temperature  # type: ignore[return-value]
+
+    def _one(self, kind: str, field: str, digits: int, value: float) -> str:
+        if kind == "T":
+            return format_temperature(value, self.unit_of(field, False), digits)
+        if kind == "DT":
+            return format_difference(value, self.temperature, digits)
+        if kind == "P":
+            return format_pressure(value, self.unit_of(field, True), self.p_atm_pa, digits)
+        return format_pressure_difference(value, self.unit_of(field or "built_up_back_pressure", True), digits)
+
+    def text(self, text: Any) -> Any:
+        """``text`` with its marked quantities in these units (anything that is no string unchanged)."""
+        from jtcheck.marks import render
+
+        return render(text, self._one) if isinstance(text, str) else text
+
+    def walk(self, obj: Any) -> Any:
+        """``obj`` (dicts, lists and tuples of strings and numbers, as stored results are) with every string's marks
+        rendered in these units; numbers unchanged."""
+        if isinstance(obj, str):
+            return self.text(obj)
+        if isinstance(obj, Mapping):
+            return {k: self.walk(v) for k, v in obj.items()}
+        if isinstance(obj, (list, tuple)):
+            return type(obj)(self.walk(v) for v in obj) if isinstance(obj, list) else tuple(self.walk(v) for v in obj)
+        return obj
+
+    def error(self, err: InputError) -> str:
+        """An input error as ``field: message``, its quantities in these units."""
+        return f"{err.field}: {self.text(err.message)}"

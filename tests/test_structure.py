@@ -34,7 +34,7 @@ class Row(NamedTuple):
     libraries: frozenset[str] | None = None
 
 
-CORE_PACKAGES = frozenset({"errors", "units", "notices", "itemlists", "depressuring_lists"})
+CORE_PACKAGES = frozenset({"errors", "marks", "units", "notices", "itemlists", "depressuring_lists"})
 #: numerical libraries of the engineering core (and the standard library): no web, database, unit or report library
 NUMERIC = frozenset({"numpy", "scipy", "numba"})
 #: thermo and the engineering layer; "jtcheck" is jtcheck/__init__.py, the public API it re-exports (Fluid, letdown,
@@ -46,23 +46,26 @@ BELOW_EDGE = BELOW_OUTPUT | {"reports", "batch"}
 #: The table of allowed layer edges: package under jtcheck/ -> its layer and what it may import.
 #: A new package is one row, e.g. ``"cases": Row(Layer.ENGINEERING, frozenset({"errors", "thermo"}), NUMERIC),``
 ALLOWED_IMPORTS: dict[str, Row] = {
-    "errors": Row(Layer.CORE, frozenset()),
+    # quantities marked in sentences (rendered in the user's units at the edges); no imports
+    "marks": Row(Layer.CORE, frozenset()),
+    "errors": Row(Layer.CORE, frozenset({"marks"})),
     "notices": Row(Layer.CORE, frozenset()),
-    "units": Row(Layer.CORE, frozenset({"errors"})),
+    "units": Row(Layer.CORE, frozenset({"errors", "marks"})),
     # lists of items typed as text (header sections, settle-out volumes), read at the edges like units
     "itemlists": Row(Layer.CORE, frozenset({"errors", "units"})),
     # a vessel depressuring case's inputs typed as text (vessel, orifices, heat input, run), read at the edges
     "depressuring_lists": Row(Layer.CORE, frozenset({"errors", "units", "itemlists"})),
-    "thermo": Row(Layer.THERMO, frozenset({"errors"}), NUMERIC),
-    "letdown": Row(Layer.ENGINEERING, frozenset({"errors", "thermo"}), NUMERIC),
+    "thermo": Row(Layer.THERMO, frozenset({"errors", "marks"}), NUMERIC),
+    "letdown": Row(Layer.ENGINEERING, frozenset({"errors", "marks", "thermo"}), NUMERIC),
     # screening may import letdown; letdown never imports screening
-    "screening": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown"}), NUMERIC),
+    "screening": Row(Layer.ENGINEERING, frozenset({"errors", "marks", "thermo", "letdown"}), NUMERIC),
     # case kinds: each kind's inputs, computation and sections, over the engineering packages
-    "cases": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening", "blowdown"}), NUMERIC),
+    "cases": Row(Layer.ENGINEERING, frozenset({"errors", "marks", "thermo", "letdown", "screening", "blowdown"}),
+                 NUMERIC),
     # vessel depressurisation in time: over thermo, the letdown (valve outlet) and the cold-metal screening
-    "blowdown": Row(Layer.ENGINEERING, frozenset({"errors", "thermo", "letdown", "screening"}), NUMERIC),
+    "blowdown": Row(Layer.ENGINEERING, frozenset({"errors", "marks", "thermo", "letdown", "screening"}), NUMERIC),
     ROOT: Row(Layer.ENGINEERING, frozenset({"thermo", "letdown", "screening", "blowdown"}), NUMERIC),
-    "records": Row(Layer.RECORDS, frozenset({"errors", *ENGINEERING_PACKAGES})),
+    "records": Row(Layer.RECORDS, frozenset({"errors", "marks", *ENGINEERING_PACKAGES})),
     "reports": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "batch": Row(Layer.OUTPUT, BELOW_OUTPUT),
     "web": Row(Layer.EDGE, BELOW_EDGE),

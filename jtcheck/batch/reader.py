@@ -75,11 +75,13 @@ from jtcheck.thermo.fluid import Fluid
 from jtcheck.units import (
     MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
+    format_temperature,
     material_options,
     parse_pressure,
     parse_temperature,
     parse_temperature_difference,
     parse_water_content,
+    temperature_unit_of,
 )
 
 #: Range of the atmospheric pressure column [Pa abs].
@@ -929,8 +931,9 @@ def _read_row(reader: _Reader, header: _Header, row: int, cells: list[Any], defa
         err("outlet_pressure", f"the outlet pressure {shown['outlet_pressure']} is above the inlet pressure "
                                f"{shown['inlet_pressure']}; a letdown needs outlet <= inlet")
     if t_in is not None and t_in > T_IN_MAX_K:
-        err("inlet_temperature", f"the inlet temperature must be below {T_IN_MAX_K:g} K (the range of the "
-                                 "heat-capacity data)")
+        unit = temperature_unit_of(shown["inlet_temperature"], "K")
+        err("inlet_temperature", f"the inlet temperature {shown['inlet_temperature']} is above "
+                                 f"{format_temperature(T_IN_MAX_K, unit, 6)} (the range of the heat-capacity data)")
     if t_in is not None and t_min is not None and t_min > t_in:
         err("min_inlet_temperature", f"the minimum inlet temperature {shown['min_inlet_temperature']} is above the "
                                      f"inlet temperature {shown['inlet_temperature']}")

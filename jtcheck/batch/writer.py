@@ -36,7 +36,14 @@ from jtcheck.batch.layout import (
 from jtcheck.batch.reader import CaseSource, ReadResult, canonical_unit
 from jtcheck.notices import CAUTION
 from jtcheck.screening.batch import BatchCase, BatchRowResult, BatchScreening
-from jtcheck.units import P_ATM_DEFAULT_PA, PRESSURE_UNITS, pressure_from_pa, round_significant, temperature_from_k
+from jtcheck.units import (
+    P_ATM_DEFAULT_PA,
+    PRESSURE_UNITS,
+    TextUnits,
+    pressure_from_pa,
+    round_significant,
+    temperature_from_k,
+)
 
 #: The outcomes, best first, as words.
 OUTCOMES = ("pass", "margin eroded", "fail", "not screened")
@@ -186,6 +193,7 @@ def _row_values(result: BatchRowResult, case: BatchCase | None, source: CaseSour
     t_unit = units["inlet_temperature"]
     d_unit = _difference_unit(t_unit)
     p_atm = source.p_atm_pa if source is not None else P_ATM_DEFAULT_PA
+    words = TextUnits.typed(dict(units), p_atm)    # findings and messages in the file's units
     si = _si_inputs(case, p_atm)
     if source is not None:
         fluid, eos = source.fluid_name, source.eos
@@ -215,7 +223,7 @@ def _row_values(result: BatchRowResult, case: BatchCase | None, source: CaseSour
     values += [_temperature(by_model.get(m), t_unit) for m in models]
     values += [_temperature(result.t_screen_k, t_unit), result.t_screen_k, result.governing_model, result.phase,
                result.vapor_fraction, _difference(result.margin_to_limit_k, d_unit), str(result.outcome),
-               _findings_text(result.findings), result.path, result.message]
+               words.text(_findings_text(result.findings)), result.path, words.text(result.message or "")]
     return [None if isinstance(v, float) and not math.isfinite(v) else v for v in values]
 
 

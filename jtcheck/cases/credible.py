@@ -41,6 +41,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from jtcheck import marks
 from jtcheck.cases.fields import INLET_TEMPERATURE_RANGE_K, PRESSURE_RANGE_PA, check_number, named_entries
 from jtcheck.errors import InputError
 from jtcheck.letdown.settle_out import SettleOutResult, settle_out
@@ -268,20 +269,24 @@ def check_credible_off(off: Any) -> dict[str, str]:
 # the cases
 # ---------------------------------------------------------------------------------------------
 
-def _bar(p_pa: float) -> str:
-    return f"{p_pa / 1e5:.6g} bara"
+def _bar(p_pa: float, field: str = "") -> str:
+    """A pressure [Pa abs], marked: shown in the unit of the input ``field`` (:mod:`jtcheck.marks`)."""
+    return marks.P(p_pa, field)
 
 
-def _kelvin(t_k: float) -> str:
-    return f"{t_k - 273.15:.2f} degC"
+def _kelvin(t_k: float, field: str = "") -> str:
+    """A temperature [K], marked: shown in the unit of the input ``field``, to 0.1."""
+    return marks.T(t_k, field)
 
 
 def _lowest_outlet(values: Mapping[str, Any]) -> tuple[float, str]:
     p_min = values.get("outlet_pressure_min_pa")
     if p_min is not None:
-        return p_min, f"the minimum outlet pressure {_bar(p_min)} (outlet_pressure_min_pa; the colder outlet)"
+        return p_min, (f"the minimum outlet pressure {_bar(p_min, 'outlet_pressure_min')} (outlet_pressure_min_pa; "
+                       "the colder outlet)")
     p_out = values["outlet_pressure_pa"]
-    return p_out, f"the normal outlet pressure {_bar(p_out)} (outlet_pressure_pa; no minimum outlet pressure given)"
+    return p_out, (f"the normal outlet pressure {_bar(p_out, 'outlet_pressure')} (outlet_pressure_pa; no minimum "
+                   "outlet pressure given)")
 
 
 def _inlet_pressures(values: Mapping[str, Any]) -> list[tuple[str, float]]:
@@ -298,7 +303,8 @@ def _settle_out(fluid: Fluid, values: Mapping[str, Any],
     name = CASE_NAMES[SETTLE_OUT]
     p_out, outlet = _lowest_outlet(values)
     res = settle_out(fluid, volumes)
-    listed = ", ".join(f"{n} {v:g} m3 at {p:.6g} Pa, {t:.6g} K" for n, v, p, t in volumes)
+    listed = ", ".join(f"{n} {v:g} m3 at {_bar(p, 'inlet_pressure')}, {_kelvin(t, 'inlet_temperature')}"
+                       for n, v, p, t in volumes)
     reasoning = (f"after a shutdown the connected volumes ({listed}; settle_out_volumes) equalise: adiabatic mixing "
                  "of the connected volumes by mass and energy balance (jtcheck.letdown.settle_out; no heat from the "
                  f"walls or the surroundings, no mass leaves; {fluid.eos.value}); at restart the valve lets down from "
@@ -309,8 +315,8 @@ def _settle_out(fluid: Fluid, values: Mapping[str, Any],
             None, res
     if res.p_pa <= p_out:
         return [], SkippedCase(SETTLE_OUT, NOT_GENERATED,
-                               f"the settle-out pressure {_bar(res.p_pa)} is not above {outlet}: no flow through "
-                               "the valve at restart"), res
+                               f"the settle-out pressure {_bar(res.p_pa, 'inlet_pressure')} is not above {outlet}: "
+                               "no flow through the valve at restart"), res
     reasoning += f"; {res.message}"
     return [GeneratedCondition(SETTLE_OUT, Condition(name, res.p_pa, res.t_k, p_out), reasoning)], None, res
 
@@ -332,12 +338,14 @@ def _start_up(values: Mapping[str, Any]) -> tuple[list[GeneratedCondition], Skip
     conds = start_up_conditions(p_in, t_in, p_out, p_atm, p_max, t_min)
     if not conds:
         return [], SkippedCase(START_UP, NOT_GENERATED,
-                               f"the normal outlet pressure {_bar(p_out)} is not above the atmospheric pressure "
-                               f"{_bar(p_atm)}: the normal conditions are the start-up")
+                               f"the normal outlet pressure {_bar(p_out, 'outlet_pressure')} is not above the "
+                               f"atmospheric pressure {_bar(p_atm, 'outlet_pressure')}: the normal conditions are the "
+                               "start-up")
     inlets = credible_conditions(p_in, t_in, p_out, p_max, t_min)
     return [GeneratedCondition(START_UP, c, (
-        f"start-up into a depressured downstream: the outlet is at the atmospheric pressure {_bar(p_atm)} "
-        f"(p_atm_pa) when the valve opens; from {_START_UP_WORDS[i.name]}, {_bar(c.p_in_pa)}, {_kelvin(c.t_in_k)}"))
+        f"start-up into a depressured downstream: the outlet is at atmospheric pressure "
+        f"({_bar(p_atm, 'outlet_pressure')}, p_atm_pa) when the valve opens; from {_START_UP_WORDS[i.name]}, "
+        f"{_bar(c.p_in_pa, 'inlet_pressure')}, {_kelvin(c.t_in_k, 'inlet_temperature')}"))
             for c, i in zip(conds, inlets, strict=True)], None
 
 
@@ -354,14 +362,16 @@ def _cold_inlet(case: str, values: Mapping[str, Any], key: str,
         return [], SkippedCase(case, NOT_GENERATED, f"no {_WORDS.get(key, key)} given ({key})")
     t_in = values["inlet_temperature_k"]
     if t_k >= t_in:
-        return [], SkippedCase(case, NOT_GENERATED, f"{key} {_kelvin(t_k)} is not below the normal inlet "
-                                                    f"temperature {_kelvin(t_in)}: the inlet is not colder")
+        return [], SkippedCase(case, NOT_GENERATED, f"{_WORDS.get(key, key)} {_kelvin(t_k, key[:-2])} ({key}) "
+                                                    f"is not below the normal inlet temperature "
+                                                    f"{_kelvin(t_in, 'inlet_temperature')}: the inlet is not colder")
     p_out, outlet = _lowest_outlet(values)
     out = []
     for suffix, p in _inlet_pressures(values):
         which = "maximum" if suffix else "normal"
         out.append(GeneratedCondition(case, Condition(CASE_NAMES[case] + suffix, p, t_k, p_out), (
-            f"{why}: inlet temperature {_kelvin(t_k)} ({key}) at the {which} inlet pressure {_bar(p)}; "
+            f"{why}: inlet temperature {_kelvin(t_k, key[:-2])} ({key}) at the {which} inlet pressure "
+            f"{_bar(p, 'inlet_pressure')}; "
             f"let down to {outlet}")))
     return out, None
 

@@ -15,6 +15,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 
 # Allowed ranges, (low, high, low is inclusive) in SI units.
@@ -39,8 +40,22 @@ def range_text(lo: float, hi: float, lo_inclusive: bool, unit: str) -> str:
     return f"{lo:g} {'<=' if lo_inclusive else '<'} value <= {hi:g} {unit}"
 
 
+#: The mark (:mod:`jtcheck.marks`) of each quantity whose messages quote it in the user's units.
+_MARKS = {"pressure": marks.P, "temperature": marks.T, "difference": lambda v, field, digits: marks.DT(v, digits),
+          "pressure_difference": marks.DP}
+
+
+def _marked_range(lo: float, hi: float, lo_inclusive: bool, quantity: str, field: str) -> str:
+    """A range in the user's units: ``"from -50 degC to 100 degC"`` (marked ends)."""
+    mark = _MARKS[quantity]
+    absolute = " (absolute)" if quantity == "pressure" else ""
+    if lo_inclusive:
+        return f"from {mark(lo, field, 6)} to {mark(hi, field, 6)}{absolute}"
+    return f"above {mark(lo, field, 6)} and at most {mark(hi, field, 6)}{absolute}"
+
+
 def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, float, bool],
-                 required: bool) -> float | None:
+                 required: bool, quantity: str = "", field: str = "") -> float | None:
     """A finite number within ``rng`` (or None when not required); an :class:`InputError` naming ``key`` otherwise.
 
     Parameters
@@ -55,6 +70,10 @@ def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, 
         Low and high end in SI, and whether the low end is allowed.
     required : bool
         Whether None is refused.
+    quantity, field : str
+        For a pressure, temperature, temperature difference or pressure difference (``Field.quantity``) and the
+        input's name (``Field.name``): a value out of range and the range are quoted in the units the user typed
+        the field in (marked, :mod:`jtcheck.marks`), not in SI.
     """
     lo, hi, lo_inclusive = rng
     if value is None:
@@ -67,6 +86,9 @@ def check_number(key: str, value: Any, label: str, unit: str, rng: tuple[float, 
     if not math.isfinite(v):
         raise InputError(key, f"{label} must be a finite number [{unit}], got {v!r}")
     if v < lo or (v == lo and not lo_inclusive) or v > hi:
+        if quantity in _MARKS:
+            raise InputError(key, f"{label} {_MARKS[quantity](v, field, 6)} is out of range; allowed: "
+                                  f"{_marked_range(lo, hi, lo_inclusive, quantity, field)}")
         raise InputError(key, f"{label} {v:g} {unit} is out of range; allowed: "
                               f"{range_text(lo, hi, lo_inclusive, unit)}"
                          + (" (absolute)" if unit == "Pa" else ""))
@@ -144,7 +166,7 @@ class Field:
     def check(self, value: Any) -> float | None:
         """The value as a float in SI within :attr:`si_range`; raise :class:`InputError` naming :attr:`key`."""
         return check_number(self.key, value, self.label, self.message_unit or self.si_unit, self.si_range,
-                            self.required)
+                            self.required, self.quantity, self.name)
 
 
 #: Fields every case kind has: the cold limits of the downstream steel and the atmospheric pressure for gauge

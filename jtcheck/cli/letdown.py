@@ -20,7 +20,11 @@ from jtcheck.units import (
     MATERIAL_OPTION_OF,
     P_ATM_DEFAULT_PA,
     Pressure,
+    TextUnits,
     difference_label,
+    format_difference,
+    format_pressure,
+    format_temperature,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -326,34 +330,56 @@ def exit_code(screening: Screening, limits_given: bool) -> int:
 
 @dataclass(frozen=True)
 class DisplayUnits:
-    """The units results are printed in: the temperature unit of --t-in, the pressure unit of each option."""
+    """The units the user typed: each number printed goes back into them (through :mod:`jtcheck.units`, the one
+    formatter); ``words`` renders the quantities marked in sentences (findings, remedies, reasoning)."""
 
     t_unit: str
     d_unit: str
     p_unit: str
     p_atm_pa: float
+    words: TextUnits = TextUnits()
 
     def temperature(self, k: float | None) -> str:
         """A temperature [K] as text, ``-`` for None."""
-        return "-" if k is None else f"{temperature_from_k(k, self.t_unit):.2f} {self.t_unit}"
+        return "-" if k is None else format_temperature(k, self.t_unit, 2)
 
     def difference(self, dk: float) -> float:
         """A temperature difference [K] in the display unit (K or degF)."""
         return dk * (1.8 if self.d_unit == "degF" else 1.0)
 
     def difference_text(self, dk: float) -> str:
-        return f"{self.difference(dk):.2f} {difference_label(self.t_unit)}"
+        return format_difference(dk, self.t_unit, 2)
 
     def pressure(self, pa: float, unit: str | None = None) -> str:
-        """A pressure [Pa] as text, in ``unit`` (default: the unit of --p-out)."""
-        unit = unit or self.p_unit
-        return f"{pressure_from_pa(pa, unit, self.p_atm_pa):.4g} {unit}"
+        """A pressure [Pa] as text, in ``unit`` (default: the unit of --p-out), 4 significant digits."""
+        return format_pressure(pa, unit or self.p_unit, self.p_atm_pa)
+
+    def text(self, text: str) -> str:
+        """A sentence with its marked quantities in the user's units."""
+        return self.words.text(text)
+
+
+#: The options of ``jtcheck letdown`` that carry a quantity, as sentences name their fields.
+_TYPED = ("p_in", "t_in", "p_out", "p_in_max", "t_in_min", "p_out_min", "limit", "mdmt", "heater_off_t",
+          "ambient_t_min", "set_pressure", "superimposed_back_pressure", "built_up_back_pressure",
+          "relieving_t_min", "header_limit")
+
+
+def text_units(args: LetdownArgs, p_atm_pa: float | None = None) -> TextUnits:
+    """The units of the options as typed (errors are quoted in them even before the inputs are read)."""
+    if p_atm_pa is None:
+        try:
+            p_atm_pa = parse_pressure(args.p_atm, "p_atm").pa if args.p_atm else P_ATM_DEFAULT_PA
+        except InputError:
+            p_atm_pa = P_ATM_DEFAULT_PA
+    return TextUnits.typed({k: getattr(args, k) for k in _TYPED if getattr(args, k, None)}, p_atm_pa)
 
 
 def display_units(args: LetdownArgs, inputs: LetdownInputs) -> DisplayUnits:
     t_unit = temperature_unit_of(args.t_in)     # "40degC", "40 C" and "40°C" are all shown in degC
     return DisplayUnits(t_unit=t_unit, d_unit="degF" if t_unit.lower() in ("degf", "degr") else "K",
-                        p_unit=inputs.p_out.unit, p_atm_pa=inputs.p_atm_pa)
+                        p_unit=inputs.p_out.unit, p_atm_pa=inputs.p_atm_pa,
+                        words=text_units(args, inputs.p_atm_pa))
 
 
 def _atm_note(args: LetdownArgs, inputs: LetdownInputs) -> str:
@@ -383,7 +409,7 @@ def json_payload(args: LetdownArgs, inputs: LetdownInputs, fluid: Fluid, screeni
         "composition": {i: float(z) for i, z in zip(fluid.ids, fluid.zs, strict=True)},
         "result": result.to_dict(),
         "display": display,
-        "screening": screening.to_dict(),
+        "screening": units.words.walk(screening.to_dict()),
         "exit_code": code,
         "notes": [_atm_note(args, inputs)] if inputs.p_in.gauge or inputs.p_out.gauge else [],
         "caution": CAUTION,
@@ -418,21 +444,23 @@ def print_table(fluid: Fluid, screening: Screening, result: LetdownResult, input
         click.echo(f"\ntemperature change across the letdown: {units.difference(result.dt):+.2f} "
                    f"{difference_label(units.t_unit)}")
     else:
-        click.echo(f"\nNOT CONVERGED: {result.message}")
+        click.echo(f"\nNOT CONVERGED: {units.text(result.message)}")
 
 
 def print_conditions(screening: Screening, inputs: LetdownInputs, units: DisplayUnits) -> None:
     """Each credible condition with each model's outlet and the one screened (when there is more than one)."""
     if not (len(screening.conditions) > 1 or len(screening.models) > 1):
         return
-    click.echo(f"\n{'condition':34s}{'inlet':>14s}{'outlet':>12s}" + "".join(f"{m:>14s}" for m in screening.models)
+    width = max(34, *(len(cs.condition.name) + 2 for cs in screening.conditions))   # long names keep the columns
+    click.echo(f"\n{'condition':{width}s}{'inlet':>14s}{'outlet':>12s}" + "".join(f"{m:>14s}" for m in screening.models)
                + f"{'screened':>14s}")
     for cs in screening.conditions:
         c = cs.condition
         by_model = "".join(f"{units.temperature(r.t_out if r is not None and r.converged else None):>14s}"
                            for r in cs.results.values())
         p_in_txt, p_out_txt = units.pressure(c.p_in_pa, inputs.p_in.unit), units.pressure(c.p_out_pa)
-        click.echo(f"{c.name:34s}{p_in_txt:>14s}{p_out_txt:>12s}{by_model}{units.temperature(cs.t_screen_k):>14s}")
+        click.echo(f"{c.name:{width}s}{p_in_txt:>14s}{p_out_txt:>12s}{by_model}"
+                   f"{units.temperature(cs.t_screen_k):>14s}")
 
 
 def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnits) -> None:
@@ -446,8 +474,8 @@ def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnit
             click.echo(f"\nMDMT from the material's exemption curve at the coincident pressure, "
                        f"{working['coincident']}:")
             for step in (working.get("working") or {}).get("steps", []):
-                click.echo(f"  {step}")
-            click.echo(f"  {(working.get('working') or {}).get('caution', '')}")
+                click.echo(f"  {units.text(step)}")
+            click.echo(f"  {units.text((working.get('working') or {}).get('caution', ''))}")
         terms = " + ".join(f"{t['term']} {units.difference_text(t['k'])}" for t in shown.margin_terms)
         click.echo(f"\ncold limit {units.temperature(limits.governing_k)} ({limits.basis}); "
                    f"margin {units.difference_text(shown.total_margin_k)} = {terms}")
@@ -456,7 +484,7 @@ def print_screening(screening: Screening, limits: ColdLimits, units: DisplayUnit
         click.echo("\nno cold limit given (--limit or --mdmt): the outcome is not screened; findings follow")
     click.echo("\nfindings")
     for f in screening.findings:
-        click.echo(f"  [{f.severity.value}] {f.topic.value}: {f.message}")
+        click.echo(f"  [{f.severity.value}] {f.topic.value}: {units.text(f.message)}")
     print_hydrates(screening, units)
 
 
@@ -477,12 +505,12 @@ def print_hydrates(screening: Screening, units: DisplayUnits) -> None:
         return f"{v:.1f} mass %" if v is not None and math.isfinite(v) else "-"
 
     click.echo(f"\nhydrates at the governing outlet ({n['method']})")
-    click.echo(f"  outlet {n['p_pa'] / 1e5:.2f} bar abs, {t(n['t_out_k'])}; hydrate temperature {t(n['t_hydrate_k'])}"
+    click.echo(f"  outlet {units.pressure(n['p_pa'])}, {t(n['t_out_k'])}; hydrate temperature {t(n['t_hydrate_k'])}"
                + (f", structure {n['structure']} with {n['water_phase']}" if n.get("structure") else ""))
     sub = n.get("subcooling_k")
     if sub is not None and math.isfinite(sub):
         click.echo(f"  subcooling {units.difference_text(sub)}" + (" (inside the hydrate region)" if sub > 0 else ""))
-    click.echo(f"  water: {n.get('water_basis')}")
+    click.echo(f"  water: {units.text(str(n.get('water_basis')))}")
     dose = n.get("inhibitor_weight_percent")
     dose_text = pct(dose) if dose is not None and math.isfinite(dose) else "no dose"
     bound = " (an upper bound, not a checked dose)" if n.get("dose_upper_bound") else ""
@@ -507,14 +535,15 @@ def print_kind_answers(answers: dict, units: DisplayUnits) -> None:
     if remedies:
         click.echo("\nwhat keeps the discharge above its limits (no heater on a relief line)")
         temp = remedies.get("min_relieving_temperature") or {}
-        click.echo(f"  {temp.get('sentence') or 'relieving temperature: ' + str(temp.get('reason') or 'not found')}")
+        sentence = temp.get("sentence") or "relieving temperature: " + str(temp.get("reason") or "not found")
+        click.echo(f"  {units.text(sentence)}")
         for m in remedies.get("materials") or ():
-            click.echo(f"  {m['sentence']}")
+            click.echo(f"  {units.text(m['sentence'])}")
     generated = answers.get("generated_cases") or []
     if generated:
         click.echo("\ncredible cases generated from the operating data")
         for g in generated:
-            click.echo(f"  {g['name']}: {g['status']}; {g.get('reasoning') or g.get('reason')}")
+            click.echo(f"  {g['name']}: {g['status']}; {units.text(g.get('reasoning') or g.get('reason') or '')}")
 
 
 def _preheat_line(what: str, part: dict, units: DisplayUnits, mass_flow_kg_per_s: float | None) -> None:
@@ -552,7 +581,7 @@ def print_remedies(answers: dict, units: DisplayUnits, mass_flow_kg_per_s: float
                       mass_flow_kg_per_s)
         click.echo("  or inhibit: see the hydrate finding for the inhibitor dose")
     if answers.get("remedies_cover"):
-        click.echo(f"  {answers['remedies_cover']}")
+        click.echo(f"  {units.text(answers['remedies_cover'])}")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -566,7 +595,7 @@ def run_letdown(args: LetdownArgs, *, as_json: bool = False, title: str | None =
         fluid = build_fluid(args)
         screening = screen(args, inputs, fluid)
     except InputError as err:
-        fail_input(err)
+        fail_input(err, text_units(args))
     result = screening.conditions[0].results[fluid.eos.value]
     assert result is not None   # inputs were checked above
     units = display_units(args, inputs)

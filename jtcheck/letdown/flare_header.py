@@ -68,6 +68,7 @@ from typing import Any
 
 import numpy as np
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.letdown.checks import T_MAX_K, check_fluid, finite, positive
 from jtcheck.letdown.plain import PlainResult
@@ -578,14 +579,14 @@ def _section(sec: HeaderSection, inlet: FlashResult | None, outlet: FlashResult 
     else:
         margin = res.T - sec.limit_k
         if any(r.T < sec.limit_k for _, r in ends):
-            band, verdict = Band.FAIL, f"below the limit {sec.limit_k:.2f} K by {-margin:.2f} K"
+            band, verdict = Band.FAIL, f"below the limit {marks.T(sec.limit_k)} by {marks.DT(-margin, 2)}"
         elif not converged:
             band, verdict = Band.NOT_SCREENED, "a flash did not converge: not screened"
         else:
-            band, verdict = Band.PASS, f"{margin:.2f} K above the limit {sec.limit_k:.2f} K"
+            band, verdict = Band.PASS, f"{marks.DT(margin, 2)} above the limit {marks.T(sec.limit_k)}"
     failed = [f"{where} flash failed: {r.message if r is not None else 'not run'}"
               for where, r in (("inlet", inlet), ("outlet", outlet)) if r is None or not r.converged]
-    msg = f"{sec.name}: {res.T:.2f} K at {p_s:.6g} Pa ({res.phase}); {verdict}"
+    msg = f"{sec.name}: {marks.T(res.T, '', 2)} at {marks.P(p_s)} ({res.phase}); {verdict}"
     if failed:
         msg += "; " + "; ".join(failed)
     return HeaderSectionResult(
@@ -715,7 +716,7 @@ def screen_header(sources: Sequence[ReliefSource], sections: Sequence[HeaderSect
         msg = "no PH flash converged; the header is not screened"
     else:
         fails = [r.name for r in results if r.band is Band.FAIL]
-        msg = f"coldest: {coldest.name}, {coldest.t_k:.2f} K at {coldest.p_screened_pa:.6g} Pa"
+        msg = f"coldest: {coldest.name}, {marks.T(coldest.t_k, '', 2)} at {marks.P(coldest.p_screened_pa)}"
         if fails:
             msg += f"; below the limit: {', '.join(fails)}"
         unscreened = [r.name for r in results if r.band is Band.NOT_SCREENED]

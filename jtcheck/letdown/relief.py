@@ -37,6 +37,7 @@ from typing import Any
 import numpy as np
 from scipy.optimize import minimize_scalar
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.letdown.checks import check_fluid, finite, positive
 from jtcheck.letdown.plain import plain as _plain
@@ -353,13 +354,13 @@ def _throat_warnings(fluid: Fluid, st: _PathState) -> list[str]:
         if z < 0.01:
             continue
         if comp.t_triple_k and st.T < comp.t_triple_k:
-            notes.append(f"throat temperature {st.T:.2f} K is below the triple point of {comp.name} "
-                         f"({comp.t_triple_k:.2f} K): solid can form in the nozzle; the EOS has no solid phase")
+            notes.append(f"throat temperature {marks.T(st.T)} is below the triple point of {comp.name} "
+                         f"({marks.T(comp.t_triple_k)}): solid can form in the nozzle; the EOS has no solid phase")
         if comp.id == "water" and st.T < 273.16:
             notes.append(f"water present ({z:.3g} mol/mol) and throat below 0 degC: ice and hydrates can form")
         if st.T < comp.cp_tmin_k:
-            notes.append(f"throat {st.T:.1f} K is below the range of the ideal-gas heat-capacity data of "
-                         f"{comp.name} ({comp.cp_tmin_k:.0f} K): extrapolated")
+            notes.append(f"throat {marks.T(st.T)} is below the range of the ideal-gas heat-capacity data of "
+                         f"{comp.name} ({marks.T(comp.cp_tmin_k)}): extrapolated")
     return notes
 
 
@@ -510,10 +511,10 @@ def nozzle_flow(fluid: Fluid, p0_pa: float, t0_k: float, p_back_pa: float) -> No
             return failed(f"throat flash at the back pressure failed: {throat.message}", stag, rho0, k)
     notes += _throat_warnings(fluid, throat)
     if choked:
-        msg = (f"choked: critical pressure {crit.P:.6g} Pa ({crit.P / p0:.4f} p0) at or above the back pressure "
-               f"{pb:.6g} Pa")
+        msg = (f"choked: critical pressure {marks.P(crit.P)} ({crit.P / p0:.4f} p0) at or above the back pressure "
+               f"{marks.P(pb)}")
     else:
-        msg = f"not choked: throat at the back pressure {pb:.6g} Pa"
+        msg = f"not choked: throat at the back pressure {marks.P(pb)}"
     return NozzleFlow(
         p0_pa=p0, t0_k=t0, p_back_pa=pb, stagnation_phase=stag.phase, stagnation_vapor_fraction=stag.beta,
         stagnation_h_j_per_mol=h0, stagnation_s_j_per_mol_k=s0, stagnation_density_kg_per_m3=rho0,
@@ -726,8 +727,8 @@ def relief_valve_case(fluid: Fluid, set_pressure_pa: float, overpressure_fractio
         if w not in notes:
             notes.append(w)
     if noz.converged and out_lim is not None and noz.t_throat_k < out_lim:
-        notes.append(f"the static temperature at the nozzle throat ({noz.t_throat_k:.2f} K) is below the outlet "
-                     f"limit ({out_lim:.2f} K); the outlet piping sees the downstream temperature once the jet "
+        notes.append(f"the static temperature at the nozzle throat ({marks.T(noz.t_throat_k)}) is below the outlet "
+                     f"limit ({marks.T(out_lim)}); the outlet piping sees the downstream temperature once the jet "
                      "has slowed, but the valve body and outlet flange see the colder jet")
     converged = bool(noz.converged and down.converged)
     parts = []
@@ -737,7 +738,7 @@ def relief_valve_case(fluid: Fluid, set_pressure_pa: float, overpressure_fractio
         parts.append(f"downstream: {down.message}")
     if converged:
         below = [name for name, flag in (("outlet piping", out_below), ("flare header", head_below)) if flag]
-        msg = f"{noz.message}; downstream {t_down:.2f} K at {pb:.6g} Pa"
+        msg = f"{noz.message}; downstream {marks.T(t_down)} at {marks.P(pb)}"
         if below:
             msg += f"; below the limit of the {' and the '.join(below)}"
     else:

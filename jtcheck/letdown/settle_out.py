@@ -46,6 +46,7 @@ from typing import Any
 import numpy as np
 from scipy.optimize import brentq
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.letdown.checks import T_MAX_K, check_fluid, finite, positive
 from jtcheck.letdown.plain import PlainResult
@@ -471,6 +472,7 @@ def settle_out(fluid: Fluid, volumes: Sequence[tuple[str, float, float, float]])
                         "expansion of gas, flashing of liquid)")
     if final.phase in ("two-phase", "liquid"):
         warnings.append(f"liquid at settle-out ({final.phase}, vapour fraction {final.beta:.4g})")
-    msg = (f"settled out at {final.t_k:.2f} K and {final.p_pa:.6g} Pa ({final.phase}, vapour fraction "
+    msg = (f"settled out at {marks.T(final.t_k, 'inlet_temperature', 2)} and {marks.P(final.p_pa, 'inlet_pressure')} "
+           f"({final.phase}, vapour fraction "
            f"{final.beta:.4g}) from {len(vols)} volume{'s' if len(vols) != 1 else ''}")
     return result(True, msg, n, u_total, final)

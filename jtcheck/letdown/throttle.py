@@ -16,6 +16,7 @@ from dataclasses import asdict, dataclass, field, replace
 
 import numpy as np
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.letdown.checks import check_fluid
 from jtcheck.thermo.flash import pure_supercritical
@@ -62,13 +63,15 @@ def check_letdown_inputs(p_in, t_in, p_out):
     if over.any():
         k = int(np.flatnonzero(over.ravel())[0])
         p_o, p_i = float(p_out_b.ravel()[k]), float(p_in_b.ravel()[k])
-        raise InputError("p_out", f"outlet pressure {p_o / 1e5:.6g} bara ({p_o:g} Pa) is above the inlet pressure "
-                                  f"{p_i / 1e5:.6g} bara ({p_i:g} Pa); a letdown needs p_out <= p_in")
+        raise InputError("p_out", f"outlet pressure {marks.P(p_o, 'outlet_pressure', 6)} is above the inlet pressure "
+                                  f"{marks.P(p_i, 'inlet_pressure', 6)}; a letdown needs p_out <= p_in")
     if np.any(t_in_b > 2000.0):
-        raise InputError("t_in", "inlet temperature must be below 2000 K (the range of the heat-capacity data)")
+        raise InputError("t_in", f"inlet temperature {marks.T(float(t_in_b.max()), 'inlet_temperature', 6)} is above "
+                                 f"{marks.T(2000.0, 'inlet_temperature', 6)}, the range of the heat-capacity data")
     if np.any(t_in_b < T_IN_MIN_K):
-        raise InputError("t_in", f"inlet temperature must be at least {T_IN_MIN_K:g} K (the lowest temperature of "
-                                 f"the heat-capacity data), got {float(t_in_b.min()):g} K")
+        raise InputError("t_in", f"inlet temperature {marks.T(float(t_in_b.min()), 'inlet_temperature', 6)} is below "
+                                 f"{marks.T(T_IN_MIN_K, 'inlet_temperature', 6)}, the lowest temperature of the "
+                                 "heat-capacity data")
     return p_in_b, t_in_b, p_out_b
 
 
@@ -177,20 +180,20 @@ def _state_warnings(fluid: Fluid, p_out, t_out, t_in) -> list[list[str]]:
         if comp.id == "carbon dioxide" and z >= 0.5:
             dry_ice = (p_out < CO2_TRIPLE_P_PA) & (t_out < CO2_TRIPLE_T_K + 1.0)
             add(dry_ice, lambda k: (
-                f"CO2-rich fluid let down below the CO2 triple-point pressure ({CO2_TRIPLE_P_PA / 1e5:.2f} bar abs): "
+                f"CO2-rich fluid let down below the CO2 triple-point pressure ({marks.P(CO2_TRIPLE_P_PA, '', 3)}): "
                 "dry ice (solid CO2) can form; the fluid-only EOS reports a metastable vapour-liquid state that "
                 "is too cold"))
         elif comp.t_triple_k and z >= 0.01:
             add(t_out < comp.t_triple_k, lambda k, c=comp: (
-                f"outlet {t_out[k]:.2f} K is below the triple point of {c.name} ({c.t_triple_k:.2f} K): it can "
+                f"outlet {marks.T(t_out[k])} is below the triple point of {c.name} ({marks.T(c.t_triple_k)}): it can "
                 "freeze; the EOS has no solid phase"))
         if comp.id == "water":
             add(t_out < 273.16, lambda k, z=z: (
                 f"water present ({z:.3g} mol/mol) and outlet below 0 degC: ice and hydrates can form"))
         if z >= 0.01:
             add(t_out < comp.cp_tmin_k, lambda k, c=comp: (
-                f"outlet {t_out[k]:.1f} K is below the range of the ideal-gas heat-capacity data of {c.name} "
-                f"({c.cp_tmin_k:.0f} K): extrapolated"))
+                f"outlet {marks.T(t_out[k])} is below the range of the ideal-gas heat-capacity data of {c.name} "
+                f"({marks.T(c.cp_tmin_k)}): extrapolated"))
     add(t_out > t_in + 1e-6, lambda k: "the fluid warms on letdown (inverse Joule-Thomson effect)")
     if not fluid.eos.is_cubic:
         for k in np.flatnonzero(finite):

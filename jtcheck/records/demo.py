@@ -14,6 +14,7 @@ from sqlalchemy.orm import Session
 
 from jtcheck.records import audit, computation
 from jtcheck.records.cases import add_case
+from jtcheck.records.demo_labels import DEMO_NOTE, SITE_NAME
 from jtcheck.records.fluids import add_fluid
 from jtcheck.records.guard import EDIT_ROLES, require
 from jtcheck.records.materials import add_seed_materials
@@ -21,7 +22,6 @@ from jtcheck.records.models import P_ATM_STANDARD_PA, CaseKind, Material, Role, 
 from jtcheck.records.sites import add_site, add_unit
 from jtcheck.records.transactions import transaction
 
-SITE_NAME = "Kestrel Ridge gas terminal (invented)"
 #: The demo site's default margin [K] and its reason (invented site practice, of the common size).
 SITE_MARGIN_K = 5.0
 SITE_MARGIN_BASIS = ("Site practice (invented): 5 K above the cold limit, covering the instrument error of the "
@@ -31,7 +31,6 @@ SITE_DESCRIPTION = ("Fictional gas receiving terminal used for jtcheck's demonst
                     "Every name and number is invented.")
 #: The owner of demo records when no user is given: cannot sign in (inactive, unusable password hash).
 DEMO_USER_EMAIL = "demo@kestrel-ridge.invalid"
-DEMO_NOTE = "Demo data: invented, for demonstration only; not a design value."
 
 BAR = 1.0e5               # [Pa]
 P_ATM = P_ATM_STANDARD_PA  # [Pa], gauge pressures below are BAR * x + P_ATM

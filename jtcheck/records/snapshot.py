@@ -14,6 +14,7 @@ import math
 from typing import Any
 
 from jtcheck.records.case_inputs import case_values
+from jtcheck.records.demo_labels import site_label
 from jtcheck.records.models import Case, CaseKind, CaseResult, KijMode
 
 #: Version of the snapshot layout (bump when its keys change meaning).
@@ -78,7 +79,7 @@ def case_snapshot(case: Case, result: CaseResult, letter: str, history: list[dic
             "id": case.id, "version": case.version, "tag": case.tag, "service": case.service,
             "title": f"{case.tag}: {case.service}" if case.service else case.tag,
             "kind": CaseKind(case.kind).value, "kind_label": CaseKind(case.kind).label,
-            "site": case.unit.site.name, "unit": case.unit.name, "basis": case.basis, "references": case.references,
+            "site": site_label(case), "unit": case.unit.name, "basis": case.basis, "references": case.references,
             "display_units": dict(case.display_units or {}), "p_atm_pa": case.p_atm_pa, "values": values,
             "mdmt_source": case.mdmt_source,
             "material": None if material is None else {

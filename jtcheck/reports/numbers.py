@@ -9,7 +9,9 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
-from jtcheck.units import difference_label, temperature_from_k
+import jinja2
+
+from jtcheck.units import TextUnits, difference_label, temperature_from_k
 
 #: Spellings of the temperature units on one-line summaries (batch pages and the batch summary): the same as on
 #: every other page and in the record (degC, not °C).
@@ -70,3 +72,39 @@ def temperature_text(value_k: Any, unit: str) -> str:
         return "–"
     text = f"{temperature_from_k(v, unit):.1f}"
     return f"{'0.0' if text == '-0.0' else text} {UNIT_LABELS.get(unit.lower(), unit)}"
+
+
+@jinja2.pass_context
+def finalize_marks(context: Any, value: Any) -> Any:
+    """Jinja ``finalize`` of the pages and the record: every text printed has its marked quantities
+    (:mod:`jtcheck.marks`: findings, remedies, reasoning, errors) in the case's units: the template's ``words``
+    (a :class:`jtcheck.units.TextUnits`), else the ``words`` of its ``units``, else the default units."""
+    if not isinstance(value, str) or "\u27e6" not in value:
+        return value
+    words = context.get("words")
+    if not isinstance(words, TextUnits):
+        words = getattr(context.get("units"), "words", None)
+    if not isinstance(words, TextUnits):
+        words = TextUnits()
+    return words.text(value)
+
+
+def mark_filters() -> dict[str, Any]:
+    """Jinja filters that mark an SI value (:mod:`jtcheck.marks`) for :func:`finalize_marks` to show in the case's
+    units: ``k|tq`` a temperature [K] (``k|tq(2)`` to 0.01), ``dk|dtq`` a difference [K], ``pa|pq`` an absolute
+    pressure [Pa] (``pa|pq("inlet_pressure")`` in that field's unit); "–" for no value."""
+    from jtcheck import marks
+
+    def tq(value: Any, digits: int = 2, field: str = "") -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.T(v, field, digits)
+
+    def dtq(value: Any, digits: int = 2) -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.DT(v, digits)
+
+    def pq(value: Any, field: str = "outlet_pressure", digits: int = 4) -> str:
+        v = finite_or_none(value)
+        return "–" if v is None else marks.P(v, field, digits)
+
+    return {"tq": tq, "dtq": dtq, "pq": pq}

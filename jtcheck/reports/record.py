@@ -42,7 +42,7 @@ from jtcheck.notices import CAUTION
 from jtcheck.records.snapshot import snapshot_digest
 from jtcheck.reports import charts
 from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
-from jtcheck.reports.numbers import finite_or_none, fmt_number, fmt_quantity, fmt_signed
+from jtcheck.reports.numbers import finalize_marks, finite_or_none, fmt_number, fmt_quantity, fmt_signed, mark_filters
 from jtcheck.reports.record_fields import add_text_fields
 from jtcheck.reports.screening_display import (
     OUTCOME_LABELS,
@@ -127,8 +127,10 @@ def templates_path() -> Path:
 @cache
 def _environment() -> jinja2.Environment:
     env = jinja2.Environment(loader=jinja2.FileSystemLoader(str(templates_path())), autoescape=True,
-                             undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True)
+                             undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+                             finalize=finalize_marks)
     env.filters["num"] = fmt_number
+    env.filters.update(mark_filters())
     env.filters["q"] = fmt_quantity
     env.filters["signed"] = fmt_signed
     return env
@@ -416,6 +418,7 @@ def record_context(snapshot: Mapping[str, Any], paper: str = "A4") -> dict[str, 
         "prepared_at": _date(prepared_at) if prepared_at else "",
         "computed_at": _date(result.get("computed_at")), "computed_by": str(result.get("computed_by") or ""),
         "result_case_version": result.get("case_version"),
+        "words": units.words,
         "units": {"temperature": units.temperature, "inlet_pressure": units.inlet_pressure,
                   "outlet_pressure": units.outlet_pressure, "difference": units.difference,
                   "p_atm_bar": p_atm / 1e5},

@@ -44,6 +44,7 @@ from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Outcome
 from jtcheck.units import (
     P_ATM_DEFAULT_PA,
+    TextUnits,
     difference_label,
     pressure_from_pa,
     temperature_difference_from_k,
@@ -116,6 +117,12 @@ class DisplayUnits:
         return cls(temperature=clean.get("inlet_temperature") or "degC", inlet_pressure=inlet,
                    outlet_pressure=clean.get("outlet_pressure") or inlet,
                    p_atm_pa=float(p_atm_pa or P_ATM_DEFAULT_PA), shown=clean)
+
+    @property
+    def words(self) -> TextUnits:
+        """The units of the quantities marked in sentences (:mod:`jtcheck.marks`): the case's, field by field."""
+        return TextUnits(temperature=self.temperature, pressure=self.outlet_pressure, p_atm_pa=self.p_atm_pa,
+                         fields=tuple(sorted(self.shown.items())))
 
     @property
     def difference(self) -> str:

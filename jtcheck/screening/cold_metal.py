@@ -26,6 +26,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from jtcheck.errors import InputError
+from jtcheck.marks import DT, T
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic
 from jtcheck.screening.mdmt import CurveTable, MaterialColdSpec, allowable_curve
 
@@ -151,8 +152,8 @@ class ColdLimits:
 
 def margin_terms_text(limits: ColdLimits) -> str:
     """The total margin and its terms in one phrase: "6.59 K (entered margin 5 K + model spread ... 1.59 K)"."""
-    terms = " + ".join(f"{t['term']} {t['k']:.2f} K" for t in limits.margin_terms)
-    return f"{limits.total_margin_k:.2f} K ({terms})"
+    terms = " + ".join(f"{t['term']} {DT(t['k'], 2)}" for t in limits.margin_terms)
+    return f"{DT(limits.total_margin_k, 2)} ({terms})"
 
 
 def classify(t_out_min_k: float | None, limits: ColdLimits, all_converged: bool = True) -> Outcome:
@@ -168,7 +169,7 @@ def classify(t_out_min_k: float | None, limits: ColdLimits, all_converged: bool 
 
 
 def _c(t_k: float) -> str:
-    return f"{t_k - 273.15:.1f} degC ({t_k:.2f} K)"
+    return f"{T(t_k)}"
 
 
 def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: ColdLimits) -> tuple[Outcome, Finding]:
@@ -194,7 +195,7 @@ def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: Cold
                "mdmt_k": limits.mdmt_k, "user_limit_k": limits.user_limit_k,
                "margin_to_limit_k": None if coldest is None or limit is None else coldest - limit}
     basis = (f"governing limit: {limits.basis}; total margin {margin_terms_text(limits)}; outcome bands: fail "
-             f"below the limit, margin eroded within {limits.total_margin_k:.2f} K above it, pass at or above "
+             f"below the limit, margin eroded within {DT(limits.total_margin_k, 2)} above it, pass at or above "
              "limit + total margin")
     if outcome is Outcome.NOT_SCREENED:
         if failed:
@@ -208,14 +209,14 @@ def screen_cold_metal(t_outs_k: Sequence[tuple[str, float | None]], limits: Cold
     text = f"coldest outlet {_c(coldest)} ({coldest_name}) against the cold limit {_c(limit)}"
     if outcome is Outcome.FAIL:
         return outcome, Finding(Topic.COLD_METAL, Severity.HAZARD,
-                                f"Below the cold limit by {limit - coldest:.1f} K: {text}.", numbers, basis,
+                                f"Below the cold limit by {DT(limit - coldest, 1)}: {text}.", numbers, basis,
                                 coldest_name)
     if outcome is Outcome.MARGIN_ERODED:
         return outcome, Finding(Topic.COLD_METAL, Severity.CAUTION,
-                                f"Inside the {margin_terms_text(limits)} margin ({coldest - limit:.1f} K above "
+                                f"Inside the {margin_terms_text(limits)} margin ({DT(coldest - limit, 1)} above "
                                 f"the limit): {text}.", numbers, basis, coldest_name)
     return outcome, Finding(Topic.COLD_METAL, Severity.INFORMATION,
-                            f"{coldest - limit:.1f} K above the cold limit: {text}.", numbers, basis, coldest_name)
+                            f"{DT(coldest - limit, 1)} above the cold limit: {text}.", numbers, basis, coldest_name)
 
 
 def material_limit_working(spec: MaterialColdSpec, p_coincident_pa: float, p_atm_pa: float, p_max_pa: float,

@@ -11,7 +11,8 @@ import enum
 from dataclasses import dataclass, field
 from typing import Any
 
-from jtcheck.letdown.plain import plain
+from jtcheck.letdown.plain import plain as json_plain
+from jtcheck.marks import plain
 
 
 class Outcome(enum.StrEnum):
@@ -80,7 +81,8 @@ class Finding:
     topic : Topic
     severity : Severity
     message : str
-        Plain words, with the numbers a reader needs.
+        Plain words, with the numbers a reader needs; its quantities are marked (:mod:`jtcheck.marks`) so that
+        every edge shows them in the user's units (:attr:`text`: in the default units).
     numbers : dict
         The values behind the message, SI: keys end in their unit (``t_out_k``, ``p_out_pa``).
     basis : str
@@ -96,9 +98,15 @@ class Finding:
     basis: str = ""
     condition: str = ""
 
+    @property
+    def text(self) -> str:
+        """The message in the default units (degC, K for differences, bar abs); the edges show :attr:`message` in
+        the user's units instead (:meth:`jtcheck.units.TextUnits.text`)."""
+        return plain(self.message)
+
     def to_dict(self) -> dict[str, Any]:
         return {"topic": self.topic.value, "severity": self.severity.value, "message": self.message,
-                "numbers": plain(self.numbers), "basis": self.basis, "condition": self.condition}
+                "numbers": json_plain(self.numbers), "basis": self.basis, "condition": self.condition}
 
 
 def sort_findings(findings: list[Finding]) -> list[Finding]:

@@ -79,6 +79,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.thermo.components import find_component
 from jtcheck.thermo.fluid import Fluid
@@ -187,7 +188,8 @@ def _degf_to_k(t_degf):
 
 
 def _k(t_k: float) -> str:
-    return f"{t_k:.1f} K ({t_k - _T0_K:.1f} degC)"
+    """A temperature [K] in a sentence, marked (:mod:`jtcheck.marks`)."""
+    return marks.T(t_k)
 
 
 # --------------------------------------------------------------------------------------------------
@@ -213,6 +215,9 @@ def _check_range(field: str, value, what: str, unit: str, lo: float, hi: float, 
     if below.any() or (arr > hi).any():
         bad = arr[below | (arr > hi)].flat[0]
         left = "above" if lo_open else "from"
+        if unit == "K" and "temperature" in what and "depression" not in what:   # a reading: in the user's units
+            raise InputError(field, f"{what} {marks.T(float(bad), '', 2)} is outside the range of the hydrate screen "
+                                    f"({left} {marks.T(lo)} to {marks.T(hi)})")
         raise InputError(field, f"{what} must lie {left} {lo:g} and at most {hi:g} {unit}, got {bad:g}")
     return arr
 

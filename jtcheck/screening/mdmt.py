@@ -33,6 +33,7 @@ from typing import Any
 
 import numpy as np
 
+from jtcheck import marks
 from jtcheck.errors import InputError
 from jtcheck.screening.findings import Outcome
 
@@ -689,14 +690,14 @@ def screen_pressure_path(p_pa: Sequence[float], t_k: Sequence[float], spec: Mate
                                                   "typed limit.")
     gaps = [t - a for t, a in zip(ts, allowable, strict=True)]
     worst = int(np.argmin(gaps))
-    at = (f"at {ps[worst] / 1e5:.3f} bar abs: {_c(ts[worst])} against the allowable {_c(allowable[worst])}")
+    at = (f"at {marks.P(ps[worst])}: {marks.T(ts[worst])} against the allowable {marks.T(allowable[worst])}")
     if gaps[worst] < 0:
         return result(Outcome.FAIL, worst, f"The path crosses into the region the material does not allow, "
-                                           f"{-gaps[worst]:.1f} K below {at}.")
+                                           f"{marks.DT(-gaps[worst])} below {at}.")
     if gaps[worst] < margin_k:
-        return result(Outcome.MARGIN_ERODED, worst, f"Within the {margin_k:.2f} K margin ({gaps[worst]:.1f} K above) "
-                                                    f"{at}.")
-    return result(Outcome.PASS, worst, f"{gaps[worst]:.1f} K above the allowable at the closest point, {at}.")
+        return result(Outcome.MARGIN_ERODED, worst, f"Within the {marks.DT(margin_k, 2)} margin "
+                                                    f"({marks.DT(gaps[worst])} above) {at}.")
+    return result(Outcome.PASS, worst, f"{marks.DT(gaps[worst])} above the allowable at the closest point, {at}.")
 
 
 def allowable_curve(spec: MaterialColdSpec, p_max_pa: float, p_atm_pa: float, table: CurveTable | None = None,

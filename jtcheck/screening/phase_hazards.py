@@ -16,6 +16,7 @@ import math
 import numpy as np
 
 from jtcheck.letdown.throttle import LetdownResult, letdown
+from jtcheck.marks import DT, P, T
 from jtcheck.screening.findings import Finding, Severity, Topic
 from jtcheck.thermo.envelope import dew_point_t
 from jtcheck.thermo.fluid import Fluid
@@ -27,7 +28,7 @@ PATH_POINTS = 12
 
 
 def _c(t_k: float) -> str:
-    return f"{t_k - 273.15:.1f} degC"
+    return f"{T(t_k)}"
 
 
 def outlet_dew_point_k(fluid: Fluid, p_out_pa: float, t_guess_k: float | None = None) -> float | None:
@@ -92,7 +93,7 @@ def liquid_dropout(fluid: Fluid, result: LetdownResult, condition: str = "") -> 
         numbers.update(path_max_liquid_fraction=max_liq, path_pressure_at_max_pa=p_at)
         return Finding(Topic.LIQUID_DROPOUT, Severity.CAUTION,
                        f"Liquid forms along the letdown path (up to {100 * max_liq:.2f} mol% near "
-                       f"{p_at / 1e5:.1f} bar abs) and re-evaporates before the outlet{dew_text}.",
+                       f"{P(p_at)}) and re-evaporates before the outlet{dew_text}.",
                        numbers, basis, condition)
     return None
 
@@ -134,7 +135,7 @@ def inverse_joule_thomson(result: LetdownResult, condition: str = "") -> Finding
     if not result.converged or not result.t_out > result.t_in + 1e-6:
         return None
     return Finding(Topic.INVERSE_JT, Severity.INFORMATION,
-                   f"The fluid warms by {result.t_out - result.t_in:.2f} K on letdown (inverse Joule-Thomson "
+                   f"The fluid warms by {DT(result.t_out - result.t_in, 2)} on letdown (inverse Joule-Thomson "
                    "effect: the inlet is above the inversion temperature or pressure).",
                    {"t_in_k": result.t_in, "t_out_k": result.t_out, "dt_k": result.t_out - result.t_in},
                    "isenthalpic letdown", condition)

@@ -38,6 +38,7 @@ from jtcheck.errors import InputError, JtcheckError
 from jtcheck.letdown.flare_header import HeaderResult, HeaderSection, ReliefSource, screen_header
 from jtcheck.letdown.relief import back_pressure_pa, downstream_of_relief, relief_valve_case, relieving_pressure_pa
 from jtcheck.letdown.throttle import LetdownResult
+from jtcheck.marks import DT, P, T
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic
 from jtcheck.thermo.fluid import Fluid
@@ -253,7 +254,7 @@ def _governing_rows(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
 
 
 def _c(t_k: float) -> str:
-    return f"{t_k - 273.15:.1f} degC ({t_k:.2f} K)"
+    return f"{T(t_k)}"
 
 
 def _limit_finding(row: dict[str, Any], margin_k: float, at_tip_note: str) -> Finding | None:
@@ -261,7 +262,7 @@ def _limit_finding(row: dict[str, Any], margin_k: float, at_tip_note: str) -> Fi
     if outcome is Outcome.PASS:
         return None
     place = "the outlet piping" if row["limit"] == OUTLET_PIPING else f"the flare header section {row['limit']!r}"
-    case = f"(relieving at {_c(row['t_relieving_k'])}, {row['model']}, {row['p_pa'] / 1e5:.3f} bar abs)"
+    case = f"(relieving at {_c(row['t_relieving_k'])}, {row['model']}, {P(row['p_pa'])})"
     note = at_tip_note if row["limit"] == HEADER_AT_TIP else ""
     numbers = {k: row[k] for k in ("t_k", "limit_k", "margin_k", "p_pa", "t_relieving_k")}
     if outcome is Outcome.NOT_SCREENED:
@@ -271,11 +272,11 @@ def _limit_finding(row: dict[str, Any], margin_k: float, at_tip_note: str) -> Fi
     t, lim = row["t_k"], row["limit_k"]
     if outcome is Outcome.FAIL:
         return Finding(Topic.RELIEF, Severity.HAZARD,
-                       f"The relieving flow reaches {place} at {_c(t)}, {lim - t:.1f} K below its limit {_c(lim)} "
+                       f"The relieving flow reaches {place} at {_c(t)}, {DT(lim - t, 1)} below its limit {_c(lim)} "
                        f"{case}.{note}", numbers, BASIS, row["limit"])
     return Finding(Topic.RELIEF, Severity.CAUTION,
-                   f"The relieving flow reaches {place} at {_c(t)}, inside the {margin_k:.2f} K margin above its limit "
-                   f"{_c(lim)} {case}.{note}", numbers, BASIS, row["limit"])
+                   f"The relieving flow reaches {place} at {_c(t)}, inside the {DT(margin_k, 2)} margin above its "
+                   f"limit {_c(lim)} {case}.{note}", numbers, BASIS, row["limit"])
 
 
 def _nozzle_finding(rv: dict[str, Any], model: str) -> Finding:
@@ -283,10 +284,10 @@ def _nozzle_finding(rv: dict[str, Any], model: str) -> Finding:
     choke = "choked" if nz.get("choked") else "not choked"
     return Finding(
         Topic.RELIEF, Severity.INFORMATION,
-        f"Relieving at {rv['p_relieving_pa'] / 1e5:.2f} bar abs and {_c(rv['t_relieving_k'])}: flow {choke}; nozzle "
-        f"throat {rv['t_throat_k'] - 273.15:.1f} degC at {nz['p_throat_pa'] / 1e5:.2f} bar abs; after expansion to "
-        f"the back pressure {rv['p_back_pa'] / 1e5:.2f} bar abs the flow reaches the outlet piping at "
-        f"{rv['t_downstream_k'] - 273.15:.1f} degC ({model}).",
+        f"Relieving at {P(rv['p_relieving_pa'])} and {_c(rv['t_relieving_k'])}: flow {choke}; nozzle "
+        f"throat {T(rv['t_throat_k'])} at {P(nz['p_throat_pa'])}; after expansion to "
+        f"the back pressure {P(rv['p_back_pa'])} the flow reaches the outlet piping at "
+        f"{T(rv['t_downstream_k'])} ({model}).",
         {"p_relieving_pa": rv["p_relieving_pa"], "p_back_pa": rv["p_back_pa"], "p_throat_pa": nz.get("p_throat_pa"),
          "t_throat_k": rv["t_throat_k"], "t_downstream_k": rv["t_downstream_k"], "choked": nz.get("choked"),
          "critical_pressure_ratio": nz.get("critical_pressure_ratio"),
@@ -372,7 +373,7 @@ def screen_relief(models: Sequence[Fluid], relief: ReliefInputs,
     at_tip = ""
     if data["header_at_tip"]:
         at_tip = (f" The header's sections are not given: the header is screened at its lowest credible pressure, "
-                  f"the atmospheric pressure at the tip ({relief.p_atm_pa / 1e5:.3f} bar abs), not at the back "
+                  f"the atmospheric pressure at the tip ({P(relief.p_atm_pa)}), not at the back "
                   "pressure at the valve (a conservative default).")
     if relief.other_sources and flow is None:
         at_tip += (f" This valve's mass flow is not given: {NOMINAL_MASS_FLOW_KG_PER_S:g} kg/s is taken for its "
@@ -387,7 +388,7 @@ def screen_relief(models: Sequence[Fluid], relief: ReliefInputs,
         over = ", ".join(_c(t) for t in temps)
         note = at_tip if any(r["limit"] == HEADER_AT_TIP for r in passing) else ""
         findings.append(Finding(Topic.RELIEF, Severity.INFORMATION,
-                                f"The relieving case keeps the {limits.total_margin_k:.2f} K margin at: {listing} "
+                                f"The relieving case keeps the {DT(limits.total_margin_k, 2)} margin at: {listing} "
                                 f"(coldest "
                                 f"over the relieving temperatures {over} and the models).{note}",
                                 {"limits": [r["limit"] for r in passing]}, BASIS))
@@ -431,7 +432,7 @@ def _min_relieving_temperature(models: Sequence[Fluid], relief: ReliefInputs,
         if g_lo >= 0.0:
             out.update(found=True, already_met=True, t_relieving_min_k=lo,
                        sentence=f"The relieving case already keeps every limit with the "
-                                f"{limits.total_margin_k:.2f} K margin "
+                                f"{DT(limits.total_margin_k, 2)} margin "
                                 f"at the minimum credible relieving temperature {_c(lo)}; the outcome comes from "
                                 "the letdown conditions.")
             return out
@@ -453,7 +454,7 @@ def _min_relieving_temperature(models: Sequence[Fluid], relief: ReliefInputs,
     out.update(found=True, t_relieving_min_k=t,
                sentence=f"Keep the relieving temperature at or above {_c(t)} (e.g. by heat tracing and insulating the "
                         "protected equipment and the valve inlet, or by removing the cause that lets the relieving "
-                        f"fluid get colder); every limit then keeps its {limits.total_margin_k:.2f} K margin.")
+                        f"fluid get colder); every limit then keeps its {DT(limits.total_margin_k, 2)} margin.")
     return out
 
 
@@ -476,7 +477,7 @@ def _materials(data: dict[str, Any], limits: ColdLimits, t_letdown_min_k: float 
         out.append({"where": name, "t_coldest_k": t, "mdmt_needed_k": need, "current_limit_k": current,
                     "material": material,
                     "sentence": f"For {where}: a material whose MDMT is at or below {_c(need)} (coldest screened "
-                                f"{_c(t)}, less the {limits.total_margin_k:.2f} K margin)."})
+                                f"{_c(t)}, less the {DT(limits.total_margin_k, 2)} margin)."})
     return out
 
 

@@ -34,6 +34,7 @@ from jtcheck.letdown.outlet_limit import outlet_pressure_limit
 from jtcheck.letdown.preheat import required_preheat
 from jtcheck.letdown.sweep import operating_sweep
 from jtcheck.letdown.throttle import CO2_TRIPLE_P_PA, LetdownResult, letdown
+from jtcheck.marks import DT, P, T
 from jtcheck.screening.co2_solids import screen_co2_solids
 from jtcheck.screening.cold_metal import ColdLimits, screen_cold_metal
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, plain, sort_findings
@@ -359,9 +360,9 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
             s = cs.solids
             solids.append((Finding(
                 Topic.CO2_SOLIDS, Severity.HAZARD,
-                f"Dry ice forms: the outlet settles on the CO2 sublimation line at {s['t_out_k'] - 273.15:.1f} degC "
-                f"({s['t_out_k']:.2f} K) with {100 * (s['solid_fraction'] or 0):.1f} mol% solid CO2 "
-                f"(the fluid-only EOS would report {r.t_out - 273.15:.1f} degC). Solid CO2 can block the outlet "
+                f"Dry ice forms: the outlet settles on the CO2 sublimation line at {T(s['t_out_k'])} "
+                f"with {100 * (s['solid_fraction'] or 0):.1f} mol% solid CO2 "
+                f"(the fluid-only EOS would report {T(r.t_out)}). Solid CO2 can block the outlet "
                 "piping and relief or vent lines.",
                 {"t_out_k": s["t_out_k"], "solid_fraction": s["solid_fraction"], "t_eos_k": r.t_out,
                  "p_out_pa": r.p_out}, str(s.get("method") or "energy balance on the CO2 sublimation line"),
@@ -371,7 +372,7 @@ def _hazard_findings(fluid: Fluid, screens: list[ConditionScreen], options: Scre
                                 inhibitor=Inhibitor.parse(options.inhibitor), design_margin_k=options.limits.margin_k,
                                 **hydrate_water_inputs(options, cs.condition))
         except InputError as exc:
-            validity.setdefault(f"hydrate screen not possible: {exc}", []).append(name)
+            validity.setdefault(f"hydrate screen not possible: {exc.message}", []).append(name)
         else:
             hyd.append((h, name))
         for w in r.warnings:
@@ -464,7 +465,7 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
     if not h.screened:
         return Finding(Topic.HYDRATES, Severity.CAUTION,
                        f"Not screened for hydrates: {h.reason.removeprefix('not screened for hydrates: ')}. The outlet "
-                       f"({h.t_out_k - 273.15:.1f} degC at {h.p_pa / 1e5:.1f} bar abs) is not shown to be outside the "
+                       f"({T(h.t_out_k)} at {P(h.p_pa)}) is not shown to be outside the "
                        "hydrate region.", numbers, basis, name)
     if h.in_hydrate_region:
         if math.isfinite(h.inhibitor_weight_percent):
@@ -480,9 +481,9 @@ def hydrate_finding(h: Any, name: str, margin_k: float) -> Finding:
         else:
             why = h.dose_note.removeprefix("no dose can be given: ").split("; ")[0]
             dose = f"No {h.inhibitor} dose is given: {why}"
-        msg = (f"Hydrates can form: the outlet ({h.t_out_k - 273.15:.1f} degC) is {h.subcooling_k:.1f} K inside the "
-               f"hydrate region (hydrate temperature {h.t_hydrate_k - 273.15:.1f} degC at {h.p_pa / 1e5:.1f} bar "
-               f"abs, structure {h.structure}, {h.method}). {dose}; or preheat.")
+        msg = (f"Hydrates can form: the outlet ({T(h.t_out_k)}) is {DT(h.subcooling_k, 1)} inside the "
+               f"hydrate region (hydrate temperature {T(h.t_hydrate_k)} at {P(h.p_pa)}, "
+               f"structure {h.structure}, {h.method}). {dose}; or preheat.")
         sev = Severity.HAZARD
     else:
         msg, sev = hydrate_outside(h.t_out_k, h.t_hydrate_k, margin_k, True, "")
@@ -510,14 +511,14 @@ def hydrate_outside(t_out_k: float, t_hydrate_k: float, margin_k: float, within_
     T_hydrate + method uncertainty + margin; between the two, a caution inside the hydrate margin."""
     terms = hydrate_margin_terms(margin_k)
     total = sum(t["k"] for t in terms)
-    listing = " + ".join(f"{t['term']} {t['k']:.2f} K" for t in terms)
+    listing = " + ".join(f"{t['term']} {DT(t['k'], 2)}" for t in terms)
     warmer = t_out_k - t_hydrate_k
-    where = (f"the outlet ({t_out_k - 273.15:.1f} degC) is {warmer:.1f} K warmer than the hydrate temperature "
-             f"({t_hydrate_k - 273.15:.1f} degC)")
+    where = (f"the outlet ({T(t_out_k)}) is {DT(warmer, 1)} warmer than the hydrate temperature "
+             f"({T(t_hydrate_k)})")
     if warmer < total:
-        return (f"Inside the hydrate margin: {where}, less than the {total:.2f} K margin ({listing}); outside it "
-                f"needs at least {t_hydrate_k + total - 273.15:.1f} degC.{validity}", Severity.CAUTION)
-    return (f"Outside the hydrate region: {where}, at least the {total:.2f} K margin ({listing}).{validity}",
+        return (f"Inside the hydrate margin: {where}, less than the {DT(total, 2)} margin ({listing}); outside it "
+                f"needs at least {T(t_hydrate_k + total)}.{validity}", Severity.CAUTION)
+    return (f"Outside the hydrate region: {where}, at least the {DT(total, 2)} margin ({listing}).{validity}",
             Severity.INFORMATION if within_validity else Severity.CAUTION)
 
 
@@ -530,10 +531,10 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     cs = min(done, key=lambda c: c.t_screen_k)
     temps = {eos: r.t_out for eos, r in cs.results.items() if r is not None and r.converged}
     spread = max(temps.values()) - min(temps.values())
-    listing = ", ".join(f"{eos} {t - 273.15:.1f} degC" for eos, t in temps.items())
+    listing = ", ".join(f"{eos} {T(t)}" for eos, t in temps.items())
     if governs_alone(models[0]):
         return Finding(Topic.MODEL_SPREAD, Severity.INFORMATION,
-                       f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); screened on "
+                       f"Outlet by model at the coldest condition: {listing} (spread {DT(spread, 2)}); screened on "
                        f"{cs.governing_model}, the reference-grade model: the cubic models beside it err by kelvins "
                        "on high-pressure letdowns (most for hydrogen and helium), so their spread is shown and not "
                        "added to the margin.",
@@ -542,10 +543,10 @@ def _model_spread(screens: list[ConditionScreen], models: list[Fluid]) -> Findin
     sev = Severity.CAUTION if spread > MODEL_SPREAD_CAUTION_K else Severity.INFORMATION
     screened = f"screened on the colder ({cs.governing_model})"
     if cs.solids is not None:   # dry ice: the screened outlet is on the sublimation line, not either fluid-only value
-        screened = (f"these are fluid-only values: with dry ice the screened outlet is {cs.t_screen_k - 273.15:.1f} "
-                    "degC, on the CO2 sublimation line")
+        screened = (f"these are fluid-only values: with dry ice the screened outlet is {T(cs.t_screen_k)}, "
+                    "on the CO2 sublimation line")
     return Finding(Topic.MODEL_SPREAD, sev,
-                   f"Outlet by model at the coldest condition: {listing} (spread {spread:.2f} K); {screened}.",
+                   f"Outlet by model at the coldest condition: {listing} (spread {DT(spread, 2)}); {screened}.",
                    {"t_out_k_by_model": temps, "spread_k": spread}, "PR and SRK side by side", cs.condition.name)
 
 

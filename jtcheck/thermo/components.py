@@ -14,9 +14,10 @@ The data live in two files shipped with the package (``jtcheck/thermo/data``):
 
 ``kij.csv``
     Binary interaction parameters ``kij`` of the van der Waals one-fluid mixing rule, by equation of
-    state.  The Peng-Robinson values are the entries of the ChemSep PR interaction parameter database
-    (Kooijman and Taylor; DECHEMA data, page numbers as given there) for pairs of components in the
-    library, as distributed with thermo 0.6.1.  Three entries of that table are left out as outliers
+    state.  The Peng-Robinson values are from Knapp et al. (1982), DECHEMA Chemistry Data Series Vol. VI
+    (page numbers per row), taken from the ChemSep PR interaction parameter compilation (Kooijman and Taylor,
+    Artistic License 2.0) as distributed with thermo 0.6.1: ``data/DATA_NOTICE.md`` keeps the attribution
+    and the licence.  Three entries of that table are left out as outliers
     against their homologous series: nitrogen/n-octane (-0.40), hydrogen/n-butane (-0.397) and
     hydrogen/toluene (-0.51).  No verified Soave-Redlich-Kwong table is included yet, so SRK pairs
     default to zero and are reported as such.  A pair without a published value is set to zero and
@@ -69,13 +70,13 @@ _KIJ_FILE = "kij.csv"
 _COMPONENT_COLUMNS = (
     "id", "name", "formula", "cas", "synonyms", "family", "molar_mass_g_per_mol", "tc_k", "pc_pa",
     "omega", "vc_m3_per_mol", "zc", "crit_source", "zra", "zra_source", "t_triple_k", "p_triple_pa",
-    "triple_source", "cp_a", "cp_b", "cp_c", "cp_d", "cp_e", "cp_tmin_k", "cp_tmax_k", "cp_source",
+    "triple_source", "cp_a", "cp_b", "cp_c", "cp_d", "cp_e", "cp_tmin_k", "cp_tmax_k", "cp_source", "compiled_from",
 )
 _FLOAT_COLUMNS = (
     "molar_mass_g_per_mol", "tc_k", "pc_pa", "omega", "vc_m3_per_mol", "zc", "zra", "t_triple_k",
     "cp_a", "cp_b", "cp_c", "cp_d", "cp_e", "cp_tmin_k", "cp_tmax_k",
 )
-_KIJ_COLUMNS = ("eos", "id_1", "id_2", "kij", "source")
+_KIJ_COLUMNS = ("eos", "id_1", "id_2", "kij", "source", "compiled_from")
 
 
 @dataclass(frozen=True, slots=True)
@@ -132,6 +133,9 @@ class Component:
         Temperature range of the heat capacity fit, [K].
     cp_source : str
         Source of the heat capacity fit, with its range and maximum deviation.
+    compiled_from : str
+        The compilation the values were taken from (traceability and attribution, ``data/DATA_NOTICE.md``); the
+        ``*_source`` fields cite the primary sources.
     """
 
     id: str
@@ -160,6 +164,7 @@ class Component:
     cp_tmin_k: float
     cp_tmax_k: float
     cp_source: str
+    compiled_from: str = ""
 
     @property
     def molar_mass_kg_per_mol(self) -> float:

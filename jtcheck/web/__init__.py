@@ -29,8 +29,9 @@ from werkzeug.middleware.proxy_fix import ProxyFix
 from jtcheck import __version__
 from jtcheck.cases import kind_of
 from jtcheck.notices import CAUTION, DEMO_NOTICE
+from jtcheck.records.demo_labels import site_label
 from jtcheck.records.models import CaseKind, Role
-from jtcheck.reports.numbers import fmt_number
+from jtcheck.reports.numbers import finalize_marks, fmt_number, mark_filters
 from jtcheck.web import database, errors, limits, security
 from jtcheck.web.batches import views as batch_views
 from jtcheck.web.cases.diagram import DiagramCache
@@ -126,9 +127,11 @@ def create_app(config: dict[str, Any] | None = None) -> Flask:
         batch_views.recover_at_start(app)
 
     app.jinja_env.filters["num"] = fmt_number
+    app.jinja_env.filters.update(mark_filters())     # SI values marked, shown in the case's units (finalize_marks)
+    app.jinja_env.finalize = finalize_marks     # marked quantities in the case's units on every page
     app.jinja_env.globals.update(CAUTION=CAUTION, DEMO_NOTICE=DEMO_NOTICE, version=__version__, Role=Role,
                                  CaseKind=CaseKind, current_user=security.current_user, result_units=units_of,
-                                 case_kind=kind_of)
+                                 case_kind=kind_of, site_label=site_label)
     return app
 
 

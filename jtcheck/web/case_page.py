@@ -15,8 +15,8 @@ from jtcheck import depressuring_lists
 from jtcheck.notices import CAUTION, DEMO_NOTICE
 from jtcheck.records import service
 from jtcheck.records.case_inputs import field_value
-from jtcheck.records.demo import DEMO_NOTE
-from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
+from jtcheck.records.demo_labels import in_demo_site, site_label
+from jtcheck.records.demo_labels import is_demo_case as _is_demo_case
 from jtcheck.records.models import Case, CaseResult
 from jtcheck.reports.depressuring import depressuring_view, draw_depressuring_chart
 from jtcheck.web import removal
@@ -51,7 +51,7 @@ def _result_context(case: Case, result: CaseResult | None) -> dict[str, Any]:
 def is_demo_case(case: Case) -> bool:
     """A case of the invented demo data (loaded by :func:`jtcheck.records.demo.load_demo`), not a user's own case
     filed in a demo unit: only those are labelled invented."""
-    return case.unit.site.name == DEMO_SITE_NAME and case.basis == DEMO_NOTE
+    return _is_demo_case(case)
 
 
 def _case_context(case: Case, review_form: FormState | None = None, review_step: str | None = None
@@ -76,7 +76,7 @@ def _case_context(case: Case, review_form: FormState | None = None, review_step:
             "can_edit": service.can_edit_cases(user) and not review["frozen"],
             "can_delete": removal.may_delete_case(user, case),
             "demo": is_demo_case(case), "demo_notice": DEMO_NOTICE, "caution": CAUTION,
-            "in_demo_site": case.unit.site.name == DEMO_SITE_NAME and not is_demo_case(case),
+            "in_demo_site": in_demo_site(case), "site_label": site_label(case),
             "result_outcome": outcome_of}
 
 

@@ -29,6 +29,7 @@ from jtcheck.records.errors import (
     RevisionStateError,
 )
 from jtcheck.reports.pki import PKIError
+from jtcheck.units import TextUnits, parse_pressure
 from jtcheck.web.removal import InUseError
 
 
@@ -45,6 +46,27 @@ class ApiError(Exception):
 def is_conflict(exc: InputError) -> bool:
     """True for the records layer's "a ... named X already exists" input errors (answered with 409)."""
     return "already exists" in exc.message
+
+
+def request_words() -> TextUnits:
+    """The units the request typed its quantities in (a JSON body's or a form's values such as ``"72 barg"``, and a
+    body's ``units`` object), for the quantities an error message quotes; the default units otherwise."""
+    body = request.get_json(silent=True) if request.is_json else None
+    typed: dict[str, object] = {}
+    if isinstance(body, dict):
+        typed.update(body)
+        typed.update({k: v["unit"] for k, v in body.items() if isinstance(v, dict) and isinstance(v.get("unit"), str)})
+        units = body.get("units")
+        if isinstance(units, dict):
+            typed.update({f"{k}_unit": v for k, v in units.items()})
+    else:
+        typed.update({k: v for k, v in request.form.items()})
+    p_atm = typed.get("p_atm")
+    try:
+        p_atm_pa = parse_pressure(p_atm, "p_atm").pa if isinstance(p_atm, str) and p_atm.strip() else None
+    except InputError:
+        p_atm_pa = None
+    return TextUnits.typed({str(k): v for k, v in typed.items() if isinstance(v, str)}, p_atm_pa)
 
 
 def wants_json() -> bool:
@@ -95,7 +117,7 @@ def register(app: Flask) -> None:
 
     @app.errorhandler(InputError)
     def _input_error(exc: InputError):
-        return _answer(409 if is_conflict(exc) else 422, exc.message, exc.field)
+        return _answer(409 if is_conflict(exc) else 422, request_words().text(exc.message), exc.field)
 
     @app.errorhandler(PermissionDenied)
     def _denied(exc: PermissionDenied):

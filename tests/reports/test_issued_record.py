@@ -91,3 +91,19 @@ def test_filling_the_fields_keeps_every_signature_intact(issued):
     assert result.ok, result.problems
     assert [s.role for s in result.signatures] == ["preparer", "checker", "approver"]
     assert all(s.modification_level in ("NONE", "FORM_FILLING") for s in result.signatures)
+
+
+@pytest.mark.skipif(shutil.which("pdfinfo") is None, reason="poppler-utils not installed; run "
+                                                           "tests/tools/ensure_chromium.sh")
+def test_the_documents_metadata_carries_no_stale_revision_label(issued):
+    """The title and subject a PDF reader shows (poppler's pdfinfo) name the record, never "revision A": the record
+    is rendered for check as A and approved as 0 without being rendered again."""
+    path = issued["tmp"] / "record-meta.pdf"
+    path.write_bytes(issued["pdf"])
+    info = subprocess.run([shutil.which("pdfinfo"), "-enc", "UTF-8", str(path)], check=True,
+                          capture_output=True).stdout.decode("utf-8")
+    fields = dict(line.split(":", 1) for line in info.splitlines() if ":" in line)
+    title, subject = fields.get("Title", "").strip(), fields.get("Subject", "").strip()
+    assert title.startswith("JTC-"), info      # the record number and the case title
+    for text in (title, subject):
+        assert not re.search(r"revision [A-Z0-9]\b", text, re.I), text

@@ -180,7 +180,8 @@ def test_record_text_has_the_case_outcome_caution_findings_and_answers(records, 
     assert "104.5 barg" in text and "10551325 Pa abs" in text
     assert snap["result"]["component_data_version"] in text and snap["result"]["kij_data_version"] in text
     assert "Peng-Robinson" in text and "isobutane / n-pentane" in text     # a kij pair set to 0
-    assert "ChemSep" in text                                                  # the kij sources
+    assert "Knapp, Doring, Oellrich" in text and "ChemSep" not in text       # the kij sources: primary
+    assert "CoolProp" not in text and "as distributed with" not in text      # the component data: primary
     assert "Relief valve" in text and "choked" in text
     # the charts are vector drawings with real text
     assert "Temperature [degC]" in text and "Pressure [barg]" in text and "Outlet temperature [degC]" in text
@@ -354,3 +355,43 @@ def test_the_record_of_a_gerg_2008_case_names_the_model_its_version_its_range_an
     assert "GERG-2008, Kunz and Wagner 2012" in page
     assert "normal range 90-450 K up to 35 MPa; extended range 60-700 K up to 70 MPa" in page
     assert "screened on GERG2008, the reference-grade model" in page
+
+
+def test_the_records_sentences_read_in_the_units_the_case_was_typed_in(snapshots, tmp_path):
+    """Issue 18 item 5: findings, remedies and the generated cases' reasoning in the record quote the case's units
+    (here the relief valve typed in psig and degF), never kelvin pairs or bar abs; the PDF text (pdftotext) of the
+    default case has no mark left either."""
+    import copy
+    import re
+
+    from jtcheck.marks import OPEN
+
+    snap = copy.deepcopy(snapshots["PSV-2101"])
+    snap["case"]["display_units"] = {k: ("degF" if "temperature" in k or k in ("mdmt", "cold_limit", "header_limit")
+                                         else "psig") for k in snap["case"]["display_units"]}
+    text = html.unescape(re.sub(r"<[^>]+>", " ", render_html(snap, "A4")))
+    assert OPEN not in text
+    findings = text.split("Findings")[1] if "Findings" in text else text
+    assert "degF" in findings and "psig" in findings
+    assert "bar abs" not in findings and not re.search(r"degC \(\d+\.\d\d K\)", findings)
+    pdf_text = " ".join(pdf_pages_text(render_record(snapshots["PCV-1101"], "A4").pdf, tmp_path))
+    assert OPEN not in pdf_text and "bar abs" not in pdf_text
+
+
+def test_every_demo_record_reads_without_marks_float_noise_or_si_sentences(snapshots):
+    """Every demo case's record: no mark left, no number with more than about 4 significant digits (inputs as
+    typed aside), no pressure in bar abs or Pa in a sentence (the inputs table's SI column aside)."""
+    from jtcheck.marks import OPEN
+
+    def significant(n):
+        return len(n.replace(".", "").lstrip("0"))
+
+    for tag, snap in snapshots.items():
+        text = html.unescape(re.sub(r"<[^>]+>", " ", re.sub(r"<(style|svg)\b.*?</\1>", " ", render_html(snap, "A4"),
+                                                            flags=re.S)))
+        text = re.sub(r"[0-9.]+ (Pa|K)( abs)?\b", "", text)       # the inputs table's SI column
+        assert OPEN not in text, tag
+        noisy = [n for n in re.findall(r"\d+\.\d+", text) if n != "1.01325"
+                 and (significant(n) > 6 or (len(n.split(".")[1]) >= 5 and significant(n) > 4))]
+        assert not noisy, (tag, noisy[:5])
+        assert not re.findall(r".{50}bar abs.{10}", text), tag

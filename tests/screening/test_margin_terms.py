@@ -11,6 +11,7 @@ from __future__ import annotations
 import pytest
 
 from jtcheck import letdown
+from jtcheck.marks import plain
 from jtcheck.screening.cold_metal import ColdLimits, classify
 from jtcheck.screening.findings import Outcome, Severity, Topic
 from jtcheck.screening.hydrates import METHOD_UNCERTAINTY_K
@@ -56,7 +57,7 @@ def test_outlet_between_limit_plus_entered_and_limit_plus_total_is_margin_eroded
     assert s.outcome is Outcome.MARGIN_ERODED
     assert s.answers["preheat"]["target_k"] == pytest.approx(limit + 5.0 + spread)
     cold = next(f for f in s.findings if f.topic is Topic.COLD_METAL)
-    assert cold.severity is Severity.CAUTION and "entered margin 5.00 K + model spread" in cold.message
+    assert cold.severity is Severity.CAUTION and "entered margin 5.00 K + model spread" in cold.text
 
 
 def test_single_model_screening_adds_no_spread_term(lean_gas):
@@ -82,10 +83,12 @@ def test_hydrate_outside_only_beyond_the_method_uncertainty_plus_margin():
     # issue 13: the method is van der Waals-Platteeuw, whose largest checked deviation is 2 K (was 3.5 K for Katz)
     assert METHOD_UNCERTAINTY_K == CHECKED_DEVIATION_K == 2.0
     th = T0 + 12.0
-    msg, sev = hydrate_outside(th + 1.5, th, 0.0, True, "")      # warmer, but inside the 2 K uncertainty
+    msg, sev = hydrate_outside(th + 1.5, th, 0.0, True, "")
+    msg = plain(msg)      # its quantities in the default units      # warmer, but inside the 2 K uncertainty
     assert sev is Severity.CAUTION and msg.startswith("Inside the hydrate margin")
     assert "hydrate method uncertainty 2.00 K + entered margin 0.00 K" in msg
     msg, sev = hydrate_outside(th + 2.0 + 5.0 - 0.1, th, 5.0, True, "")
+    msg = plain(msg)
     assert sev is Severity.CAUTION and "7.00 K margin" in msg
     msg, sev = hydrate_outside(th + 2.0 + 5.0, th, 5.0, True, "")
     assert sev is Severity.INFORMATION and msg.startswith("Outside the hydrate region")

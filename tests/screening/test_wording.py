@@ -17,8 +17,8 @@ def test_the_model_spread_finding_quotes_the_dry_ice_outlet_that_is_screened():
                        ScreeningOptions(ColdLimits(user_limit_k=T0 - 46.0)))
     spread = next(f for f in s.findings if f.topic is Topic.MODEL_SPREAD)
     assert s.conditions[0].solids is not None
-    assert f"screened outlet is {s.t_out_min_k - T0:.1f} degC, on the CO2 sublimation line" in spread.message
-    assert "screened on the colder" not in spread.message
+    assert f"screened outlet is {s.t_out_min_k - T0:.1f} degC, on the CO2 sublimation line" in spread.text
+    assert "screened on the colder" not in spread.text
 
 
 def test_a_component_that_can_freeze_at_the_outlet_is_a_caution_not_information():

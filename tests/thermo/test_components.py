@@ -213,12 +213,13 @@ def test_kij_matrix_is_symmetric_with_zero_diagonal():
 
 
 def test_kij_known_pair_equals_table_entry():
-    # ChemSep PR database, DECHEMA data p399: methane/carbon dioxide kij = 0.0978
+    # Knapp et al. (1982), DECHEMA Chemistry Data Series Vol. VI, p399 (via the ChemSep PR compilation):
+    # methane/carbon dioxide kij = 0.0978
     kset = kij_matrix(["CO2", "C1"], "pr")
     assert kset.ids == ("carbon dioxide", "methane")
     assert kset.matrix[0, 1] == pytest.approx(0.0978, abs=0)
     assert kset.sources[0][:3] == ("carbon dioxide", "methane", 0.0978)
-    assert "ChemSep" in kset.sources[0][3]
+    assert "Knapp" in kset.sources[0][3] and "p399" in kset.sources[0][3]
     assert kset.defaulted == ()
 
 
@@ -284,3 +285,24 @@ def test_pr_table_covers_the_pairs_that_matter_most(id_1, id_2):
     kset = kij_matrix([id_1, id_2], "PR")
     assert kset.defaulted == ()
     assert kset.matrix[0, 1] != 0.0
+
+
+def test_the_data_cite_primary_sources_and_keep_the_compilations_attribution():
+    """Issue 18 item 10: what users see (the source columns) cites papers and data collections, never the
+    compilation or library the value was taken from; that goes to compiled_from, and the compilation's licence
+    and attribution stay beside the data file."""
+    from importlib.resources import files
+
+    from jtcheck.thermo.components import _kij_table
+
+    third_party = ("ChemSep", "CoolProp", "chemicals 1.5", "thermo 0.6", "as distributed with")
+    for c in all_components():
+        for text in (c.crit_source, c.zra_source, c.triple_source, c.cp_source):
+            assert text and not any(word in text for word in third_party), (c.id, text)
+    for (eos, a, b), (_, source) in _kij_table().items():
+        assert source.startswith("Knapp, Doring, Oellrich, Plocker and Prausnitz (1982)"), (eos, a, b, source)
+        assert not any(word in source for word in third_party), source
+    data = files("jtcheck.thermo") / "data"
+    notice = (data / "DATA_NOTICE.md").read_text()
+    assert "Kooijman" in notice and "Artistic License 2.0" in notice and "ChemSep" in notice
+    assert "Artistic License 2.0" in (data / "ChemSep_Artistic_license_2_0.txt").read_text()

@@ -124,6 +124,41 @@ def batch_all():
 
 DEMO_TAGS = ("PCV-1101", "PSV-2101", "PSV-4101", "PCV-5101", "BDV-5102", "PCV-3101")
 
+#: The ``jtcheck letdown`` options (:class:`jtcheck.cli.letdown.LetdownArgs`) a letdown request of the JSON API takes
+#: under the same name.
+_SAME_NAME = ("p_in", "t_in", "p_out", "p_atm", "limit", "mdmt", "margin", "p_in_max", "t_in_min", "p_out_min",
+              "inhibitor", "water_content", "water_dew_point", "heater_off_t", "ambient_t_min", "set_pressure",
+              "overpressure", "superimposed_back_pressure", "built_up_back_pressure", "header_limit",
+              "relieving_t_min")
+
+
+def api_body(args) -> dict:
+    """The JSON API's letdown request of a demo case's ``jtcheck letdown`` options."""
+    body = {"fluid": {"composition": args.fluid_text, "eos": args.eos, "kij": args.kij}}
+    body.update({k: getattr(args, k) for k in _SAME_NAME if getattr(args, k) is not None})
+    body["water_saturated"] = args.water_saturated
+    body["compare_models"] = args.compare_models
+    if args.mass_flow is not None:
+        body["mass_flow"] = float(args.mass_flow)
+    for key, name in (("header_sections", "header_sections"), ("other_sources", "other_sources"),
+                      ("settle_out_volumes", "settle_out_volumes"), ("cases_off", "credible_off")):
+        if getattr(args, key):
+            body[name] = list(getattr(args, key))
+    body.update(dict(args.material))
+    return body
+
+
+@pytest.mark.parametrize("tag", DEMO_TAGS)
+def test_every_demo_case_gives_the_registers_answer_from_the_api(tag, api, register_all):
+    """The fourth entry point: POST /api/v1/letdown with the demo case's inputs (a relief valve with its set
+    pressure, overpressure, back pressures and header limit) finds the register's outcome and coldest outlet."""
+    t_reg, outcome_reg = register_all[tag]
+    args = next(a for title, a in demo_args() if f"/ {tag}:" in title)
+    resp = api(Role.ENGINEER, "POST", "/api/v1/letdown", json=api_body(args))
+    assert resp.status_code == 200, resp.get_json()
+    body = resp.get_json()
+    assert (body["outcome"], body["screening"]["t_out_min_k"]) == (outcome_reg, pytest.approx(t_reg, abs=0.01))
+
 
 @pytest.mark.parametrize("tag", DEMO_TAGS)
 def test_every_demo_case_gives_the_registers_answer_from_the_cli_and_the_batch(tag, register_all, batch_all):

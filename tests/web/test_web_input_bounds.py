@@ -66,4 +66,4 @@ def test_a_case_inlet_temperature_below_50_k_is_refused(api, world):
     resp = api(Role.ENGINEER, "POST", "/api/v1/cases", json=case_body(world, tag=unique("COLD"),
                                                                        inlet_temperature="10 K"))
     assert resp.status_code == 422 and resp.get_json()["error"]["field"] == "inlet_temperature"
-    assert "50 <= value" in resp.get_json()["error"]["message"]
+    assert "inlet temperature 10 K is out of range; allowed: from 50 K to 2000 K" in resp.get_json()["error"]["message"]

@@ -17,6 +17,7 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
+from jtcheck import marks
 from jtcheck.blowdown import depressure
 from jtcheck.cases.depressuring.inputs import (
     check_depressuring,
@@ -101,7 +102,7 @@ class VesselDepressuringKind(CaseKind):
             ("blowdown valve outlet", result.min_valve_outlet_t)) if math.isfinite(ex.value)]
         if result.converged and colds:
             t, words, ex = min(colds, key=lambda c: c[0])
-            t_min, where = t, f"{words} at {ex.time_s:.0f} s (vessel at {ex.pressure_pa / 1e5:.4g} bar abs)"
+            t_min, where = t, f"{words} at {ex.time_s:.0f} s (vessel at {marks.P(ex.pressure_pa, 'inlet_pressure')})"
         return Screening(outcome=outcome, limits=limits, t_out_min_k=t_min, coldest_condition=where,
                          models=(fluid.eos.value,), conditions=(), findings=tuple(findings),
                          answers={"depressuring": stored_run(result, plan, paths)})

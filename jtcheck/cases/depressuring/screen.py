@@ -24,6 +24,7 @@ import numpy as np
 
 from jtcheck.blowdown.result import DepressureResult, Extreme
 from jtcheck.cases.depressuring.inputs import RunPlan
+from jtcheck.marks import P, T
 from jtcheck.screening.cold_metal import ColdLimits
 from jtcheck.screening.findings import Finding, Outcome, Severity, Topic, sort_findings
 from jtcheck.screening.mdmt import MaterialColdSpec, PathScreening, screen_pressure_path
@@ -73,7 +74,7 @@ def _path(p: np.ndarray, t: np.ndarray, converged: bool, spec: MaterialColdSpec,
 
 
 def _c(t_k: float) -> str:
-    return f"{t_k - 273.15:.1f} degC ({t_k:.2f} K)"
+    return f"{T(t_k)}"
 
 
 def screen_run(result: DepressureResult, limits: ColdLimits, spec: MaterialColdSpec | None, plan: RunPlan,
@@ -139,7 +140,7 @@ def target_finding(result: DepressureResult, plan: RunPlan) -> Finding:
                        "design pressure and no target pressure are given.", basis=plan.target_basis)
     numbers = {"target_pressure_pa": plan.target_pressure_pa, "target_time_s": plan.target_time_s,
                "time_to_target_s": result.time_to_target_s}
-    aim = f"{plan.target_pressure_pa / 1e5:.4g} bar abs within {plan.target_time_s / 60:.3g} min"
+    aim = f"{P(plan.target_pressure_pa)} within {plan.target_time_s / 60:.3g} min"
     t = result.time_to_target_s
     if t is not None and result.target_met:
         return Finding(Topic.DEPRESSURING, Severity.INFORMATION, f"The vessel reaches the depressuring target {aim} "

@@ -25,6 +25,7 @@ from collections.abc import Mapping
 from dataclasses import replace
 from typing import Any
 
+from jtcheck import marks
 from jtcheck.cases.credible import GeneratedCases, check_credible_off, check_settle_out_volumes, generated_conditions
 from jtcheck.cases.fields import (
     INLET_TEMPERATURE_RANGE_K,
@@ -88,33 +89,36 @@ def check_letdown(values: Mapping[str, Any], names: Mapping[str, str] | None = N
     def ref(key: str, words: str) -> str:
         return names.get(key, words) if names else words
 
-    def bar(pa: float) -> str:      # messages a person reads: bar absolute, not Pa with an exponent
-        return f"{pa / 1e5:.6g} bara"
+    def bar(pa: float, field: str) -> str:      # in the unit the user typed the field in (marked), as typed
+        return marks.P(pa, field, 6)
 
-    def deg(k: float) -> str:
-        return f"{k - 273.15:.6g} degC ({k:.6g} K)"
+    def deg(k: float, field: str) -> str:
+        return marks.T(k, field, 6)
 
     p_in, p_out = values["inlet_pressure_pa"], values["outlet_pressure_pa"]
     if p_out > p_in:
-        raise InputError("outlet_pressure_pa", f"outlet pressure {bar(p_out)} is above the inlet pressure "
-                                               f"{bar(p_in)}; allowed: {ref('outlet_pressure_pa', 'outlet')} <= "
-                                               f"{ref('inlet_pressure_pa', 'inlet pressure')} (a letdown)")
+        raise InputError("outlet_pressure_pa",
+                         f"outlet pressure {bar(p_out, 'outlet_pressure')} is above the inlet pressure "
+                         f"{bar(p_in, 'inlet_pressure')}; allowed: {ref('outlet_pressure_pa', 'outlet')} <= "
+                         f"{ref('inlet_pressure_pa', 'inlet pressure')} (a letdown)")
     t_min = values.get("inlet_temperature_min_k")
     if t_min is not None and t_min > values["inlet_temperature_k"]:
         raise InputError("inlet_temperature_min_k",
-                         f"minimum credible inlet temperature {deg(t_min)} is above the normal inlet temperature "
-                         f"{deg(values['inlet_temperature_k'])}; allowed: <= "
-                         f"{ref('inlet_temperature_k', 'the normal inlet temperature')}")
+                         f"minimum credible inlet temperature {deg(t_min, 'inlet_temperature_min')} is above the "
+                         f"normal inlet temperature {deg(values['inlet_temperature_k'], 'inlet_temperature')}; "
+                         f"allowed: <= {ref('inlet_temperature_k', 'the normal inlet temperature')}")
     p_max = values.get("inlet_pressure_max_pa")
     if p_max is not None and p_max < p_in:
         raise InputError("inlet_pressure_max_pa",
-                         f"maximum credible inlet pressure {bar(p_max)} is below the normal inlet pressure "
-                         f"{bar(p_in)}; allowed: >= {ref('inlet_pressure_pa', 'the normal inlet pressure')}")
+                         f"maximum credible inlet pressure {bar(p_max, 'inlet_pressure_max')} is below the normal "
+                         f"inlet pressure {bar(p_in, 'inlet_pressure')}; "
+                         f"allowed: >= {ref('inlet_pressure_pa', 'the normal inlet pressure')}")
     p_out_min = values.get("outlet_pressure_min_pa")
     if p_out_min is not None and p_out_min > p_out:
         raise InputError("outlet_pressure_min_pa",
-                         f"minimum credible outlet pressure {bar(p_out_min)} is above the normal outlet pressure "
-                         f"{bar(p_out)}; allowed: <= {ref('outlet_pressure_pa', 'the normal outlet pressure')}")
+                         f"minimum credible outlet pressure {bar(p_out_min, 'outlet_pressure_min')} is above the "
+                         f"normal outlet pressure {bar(p_out, 'outlet_pressure')}; "
+                         f"allowed: <= {ref('outlet_pressure_pa', 'the normal outlet pressure')}")
     inhibitor = values.get("hydrate_inhibitor", "methanol")
     if inhibitor not in HYDRATE_INHIBITORS:
         raise InputError("hydrate_inhibitor", f"unknown hydrate inhibitor {inhibitor!r}; allowed: "
@@ -165,8 +169,12 @@ def water_options(values: Mapping[str, Any]) -> dict[str, Any]:
 
 
 def check_short(values: Mapping[str, Any]) -> None:
-    """:func:`check_letdown`, with errors naming the short inputs (:data:`SHORT_NAMES`)."""
+    """The register's range of each letdown field (:attr:`Field.si_range`) and :func:`check_letdown`, with errors
+    naming the short inputs (:data:`SHORT_NAMES`)."""
     try:
+        for f in LETDOWN_FIELDS:
+            if values.get(f.key) is not None:
+                f.check(values[f.key])
         check_letdown(values, SHORT_NAMES)
     except InputError as err:
         raise InputError(SHORT_NAMES.get(err.field, err.field), err.message) from None

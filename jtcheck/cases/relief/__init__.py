@@ -12,6 +12,7 @@ import math
 from collections.abc import Mapping
 from typing import Any
 
+from jtcheck import marks
 from jtcheck.cases.fields import (
     BUILT_UP_RANGE_PA,
     INLET_TEMPERATURE_RANGE_K,
@@ -71,8 +72,9 @@ def check_relief(values: Mapping[str, Any]) -> None:
                                                   "(fraction of the set gauge pressure, e.g. 0.10 for 10 %)")
     p_atm = values["p_atm_pa"]
     if p_set <= p_atm:
-        raise InputError("set_pressure_pa", f"set pressure {p_set:g} Pa abs is not above the atmospheric pressure "
-                                            f"{p_atm:g} Pa; allowed: above atmospheric")
+        raise InputError("set_pressure_pa", f"set pressure {marks.P(p_set, 'set_pressure', 6)} is not above the "
+                                            f"atmospheric pressure {marks.P(p_atm, 'set_pressure', 6)}; allowed: above "
+                                            "atmospheric")
     p_relieving = p_set + values["overpressure_fraction"] * (p_set - p_atm)
     p_super = values.get("superimposed_back_pressure_pa")
     p_super = p_atm if p_super is None else p_super
@@ -80,13 +82,15 @@ def check_relief(values: Mapping[str, Any]) -> None:
     p_back = p_super + (built_up or 0.0)
     if p_back >= p_relieving:
         raise InputError("built_up_back_pressure_pa" if built_up else "superimposed_back_pressure_pa",
-                         f"total back pressure {p_back:g} Pa abs is not below the relieving pressure "
-                         f"{p_relieving:g} Pa abs; allowed: below the relieving pressure")
+                         f"total back pressure {marks.P(p_back, 'outlet_pressure', 6)} is not below the relieving "
+                         f"pressure {marks.P(p_relieving, 'set_pressure', 6)}; allowed: below the relieving pressure")
     t_min = values.get("relieving_temperature_min_k")
     if t_min is not None and t_min > values["inlet_temperature_k"]:
         raise InputError("relieving_temperature_min_k",
-                         f"minimum credible relieving temperature {t_min:g} K is above the normal relieving (inlet) "
-                         f"temperature {values['inlet_temperature_k']:g} K; allowed: <= the inlet temperature")
+                         f"minimum credible relieving temperature {marks.T(t_min, 'relieving_temperature_min', 6)} "
+                         f"is above the normal relieving (inlet) temperature "
+                         f"{marks.T(values['inlet_temperature_k'], 'inlet_temperature', 6)}; allowed: <= the inlet "
+                         "temperature")
     _check_sections(values.get("header_sections"), p_relieving, p_back)
     _check_sources(values.get("other_sources"), p_back)
 

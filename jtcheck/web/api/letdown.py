@@ -11,6 +11,7 @@ from flask import jsonify
 from jtcheck import Fluid, itemlists, letdown
 from jtcheck.cases.fields import WATER_CONTENT_RANGE_KG_PER_SM3
 from jtcheck.cases.letdown import LETDOWN, check_short, letdown_values
+from jtcheck.cases.relief import RELIEF_VALVE
 from jtcheck.errors import InputError
 from jtcheck.letdown.throttle import check_letdown_inputs
 from jtcheck.notices import CAUTION
@@ -25,6 +26,7 @@ from jtcheck.screening.screen import Screening
 from jtcheck.units import (
     MATERIAL_OPTION_OF,
     MATERIAL_OPTIONS,
+    TextUnits,
     material_options,
     parse_pressure,
     parse_temperature,
@@ -79,11 +81,14 @@ def _q(data: Mapping[str, Any], key: str, example: str, required: bool = True) -
     return text
 
 
+RELIEF_KEYS = ("set_pressure", "overpressure", "superimposed_back_pressure", "built_up_back_pressure",
+               "header_limit", "relieving_t_min", "header_sections", "other_sources")
 #: Every key of a letdown request.
 _LETDOWN_KEYS = ("fluid", "fluid_id", "p_in", "t_in", "p_out", "p_atm", "units", "limit", "mdmt", "margin",
                  "p_in_max", "t_in_min", "p_out_min", "water_saturated", "inhibitor", "mass_flow", "compare_models",
                  "heater_off_t", "ambient_t_min", "settle_out_volumes", "credible_off", "water_content",
-                 "water_dew_point", *MATERIAL_OPTIONS)
+                 "water_dew_point", *RELIEF_KEYS, *MATERIAL_OPTIONS)
+
 
 
 def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
@@ -100,6 +105,40 @@ def _generated_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any
                                                                  p_atm_pa)
     if data.get("credible_off") is not None:
         out["credible_off"] = itemlists.credible_off(data["credible_off"], "credible_off")
+    return out
+
+
+def _relief_inputs(data: Mapping[str, Any], p_atm_pa: float) -> dict[str, Any]:
+    """The relief-valve inputs of a request (register keys, SI), only those given; as ``jtcheck letdown`` reads its
+    relief options."""
+    out: dict[str, Any] = {}
+    for key, name in (("set_pressure_pa", "set_pressure"), ("superimposed_back_pressure_pa",
+                                                            "superimposed_back_pressure")):
+        text = _q(data, name, "60 barg", required=False)
+        if text is not None:
+            out[key] = parse_pressure(text, name, p_atm_pa).pa
+    text = _q(data, "built_up_back_pressure", "2 bar", required=False)
+    if text is not None:     # a difference: no atmospheric offset
+        out["built_up_back_pressure_pa"] = parse_pressure(text, "built_up_back_pressure", 0.0).pa
+    over = data.get("overpressure")
+    if over is not None:
+        number, sign, rest = str(over).strip().partition("%")
+        try:
+            if not sign or rest.strip():
+                raise ValueError
+            out["overpressure_fraction"] = float(number) / 100.0
+        except ValueError:
+            raise InputError("overpressure", f"give a percentage with its unit, e.g. '10 %', got {over!r}") from None
+    for key, name in (("header_limit_k", "header_limit"), ("relieving_temperature_min_k", "relieving_t_min")):
+        text = _q(data, name, "-46 degC", required=False)
+        if text is not None:
+            out[key] = parse_temperature(text, name)
+    if data.get("header_sections") is not None:
+        out["header_sections"] = itemlists.header_sections(data["header_sections"], "header_sections", p_atm_pa)
+    if data.get("other_sources") is not None:
+        out["other_sources"] = itemlists.other_sources(data["other_sources"], "other_sources", p_atm_pa)
+    if out and "set_pressure_pa" not in out:
+        raise InputError("set_pressure", "relief-valve inputs need set_pressure as well")
     return out
 
 
@@ -253,7 +292,8 @@ def compute_letdown():
     p_atm_pa = parse_p_atm(p_atm_text)
     lo, hi, _ = service.P_ATM_RANGE_PA
     if not lo <= p_atm_pa <= hi:
-        raise InputError("p_atm", f"atmospheric pressure {p_atm_pa:g} Pa is out of range; allowed: {lo:g} to {hi:g} Pa")
+        raise InputError("p_atm", f"atmospheric pressure {p_atm_text} is out of range; allowed: {lo / 1e5:g} to "
+                                  f"{hi / 1e5:g} bar")
     p_in_text = _q(data, "p_in", "100 bara")
     t_in_text = _q(data, "t_in", "40 degC")
     p_out_text = _q(data, "p_out", "10 barg")
@@ -284,11 +324,24 @@ def compute_letdown():
                                 data.get("mass_flow")))
     values.update(_generated_inputs(data, p_atm_pa))
     values.update(_water(data))
+    relief = _relief_inputs(data, p_atm_pa)
+    values.update(relief)
     check_short(values)     # the letdown kind's checks, naming the request's fields
+    kind = RELIEF_VALVE if relief else LETDOWN
+    if relief:
+        try:
+            kind.check(values)
+        except InputError as err:
+            name = err.field.split("[")[0]
+            short = {"set_pressure_pa": "set_pressure", "overpressure_fraction": "overpressure",
+                     "superimposed_back_pressure_pa": "superimposed_back_pressure",
+                     "built_up_back_pressure_pa": "built_up_back_pressure", "header_limit_k": "header_limit",
+                     "relieving_temperature_min_k": "relieving_t_min"}.get(name, name)
+            raise InputError(short + err.field[len(name):], err.message) from None
     spec = _material_spec(data, limits.mdmt_k)
     if spec is not None:
         values["material_spec"] = spec
-    screening = LETDOWN.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
+    screening = kind.compute(fluid, values, compare_models=_flag(data, "compare_models", True))
     result = screening.conditions[0].results.get(fluid.eos.value)
     if result is None:   # the letdown refused its inputs: answer with its reason (InputError naming the field)
         result = letdown(fluid, p_in=p_in.pa, t_in=t_in_k, p_out=p_out.pa)
@@ -311,7 +364,10 @@ def compute_letdown():
     display = {"p_in": p(p_in.pa), "t_in": t(t_in_k), "p_out": p(p_out.pa), "t_out": t(d["t_out"] if ok else None),
                "dt": dt(d["dt"] if ok else None), "p_in_max": p(p_in_max), "t_in_min": t(t_in_min),
                "p_out_min": p(p_out_min)}
-    return jsonify({
+    words = TextUnits.typed({k: v for k, v in data.items() if isinstance(v, str)}, p_atm_pa)
+    if data.get("units"):      # display units asked for: every quantity in them
+        words = TextUnits(temperature=t_unit, pressure=p_unit, p_atm_pa=p_atm_pa)
+    return jsonify(words.walk({
         "converged": ok, "message": result.message, "phase": result.phase, "inlet_phase": result.inlet_phase,
         "vapor_fraction": d["vapor_fraction"] if ok else None, "inlet_vapor_fraction": d["inlet_vapor_fraction"],
         "warnings": list(result.warnings),
@@ -319,4 +375,4 @@ def compute_letdown():
         "si": si, "display": display,
         "fluid": {"composition": {i: float(z) for i, z in zip(fluid.ids, fluid.zs, strict=True)},
                   "eos": fluid.eos.value, "kij": kij},
-        "screening": screened, "basis": d["basis"], "notes": notes, "caution": CAUTION})
+        "screening": screened, "basis": d["basis"], "notes": notes, "caution": CAUTION}))

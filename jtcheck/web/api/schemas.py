@@ -159,6 +159,23 @@ def register(api: ApiRegistry) -> None:
                                              "minimum-ambient case when below t_in)."},
             "settle_out_volumes": _CASE_LISTS["settle_out_volumes"],
             "credible_off": _CASE_LISTS["credible_off"],
+            # a relief valve (with set_pressure the relief-valve case kind screens it, as the register does)
+            "set_pressure": {**_nullable(_ref("Quantity")),
+                             "description": "Relief valve set pressure: the request is then a relief valve (p_in is "
+                                            "the relieving pressure, p_out the back pressure at the outlet)."},
+            "overpressure": {"type": ["string", "null"], "examples": ["10 %"],
+                             "description": "Allowable overpressure in percent of the set gauge pressure."},
+            "superimposed_back_pressure": {**_nullable(_ref("Quantity")),
+                                           "description": "Back pressure before the valve opens (default "
+                                                          "atmospheric)."},
+            "built_up_back_pressure": {**_nullable(_ref("Quantity")),
+                                       "description": "Built-up back pressure, a pressure difference (\"2.5 bar\")."},
+            "header_limit": {**_nullable(_ref("Quantity")),
+                             "description": "Cold limit of the flare header (screened at the tip without sections)."},
+            "relieving_t_min": {**_nullable(_ref("Quantity")),
+                                "description": "Minimum credible relieving temperature (default t_in_min)."},
+            "header_sections": _CASE_LISTS["header_sections"],
+            "other_sources": _CASE_LISTS["other_sources"],
             **MATERIAL_REQUEST_PROPERTIES}})
     s("LetdownResponse", {"type": "object", "properties": {
         "converged": {"type": "boolean", "description": "The normal condition with the chosen EOS converged."},

@@ -204,7 +204,7 @@ def result_json(result: CaseResult, current: bool | None = None) -> dict[str, An
     if current is not None:
         out["current"] = current
     out["outcome_sentence"] = outcome_sentence(result.outcome)
-    return out
+    return units.words.walk(out)     # findings, remedies and reasoning quote the case's units
 
 
 def fluid_json(fluid: FluidRecord) -> dict[str, Any]:

@@ -56,7 +56,7 @@ from jtcheck.errors import InputError
 from jtcheck.records.errors import NotFound, PermissionDenied
 from jtcheck.records.models import BatchJob, BatchStatus, Role
 from jtcheck.reports.numbers import UNIT_LABELS, finite_or_none, temperature_text
-from jtcheck.units import difference_label, temperature_difference_from_k
+from jtcheck.units import TextUnits, difference_label, temperature_difference_from_k
 from jtcheck.web.database import db_session
 from jtcheck.web.downloads import attachment
 from jtcheck.web.errors import ApiError
@@ -175,6 +175,7 @@ class _Display:
         self.difference = "degF" if self.temperature.lower() == "degf" else "K"
         self.t_label = UNIT_LABELS.get(self.temperature.lower(), self.temperature)
         self.dt_label = difference_label(self.temperature)
+        self.words = TextUnits.typed({str(k): str(v) for k, v in units.items() if v})
 
     def t(self, k: Any) -> str:
         return temperature_text(k, self.temperature)
@@ -196,7 +197,8 @@ def _row_view(r: dict[str, Any], show: _Display) -> dict[str, Any]:
             "to_limit": show.dt(r.get("margin_to_limit_k")), "margin": show.dt(inputs.get("margin_k")),
             "condition": r.get("coldest_condition") or "–", "model": r.get("governing_model") or "–",
             "phase": r.get("phase") or "–", "path": r.get("path") or "–", "hazard": bool(r.get("hazard")),
-            "hazards": [f.get("message", "") for f in hazards], "message": r.get("message") or "",
+            "hazards": [show.words.text(f.get("message", "")) for f in hazards],
+            "message": show.words.text(r.get("message") or ""),
             "hazard_topics": list(dict.fromkeys(str(f.get("topic") or "hazard") for f in hazards)),
             "cold": (finite_or_none(r.get("margin_to_limit_k")) or 0.0) < 0}
 

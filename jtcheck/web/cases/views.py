@@ -19,7 +19,7 @@ from jtcheck.records.case_inputs import field_value
 from jtcheck.records.demo import SITE_NAME as DEMO_SITE_NAME
 from jtcheck.records.errors import ConcurrentEditError, NotFound, UnderReview
 from jtcheck.records.models import Case, CaseKind, RevisionStatus
-from jtcheck.units import pressure_from_pa
+from jtcheck.units import TextUnits, parse_pressure, pressure_from_pa
 from jtcheck.web import removal
 from jtcheck.web.case_page import render_case_page
 from jtcheck.web.cases.inputs import (
@@ -102,8 +102,19 @@ def _revision_notices(case: Case | None) -> dict[str, str | None]:
     return out
 
 
+def _form_words(form: FormState) -> TextUnits:
+    """The units the form's quantities are typed in: its error messages quote values and ranges in them."""
+    typed = {q.name: form.get(f"{q.name}_unit") for q in CASE_QUANTITIES if form.get(f"{q.name}_unit")}
+    try:
+        p_atm_pa = parse_pressure(f"{form.get('p_atm')} {form.get('p_atm_unit')}", "p_atm").pa
+    except InputError:
+        p_atm_pa = None
+    return TextUnits.typed(typed, p_atm_pa)
+
+
 def _render_form(form: FormState, user, case: Case | None, status: int = 200):
     return render_template("cases/form.html", form=form, case=case, quantities=CASE_QUANTITIES,
+                           words=_form_words(form),
                            kind_sections=form_sections(), unit_options=_allowed_units(case),
                            demo_site_name=DEMO_SITE_NAME, **_revision_notices(case), **_choices(user)), status
 
@@ -152,7 +163,7 @@ def _raw_from_form(form: FormState, allowed_units: dict[str, list[str]]) -> dict
 
 
 def _apply_input_error(form: FormState, exc: InputError) -> None:
-    field, message = form_field(exc.field), field_message(exc.field, exc.message)
+    field, message = form_field(exc.field), field_message(exc.field, _form_words(form).text(exc.message))
     base = field.split("[")[0].split(".")[0]
     if base != field and base in CASE_FORM_FIELDS:   # an item of a list input: shown at the list
         field, message = base, f"{field}: {message}"
@@ -241,7 +252,7 @@ def new():
             case = service.create_case(db_session(), user, convert(raw, form=True))
         except FieldInputError as exc:
             for k, v in exc.errors.items():
-                form.add(k, v)
+                form.add(k, _form_words(form).text(v))
         except InputError as exc:
             _apply_input_error(form, exc)
         else:
@@ -274,7 +285,7 @@ def edit(case_id: int):
             case = service.update_case(session, user, case_id, changes, expected_version=int(version_text))
         except FieldInputError as exc:
             for k, v in exc.errors.items():
-                form.add(k, v)
+                form.add(k, _form_words(form).text(v))
         except ConcurrentEditError as exc:
             form.general.append(str(exc))
             return _render_form(form, user, service.get_case(session, user, case_id), 409)
