@@ -160,6 +160,8 @@ def test_lower_water_activity_lowers_the_hydrate_temperature():
     ({"hydrogen": 1.0}, 50e5, "no hydrate former"),
     ({"nitrogen": 1.0}, 200e5, "nitrogen is 100.0 mol%"),
     ({"methane": 0.8, "n-pentane": 0.2}, 50e5, "do not form hydrate"),
+    # methane + 7-22 mol% H2S: data of Noaker and Katz (1951) up to 3 K from the model (test_hydrate_mixtures.py)
+    ({"methane": 0.9, "hydrogen sulfide": 0.1}, 50e5, "hydrogen sulfide is 10.0 mol%"),
     ({"methane": 1.0}, 500e5, "outside the model's checked range"),
     ({"methane": 1.0}, 2e5, "outside the model's checked range"),
     ({"water": 1.0}, 50e5, "water only"),

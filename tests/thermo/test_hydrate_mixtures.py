@@ -1,16 +1,17 @@
 """Hydrate equilibrium of binary gases by van der Waals-Platteeuw (Munck et al. 1988 parameters) against published
-measurements: methane + propane, methane + ethane, methane + CO2 (issue 13).
+measurements: methane + propane, + ethane, + CO2, + nitrogen, + H2S (issue 13).
 
 Data and where they were read
 -----------------------------
-``tests/thermo/data/hydrate_binary_mixtures.csv`` holds 287 three-phase points (hydrate + liquid water or ice + gas)
+``tests/thermo/data/hydrate_binary_mixtures.csv`` holds 321 three-phase points (hydrate + liquid water or ice + gas)
 copied, values unchanged, from the NIST Clathrate Hydrate Physical Property Database (NIST Standard Reference Database
 156, gashydrates.nist.gov) as saved in the public repository Romul-Bondarev/clathrate-hydrate, files
-``nist_database/nist/<system>/Thermo<dataset>.csv`` (systems ``ch4+c3h8+h2o``, ``ch4+c2h6+h2o``, ``ch4+co2+h2o``), read
+``nist_database/nist/<system>/Thermo<dataset>.csv`` (systems ``ch4+c3h8+h2o``, ``ch4+c2h6+h2o``, ``ch4+co2+h2o``,
+``ch4+n2+h2o``, ``ch4+h2s+h2o``), read
 with the project's search tool.  Each file names the paper of its dataset (below, as the file gives it); the
 composition is the mole fraction of the named component in the gas, as the file gives it.
 
-Datasets used: every three-phase hydrate + water (or ice) + gas set of those three systems, less
+Datasets used: every three-phase hydrate + water (or ice) + gas set of those five systems, less
 * the points at either end of a composition sweep that are a pure gas (the pure gases are checked in test_hydrate.py);
 * sets with a hydrocarbon liquid (four-phase, or hydrate + water + hydrocarbon liquid), or without water (hydrate +
   gas), whose equilibrium the model does not compute: NIST datasets 366-369, 854-864, 875-876 (single points of pure
@@ -18,9 +19,11 @@ Datasets used: every three-phase hydrate + water (or ice) + gas set of those thr
 * NIST dataset 970 (Seo, Lee and Yoon, J. Chem. Eng. Data 46 (2001) 381-384): the same measurements as dataset 337.
 
 Criterion (issue 13): within the model's claimed range at least 90 % of the points within 1 K and none beyond 2 K.
-Points outside the claimed pressure range (0.4-300 bar) must come back "not screened"; a point measured with liquid
-water below the ice point (metastable, supercooled water) is not a state the model claims (it takes ice, the stable
-phase, there) and is reported apart.
+Points outside the claimed pressure range (0.4-300 bar) must come back "not screened"; so must methane + H2S with more
+than 3.2 mol% H2S, where the model missed the 2 K bar (the claimed range was narrowed there: see
+:data:`jtcheck.thermo.hydrate.equilibrium.H2S_MIXTURE_MAX`).  A point measured with liquid water below the ice point
+(metastable, supercooled water) is not a state the model claims (it takes ice, the stable phase, there) and is
+reported apart.
 """
 from __future__ import annotations
 
@@ -32,8 +35,8 @@ import pytest
 
 import jtcheck
 from jtcheck import Fluid
-from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K
-from jtcheck.thermo.hydrate.equilibrium import P_RANGE_PA
+from jtcheck.thermo.hydrate import CHECKED_DEVIATION_K, equilibrium
+from jtcheck.thermo.hydrate.equilibrium import H2S_MIXTURE_MAX, P_RANGE_PA
 
 DATA = Path(__file__).parent / "data" / "hydrate_binary_mixtures.csv"
 ICE_POINT_K = 273.15
@@ -62,8 +65,12 @@ PAPERS = {
           "(hydrate sI + ice)",
     "59": "Hachikubo et al. (2002), as dataset 58",
     "707": "Adisasmito, Frank and Sloan, J. Chem. Eng. Data 36 (1991) 68-71 (hydrate sI)",
+    "314": "Mei, Liao, Yang and Guo, Ind. Eng. Chem. Res. 35 (1996) 4342-4347 (the set with pure water)",
+    "573": "Nixdorf and Oellrich, Fluid Phase Equilib. 139 (1997) 325-333",
+    "227": "Noaker and Katz, Petrol. Trans. AIME 201, 237-239, 1951 (as the NIST file gives it)",
 }
-SYSTEMS = ("methane+propane", "methane+ethane", "methane+carbon dioxide")
+SYSTEMS = ("methane+propane", "methane+ethane", "methane+carbon dioxide", "methane+nitrogen",
+           "methane+hydrogen sulfide")
 
 
 def _points() -> list[dict]:
@@ -86,7 +93,8 @@ POINTS = _points()
 def _claimed(pt: dict) -> bool:
     in_pressure = P_RANGE_PA[0] <= pt["p_pa"] <= P_RANGE_PA[1]
     metastable_water = pt["water"] == "liquid" and pt["t_k"] < ICE_POINT_K
-    return in_pressure and not metastable_water
+    sour = pt["composition"].get("hydrogen sulfide", 0.0) > H2S_MIXTURE_MAX
+    return in_pressure and not metastable_water and not sour
 
 
 def _model(pt: dict) -> jtcheck.HydrateEquilibrium:
@@ -107,20 +115,23 @@ def _deviations(system: str) -> list[tuple[str, float, float, float]]:
 def test_every_dataset_names_its_paper():
     assert {pt["dataset"] for pt in POINTS} == set(PAPERS)
     assert {pt["system"] for pt in POINTS} == set(SYSTEMS)
-    assert len(POINTS) == 287
+    assert len(POINTS) == 321
 
 
-@pytest.mark.parametrize("system", SYSTEMS)
-def test_none_beyond_2_k_in_the_claimed_range(system):
+@pytest.mark.parametrize(("system", "n_points"), [("methane+propane", 80), ("methane+ethane", 61),
+                                                 ("methane+carbon dioxide", 129), ("methane+nitrogen", 14),
+                                                 ("methane+hydrogen sulfide", 7)])
+def test_none_beyond_2_k_in_the_claimed_range(system, n_points):
     devs = _deviations(system)
-    assert len(devs) >= 40
+    assert len(devs) == n_points
     worst = max(devs, key=lambda d: abs(d[3]))
     assert abs(worst[3]) <= 2.0, worst
     # the deviation screening adds to the hydrate temperature covers every point
     assert abs(worst[3]) <= CHECKED_DEVIATION_K
 
 
-@pytest.mark.parametrize("system", ["methane+propane", "methane+ethane"])
+@pytest.mark.parametrize("system", ["methane+propane", "methane+ethane", "methane+nitrogen",
+                                    "methane+hydrogen sulfide"])
 def test_90_percent_within_1_k(system):
     devs = _deviations(system)
     within = sum(abs(d[3]) <= 1.0 for d in devs) / len(devs)
@@ -143,12 +154,33 @@ def test_methane_co2_within_1_k_share_as_reported():
     assert all(d[3] >= -1.5 for d in unsafe)
 
 
-def test_the_claimed_range_of_the_data_excludes_only_high_pressure_and_supercooled_water():
+def test_the_claimed_range_of_the_data_excludes_only_high_pressure_sour_and_supercooled_water():
     left_out = [pt for pt in POINTS if not _claimed(pt)]
     high = [pt for pt in left_out if pt["p_pa"] > P_RANGE_PA[1]]
-    supercooled = [pt for pt in left_out if pt["p_pa"] <= P_RANGE_PA[1]]
+    sour = [pt for pt in left_out if pt["composition"].get("hydrogen sulfide", 0.0) > H2S_MIXTURE_MAX]
+    rest = [pt for pt in left_out if pt not in high and pt not in sour]
     assert {pt["dataset"] for pt in high} == {"210", "211"} and len(high) == 16
-    assert [(pt["dataset"], pt["t_k"]) for pt in supercooled] == [("337", 272.66)]
+    assert {pt["dataset"] for pt in sour} == {"227"} and len(sour) == 13
+    assert [(pt["dataset"], pt["t_k"]) for pt in rest] == [("337", 272.66)]
+
+
+def _sour_points() -> list[dict]:
+    return [pt for pt in POINTS if pt["composition"].get("hydrogen sulfide", 0.0) > H2S_MIXTURE_MAX]
+
+
+def test_methane_h2s_above_the_checked_h2s_is_not_screened():
+    for pt in _sour_points():
+        res = _model(pt)
+        assert not res.screened and np.isnan(res.t_k) and "hydrogen sulfide" in res.reason, pt
+
+
+def test_the_h2s_limit_is_needed(monkeypatch):
+    """Without the limit the model would put methane + 7-22 mol% H2S (Noaker and Katz) up to 3 K warmer than the data:
+    7 of 13 points beyond 2 K, all on the cautious side.  If a change of the model brings them within the bar, this
+    test fails and the limit can go."""
+    monkeypatch.setattr(equilibrium, "H2S_MIXTURE_MAX", 1.0)
+    devs = [float(_model(pt).t_k) - pt["t_k"] for pt in _sour_points()]
+    assert sum(d > 2.0 for d in devs) == 7 and max(devs) < 3.1 and min(devs) > 0.5
 
 
 @pytest.mark.parametrize("dataset", ["210", "211"])
@@ -165,7 +197,7 @@ def test_supercooled_water_point_lies_above_the_ice_branch_the_model_takes():
     its freezing point.  The model takes ice there (the stable phase) and puts the hydrate 2.5 K colder; with ice the
     equilibrium is colder than with supercooled water, so where water stays liquid below 0 degC hydrate can form up to
     that much warmer than the model says (reported to the lead as a limit of the model)."""
-    (pt,) = [pt for pt in POINTS if not _claimed(pt) and pt["p_pa"] <= P_RANGE_PA[1]]
+    (pt,) = [pt for pt in POINTS if not _claimed(pt) and pt["p_pa"] <= P_RANGE_PA[1] and pt not in _sour_points()]
     res = _model(pt)
     assert res.screened and res.water_phase == "ice"
     assert -3.0 < float(res.t_k) - pt["t_k"] < -2.0
@@ -178,3 +210,15 @@ def test_measured_structure(dataset, structure):
     for pt in POINTS:
         if pt["dataset"] == dataset:
             assert _model(pt).structure == structure, pt
+
+
+def test_issue_13_check_pooled_over_all_published_points():
+    """The issue's check as written: the pure gases and natural gases of test_hydrate.py with the binaries here, at
+    least 90 % within 1 K and none beyond 2 K (372 points: 336 within 1 K, 90.3 %, worst 1.98 K)."""
+    from test_hydrate import _deviations as pure_and_natural_gas_deviations
+
+    devs = np.array([d[3] for d in pure_and_natural_gas_deviations()]
+                    + [d[3] for system in SYSTEMS for d in _deviations(system)])
+    assert devs.size == 372
+    assert np.mean(np.abs(devs) <= 1.0) >= 0.90
+    assert np.max(np.abs(devs)) <= 2.0
