@@ -238,8 +238,8 @@ def test_deaton_frost_natural_gas_within_2_k_all_on_the_cautious_side():
 
 def test_issue_13_check_pooled_over_all_published_points():
     """The issue's check as written, over every published point read: the pure gases and natural gases of
-    test_hydrate.py, the binaries here and the Deaton-Frost natural gas (381 points): none beyond 2 K, but 336 within
-    1 K, 88.2 %, short of the issue's 90 % (methane + CO2 and the Deaton-Frost gas miss it; both on the cautious side
+    test_hydrate.py, the binaries here and the Deaton-Frost natural gas (414 points): none beyond 2 K, but 368 within
+    1 K, 88.9 %, short of the issue's 90 % (methane + CO2 and the Deaton-Frost gas miss it; both on the cautious side
     but for 3 points of Servio et al.).  The figures are pinned so a change of the model that moves them is seen; the
     90 % bar stays open."""
     from test_hydrate import _deviations as pure_and_natural_gas_deviations
@@ -247,6 +247,6 @@ def test_issue_13_check_pooled_over_all_published_points():
     devs = np.concatenate([[d[3] for d in pure_and_natural_gas_deviations()],
                            [d[3] for system in SYSTEMS for d in _deviations(system)],
                            _deaton_frost_gas_deviations()])
-    assert devs.size == 381
-    assert int(np.sum(np.abs(devs) <= 1.0)) == 336
+    assert devs.size == 414
+    assert int(np.sum(np.abs(devs) <= 1.0)) == 368
     assert np.max(np.abs(devs)) <= 2.0
