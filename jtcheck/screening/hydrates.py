@@ -144,7 +144,8 @@ MOTIEE_CHECKED_DEVIATION_K = 3.5
 #: +-3 K" (README); the checked deviation, rounded up, is used so the largest check point is covered.
 METHOD_UNCERTAINTY_K = _HYDRATE_CHECKED_DEVIATION_K
 METHOD_UNCERTAINTY_BASIS = (f"{_HYDRATE_METHOD_NAME}: the largest deviation from published hydrate equilibrium data "
-                            f"inside the model's checked range is 1.98 K (tests/thermo/test_hydrate.py), rounded up to "
+                            "inside the model's checked range is 1.98 K (tests/thermo/test_hydrate.py; binary gases "
+                            "within 1.83 K, tests/thermo/test_hydrate_mixtures.py), rounded up to "
                             f"{_HYDRATE_CHECKED_DEVIATION_K:g} K (measured by jtcheck)")
 
 #: Gas gravity span of the Katz chart's curves, from pure methane (0.554) to 1.0 [-].  From memory of

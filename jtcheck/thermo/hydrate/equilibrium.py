@@ -6,7 +6,7 @@ from the fluid's own equation of state (:mod:`jtcheck.thermo.hydrate.kernels`), 
 in the water by Henry's law (Holder, Corbin and Papadopoulos 1980).
 
 Range (fail closed): a point is screened only inside the range over which the model was checked
-against published data (tests/thermo/test_hydrate.py); outside it the result carries no
+against published data (tests/thermo/test_hydrate.py, test_hydrate_mixtures.py); outside it the result carries no
 temperature that could reassure, only the reason:
 
 * pressure from :data:`P_RANGE_PA` (0.04 to 30 MPa);
@@ -15,7 +15,9 @@ temperature that could reassure, only the reason:
   propane, isobutane, n-butane, nitrogen, CO2, H2S); components that are not formers at most
   :data:`NON_FORMER_MAX` (they dilute the gas through the equation of state, but no data with much
   of them were checked); nitrogen at most :data:`NITROGEN_MAX` (pure-nitrogen data deviate most), and
-  at most :data:`NITROGEN_ICE_MAX` where the hydrate forms with ice.
+  at most :data:`NITROGEN_ICE_MAX` where the hydrate forms with ice; hydrogen sulfide at most
+  :data:`H2S_MIXTURE_MAX` beside other formers, or pure (from :data:`H2S_PURE_MIN`): the only mixture data,
+  methane + H2S at 7-22 mol% H2S, lie up to 3.0 K below the model (tests/thermo/test_hydrate_mixtures.py).
 
 The largest deviation found in that range is :data:`CHECKED_DEVIATION_K`, which screening adds to
 the hydrate temperature.
@@ -32,6 +34,8 @@ from jtcheck.thermo.hydrate.kernels import HY_ABOVE, HY_FAIL_FLASH, HY_NONE, HY_
 
 __all__ = [
     "CHECKED_DEVIATION_K",
+    "H2S_MIXTURE_MAX",
+    "H2S_PURE_MIN",
     "METHOD",
     "METHOD_NAME",
     "NITROGEN_MAX",
@@ -67,8 +71,16 @@ NITROGEN_MAX = 0.5
 #: of jtcheck: pure-nitrogen data with ice, 269-271 K at 11-13 MPa, lie 4 to 8.7 K above the model, and no
 #: nitrogen-rich mixture data with ice were checked).
 NITROGEN_ICE_MAX = 0.10
+#: Largest mole fraction of hydrogen sulfide in a water-free gas with other formers [-] (a screening choice of
+#: jtcheck: methane + H2S data of Noaker and Katz (1951) lie within 0.62 K of the model at 1.7 and 3.1 mol% H2S,
+#: but 0.8 to 3.0 K below it at 7.2 to 22 mol%, 7 of 13 points beyond 2 K; no other mixture data with H2S were
+#: checked).
+H2S_MIXTURE_MAX = 0.032
+#: Smallest mole fraction of hydrogen sulfide taken as pure H2S, whose data (Selleck et al. 1952) were checked [-].
+H2S_PURE_MIN = 0.999
 #: Largest deviation from the published data inside the claimed range [K] (1.98 K, propane with ice
-#: near 271 K; tests/thermo/test_hydrate.py), rounded up.
+#: near 271 K; tests/thermo/test_hydrate.py; binary gases within 1.83 K, tests/thermo/test_hydrate_mixtures.py),
+#: rounded up.
 CHECKED_DEVIATION_K = 2.0
 
 _T_WINDOW = (150.0, 340.0)
@@ -168,6 +180,11 @@ def _composition_reason(ids, zs) -> str:
     if n2 > NITROGEN_MAX:
         return (f"nitrogen is {100 * n2:.1f} mol% of the water-free gas, above the checked {100 * NITROGEN_MAX:g} "
                 "mol% (the nitrogen hydrate data deviate most from the model)")
+    h2s = sum(zi for c, zi in zip(dry, z, strict=True) if c == "hydrogen sulfide")
+    if H2S_MIXTURE_MAX < h2s < H2S_PURE_MIN:
+        return (f"hydrogen sulfide is {100 * h2s:.1f} mol% of the water-free gas: beside other formers the model is "
+                f"checked up to {100 * H2S_MIXTURE_MAX:g} mol% only (methane + H2S data at 7-22 mol% lie up to 3 K "
+                "from it)")
     return ""
 
 
