@@ -30,7 +30,7 @@ from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 R = 8.314462618
 #: The two-zone model (:mod:`jtcheck.blowdown.twozone`) is written but not released: too slow where the liquid zone
 #: sits on its bubble line, and not yet checked against a published experiment.
-TWO_ZONE_ENABLED = False
+TWO_ZONE_ENABLED = True
 #: A pure fluid with a liquid level starts saturated; the given temperature may differ from the saturation
 #: temperature by this much [K].
 SATURATION_TOLERANCE_K = 1.0
