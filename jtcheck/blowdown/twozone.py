@@ -40,7 +40,7 @@ from jtcheck.blowdown.contents import Contents, InsideHeatTransfer, State, StepF
 from jtcheck.blowdown.geometry import Vessel
 from jtcheck.blowdown.inputs import Orifice
 from jtcheck.errors import InputError
-from jtcheck.thermo.flash import FlashResult, flash_ph, flash_uv
+from jtcheck.thermo.flash import FlashResult, flash_pt, flash_uv
 from jtcheck.thermo.fluid import Fluid
 from jtcheck.thermo.kernels.flash_uv import phase_props as props
 from jtcheck.thermo.kernels.saturation import pure_saturation_T
@@ -72,8 +72,12 @@ class LiquidZone:
 
     t_k: float
     p_pa: float
+    #: liquid composition and, where the zone boils, its vapour's composition and molar fraction (bubbles)
     x: np.ndarray
+    y: np.ndarray
+    beta: float
     n_mol: float
+    #: molar volume and enthalpy of the zone (both phases) from the equation of state (untranslated)
     v_eos_m3_per_mol: float
     volume_m3: float
     h_j_per_mol: float
@@ -201,32 +205,115 @@ class TwoZoneContents(Contents):
                 side = -1
         return fail
 
-    def liquid_at(self, N: np.ndarray, U: float, p: float, t_guess: float) -> LiquidZone:
-        """The liquid zone (moles ``N``, internal energy ``U`` [J]) at pressure ``p`` [Pa]: the temperature where the
-        liquid root's u = h - P v equals U/N (Newton on T, du/dT at constant P = cp - P (dv/dT)_P); raises
+    def _one_phase_at(self, x: np.ndarray, u_t: float, p: float, t_guess: float, root: int) -> tuple[float, tuple]:
+        """(T [K], props) of one phase of composition x at pressure p [Pa] with molar internal energy u_t [J/mol]:
+        Newton on T with the equation of state's ``root``, du/dT at constant P = cp - P (dv/dT)_P; raises
         StepFailedError when it does not converge."""
-        n = float(N.sum())
-        x = N / n
-        u_target = U / n
         t = t_guess if math.isfinite(t_guess) else 300.0
-        tol = 1e-11 * (abs(u_target) + R * t)
+        tol = 1e-11 * (abs(u_t) + R * t)
         for _ in range(MAX_LIQUID_ITERATIONS):
-            pr = props(self.prm, t, p, x, LIQUID)
-            f = pr[2] - p * pr[1] - u_target
-            dvdt = -pr[6] / pr[7]
-            dudt = pr[4] - p * dvdt
+            pr = props(self.prm, t, p, x, root)
+            f = pr[2] - p * pr[1] - u_t
             if abs(f) <= tol:
-                vol = n * (pr[1] - float(x @ self.shifts))
-                return LiquidZone(t_k=t, p_pa=p, x=x, n_mol=n, v_eos_m3_per_mol=pr[1], volume_m3=vol,
-                                  h_j_per_mol=pr[2], cv_j_per_mol_k=pr[5])
+                return t, pr
+            dudt = pr[4] + p * pr[6] / pr[7]
             if not (math.isfinite(f) and math.isfinite(dudt) and dudt > 0.0):
                 break
-            step = -f / dudt
-            t += max(-MAX_LIQUID_T_STEP_K, min(MAX_LIQUID_T_STEP_K, step))
+            t += max(-MAX_LIQUID_T_STEP_K, min(MAX_LIQUID_T_STEP_K, -f / dudt))
             if not t > 1.0:
                 break
-        raise StepFailedError(f"the liquid zone's temperature did not converge at {p:.6g} Pa, u = {u_target:.6g} "
-                              f"J/mol (Newton on T, {MAX_LIQUID_ITERATIONS} iterations at most)")
+        raise StepFailedError(f"the liquid zone's temperature did not converge at {p:.6g} Pa, u = {u_t:.6g} J/mol "
+                              f"(Newton on T, {MAX_LIQUID_ITERATIONS} iterations at most)")
+
+    def _zone_of(self, n: float, x: np.ndarray, t: float, p: float, pr_l, pr_v=None, beta: float = 0.0,
+                 y: np.ndarray | None = None) -> LiquidZone:
+        """The liquid zone from its phases' properties (the vapour's, and its fraction ``beta``, when it boils)."""
+        y = x if y is None else y
+        if pr_v is None:
+            v, h = pr_l[1], pr_l[2]
+            shift = float(x @ self.shifts)
+        else:
+            v = (1.0 - beta) * pr_l[1] + beta * pr_v[1]
+            h = (1.0 - beta) * pr_l[2] + beta * pr_v[2]
+            shift = (1.0 - beta) * float(x @ self.shifts) + beta * float(y @ self.shifts)
+        return LiquidZone(t_k=t, p_pa=p, x=x, y=y, beta=beta, n_mol=n, v_eos_m3_per_mol=v,
+                          volume_m3=n * (v - shift), h_j_per_mol=h, cv_j_per_mol_k=pr_l[5])
+
+    def liquid_at(self, N: np.ndarray, U: float, p: float, t_guess: float) -> LiquidZone:
+        """The liquid zone (moles ``N`` [mol], internal energy ``U`` [J]) at pressure ``p`` [Pa].
+
+        Below its bubble point it is one liquid (Newton on T, no flash).  Past it, the zone boils: a pure fluid sits
+        at its saturation temperature with the quality from the lever rule on u; a mixture is solved by a bracketed
+        secant on T over PT flashes (u of the split rises with T at fixed P).  The vapour formed stays in the zone
+        (bubbles, counted in its volume) until the step ends and it rises (:meth:`settle`).  Raises
+        StepFailedError when a solve does not converge."""
+        n = float(N.sum())
+        x = N / n
+        u_t = U / n
+        if self.n == 1:
+            ts = float(pure_saturation_T(self.prm, p, x, 0))
+            if not math.isfinite(ts):
+                # above the critical pressure: one dense phase
+                t, pr = self._one_phase_at(x, u_t, p, t_guess, GIBBS)
+                return self._zone_of(n, x, t, p, pr)
+            pl = props(self.prm, ts, p, x, LIQUID)
+            pv = props(self.prm, ts, p, x, VAPOUR)
+            ul = pl[2] - p * pl[1]
+            uv = pv[2] - p * pv[1]
+            if u_t <= ul:
+                t, pr = self._one_phase_at(x, u_t, p, min(t_guess, ts) if math.isfinite(t_guess) else ts, LIQUID)
+                return self._zone_of(n, x, t, p, pr)
+            if u_t >= uv:
+                t, pr = self._one_phase_at(x, u_t, p, ts, VAPOUR)
+                return self._zone_of(n, x, t, p, pr, pr, 1.0)
+            return self._zone_of(n, x, ts, p, pl, pv, (u_t - ul) / (uv - ul))
+        try:
+            t, pr = self._one_phase_at(x, u_t, p, t_guess, LIQUID)
+            first = flash_pt(self.mix, t, p, x)
+            if first.converged and first.phase != "two-phase":
+                return self._zone_of(n, x, t, p, pr)
+        except StepFailedError:
+            t = t_guess if math.isfinite(t_guess) else 300.0
+        return self._boiling_mixture(n, x, u_t, p, t)
+
+    def _boiling_mixture(self, n: float, x: np.ndarray, u_t: float, p: float, t0: float) -> LiquidZone:
+        """A mixture liquid zone past its bubble point at p [Pa]: T from u(T) = u_t, u of the PT split."""
+
+        def at(t: float):
+            r = flash_pt(self.mix, t, p, x)
+            if not r.converged:
+                raise StepFailedError(f"the liquid zone's PT flash failed at {t:.6g} K, {p:.6g} Pa: {r.message}")
+            if r.phase == "two-phase":
+                pl = props(self.prm, t, p, np.asarray(r.x, float), LIQUID)
+                pv = props(self.prm, t, p, np.asarray(r.y, float), VAPOUR)
+                zone = self._zone_of(n, np.asarray(r.x, float), t, p, pl, pv, r.beta, np.asarray(r.y, float))
+            else:
+                pr = props(self.prm, t, p, x, LIQUID if r.beta < 0.5 else VAPOUR)
+                zone = self._zone_of(n, x, t, p, pr, None if r.beta < 0.5 else pr, 0.0 if r.beta < 0.5 else 1.0)
+            return zone, (zone.h_j_per_mol - p * zone.v_eos_m3_per_mol - u_t) / (R * t)
+
+        lo, hi = math.nan, math.nan
+        f_lo = f_hi = math.nan
+        t = t0
+        step = 0.5
+        for _ in range(MAX_LIQUID_ITERATIONS):
+            zone, f = at(t)
+            if abs(f) <= 1e-11:
+                return zone
+            if f > 0.0:
+                hi, f_hi = t, f
+            else:
+                lo, f_lo = t, f
+            if math.isfinite(lo) and math.isfinite(hi):
+                if hi - lo < 1e-10 * t:
+                    return zone
+                t = lo - f_lo * (hi - lo) / (f_hi - f_lo)
+                if not (lo < t < hi):
+                    t = 0.5 * (lo + hi)
+            else:
+                step *= 2.0
+                t = t - step if f > 0.0 else t + step
+        raise StepFailedError(f"the boiling liquid zone did not converge at {p:.6g} Pa, u = {u_t:.6g} J/mol")
 
     def zones(self, y: np.ndarray) -> Zones:
         """Both zones at their common pressure (the pressure balance; see the module text)."""
@@ -397,27 +484,23 @@ class TwoZoneContents(Contents):
             y[n + 1:2 * n + 1] += nliq * x
             y[2 * n + 1] += du
             moved = True
-        if lz is not None:
-            res = flash_ph(self.mix, lz.p_pa, lz.h_j_per_mol, lz.x, T_guess=lz.t_k)
-            if not res.converged:
-                raise StepFailedError(f"the liquid zone's PH flash failed at {lz.p_pa:.6g} Pa: {res.message}")
-            if res.phase == "two-phase":
-                nvap = lz.n_mol * res.beta
-                yv = np.asarray(res.y, float)
-                pv = props(self.prm, res.T, res.P, yv, VAPOUR)
-                du = nvap * (pv[2] - res.P * pv[1])
-                y[n + 1:2 * n + 1] -= nvap * yv
-                y[2 * n + 1] -= du
-                y[:n] += nvap * yv
-                y[n] += du
-                moved = True
-            elif res.beta >= 0.5:
-                # the liquid zone has boiled away into a vapour: it joins the gas zone
-                y[:n] += y[n + 1:2 * n + 1]
-                y[n] += y[2 * n + 1]
-                y[n + 1:2 * n + 1] = 0.0
-                y[2 * n + 1] = 0.0
-                moved = True
+        if lz is not None and lz.beta >= 1.0 - 1e-12:
+            # the liquid zone has boiled away into a vapour: it joins the gas zone
+            y[:n] += y[n + 1:2 * n + 1]
+            y[n] += y[2 * n + 1]
+            y[n + 1:2 * n + 1] = 0.0
+            y[2 * n + 1] = 0.0
+            moved = True
+        elif lz is not None and lz.beta > 0.0:
+            # the pool's bubbles rise into the gas zone with their own internal energy
+            nvap = lz.n_mol * lz.beta
+            pv = props(self.prm, lz.t_k, lz.p_pa, lz.y, VAPOUR)
+            du = nvap * (pv[2] - lz.p_pa * pv[1])
+            y[n + 1:2 * n + 1] -= nvap * lz.y
+            y[2 * n + 1] -= du
+            y[:n] += nvap * lz.y
+            y[n] += du
+            moved = True
         if not moved:
             return y, st
         y[n + 1:2 * n + 1] = np.maximum(y[n + 1:2 * n + 1], 0.0)
