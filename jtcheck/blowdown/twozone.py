@@ -141,6 +141,11 @@ class TwoZoneContents(Contents):
         z = N / n
         v = volume / n + float(z @ self.shifts)
         res = flash_uv(self.mix, U / n, v, z, t_guess, p_guess, self._t_skip(z))
+        for tg, pg in ((self.t_guess, self.p_guess), (math.nan, math.nan)):
+            # a warm start that fails (a gas zone a hair off its dew line) is retried from the last state, then cold
+            if res.converged:
+                break
+            res = flash_uv(self.mix, U / n, v, z, tg, pg, self._t_skip(z))
         if not res.converged and self.n == 1:
             res = self._pure_saturated(U / n, v, z, p_guess)
         if not res.converged:
