@@ -7,23 +7,29 @@ model with condensate rain-out and flashing liquid; the physics as recalled from
 equations; check the pages):
 
 - each zone carries its component moles and internal energy; the zones share the pressure P, and their volumes
-  add up to the vessel's.  The liquid zone is a single liquid phase: at a trial P its temperature follows from
-  its internal energy by a Newton iteration on u(T, P) = U_l/N_l with the equation of state's liquid root (no
-  flash; a few property calls), and so its volume V_l(P).  The gas zone is a UV flash of (U_g, V - V_l(P)) giving
-  P_g.  The pressure balance P_g(V - V_l(P)) = P is solved by a secant on P from the last state's pressure
-  (warm-started, at most :data:`MAX_BALANCE_ITERATIONS` iterations, bracketed; f(P) = P_g - P falls strictly with
-  P, so the root is unique).  Typically two or three gas flashes per evaluation.  (Before, each pressure balance
-  solved V_l with nested UV flashes of both zones, slow and fragile where the liquid sits on its bubble line.)
+  add up to the vessel's.  The liquid zone at a trial P (:meth:`TwoZoneContents.liquid_at`): below its bubble
+  point one liquid, its temperature from u(T, P) = U_l/N_l by a Newton iteration on the equation of state's
+  liquid root (no flash); past its bubble point it boils, its vapour (bubbles) counted in its volume: a pure
+  fluid at its saturation temperature with the quality from the lever rule on u, a mixture by a bracketed secant
+  on T over PT flashes.  The gas zone is a UV flash of (U_g, V - V_l(P)) giving P_g.  The pressure balance
+  P_g(V - V_l(P)) = P is solved by a secant on P from the last state's pressure (warm-started, bracketed, at most
+  :data:`MAX_BALANCE_ITERATIONS` iterations, else the step fails and is shortened; f(P) = P_g - P falls strictly
+  with P, so the root is unique).  Typically two or three gas-zone flashes per evaluation.  (Before, each
+  pressure balance solved V_l with nested UV flashes of both zones: slow, and failing where the liquid sits on
+  its bubble line.)
 - the valves draw the gas zone (its vapour when it carries mist); the gas-wetted wall exchanges heat with the gas
   zone, the liquid-wetted wall with the liquid zone (nucleate boiling or the natural-convection floor), and the
   two zones across the interface by natural convection (the gas correlation of :mod:`jtcheck.blowdown.heat` on
   the interface area);
-- between time steps (operator splitting), condensate formed in the gas zone rains out into the liquid zone, and
-  the liquid zone, if the pressure fall or the wall's heat has carried it past its bubble point, flashes: a PH
-  flash of the liquid zone at the common pressure, its vapour rising into the gas zone.  Each phase moves with its
-  own internal energy, so the transfer conserves mass and energy exactly; a boiling pool is thereby held at its
-  bubble point at the end of every step (within a step it may superheat by the step's pressure fall: the steps
-  are held below 2 % inventory and 2 K fluid change).
+- between time steps, condensate (mist) formed in the gas zone rains out into the liquid zone and the pool's
+  bubbles rise into the gas zone, each phase with its own internal energy at the common pressure, so the
+  transfer conserves mass and energy exactly.  Because the bubbles are counted while they form, the pressure
+  falls smoothly and a boiling pool stays on its bubble point (checked against CoolProp's propane in
+  tests/blowdown/test_twozone.py); an earlier version that flashed the pool only between steps raised the
+  pressure by up to 16 % at each step.
+- a pure fluid's gas zone sits on its dew line (rain-out leaves saturated vapour): where the general UV flash
+  fails there, the gas zone is solved on the saturation line by the lever rule
+  (:meth:`TwoZoneContents._pure_saturated`).
 
 Where no liquid zone is present and the gas zone is one phase, the evaluation is the equilibrium model's
 (:meth:`jtcheck.blowdown.contents.Contents.evaluate`): the same curves.  A start with no vapour space (a vessel
@@ -61,10 +67,11 @@ PURE_QUALITY_OVERSHOOT = 1e-4
 MAX_LIQUID_T_STEP_K = 10.0
 
 METHOD = ("two-zone model (Haque et al. 1992; Speranza and Terenzi 2005): gas and liquid zones at one pressure and "
-          "their own temperatures; the gas zone a UV flash, the liquid zone a liquid at its internal energy, the "
-          "pressure balance by a secant on the pressure; condensate rains out and a liquid past its bubble point "
-          "flashes (PH flash) between steps, its vapour rising; interface heat by natural convection; valves draw "
-          "the gas zone through a real-fluid isentropic nozzle; walls as the equilibrium model")
+          "their own temperatures; the gas zone a UV flash, the liquid zone a liquid at its internal energy or, past "
+          "its bubble point, a boiling pool (saturation line or PT split), the pressure balance by a secant on the "
+          "pressure; condensate rains out and the pool's vapour rises between steps; interface heat by natural "
+          "convection; valves draw the gas zone through a real-fluid isentropic nozzle; walls as the equilibrium "
+          "model")
 
 
 @dataclass(frozen=True)
@@ -106,6 +113,8 @@ class TwoZoneContents(Contents):
         #: the liquid zone's last temperature [K] (warm start of its Newton iteration)
         self.t_liquid_guess = math.nan
         self._last: tuple[bytes, Zones] | None = None
+        #: PT flashes made for the liquid zone (a pool past its bubble point), counted into each state's flashes
+        self.pt_flashes = 0
 
     # -- protocol -------------------------------------------------------------------------------------------
     @property
@@ -276,6 +285,7 @@ class TwoZoneContents(Contents):
         try:
             t, pr = self._one_phase_at(x, u_t, p, t_guess, LIQUID)
             first = flash_pt(self.mix, t, p, x)
+            self.pt_flashes += 1
             if first.converged and first.phase != "two-phase":
                 return self._zone_of(n, x, t, p, pr)
         except StepFailedError:
@@ -287,6 +297,7 @@ class TwoZoneContents(Contents):
 
         def at(t: float):
             r = flash_pt(self.mix, t, p, x)
+            self.pt_flashes += 1
             if not r.converged:
                 raise StepFailedError(f"the liquid zone's PT flash failed at {t:.6g} K, {p:.6g} Pa: {r.message}")
             if r.phase == "two-phase":
@@ -343,6 +354,7 @@ class TwoZoneContents(Contents):
         lo, hi = 0.0, math.inf
         prev: tuple[float, float] | None = None
         flashes = 0
+        pt0 = self.pt_flashes
         resid = math.nan
         for _ in range(MAX_BALANCE_ITERATIONS):
             lz = self.liquid_at(nl, ul, p, tl0)
@@ -361,7 +373,7 @@ class TwoZoneContents(Contents):
             resid = f / p
             if abs(f) <= P_BALANCE_TOL * p:
                 self.t_liquid_guess = lz.t_k
-                out = Zones(rg, zg, n_g, lz, flashes)
+                out = Zones(rg, zg, n_g, lz, flashes + self.pt_flashes - pt0)
                 self._last = (key, out)
                 return out
             if f > 0.0:
@@ -472,9 +484,9 @@ class TwoZoneContents(Contents):
         return tg, (new.t_liquid_k + a_l * st.t_liquid_k) / (1.0 + a_l)
 
     def settle(self, y: np.ndarray, st: State, tw_gas: float, tw_liq: float) -> tuple[np.ndarray, State]:
-        """Rain-out of the gas zone's condensate into the liquid zone and flashing of a liquid zone past its bubble
-        point (PH flash at the common pressure) into the gas zone, each phase with its own internal energy; then the
-        state again.  Raises StepFailedError when the flash fails (the integrator shortens the step)."""
+        """Rain-out of the gas zone's condensate into the liquid zone and rise of the pool's bubbles into the gas
+        zone, each phase with its own internal energy at the common pressure; then the state again.  Raises
+        StepFailedError when the new state cannot be solved (the integrator shortens the step)."""
         n = self.n
         zs = self.zones(y)
         rg, ng, lz = zs.gas, zs.n_gas, zs.liquid
