@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import math
 
-import CoolProp.CoolProp as CP
 import numpy as np
 import pytest
+from CoolProp.CoolProp import PropsSI
 
 from jtcheck import Fluid, depressure
 from jtcheck.blowdown import HeatInput, Orifice, Vessel
@@ -53,7 +53,7 @@ def test_a_boiling_propane_pool_follows_the_saturation_curve(propane_run):
     # 0.02-0.09 K), the tolerance 0.3 K leaves room for a pool lagging its bubble point by a step
     r = propane_run
     assert r.converged, r.message
-    t_sat = np.array([CP.PropsSI("T", "P", float(p), "Q", 0, "Propane") for p in r.pressure])
+    t_sat = np.array([PropsSI("T", "P", float(p), "Q", 0, "Propane") for p in r.pressure])
     np.testing.assert_allclose(r.t_liquid, t_sat, atol=0.3)
     assert r.pressure[-1] < 0.6 * r.pressure[0]        # it did depressure: the check is not trivial
     assert t_sat[0] - t_sat[-1] > 10.0                 # and the pool cooled along the curve
