@@ -6,8 +6,9 @@ inputs ``vessel``, ``orifices``, ``heat_input`` and ``run`` give the rest (:mod:
 :func:`jtcheck.blowdown.depressure` with the model the run names (``run.model``: the equilibrium model, the
 default, mass and energy balances with a UV flash each stage, real-fluid nozzle, wall conduction; or the two-zone
 model, gas and liquid zones at their own temperatures; Haque, Richardson, Saville and Chamberlain, Process Saf.
-Environ. Prot. 70 (1992) 3-17; Speranza and Terenzi, Ind. Eng. Chem. Res. 44 (2005) 1054).  The coldest inner wall (gas- and liquid-wetted) and the blowdown valve outlet are screened along
-their pressure-temperature paths and the time to the depressuring target is checked (:mod:`.screen`).
+Environ. Prot. 70 (1992) 3-17; Speranza and Terenzi, Ind. Eng. Chem. Res. 44 (2005) 1054).  The coldest inner
+wall (gas- and liquid-wetted) and the blowdown valve outlet are screened along their pressure-temperature paths
+and the time to the depressuring target is checked (:mod:`.screen`).
 
 The screening is stored as a :class:`~jtcheck.screening.screen.Screening` without letdown conditions; its
 ``answers["depressuring"]`` holds the key numbers and the curves (:func:`.screen.stored_run`).
