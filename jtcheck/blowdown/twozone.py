@@ -187,11 +187,18 @@ class TwoZoneContents(Contents):
             h = pl[2] + q * (pv[2] - pl[2])
             return ts, p, q, h, (h - p * v_t - u_t) / (R * ts)
 
-        lo, hi = math.log(p0) - 0.05, math.log(min(p0 * math.exp(0.05), pc * (1.0 - 1e-6)))
-        a, b = sat(lo), sat(hi)
         fail = FlashResult(T=math.nan, P=math.nan, beta=math.nan, phase="unknown", z=z, x=z, y=z, h=math.nan,
                            s=math.nan, converged=False, message="pure gas zone: no saturated state at this u, v")
-        if a is None or b is None or a[4] * b[4] > 0.0:
+        lp_max = math.log(pc * (1.0 - 1e-6))
+        width = 0.05
+        for _ in range(8):
+            # a bracket around the guess, widened until the energy residual changes sign
+            lo, hi = math.log(p0) - width, min(math.log(p0) + width, lp_max)
+            a, b = sat(lo), sat(hi)
+            if a is not None and b is not None and a[4] * b[4] <= 0.0:
+                break
+            width *= 2.0
+        else:
             return fail
         fa, fb = a[4], b[4]
         side = 0

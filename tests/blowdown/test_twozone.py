@@ -190,3 +190,37 @@ def test_the_liquid_zone_temperature_solve_inverts_the_equation_of_state():
     assert lz.t_k == pytest.approx(260.0, abs=1e-6)
     assert lz.beta == 0.0
     assert math.isclose(lz.volume_m3, 100.0 * (pr[1] - float(x @ c.shifts)), rel_tol=1e-9)
+
+
+def test_a_condensing_rich_gas_forms_a_pool_and_closes_its_balances():
+    # a rich gas (invented, methane to n-pentane) starts as one gas zone; its condensate rains out into a liquid zone
+    # that did not exist; the balances still close
+    fluid = Fluid({"methane": 0.8, "ethane": 0.08, "propane": 0.06, "n-butane": 0.04, "n-pentane": 0.02}, eos="PR")
+    assert fluid.flash_pt(310.0, 60e5).phase == "vapour"      # one phase at the start
+    r = depressure(fluid, p0_pa=60e5, t0_k=310.0, vessel=Vessel("vertical", 1.5, 4.0, 0.03),
+                   orifices=Orifice(0.03, 0.85, 1.5e5), heat_input="none", end_time_s=900.0, model="two-zone")
+    assert r.converged, r.message
+    assert r.liquid_level[0] == 0.0 and r.liquid_level[-1] > 0.0
+    assert np.isnan(r.t_liquid[0]) and np.isfinite(r.t_liquid[-1])
+    assert r.mass_closure < 1e-6 and r.energy_closure < 1e-6
+
+
+def test_a_pure_gas_zone_on_its_dew_line_is_solved_on_the_saturation_line():
+    # saturated propane vapour at 4 bar (its u and v from the EOS at the EOS saturation temperature): the
+    # saturation-line solve gives back that temperature and pressure with a quality of 1 (a consistency check of
+    # the lever rule against the EOS's own saturation)
+    from jtcheck.thermo.kernels.flash_uv import phase_props as props
+    from jtcheck.thermo.kernels.saturation import pure_saturation_T
+    from jtcheck.thermo.models.conventions import VAPOUR
+
+    fluid = Fluid({"propane": 1.0}, eos="PR")
+    c = _contents(fluid, Vessel("vertical", 1.0, 2.0, 0.02))
+    z = np.ones(1)
+    ts = float(pure_saturation_T(fluid.mixture.kernel_params, 4e5, z, 0))
+    pv = props(fluid.mixture.kernel_params, ts, 4e5, z, VAPOUR)
+    u = pv[2] - 4e5 * pv[1]
+    res = c._pure_saturated(u - 1e-3, pv[1], z, 3.8e5)        # a hair inside the dome
+    assert res.converged and res.phase == "two-phase"
+    assert res.T == pytest.approx(ts, abs=1e-4) and res.P == pytest.approx(4e5, rel=1e-6)
+    assert res.beta == pytest.approx(1.0, abs=1e-5)
+    assert not c._pure_saturated(u + 500.0, pv[1], z, 3.8e5).converged   # well superheated: not on the line
