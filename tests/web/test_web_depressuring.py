@@ -138,7 +138,7 @@ def test_a_liquid_level_in_a_gas_is_refused_at_compute_naming_the_field(app, api
     assert "vessel.liquid_level_m" in str(resp.get_json()) and "two-phase" in str(resp.get_json())
 
 
-def test_the_api_computes_a_two_zone_case(app, api, world):
+def test_the_api_computes_a_two_zone_case(app, api, engineer, world):
     # the run's model travels through the JSON API into the engine and back out in the stored run (a gas case:
     # without liquid the two-zone model runs as the equilibrium model, so this stays quick)
     body = case_body(world, tag=unique("BDV"), kind="vessel_depressuring", outlet_pressure="2 barg",
@@ -155,3 +155,6 @@ def test_the_api_computes_a_two_zone_case(app, api, world):
     run = resp.get_json()["screening"]["answers"]["depressuring"]
     assert run["converged"] and run["run"]["model"] == "two-zone"
     assert run["method"].startswith("two-zone")
+    # the result page says which model ran
+    page = engineer.get(f"/cases/{case['id']}/results/{resp.get_json()['id']}").data.decode()
+    assert "Two-zone model: gas and liquid at their own temperatures." in page
