@@ -18,7 +18,8 @@ taken as it is, in SI, and checked by the case kind:
 
 * **heat input**: ``none``, ``ambient; ambient=5 degC`` or ``fire; F=1; drainage=yes; ambient=15 degC``.
 * **run**, ``key=value`` pairs: ``end=20 min; end_pressure=1 barg; design=100 barg; target=6.9 barg;
-  target_time=15 min`` (all optional; times in s, min or h).
+  target_time=15 min; model=two-zone`` (all optional; times in s, min or h; model equilibrium, the default, or
+  two-zone).
 
 Every error is an :class:`~jtcheck.errors.InputError` naming the field and what is allowed.
 """
@@ -40,7 +41,7 @@ _VESSEL_KEYS = {"orientation": "orientation", "diameter": "inner_diameter_m", "l
                 "volume": "volume_m3", "wall": "wall_thickness_m", "level": "liquid_level_m",
                 "material": "wall_material", "wall_temperature": "wall_t0_k"}
 _RUN_KEYS = {"end": "end_time_s", "end_pressure": "end_pressure_pa", "design": "design_pressure_pa",
-             "target": "target_pressure_pa", "target_time": "target_time_s"}
+             "target": "target_pressure_pa", "target_time": "target_time_s", "model": "model"}
 _HEAT_KEYS = ("kind", "ambient", "f", "drainage")
 VESSEL_EXAMPLE = "orientation=vertical; diameter=1.8 m; length=5 m; wall=35 mm"
 ORIFICE_EXAMPLE = "BDV-2102; 35 mm; 0.85; 2 barg"
@@ -156,7 +157,7 @@ def heat_input(value: Any, field: str = "heat_input", p_atm_pa: float = P_ATM_DE
 
 
 def run(value: Any, field: str = "run", p_atm_pa: float = P_ATM_DEFAULT_PA) -> dict[str, Any] | None:
-    """The run: ``key=value`` text (end, end_pressure, design, target, target_time) or a mapping in SI."""
+    """The run: ``key=value`` text (end, end_pressure, design, target, target_time, model) or a mapping in SI."""
     if value is None or isinstance(value, Mapping):
         return dict(value) if value else None
     text = _one_text(value, field)
@@ -165,7 +166,9 @@ def run(value: Any, field: str = "run", p_atm_pa: float = P_ATM_DEFAULT_PA) -> d
     out: dict[str, Any] = {}
     for key, raw in _pairs(text, field, tuple(_RUN_KEYS), RUN_EXAMPLE).items():
         target = _RUN_KEYS[key]
-        if target.endswith("_s"):
+        if target == "model":
+            out[target] = raw.strip().lower()     # checked by the case kind (equilibrium or two-zone)
+        elif target.endswith("_s"):
             out[target] = _measure(raw, f"{field}.{target}", _TIME_S, "time", "end=20 min")
         else:
             out[target] = parse_pressure(raw, f"{field}.{target}", p_atm_pa).pa
@@ -215,7 +218,10 @@ def text_of(name: str, value: Any, p_unit: str, t_unit: str, p_atm_pa: float) ->
             v = value.get(target)
             if v is None:
                 continue
-            parts.append(f"{key}={_num(v / 60)} min" if target.endswith("_s") else f"{key}={p(v)}")
+            if target == "model":
+                parts.append(f"{key}={v}")
+            else:
+                parts.append(f"{key}={_num(v / 60)} min" if target.endswith("_s") else f"{key}={p(v)}")
     return "; ".join(parts)
 
 

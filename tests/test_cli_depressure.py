@@ -63,3 +63,14 @@ def test_a_bad_time_budget_is_an_input_error():
     res = run(*BASE, "--max-seconds", "0")
     assert res.exit_code == EXIT_INPUT
     assert "max_seconds" in res.output
+
+
+def test_the_two_zone_model_is_chosen_with_model():
+    # a propane drum with liquid (invented numbers) on the two-zone model: converged, and it says which model ran
+    res = run("depressure", "--fluid", "propane=1", "--p0", "9 bara", "--t0", "22.8 degC", "--diameter", "1.2 m",
+              "--length", "3 m", "--wall-thickness", "15 mm", "--liquid-level", "0.5 m", "--orifice", "25 mm",
+              "--back-pressure", "1.5 bara", "--end-time", "3 min", "--model", "two-zone", "--json", "--quiet")
+    data = json.loads(res.output)
+    assert data["converged"] is True, data["message"]
+    assert data["inputs"]["model"] == "two-zone"
+    assert data["basis"]["method"].startswith("two-zone")

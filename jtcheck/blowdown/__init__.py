@@ -9,6 +9,8 @@ Entry point: :func:`depressure` (re-exported as ``from jtcheck import depressure
   convection and boiling, outside air, API 521 fire;
 - :mod:`~jtcheck.blowdown.wall`: wall materials and 1-D conduction;
 - :mod:`~jtcheck.blowdown.contents`: the equilibrium vessel contents at one instant (UV flash, valve flow, heat);
+- :mod:`~jtcheck.blowdown.twozone`: the two-zone (non-equilibrium) contents, gas and liquid zones at one pressure
+  and their own temperatures (``model="two-zone"``);
 - :mod:`~jtcheck.blowdown.integrate`: adaptive time stepping with the balances;
 - :mod:`~jtcheck.blowdown.result`: the result, its extremes and the screening.
 

@@ -70,6 +70,8 @@ class State:
     #: zone temperatures [K] (the equilibrium model: both the fluid's)
     t_gas_k: float = math.nan
     t_liquid_k: float = math.nan
+    #: heat from the gas zone to the liquid zone across the interface [W] (two-zone model)
+    q_interface_w: float = 0.0
 
 
 class Contents:

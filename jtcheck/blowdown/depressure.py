@@ -28,9 +28,6 @@ from jtcheck.thermo.kernels.saturation import pure_saturation_T
 from jtcheck.thermo.models.conventions import GIBBS, LIQUID, VAPOUR
 
 R = 8.314462618
-#: The two-zone model (:mod:`jtcheck.blowdown.twozone`) is written but not released: too slow where the liquid zone
-#: sits on its bubble line, and not yet checked against a published experiment.
-TWO_ZONE_ENABLED = False
 #: A pure fluid with a liquid level starts saturated; the given temperature may differ from the saturation
 #: temperature by this much [K].
 SATURATION_TOLERANCE_K = 1.0
@@ -237,9 +234,6 @@ def depressure(fluid: Fluid, *, p0_pa: float, t0_k: float, vessel: Vessel | dict
     budget_s = number("max_seconds", max_seconds, "computing-time budget", "s", 0.0, 3600.0)
     inside = _inside(inside_heat_transfer)
     N0, U0, notes = initial_inventory(fluid, vessel, p0, t0, liquid_level_m)
-    if model == "two-zone" and not TWO_ZONE_ENABLED:
-        raise InputError("model", "the two-zone model is not released yet (its zone pressure balance is too slow and "
-                                  "not yet validated); use the equilibrium model")
     if model == "two-zone":
         contents = TwoZoneContents(fluid, vessel, orfs, inside, N0 / N0.sum())
         y0 = initial_zones(fluid, vessel, N0, U0, p0, t0, liquid_level_m)

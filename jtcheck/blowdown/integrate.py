@@ -343,7 +343,15 @@ def run(contents, y0: np.ndarray, wall_t0_k: float, vessel: Vessel, mat: WallMat
             dt *= max(0.2, 0.9 * err ** (-1.0 / 3.0))
             continue
         wg_new, wl_new, ynew, stnew = trial.wg, trial.wl, trial.y, trial.state
-        ynew[:m], stnew = contents.settle(ynew[:m], stnew, wg_new[0], wl_new[0])
+        try:
+            ynew[:m], stnew = contents.settle(ynew[:m], stnew, wg_new[0], wl_new[0])
+        except StepFailedError as exc:
+            # what happens between steps (the two-zone model's rain-out and flashing) failed: a shorter step
+            rejected += 1
+            message = f"at t = {t:.6g} s: {exc}"
+            contents.t_guess, contents.p_guess = st.t_k, st.p_pa
+            dt *= 0.25
+            continue
         wg, wl = _move_metal(wg_new, wl_new, st.area_liquid_m2, stnew.area_liquid_m2, vessel.inner_area_m2)
         dTdt = max(abs(stnew.t_gas_k - st.t_gas_k), abs(stnew.t_liquid_k - st.t_liquid_k)) / dt
         t += dt

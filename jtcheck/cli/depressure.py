@@ -114,7 +114,9 @@ def print_result(r) -> None:
 @click.option("--heat", type=click.Choice(["none", "ambient", "fire"]), default="ambient", show_default=True)
 @click.option("--ambient", default="15 degC", show_default=True, help="Air temperature outside.")
 @click.option("--environment-factor", default="1", show_default=True, help="API 521 F (fire only).")
-@click.option("--model", type=click.Choice(["equilibrium", "two-zone"]), default="equilibrium", show_default=True)
+@click.option("--model", type=click.Choice(["equilibrium", "two-zone"]), default="equilibrium", show_default=True,
+              help="equilibrium: one fluid in phase equilibrium; two-zone: gas and liquid zones at their own "
+                   "temperatures (a vessel with liquid).")
 @click.option("--end-time", default="15 min", show_default=True, help='Stop after, e.g. "15 min".')
 @click.option("--end-pressure", default=None, help='Stop at, e.g. "2 bara".')
 @click.option("--target-pressure", default=None, help='Depressuring target, e.g. "7.9 bara".')

@@ -2,6 +2,7 @@
 the paths at the coincident pressure (invented vessel and numbers; check values named beside them)."""
 from __future__ import annotations
 
+import numpy as np
 import pytest
 
 from jtcheck import depressuring_lists as lists
@@ -11,6 +12,7 @@ from jtcheck.cases.depressuring.inputs import orifices_of, run_of, vessel_of
 from jtcheck.errors import InputError
 from jtcheck.screening.mdmt import MaterialColdSpec
 from jtcheck.thermo.fluid import Fluid
+from jtcheck.thermo.kernels.saturation import pure_saturation_T
 
 BAR = 1e5
 P_ATM = 101325.0
@@ -105,3 +107,34 @@ def test_without_any_limit_the_run_is_not_screened():
     screening = VESSEL_DEPRESSURING.compute(GAS, values(mdmt_k=None))
     assert screening.outcome.value == "not screened"
     assert screening.answers["depressuring"]["converged"]        # the run itself is fine: the limit is missing
+
+
+def test_the_run_text_takes_the_model_and_back():
+    r = lists.run("end=20 min; model=two-zone", p_atm_pa=P_ATM)
+    assert r == {"end_time_s": 1200.0, "model": "two-zone"}
+    assert lists.run(lists.text_of("run", r, "barg", "degC", P_ATM), p_atm_pa=P_ATM) == r
+
+
+def test_an_unknown_model_names_the_run_field():
+    v = values(run={"end_time_s": 600.0, "model": "three-zone"})
+    with pytest.raises(InputError) as exc:
+        run_of(v, orifices_of(v))
+    assert exc.value.field == "run.model" and "two-zone" in exc.value.message
+
+
+def test_a_two_zone_case_runs_the_two_zone_model_and_says_so():
+    # a propane drum with liquid (invented numbers): the stored run names the two-zone method and its pool is colder
+    # than or as cold as the gas at the end (a boiling pool; the gas is warmed by its wall)
+    propane = Fluid({"propane": 1.0})
+    sat = 9.0 * BAR
+    t_sat = float(pure_saturation_T(propane.mixture.kernel_params, sat, np.ones(1), 0))
+    v = values(inlet_pressure_pa=sat, inlet_temperature_k=t_sat, outlet_pressure_pa=1.5 * BAR,
+               vessel={"orientation": "horizontal", "inner_diameter_m": 1.2, "length_m": 3.0,
+                       "wall_thickness_m": 0.015, "liquid_level_m": 0.5},
+               run={"end_time_s": 300.0, "model": "two-zone"})
+    assert run_of(v, orifices_of(v)).model == "two-zone"
+    screening = VESSEL_DEPRESSURING.compute(propane, v)
+    run = screening.answers["depressuring"]
+    assert run["converged"], run.get("message")
+    assert run["method"].startswith("two-zone")
+    assert run["run"]["model"] == "two-zone"

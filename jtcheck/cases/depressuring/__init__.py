@@ -3,10 +3,12 @@
 The case's quantity fields give the initial state of the vessel (``inlet_pressure_pa``, ``inlet_temperature_k``)
 and the back pressure at the blowdown valve outlet (``outlet_pressure_pa``, the flare header); the structured
 inputs ``vessel``, ``orifices``, ``heat_input`` and ``run`` give the rest (:mod:`.inputs`).  The run is
-:func:`jtcheck.blowdown.depressure` (the equilibrium model: mass and energy balances with a UV flash each stage,
-real-fluid nozzle, wall conduction; Haque, Richardson, Saville and Chamberlain, Process Saf. Environ. Prot. 70
-(1992) 3-17).  The coldest inner wall (gas- and liquid-wetted) and the blowdown valve outlet are screened along
-their pressure-temperature paths and the time to the depressuring target is checked (:mod:`.screen`).
+:func:`jtcheck.blowdown.depressure` with the model the run names (``run.model``: the equilibrium model, the
+default, mass and energy balances with a UV flash each stage, real-fluid nozzle, wall conduction; or the two-zone
+model, gas and liquid zones at their own temperatures; Haque, Richardson, Saville and Chamberlain, Process Saf.
+Environ. Prot. 70 (1992) 3-17; Speranza and Terenzi, Ind. Eng. Chem. Res. 44 (2005) 1054).  The coldest inner
+wall (gas- and liquid-wetted) and the blowdown valve outlet are screened along their pressure-temperature paths
+and the time to the depressuring target is checked (:mod:`.screen`).
 
 The screening is stored as a :class:`~jtcheck.screening.screen.Screening` without letdown conditions; its
 ``answers["depressuring"]`` holds the key numbers and the curves (:func:`.screen.stored_run`).
@@ -43,7 +45,7 @@ VALVE_POINTS = 30
 REGISTER_BUDGET_S = 20.0
 #: Where the engine's errors name an input, and where the case holds it.
 _ENGINE_FIELDS = {"liquid_level": "vessel.liquid_level_m", "t0": "inlet_temperature_k", "p0": "inlet_pressure_pa",
-                  "back_pressure": "outlet_pressure_pa", "wall_t0": "vessel.wall_t0_k"}
+                  "back_pressure": "outlet_pressure_pa", "wall_t0": "vessel.wall_t0_k", "model": "run.model"}
 #: The quantity fields: the initial pressure and temperature of the vessel and the back pressure (the register's
 #: inlet and outlet fields, so that a case of any kind has them).
 DEPRESSURING_FIELDS = LETDOWN_FIELDS[:3]
@@ -58,7 +60,9 @@ class VesselDepressuringKind(CaseKind):
     devices = ("vessel_depressuring",)
     fields = DEPRESSURING_FIELDS
     parameters = ("vessel", "orifices", "heat_input", "run")
-    method = ("vessel depressuring in time, equilibrium model (jtcheck.blowdown.depressure: mass and energy "
+    method = ("vessel depressuring in time, equilibrium model or two-zone model (gas and liquid zones at their own "
+              "temperatures; Haque et al. 1992, Speranza and Terenzi 2005) as chosen in the run "
+              "(jtcheck.blowdown.depressure: mass and energy "
               "balances with a UV flash of the inventory each stage, real-fluid isentropic nozzle, inside natural "
               "convection and boiling, 1-D wall conduction; Haque et al. 1992); the inner walls and the blowdown "
               "valve outlet screened along their pressure-temperature paths (jtcheck.screening.mdmt)")
@@ -90,7 +94,7 @@ class VesselDepressuringKind(CaseKind):
                                 wall_material=extra["wall_material"], wall_t0_k=extra["wall_t0_k"],
                                 heat_input=heat_input_of(values), end_time_s=plan.end_time_s,
                                 end_pressure_pa=plan.end_pressure_pa, target_pressure_pa=plan.target_pressure_pa,
-                                target_time_s=plan.target_time_s, valve_points=VALVE_POINTS,
+                                target_time_s=plan.target_time_s, valve_points=VALVE_POINTS, model=plan.model,
                                 max_seconds=REGISTER_BUDGET_S)
         except InputError as exc:   # an input the fluid's state refuses (a liquid level in a gas): named as entered
             raise InputError(_ENGINE_FIELDS.get(exc.field, exc.field), exc.message) from None

@@ -17,7 +17,8 @@ Values travel in SI as the register keeps them (``Case.parameters``):
     "adequate_drainage": bool}`` (optional: none).
 ``run``
     ``{"end_time_s": float [s], "end_pressure_pa": float [Pa abs], "design_pressure_pa": float [Pa abs],
-    "target_pressure_pa": float [Pa abs], "target_time_s": float [s]}`` (all optional).
+    "target_pressure_pa": float [Pa abs], "target_time_s": float [s], "model": "equilibrium" | "two-zone"}`` (all
+    optional; the model defaults to equilibrium).
 
 The case's quantity fields give the initial state (``inlet_pressure_pa``, ``inlet_temperature_k``) and the
 back pressure at the blowdown valve outlet (``outlet_pressure_pa``, the flare header).
@@ -36,6 +37,7 @@ from jtcheck.blowdown.inputs import (
     API521_TARGET_GAUGE_PA,
     API521_TARGET_TIME_S,
     HEAT_INPUTS,
+    MODELS,
     HeatInput,
     Orifice,
 )
@@ -47,7 +49,7 @@ VESSEL_KEYS = ("orientation", "inner_diameter_m", "length_m", "volume_m3", "wall
                "wall_material", "wall_t0_k")
 ORIFICE_KEYS = ("name", "diameter_m", "discharge_coefficient", "back_pressure_pa")
 HEAT_INPUT_KEYS = ("kind", "ambient_t_k", "environment_factor", "adequate_drainage")
-RUN_KEYS = ("end_time_s", "end_pressure_pa", "design_pressure_pa", "target_pressure_pa", "target_time_s")
+RUN_KEYS = ("end_time_s", "end_pressure_pa", "design_pressure_pa", "target_pressure_pa", "target_time_s", "model")
 #: The longest run a case may ask for [s] (the engine's own limit).
 MAX_RUN_S = 86400.0
 #: The run's end time when none is given [s]: the target time of the API 521 common basis (shown in the result).
@@ -187,6 +189,8 @@ class RunPlan:
         The depressuring target: pressure [Pa abs] to reach within the time [s]; None without a target.
     target_basis : str
         Where the target comes from, in words.
+    model : str
+        The vessel model: "equilibrium" (the default) or "two-zone" (:data:`jtcheck.blowdown.inputs.MODELS`).
     """
 
     end_time_s: float
@@ -194,11 +198,12 @@ class RunPlan:
     target_pressure_pa: float | None
     target_time_s: float | None
     target_basis: str
+    model: str = "equilibrium"
 
     def to_dict(self) -> dict[str, Any]:
         return {"end_time_s": self.end_time_s, "end_pressure_pa": self.end_pressure_pa,
                 "target_pressure_pa": self.target_pressure_pa, "target_time_s": self.target_time_s,
-                "target_basis": self.target_basis}
+                "target_basis": self.target_basis, "model": self.model}
 
 
 def run_of(values: Mapping[str, Any], orifices: tuple[Orifice, ...]) -> RunPlan:
@@ -213,6 +218,9 @@ def run_of(values: Mapping[str, Any], orifices: tuple[Orifice, ...]) -> RunPlan:
     pb = max(o.back_pressure_pa for o in orifices)
     end_time = DEFAULT_END_TIME_S if r.get("end_time_s") is None else \
         _number("run.end_time_s", r["end_time_s"], "end time", "s", 0.0, MAX_RUN_S)
+    model = r.get("model") or "equilibrium"
+    if model not in MODELS:
+        raise InputError("run.model", f"must be one of {', '.join(MODELS)}, got {model!r}")
     end_p = r.get("end_pressure_pa")
     if end_p is not None:
         end_p = _number("run.end_pressure_pa", end_p, "end pressure (absolute)", "Pa", 0.0, p0)
@@ -239,7 +247,7 @@ def run_of(values: Mapping[str, Any], orifices: tuple[Orifice, ...]) -> RunPlan:
         if target_time is not None:
             raise InputError("run.target_time_s", "a target time needs a target pressure or the design pressure "
                                                   "(run.target_pressure_pa or run.design_pressure_pa)")
-        return RunPlan(end_time, end_p, None, None, "no target: give the design pressure or a target pressure")
+        return RunPlan(end_time, end_p, None, None, "no target: give the design pressure or a target pressure", model)
     if target >= p0:
         raise InputError("run.target_pressure_pa" if r.get("target_pressure_pa") is not None
                          else "run.design_pressure_pa",
@@ -249,7 +257,7 @@ def run_of(values: Mapping[str, Any], orifices: tuple[Orifice, ...]) -> RunPlan:
                          else "run.design_pressure_pa",
                          f"the depressuring target {target:g} Pa abs is not above the highest back pressure {pb:g} "
                          "Pa abs: the vessel would never reach it")
-    return RunPlan(end_time, end_p, target, target_time, basis)
+    return RunPlan(end_time, end_p, target, target_time, basis, model)
 
 
 def check_depressuring(values: Mapping[str, Any]) -> None:

@@ -425,7 +425,10 @@ _DEPRESSURING_OBJECTS = {
                                                              "common basis (690 kPa gauge or 50 % of the design "
                                                              "gauge pressure, whichever is lower, in 15 min)"},
         "target_pressure_pa": {**NUM_OR_NULL, "description": "A target pressure [Pa abs] instead"},
-        "target_time_s": {**NUM_OR_NULL, "description": "Time to reach the target [s] (default 900)"}}},
+        "target_time_s": {**NUM_OR_NULL, "description": "Time to reach the target [s] (default 900)"},
+        "model": {"type": ["string", "null"], "enum": ["equilibrium", "two-zone", None],
+                  "description": "The vessel model: equilibrium (default) or two-zone (gas and liquid zones at their "
+                                 "own temperatures)"}}},
         {"type": "string"}, {"type": "null"}],
         "description": "Vessel depressuring cases: when the run stops and the depressuring target."},
 }
