@@ -27,7 +27,8 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
      p_own, p_n, p_d, p_ti, p_c,
      q_fun, pairs, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
      tuniq, ig_n3m1, ig_n, ig_th, ig_href, ig_sref,
-     tcs, pcs, omegas, polar)
+     tcs, pcs, omegas, polar,
+     p_grp, q_grp, q_expi, g_d, g_c)
 
     marker          numpy.uint16(2008): numba tells this tuple from the cubic family's by its type
     tcs_r, vcs_r    reducing T_c,i [K] and 1/rho_c,i [m^3/mol] of GERG-2008, shape (n,)
@@ -46,6 +47,10 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
     ig_href, ig_sref       the hyperbolic parts of h/R* [K] and s/R* [-] at 298.15 K, (n,)
     tcs, pcs, omegas       critical constants of jtcheck's component data (Wilson starts), (n,)
     polar           near-pure trial phases in stability tests (bool), (n,)
+    p_grp, q_grp    the (d, c) group of each pure-fluid term and of each polynomial departure term (-1 for an
+                    exponential one): terms of one group share delta^d exp(-delta^c) (:func:`level0_coefs`)
+    q_expi          indices of the exponential departure terms
+    g_d, g_c        d and c of each group, sorted by c, then d
 
 The tuple is flat (the ``prange`` loop of the letdown batch rejects nested tuples, numba 0.68).
 """
@@ -330,16 +335,31 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
 # ----------------------------------------------------------------------------------------------
 
 @_jit
-def level0_coefs(prm, tp, x, cp, cq):
-    """Coefficients of the density-only sums at fixed tau and x (for the density iteration).
+def level0_coefs(prm, tp, x, cg, cq):
+    """Coefficients of the sums over delta at fixed tau and x (for the density iteration and the level-1 scalars).
 
-    cp_k = x_owner n_k tau^t_k (pure-fluid terms); cq_m = (sum of x_i x_j F_ij over the pairs that use the
-    departure function of term m) n_m tau^t_m.
+    Terms that share (d, c) (pure-fluid terms, and polynomial departure terms with c = 0) share
+    delta^d exp(-delta^c): their coefficients are summed per (d, c) group (``prm[32]``, ``prm[33]``).
+    cg[0, g] = sum of w_k n_k tau^t_k over the terms k of group g, with w_k = x_owner for a pure-fluid
+    term and the sum of x_i x_j F_ij over the pairs that use the departure function of the term; if cg
+    has three rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k and t_k (t_k - 1).
+    cq[m] = w_m n_m tau^t_m for the exponential departure terms m (``prm[34]``; other entries unset).
     """
     p_own, p_n, p_ti = prm[7], prm[8], prm[10]
     q_fun, pairs, q_n, q_ti = prm[12], prm[13], prm[14], prm[16]
+    tuniq, p_grp, q_grp = prm[22], prm[32], prm[33]
+    rows = cg.shape[0]
+    for r in range(rows):
+        for g in range(cg.shape[1]):
+            cg[r, g] = 0.0
     for k in range(p_n.size):
-        cp[k] = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+        w = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+        g = p_grp[k]
+        cg[0, g] += w
+        if rows == 3:
+            t = tuniq[p_ti[k]]
+            cg[1, g] += w * t
+            cg[2, g] += w * t * (t - 1.0)
     nq = q_n.size
     if nq == 0:
         return
@@ -347,65 +367,138 @@ def level0_coefs(prm, tp, x, cp, cq):
     for m in range(pairs.shape[0]):
         wf[int(pairs[m, 2])] += x[int(pairs[m, 0])] * x[int(pairs[m, 1])] * pairs[m, 3]
     for m in range(nq):
-        cq[m] = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+        w = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+        g = q_grp[m]
+        if g < 0:
+            cq[m] = w
+            continue
+        cg[0, g] += w
+        if rows == 3:
+            t = tuniq[q_ti[m]]
+            cg[1, g] += w * t
+            cg[2, g] += w * t * (t - 1.0)
 
 
 @_jit
-def alphar0(prm, cp, cq, delta):
-    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs`."""
-    p_d, p_c = prm[9], prm[11]
-    q_d, q_eta, q_eps, q_beta, q_gam, q_exp = prm[15], prm[17], prm[18], prm[19], prm[20], prm[21]
-    dp = np.empty(11)
-    dp[0] = 1.0
-    for k in range(1, 11):
-        dp[k] = dp[k - 1] * delta
-    ec = np.empty(7)
-    for k in range(7):
-        ec[k] = math.exp(-dp[k])
-    d2 = dp[2]
+def _exp_term(prm, m, delta):
+    """delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma)) of exponential departure term m, with
+    g = delta d ln(term)/d delta, Dg = delta dg/d delta, D2g = delta d Dg/d delta (Kunz and Wagner 2012, Table B4)."""
+    q_d, q_eta, q_eps, q_beta, q_gam = prm[15], prm[17], prm[18], prm[19], prm[20]
+    d = q_d[m]
+    eta = q_eta[m]
+    eps = q_eps[m]
+    beta = q_beta[m]
+    dd = delta - eps
+    d2 = delta * delta
+    b = delta ** d * math.exp(-eta * dd * dd - beta * (delta - q_gam[m]))
+    e1 = 2.0 * eta * eps * delta - beta * delta
+    return b, d - 2.0 * eta * d2 + e1, -4.0 * eta * d2 + e1, -8.0 * eta * d2 + e1
+
+
+@_jit
+def alphar0(prm, cg, cq, delta):
+    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs` (row 0 of cg)."""
+    g_d, g_c, q_exp = prm[35], prm[36], prm[34]
     A = 0.0
     ad = 0.0
     add = 0.0
-    for k in range(cp.size):
-        v = cp[k]
+    cur = 0
+    u = 0.0
+    e = 1.0
+    for k in range(g_d.size):
+        c = g_c[k]
+        if c != cur:
+            # groups are sorted by c: one exp(-delta^c) per distinct c
+            cur = c
+            u = delta ** c
+            e = math.exp(-u)
+        v = cg[0, k]
         if v == 0.0:
             continue
-        d = p_d[k]
-        c = p_c[k]
-        v *= dp[d]
+        d = g_d[k]
+        v *= delta ** d
         if c == 0:
             g = float(d)
             Dg = 0.0
         else:
-            u = dp[c]
-            v *= ec[c]
+            v *= e
             g = d - c * u
             Dg = -c * c * u
         A += v
         ad += v * g
         add += v * (g * g + Dg - g)
-    for m in range(cq.size):
+    for j in range(q_exp.size):
+        m = q_exp[j]
         v = cq[m]
         if v == 0.0:
             continue
-        d = q_d[m]
-        v *= dp[d]
-        if q_exp[m] == 1:
-            eta = q_eta[m]
-            eps = q_eps[m]
-            beta = q_beta[m]
-            dd = delta - eps
-            v *= math.exp(-eta * dd * dd - beta * (delta - q_gam[m]))
-            e1 = 2.0 * eta * eps * delta - beta * delta
-            g = d - 2.0 * eta * d2 + e1
-            Dg = -4.0 * eta * d2 + e1
-        else:
-            g = float(d)
-            Dg = 0.0
+        b, g, Dg, _ = _exp_term(prm, m, delta)
+        v *= b
         A += v
         ad += v * g
         add += v * (g * g + Dg - g)
     return A, ad, add
+
+
+@_jit
+def alphar1(prm, cg, cq, delta):
+    """The scalar derivatives of alpha_r (level 1 of :func:`alphar`) from :func:`level0_coefs` with three rows.
+
+    Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
+    """
+    g_d, g_c, q_exp = prm[35], prm[36], prm[34]
+    tuniq, q_ti = prm[22], prm[16]
+    A = 0.0
+    ad = 0.0
+    add = 0.0
+    addd = 0.0
+    at = 0.0
+    att = 0.0
+    adt = 0.0
+    addt = 0.0
+    cur = 0
+    u = 0.0
+    e = 1.0
+    for k in range(g_d.size + q_exp.size):
+        if k < g_d.size:
+            c = g_c[k]
+            if c != cur:
+                cur = c
+                u = delta ** c
+                e = math.exp(-u)
+            d = g_d[k]
+            b = delta ** d
+            if c == 0:
+                g = float(d)
+                Dg = 0.0
+                D2g = 0.0
+            else:
+                b *= e
+                g = d - c * u
+                Dg = -c * c * u
+                D2g = Dg * c
+            v = cg[0, k] * b
+            vt = cg[1, k] * b
+            vtt = cg[2, k] * b
+        else:
+            m = q_exp[k - g_d.size]
+            if cq[m] == 0.0:
+                continue
+            b, g, Dg, D2g = _exp_term(prm, m, delta)
+            t = tuniq[q_ti[m]]
+            v = cq[m] * b
+            vt = v * t
+            vtt = vt * (t - 1.0)
+        f2 = g * g + Dg - g
+        A += v
+        ad += v * g
+        add += v * f2
+        addd += v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+        at += vt
+        att += vtt
+        adt += vt * g
+        addt += vt * f2
+    return A, ad, add, addd, at, att, adt, addt
 
 
 @_jit
@@ -574,34 +667,39 @@ def density(prm, T, P, x, phase, cp, cq, Vr):
 
 
 @_jit
-def state_at(prm, T, P, x, phase, tp):
-    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
+def state_coefs(prm, T, P, x, phase, tp, cg, cq):
+    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp, and cg, cq (:func:`level0_coefs`)."""
     Tr, Vr = reducing(prm, x)
     tau = Tr / T
     tau_powers(prm, tau, tp)
-    cp = np.empty(prm[8].size)
-    cq = np.empty(prm[14].size)
-    level0_coefs(prm, tp, x, cp, cq)
-    rho = density(prm, T, P, x, phase, cp, cq, Vr)
+    level0_coefs(prm, tp, x, cg, cq)
+    rho = density(prm, T, P, x, phase, cg, cq, Vr)
     return Tr, Vr, tau, rho, rho * Vr
+
+
+@_jit
+def state_at(prm, T, P, x, phase, tp):
+    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
+    cg = np.empty((1, prm[35].size))
+    cq = np.empty(prm[14].size)
+    return state_coefs(prm, T, P, x, phase, tp, cg, cq)
+
+
+@_jit
+def _state_level1(prm, T, P, x, phase):
+    """(rho, alpha_r scalars of :func:`alphar1`) at (T, P, x) for the chosen root."""
+    tp = np.empty(prm[22].size)
+    cg = np.empty((3, prm[35].size))
+    cq = np.empty(prm[14].size)
+    st = state_coefs(prm, T, P, x, phase, tp, cg, cq)
+    return st[3], alphar1(prm, cg, cq, st[4])
 
 
 # ----------------------------------------------------------------------------------------------
 # ideal gas
 # ----------------------------------------------------------------------------------------------
 
-@_jit
-def _lnsinh(u):
-    if u > 20.0:
-        return u - math.log(2.0) + math.log1p(-math.exp(-2.0 * u))
-    return math.log(math.sinh(u))
-
-
-@_jit
-def _lncosh(u):
-    if u > 20.0:
-        return u - math.log(2.0) + math.log1p(math.exp(-2.0 * u))
-    return math.log(math.cosh(u))
+_LN2 = math.log(2.0)
 
 
 @_jit
@@ -633,18 +731,22 @@ def ideal_gas(prm, T, x):
                 continue
             nk = ign[i, k]
             u = th / T
+            # with em = exp(-u), e2 = em^2: sinh u = (1 - e2) / (2 em), cosh u = (1 + e2) / (2 em),
+            # ln sinh u = u - ln 2 + ln(1 - e2), ln cosh u = u - ln 2 + ln(1 + e2): one exp and one log per term
+            em = math.exp(-u)
+            e2 = em * em
+            om = 1.0 - e2 if u > 0.3 else -math.expm1(-2.0 * u)
+            op = 1.0 + e2
             if k == 0 or k == 2:
-                sn = math.sinh(u) if u < 350.0 else np.inf
-                ct_ = 1.0 / math.tanh(u)
-                ch += nk * (u / sn) ** 2
+                ct_ = op / om
+                ch += nk * (2.0 * u * em / om) ** 2
                 hh += nk * th * ct_
-                sh += nk * (u * ct_ - _lnsinh(u))
+                sh += nk * (u * ct_ - (u - _LN2 + math.log(om)))
             else:
-                cs = math.cosh(u) if u < 350.0 else np.inf
-                tn = math.tanh(u)
-                ch += nk * (u / cs) ** 2
+                tn = om / op
+                ch += nk * (2.0 * u * em / op) ** 2
                 hh -= nk * th * tn
-                sh += nk * (_lncosh(u) - u * tn)
+                sh += nk * ((u - _LN2 + math.log1p(e2)) - u * tn)
         cp += xi * (cpi + R_STAR * ch)
         h += xi * (hi + R_STAR * (hh - href[i]))
         s += xi * (si + R_STAR * (sh - sref[i]))
@@ -733,10 +835,8 @@ def props(prm, T, P, x, phase):
         (dP/dv)_T [Pa mol/m^3], h_res [J/mol], s_res [J/(mol K)]).
     """
     n = x.size
-    tp = np.empty(prm[22].size)
-    Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
-    e = tp[:0]
-    A, ad, add, addd, at, att, adt, addt = alphar(prm, tp, x, delta, 1, e, e, e, e.reshape((0, 0)))
+    rho, ar = _state_level1(prm, T, P, x, phase)
+    A, ad, add, addd, at, att, adt, addt = ar
     R = R_GERG
     RT = R * T
     Z = 1.0 + ad
@@ -776,10 +876,8 @@ def pip(prm, T, P, x, phase):
     phase : int
         GIBBS, LIQUID or VAPOUR: which density root is labelled.
     """
-    tp = np.empty(prm[22].size)
-    Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
-    e = tp[:0]
-    A, ad, add, addd, at, att, adt, addt = alphar(prm, tp, x, delta, 1, e, e, e, e.reshape((0, 0)))
+    rho, ar = _state_level1(prm, T, P, x, phase)
+    A, ad, add, addd, at, att, adt, addt = ar
     # rho-scaled derivatives divided by R T (or rho R)
     P_rho = 1.0 + 2.0 * ad + add
     rho_P_rhorho = 2.0 * ad + 4.0 * add + addd
@@ -930,10 +1028,12 @@ def residual_tv(prm, T, rho, x):
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
     tp = np.empty(prm[22].size)
+    cg = np.empty((3, prm[35].size))
+    cq = np.empty(prm[14].size)
     Tr, Vr = reducing(prm, x)
     tau_powers(prm, Tr / T, tp)
-    e = tp[:0]
-    return alphar(prm, tp, x, rho * Vr, 1, e, e, e, e.reshape((0, 0)))
+    level0_coefs(prm, tp, x, cg, cq)
+    return alphar1(prm, cg, cq, rho * Vr)
 
 
 @_jit

@@ -267,6 +267,17 @@ def make_gerg_mixture(ids) -> GergMixture:
                     q["exp"].append(is_exp)
             pairs.append((a, b, funs.index(fun), F))
     pairs_arr = np.array(pairs, dtype=float).reshape((len(pairs), 4))
+    # the (d, c) groups of the density-only sums: pure-fluid terms and polynomial departure terms (c = 0) that share
+    # d and c share delta^d exp(-delta^c), so the density iteration sums their coefficients once per (tau, x);
+    # sorted by c, then d (one exp(-delta^c) per distinct c)
+    keys = sorted({(c, d) for d, c in zip(p_d, p_c, strict=True)}
+                  | {(0, d) for d, e in zip(q["d"], q["exp"], strict=True) if e == 0})
+    g_index = {k: i for i, k in enumerate(keys)}
+    p_grp = [g_index[(c, d)] for d, c in zip(p_d, p_c, strict=True)]
+    q_grp = [g_index[(0, d)] if e == 0 else -1 for d, e in zip(q["d"], q["exp"], strict=True)]
+    q_expidx = [m for m, e in enumerate(q["exp"]) if e == 1]
+    g_d = [k[1] for k in keys]
+    g_c = [k[0] for k in keys]
     ig_n3m1 = np.array([tb.pure[c]["n3"] - 1.0 for c in ids])
     ig_n = np.array([[tb.pure[c][k] for k in ("n4", "n5", "n6", "n7")] for c in ids]).reshape((n, 4))
     ig_th = np.array([[tb.pure[c][k] for k in ("th4_k", "th5_k", "th6_k", "th7_k")] for c in ids]).reshape((n, 4))
@@ -291,6 +302,7 @@ def make_gerg_mixture(ids) -> GergMixture:
            i64(q["fun"]), f64(pairs_arr), f64(q["n"]), i64(q["d"]), i64(q["ti"]), f64(q["eta"]), f64(q["eps"]),
            f64(q["beta"]), f64(q["gam"]), i64(q["exp"]),
            f64(tlist), f64(ig_n3m1), f64(ig_n), f64(ig_th), f64(ig_href), f64(ig_sref),
-           f64(tcs), f64(pcs), f64(omegas), polar)
+           f64(tcs), f64(pcs), f64(omegas), polar,
+           i64(p_grp), i64(q_grp), i64(q_expidx), i64(g_d), i64(g_c))
     return GergMixture(ids=ids, tcs=tcs, pcs=pcs, omegas=omegas, mws=mws, tcs_gerg=tcs_r, rhocs_gerg=rhoc,
                        kernel_params=prm)
