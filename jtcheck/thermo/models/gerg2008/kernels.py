@@ -28,7 +28,7 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
      q_fun, pairs, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
      tuniq, ig_n3m1, ig_n, ig_th, ig_href, ig_sref,
      tcs, pcs, omegas, polar,
-     p_grp, q_grp, q_expi, g_d, g_c)
+     p_grp, q_grp, g_d, g_c, g_par)
 
     marker          numpy.uint16(2008): numba tells this tuple from the cubic family's by its type
     tcs_r, vcs_r    reducing T_c,i [K] and 1/rho_c,i [m^3/mol] of GERG-2008, shape (n,)
@@ -47,10 +47,11 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
     ig_href, ig_sref       the hyperbolic parts of h/R* [K] and s/R* [-] at 298.15 K, (n,)
     tcs, pcs, omegas       critical constants of jtcheck's component data (Wilson starts), (n,)
     polar           near-pure trial phases in stability tests (bool), (n,)
-    p_grp, q_grp    the (d, c) group of each pure-fluid term and of each polynomial departure term (-1 for an
-                    exponential one): terms of one group share delta^d exp(-delta^c) (:func:`level0_coefs`)
-    q_expi          indices of the exponential departure terms
-    g_d, g_c        d and c of each group, sorted by c, then d
+    p_grp, q_grp    the group of each pure-fluid term and of each departure term: terms of one group share their
+                    delta dependence, delta^d exp(-delta^c) or delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma))
+                    (:func:`level0_coefs`)
+    g_d, g_c, g_par d, c (-1: exponential departure group) and (eta, eps, beta, gamma) of each group, (ng,), (ng, 4);
+                    the (d, c) groups first, sorted by c, then the exponential groups sorted by their parameters
 
 The tuple is flat (the ``prange`` loop of the letdown batch rejects nested tuples, numba 0.68).
 """
@@ -335,15 +336,14 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
 # ----------------------------------------------------------------------------------------------
 
 @_jit
-def level0_coefs(prm, tp, x, cg, cq):
+def level0_coefs(prm, tp, x, cg):
     """Coefficients of the sums over delta at fixed tau and x (for the density iteration and the level-1 scalars).
 
-    Terms that share (d, c) (pure-fluid terms, and polynomial departure terms with c = 0) share
-    delta^d exp(-delta^c): their coefficients are summed per (d, c) group (``prm[32]``, ``prm[33]``).
-    cg[0, g] = sum of w_k n_k tau^t_k over the terms k of group g, with w_k = x_owner for a pure-fluid
-    term and the sum of x_i x_j F_ij over the pairs that use the departure function of the term; if cg
-    has three rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k and t_k (t_k - 1).
-    cq[m] = w_m n_m tau^t_m for the exponential departure terms m (``prm[34]``; other entries unset).
+    Terms of one group (``prm[32]``, ``prm[33]``; module docstring) share their delta dependence, so their
+    coefficients are summed once per (tau, x): cg[0, g] = sum of w_k n_k tau^t_k over the terms k of group g,
+    with w_k = x_owner for a pure-fluid term and the sum of x_i x_j F_ij over the pairs that use the departure
+    function of a departure term; if cg has three rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k
+    and t_k (t_k - 1).
     """
     p_own, p_n, p_ti = prm[7], prm[8], prm[10]
     q_fun, pairs, q_n, q_ti = prm[12], prm[13], prm[14], prm[16]
@@ -352,102 +352,111 @@ def level0_coefs(prm, tp, x, cg, cq):
     for r in range(rows):
         for g in range(cg.shape[1]):
             cg[r, g] = 0.0
-    for k in range(p_n.size):
-        w = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
-        g = p_grp[k]
-        cg[0, g] += w
-        if rows == 3:
-            t = tuniq[p_ti[k]]
-            cg[1, g] += w * t
-            cg[2, g] += w * t * (t - 1.0)
     nq = q_n.size
-    if nq == 0:
-        return
-    wf = np.zeros(q_fun[nq - 1] + 1)
+    wf = np.zeros(q_fun[nq - 1] + 1 if nq > 0 else 0)
     for m in range(pairs.shape[0]):
         wf[int(pairs[m, 2])] += x[int(pairs[m, 0])] * x[int(pairs[m, 1])] * pairs[m, 3]
-    for m in range(nq):
-        w = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
-        g = q_grp[m]
-        if g < 0:
-            cq[m] = w
-            continue
+    for k in range(p_n.size + nq):
+        if k < p_n.size:
+            w = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+            g = p_grp[k]
+            t = tuniq[p_ti[k]]
+        else:
+            m = k - p_n.size
+            w = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+            g = q_grp[m]
+            t = tuniq[q_ti[m]]
         cg[0, g] += w
         if rows == 3:
-            t = tuniq[q_ti[m]]
             cg[1, g] += w * t
             cg[2, g] += w * t * (t - 1.0)
 
 
 @_jit
-def _exp_term(prm, m, delta):
-    """delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma)) of exponential departure term m, with
-    g = delta d ln(term)/d delta, Dg = delta dg/d delta, D2g = delta d Dg/d delta (Kunz and Wagner 2012, Table B4)."""
-    q_d, q_eta, q_eps, q_beta, q_gam = prm[15], prm[17], prm[18], prm[19], prm[20]
-    d = q_d[m]
-    eta = q_eta[m]
-    eps = q_eps[m]
-    beta = q_beta[m]
-    dd = delta - eps
-    d2 = delta * delta
-    b = delta ** d * math.exp(-eta * dd * dd - beta * (delta - q_gam[m]))
-    e1 = 2.0 * eta * eps * delta - beta * delta
-    return b, d - 2.0 * eta * d2 + e1, -4.0 * eta * d2 + e1, -8.0 * eta * d2 + e1
-
-
-@_jit
-def alphar0(prm, cg, cq, delta):
-    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs` (row 0 of cg)."""
-    g_d, g_c, q_exp = prm[35], prm[36], prm[34]
-    A = 0.0
-    ad = 0.0
-    add = 0.0
+def _group_terms(prm, delta):
+    """The delta dependence of every group (module docstring), written into a (4, ng) array: the common factor
+    b = delta^d exp(-delta^c) or delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma)), and g = delta d ln b/d delta,
+    Dg = delta dg/d delta, D2g = delta d Dg/d delta (Kunz and Wagner 2012, Table B4).  One exp per distinct c or
+    parameter set (the groups are sorted)."""
+    g_d, g_c, g_par = prm[34], prm[35], prm[36]
+    ng = g_d.size
+    out = np.empty((4, ng))
+    dp = (1.0, delta, delta ** 2, delta ** 3, delta ** 4, delta ** 5, delta ** 6, delta ** 7, delta ** 8, delta ** 9,
+          delta ** 10)
+    d2 = dp[2]
     cur = 0
     u = 0.0
     e = 1.0
-    for k in range(g_d.size):
+    pe = np.nan
+    pp = np.nan
+    pb = np.nan
+    pg = np.nan
+    ex = 1.0
+    e1 = 0.0
+    for k in range(ng):
         c = g_c[k]
-        if c != cur:
-            # groups are sorted by c: one exp(-delta^c) per distinct c
-            cur = c
-            u = delta ** c
-            e = math.exp(-u)
-        v = cg[0, k]
-        if v == 0.0:
-            continue
         d = g_d[k]
-        v *= delta ** d
+        b = dp[d]
         if c == 0:
             g = float(d)
             Dg = 0.0
-        else:
-            v *= e
+            D2g = 0.0
+        elif c > 0:
+            if c != cur:
+                cur = c
+                u = dp[c]
+                e = math.exp(-u)
+            b *= e
             g = d - c * u
             Dg = -c * c * u
+            D2g = Dg * c
+        else:
+            eta = g_par[k, 0]
+            eps = g_par[k, 1]
+            beta = g_par[k, 2]
+            gam = g_par[k, 3]
+            if eta != pe or eps != pp or beta != pb or gam != pg:
+                pe = eta
+                pp = eps
+                pb = beta
+                pg = gam
+                dd = delta - eps
+                ex = math.exp(-eta * dd * dd - beta * (delta - gam))
+                e1 = 2.0 * eta * eps * delta - beta * delta
+            b *= ex
+            g = d - 2.0 * eta * d2 + e1
+            Dg = -4.0 * eta * d2 + e1
+            D2g = -8.0 * eta * d2 + e1
+        out[0, k] = b
+        out[1, k] = g
+        out[2, k] = Dg
+        out[3, k] = D2g
+    return out
+
+
+@_jit
+def alphar0(prm, cg, delta):
+    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs` (row 0 of cg)."""
+    gt = _group_terms(prm, delta)
+    A = 0.0
+    ad = 0.0
+    add = 0.0
+    for k in range(gt.shape[1]):
+        v = cg[0, k] * gt[0, k]
+        g = gt[1, k]
         A += v
         ad += v * g
-        add += v * (g * g + Dg - g)
-    for j in range(q_exp.size):
-        m = q_exp[j]
-        v = cq[m]
-        if v == 0.0:
-            continue
-        b, g, Dg, _ = _exp_term(prm, m, delta)
-        v *= b
-        A += v
-        ad += v * g
-        add += v * (g * g + Dg - g)
+        add += v * (g * g + gt[2, k] - g)
     return A, ad, add
 
 
 @_jit
-def alphar1(prm, cg, cq, delta):
+def alphar1(prm, cg, delta):
     """The scalar derivatives of alpha_r (level 1 of :func:`alphar`) from :func:`level0_coefs` with three rows.
 
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
-    g_d, g_c, q_exp = prm[35], prm[36], prm[34]
-    tuniq, q_ti = prm[22], prm[16]
+    gt = _group_terms(prm, delta)
     A = 0.0
     ad = 0.0
     add = 0.0
@@ -456,60 +465,33 @@ def alphar1(prm, cg, cq, delta):
     att = 0.0
     adt = 0.0
     addt = 0.0
-    cur = 0
-    u = 0.0
-    e = 1.0
-    for k in range(g_d.size + q_exp.size):
-        if k < g_d.size:
-            c = g_c[k]
-            if c != cur:
-                cur = c
-                u = delta ** c
-                e = math.exp(-u)
-            d = g_d[k]
-            b = delta ** d
-            if c == 0:
-                g = float(d)
-                Dg = 0.0
-                D2g = 0.0
-            else:
-                b *= e
-                g = d - c * u
-                Dg = -c * c * u
-                D2g = Dg * c
-            v = cg[0, k] * b
-            vt = cg[1, k] * b
-            vtt = cg[2, k] * b
-        else:
-            m = q_exp[k - g_d.size]
-            if cq[m] == 0.0:
-                continue
-            b, g, Dg, D2g = _exp_term(prm, m, delta)
-            t = tuniq[q_ti[m]]
-            v = cq[m] * b
-            vt = v * t
-            vtt = vt * (t - 1.0)
+    for k in range(gt.shape[1]):
+        b = gt[0, k]
+        g = gt[1, k]
+        Dg = gt[2, k]
+        v = cg[0, k] * b
+        vt = cg[1, k] * b
         f2 = g * g + Dg - g
         A += v
         ad += v * g
         add += v * f2
-        addd += v * (g * g * g + 3.0 * g * Dg + D2g - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+        addd += v * (g * g * g + 3.0 * g * Dg + gt[3, k] - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
         at += vt
-        att += vtt
+        att += cg[2, k] * b
         adt += vt * g
         addt += vt * f2
     return A, ad, add, addd, at, att, adt, addt
 
 
 @_jit
-def _p_dp(prm, cp, cq, x, rho, Vr, RT):
+def _p_dp(prm, cp, x, rho, Vr, RT):
     """Pressure [Pa] and (dP/drho)_T [Pa m^3/mol] at rho [mol/m^3]; also A and delta A_d."""
-    A, ad, add = alphar0(prm, cp, cq, rho * Vr)
+    A, ad, add = alphar0(prm, cp, rho * Vr)
     return rho * RT * (1.0 + ad), RT * (1.0 + 2.0 * ad + add), A, ad
 
 
 @_jit
-def _liquid_start(prm, cp, cq, x, P, Vr, RT):
+def _liquid_start(prm, cp, x, P, Vr, RT):
     """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
     implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
     vcs = prm[2]
@@ -518,7 +500,7 @@ def _liquid_start(prm, cp, cq, x, P, Vr, RT):
         vm += x[i] * vcs[i]
     rho = 3.0 / vm
     for _ in range(10):
-        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(prm, cp, x, rho, Vr, RT)
         if dp > 0.0 and p > P:
             break
         rho *= 1.25
@@ -526,7 +508,7 @@ def _liquid_start(prm, cp, cq, x, P, Vr, RT):
 
 
 @_jit
-def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
+def _root_search(prm, cp, x, T, P, Vr, liquid, cap):
     """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
 
     ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
@@ -541,12 +523,12 @@ def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
-        rho = _liquid_start(prm, cp, cq, x, P, Vr, RT)
+        rho = _liquid_start(prm, cp, x, P, Vr, RT)
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
     for _ in range(300):
-        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(prm, cp, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
         if liquid:
             if good and p > P:
@@ -587,17 +569,17 @@ def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
 
 
 @_jit
-def _on_branch(prm, cp, cq, x, a, b, Vr, RT):
+def _on_branch(prm, cp, x, a, b, Vr, RT):
     """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
     for k in range(1, 4):
         rho = a + 0.25 * k * (b - a)
-        if _p_dp(prm, cp, cq, x, rho, Vr, RT)[1] <= 0.0:
+        if _p_dp(prm, cp, x, rho, Vr, RT)[1] <= 0.0:
             return False
     return True
 
 
 @_jit
-def _root(prm, cp, cq, x, T, P, Vr, liquid):
+def _root(prm, cp, x, T, P, Vr, liquid):
     """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
 
     A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
@@ -613,21 +595,21 @@ def _root(prm, cp, cq, x, T, P, Vr, liquid):
     branch in steps of at most 20 % in density, which stops at the spinodal.
     """
     RT = R_GERG * T
-    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 0.0)
+    r, start = _root_search(prm, cp, x, T, P, Vr, liquid, 0.0)
     if r > 0.0:
         if liquid:
-            ok = start > r and _on_branch(prm, cp, cq, x, r, start, Vr, RT)
+            ok = start > r and _on_branch(prm, cp, x, r, start, Vr, RT)
         else:
-            ok = _on_branch(prm, cp, cq, x, 0.0, r, Vr, RT)
+            ok = _on_branch(prm, cp, x, 0.0, r, Vr, RT)
         if ok:
             return r
-    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 1.2)
+    r, start = _root_search(prm, cp, x, T, P, Vr, liquid, 1.2)
     return r
 
 
 @_jit
-def density(prm, T, P, x, phase, cp, cq, Vr):
-    """Molar density [mol/m^3] of the chosen root at (T, P) (cp, cq from :func:`level0_coefs` at this T, x).
+def density(prm, T, P, x, phase, cp, Vr):
+    """Molar density [mol/m^3] of the chosen root at (T, P) (cp from :func:`level0_coefs` at this T, x).
 
     GIBBS: the root of lower Gibbs energy when both exist; LIQUID: the densest root; VAPOUR: the
     lightest.  Where only one root exists every phase code returns it.  NaN if none was found.
@@ -635,17 +617,17 @@ def density(prm, T, P, x, phase, cp, cq, Vr):
     rv = -1.0
     rl = -1.0
     if phase != LIQUID:
-        rv = _root(prm, cp, cq, x, T, P, Vr, False)
+        rv = _root(prm, cp, x, T, P, Vr, False)
     if phase == GIBBS and rv > 0.0:
         # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
         RT = R_GERG * T
-        rs = _liquid_start(prm, cp, cq, x, P, Vr, RT)
-        if rs > rv and _on_branch(prm, cp, cq, x, rv, rs, Vr, RT):
+        rs = _liquid_start(prm, cp, x, P, Vr, RT)
+        if rs > rv and _on_branch(prm, cp, x, rv, rs, Vr, RT):
             return rv
     if phase != VAPOUR or rv < 0.0:
-        rl = _root(prm, cp, cq, x, T, P, Vr, True)
+        rl = _root(prm, cp, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:
-        rv = _root(prm, cp, cq, x, T, P, Vr, False)
+        rv = _root(prm, cp, x, T, P, Vr, False)
     if rv < 0.0 and rl < 0.0:
         return np.nan
     if rv < 0.0:
@@ -659,40 +641,38 @@ def density(prm, T, P, x, phase, cp, cq, Vr):
     if abs(rl - rv) <= 1e-9 * rl:
         return rv
     RT = R_GERG * T
-    _, _, Av, adv = _p_dp(prm, cp, cq, x, rv, Vr, RT)
-    _, _, Al, adl = _p_dp(prm, cp, cq, x, rl, Vr, RT)
+    _, _, Av, adv = _p_dp(prm, cp, x, rv, Vr, RT)
+    _, _, Al, adl = _p_dp(prm, cp, x, rl, Vr, RT)
     gv = Av + adv - math.log(1.0 + adv)
     gl = Al + adl - math.log(1.0 + adl)
     return rl if gl < gv else rv
 
 
 @_jit
-def state_coefs(prm, T, P, x, phase, tp, cg, cq):
-    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp, and cg, cq (:func:`level0_coefs`)."""
+def state_coefs(prm, T, P, x, phase, tp, cg):
+    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp and cg (:func:`level0_coefs`)."""
     Tr, Vr = reducing(prm, x)
     tau = Tr / T
     tau_powers(prm, tau, tp)
-    level0_coefs(prm, tp, x, cg, cq)
-    rho = density(prm, T, P, x, phase, cg, cq, Vr)
+    level0_coefs(prm, tp, x, cg)
+    rho = density(prm, T, P, x, phase, cg, Vr)
     return Tr, Vr, tau, rho, rho * Vr
 
 
 @_jit
 def state_at(prm, T, P, x, phase, tp):
     """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
-    cg = np.empty((1, prm[35].size))
-    cq = np.empty(prm[14].size)
-    return state_coefs(prm, T, P, x, phase, tp, cg, cq)
+    cg = np.empty((1, prm[34].size))
+    return state_coefs(prm, T, P, x, phase, tp, cg)
 
 
 @_jit
 def _state_level1(prm, T, P, x, phase):
     """(rho, alpha_r scalars of :func:`alphar1`) at (T, P, x) for the chosen root."""
     tp = np.empty(prm[22].size)
-    cg = np.empty((3, prm[35].size))
-    cq = np.empty(prm[14].size)
-    st = state_coefs(prm, T, P, x, phase, tp, cg, cq)
-    return st[3], alphar1(prm, cg, cq, st[4])
+    cg = np.empty((3, prm[34].size))
+    st = state_coefs(prm, T, P, x, phase, tp, cg)
+    return st[3], alphar1(prm, cg, st[4])
 
 
 # ----------------------------------------------------------------------------------------------
@@ -1028,12 +1008,11 @@ def residual_tv(prm, T, rho, x):
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
     tp = np.empty(prm[22].size)
-    cg = np.empty((3, prm[35].size))
-    cq = np.empty(prm[14].size)
+    cg = np.empty((3, prm[34].size))
     Tr, Vr = reducing(prm, x)
     tau_powers(prm, Tr / T, tp)
-    level0_coefs(prm, tp, x, cg, cq)
-    return alphar1(prm, cg, cq, rho * Vr)
+    level0_coefs(prm, tp, x, cg)
+    return alphar1(prm, cg, rho * Vr)
 
 
 @_jit
