@@ -73,13 +73,16 @@ R_STAR = 8.31451
 MARKER = 2008
 
 _jit = njit(cache=True, nogil=True)
+#: Small kernels, inlined into their callers at numba IR level: a compiled call that passes the parameter tuple
+#: costs a reference-count update per array of the tuple (measured: more than an evaluation of alpha_r itself).
+_jit_inline = njit(cache=True, nogil=True, inline="always")
 
 
 # ----------------------------------------------------------------------------------------------
 # reducing functions
 # ----------------------------------------------------------------------------------------------
 
-@_jit
+@_jit_inline
 def reducing(prm, x):
     """Reducing temperature T_r [K] and volume V_r = 1/rho_r [m^3/mol] of composition x (eqs. 7.11-7.12)."""
     tcs, vcs, bv2, cv, bt2, ct = prm[1], prm[2], prm[3], prm[4], prm[5], prm[6]
@@ -179,7 +182,7 @@ def reducing_derivs(prm, x, dT, dV, d2T, d2V, second):
 # residual Helmholtz energy
 # ----------------------------------------------------------------------------------------------
 
-@_jit
+@_jit_inline
 def tau_powers(prm, tau, tp):
     """Fill tp[k] = tau ** tuniq[k]."""
     tuniq = prm[22]
@@ -335,20 +338,21 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
 # density from (T, P)
 # ----------------------------------------------------------------------------------------------
 
-@_jit
+@_jit_inline
 def level0_coefs(prm, tp, x, cg):
     """Coefficients of the sums over delta at fixed tau and x (for the density iteration and the level-1 scalars).
 
     Terms of one group (``prm[32]``, ``prm[33]``; module docstring) share their delta dependence, so their
     coefficients are summed once per (tau, x): cg[0, g] = sum of w_k n_k tau^t_k over the terms k of group g,
     with w_k = x_owner for a pure-fluid term and the sum of x_i x_j F_ij over the pairs that use the departure
-    function of a departure term; if cg has three rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k
-    and t_k (t_k - 1).
+    function of a departure term; if cg has 3 + 4 rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k
+    and t_k (t_k - 1).  The last four rows of cg are work space of :func:`_group_terms` (no allocation per
+    evaluation inside the density iteration): cg has 1 + 4 or 3 + 4 rows.
     """
     p_own, p_n, p_ti = prm[7], prm[8], prm[10]
     q_fun, pairs, q_n, q_ti = prm[12], prm[13], prm[14], prm[16]
     tuniq, p_grp, q_grp = prm[22], prm[32], prm[33]
-    rows = cg.shape[0]
+    rows = cg.shape[0] - 4
     for r in range(rows):
         for g in range(cg.shape[1]):
             cg[r, g] = 0.0
@@ -372,15 +376,23 @@ def level0_coefs(prm, tp, x, cg):
             cg[2, g] += w * t * (t - 1.0)
 
 
-@_jit
-def _group_terms(prm, delta):
-    """The delta dependence of every group (module docstring), written into a (4, ng) array: the common factor
+@_jit_inline
+def density_params(prm):
+    """The arrays of the density iteration, (v_c,i [m^3/mol], g_d, g_c, g_par) (module docstring): the functions
+    from :func:`_group_terms` to :func:`density` take this short tuple rather than ``prm``, because a call that
+    passes the parameter tuple costs a reference-count update per array of the tuple."""
+    return prm[2], prm[34], prm[35], prm[36]
+
+
+@_jit_inline
+def _group_terms(dk, cg, delta):
+    """The delta dependence of every group (module docstring), in four rows (g = 0..ng-1): the common factor
     b = delta^d exp(-delta^c) or delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma)), and g = delta d ln b/d delta,
     Dg = delta dg/d delta, D2g = delta d Dg/d delta (Kunz and Wagner 2012, Table B4).  One exp per distinct c or
-    parameter set (the groups are sorted)."""
-    g_d, g_c, g_par = prm[34], prm[35], prm[36]
+    parameter set (the groups are sorted).  Written into (and returned as) the last four rows of cg."""
+    g_d, g_c, g_par = dk[1], dk[2], dk[3]
     ng = g_d.size
-    out = np.empty((4, ng))
+    out = cg[cg.shape[0] - 4:]
     dp = (1.0, delta, delta ** 2, delta ** 3, delta ** 4, delta ** 5, delta ** 6, delta ** 7, delta ** 8, delta ** 9,
           delta ** 10)
     d2 = dp[2]
@@ -434,10 +446,10 @@ def _group_terms(prm, delta):
     return out
 
 
-@_jit
-def alphar0(prm, cg, delta):
+@_jit_inline
+def alphar0(dk, cg, delta):
     """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs` (row 0 of cg)."""
-    gt = _group_terms(prm, delta)
+    gt = _group_terms(dk, cg, delta)
     A = 0.0
     ad = 0.0
     add = 0.0
@@ -451,12 +463,12 @@ def alphar0(prm, cg, delta):
 
 
 @_jit
-def alphar1(prm, cg, delta):
+def alphar1(dk, cg, delta):
     """The scalar derivatives of alpha_r (level 1 of :func:`alphar`) from :func:`level0_coefs` with three rows.
 
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
-    gt = _group_terms(prm, delta)
+    gt = _group_terms(dk, cg, delta)
     A = 0.0
     ad = 0.0
     add = 0.0
@@ -483,24 +495,24 @@ def alphar1(prm, cg, delta):
     return A, ad, add, addd, at, att, adt, addt
 
 
-@_jit
-def _p_dp(prm, cp, x, rho, Vr, RT):
+@_jit_inline
+def _p_dp(dk, cp, x, rho, Vr, RT):
     """Pressure [Pa] and (dP/drho)_T [Pa m^3/mol] at rho [mol/m^3]; also A and delta A_d."""
-    A, ad, add = alphar0(prm, cp, rho * Vr)
+    A, ad, add = alphar0(dk, cp, rho * Vr)
     return rho * RT * (1.0 + ad), RT * (1.0 + 2.0 * ad + add), A, ad
 
 
-@_jit
-def _liquid_start(prm, cp, x, P, Vr, RT):
+@_jit_inline
+def _liquid_start(dk, cp, x, P, Vr, RT):
     """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
     implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
-    vcs = prm[2]
+    vcs = dk[0]
     vm = 0.0
     for i in range(x.size):
         vm += x[i] * vcs[i]
     rho = 3.0 / vm
     for _ in range(10):
-        p, dp, _, _ = _p_dp(prm, cp, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(dk, cp, x, rho, Vr, RT)
         if dp > 0.0 and p > P:
             break
         rho *= 1.25
@@ -508,7 +520,7 @@ def _liquid_start(prm, cp, x, P, Vr, RT):
 
 
 @_jit
-def _root_search(prm, cp, x, T, P, Vr, liquid, cap):
+def _root_search(dk, cp, x, T, P, Vr, liquid, cap):
     """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
 
     ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
@@ -516,19 +528,19 @@ def _root_search(prm, cp, x, T, P, Vr, liquid, cap):
     walks along one branch of P(rho) and stops at its spinodal instead of jumping past it.
     """
     RT = R_GERG * T
-    vcs = prm[2]
+    vcs = dk[0]
     lo = 0.0
     hi = np.inf
     vm = 0.0
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
-        rho = _liquid_start(prm, cp, x, P, Vr, RT)
+        rho = _liquid_start(dk, cp, x, P, Vr, RT)
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
     for _ in range(300):
-        p, dp, _, _ = _p_dp(prm, cp, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(dk, cp, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
         if liquid:
             if good and p > P:
@@ -568,18 +580,18 @@ def _root_search(prm, cp, x, T, P, Vr, liquid, cap):
     return -1.0, start
 
 
-@_jit
-def _on_branch(prm, cp, x, a, b, Vr, RT):
+@_jit_inline
+def _on_branch(dk, cp, x, a, b, Vr, RT):
     """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
     for k in range(1, 4):
         rho = a + 0.25 * k * (b - a)
-        if _p_dp(prm, cp, x, rho, Vr, RT)[1] <= 0.0:
+        if _p_dp(dk, cp, x, rho, Vr, RT)[1] <= 0.0:
             return False
     return True
 
 
 @_jit
-def _root(prm, cp, x, T, P, Vr, liquid):
+def _root(dk, cp, x, T, P, Vr, liquid):
     """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
 
     A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
@@ -595,20 +607,20 @@ def _root(prm, cp, x, T, P, Vr, liquid):
     branch in steps of at most 20 % in density, which stops at the spinodal.
     """
     RT = R_GERG * T
-    r, start = _root_search(prm, cp, x, T, P, Vr, liquid, 0.0)
+    r, start = _root_search(dk, cp, x, T, P, Vr, liquid, 0.0)
     if r > 0.0:
         if liquid:
-            ok = start > r and _on_branch(prm, cp, x, r, start, Vr, RT)
+            ok = start > r and _on_branch(dk, cp, x, r, start, Vr, RT)
         else:
-            ok = _on_branch(prm, cp, x, 0.0, r, Vr, RT)
+            ok = _on_branch(dk, cp, x, 0.0, r, Vr, RT)
         if ok:
             return r
-    r, start = _root_search(prm, cp, x, T, P, Vr, liquid, 1.2)
+    r, start = _root_search(dk, cp, x, T, P, Vr, liquid, 1.2)
     return r
 
 
 @_jit
-def density(prm, T, P, x, phase, cp, Vr):
+def density(dk, T, P, x, phase, cp, Vr):
     """Molar density [mol/m^3] of the chosen root at (T, P) (cp from :func:`level0_coefs` at this T, x).
 
     GIBBS: the root of lower Gibbs energy when both exist; LIQUID: the densest root; VAPOUR: the
@@ -617,17 +629,17 @@ def density(prm, T, P, x, phase, cp, Vr):
     rv = -1.0
     rl = -1.0
     if phase != LIQUID:
-        rv = _root(prm, cp, x, T, P, Vr, False)
+        rv = _root(dk, cp, x, T, P, Vr, False)
     if phase == GIBBS and rv > 0.0:
         # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
         RT = R_GERG * T
-        rs = _liquid_start(prm, cp, x, P, Vr, RT)
-        if rs > rv and _on_branch(prm, cp, x, rv, rs, Vr, RT):
+        rs = _liquid_start(dk, cp, x, P, Vr, RT)
+        if rs > rv and _on_branch(dk, cp, x, rv, rs, Vr, RT):
             return rv
     if phase != VAPOUR or rv < 0.0:
-        rl = _root(prm, cp, x, T, P, Vr, True)
+        rl = _root(dk, cp, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:
-        rv = _root(prm, cp, x, T, P, Vr, False)
+        rv = _root(dk, cp, x, T, P, Vr, False)
     if rv < 0.0 and rl < 0.0:
         return np.nan
     if rv < 0.0:
@@ -641,38 +653,38 @@ def density(prm, T, P, x, phase, cp, Vr):
     if abs(rl - rv) <= 1e-9 * rl:
         return rv
     RT = R_GERG * T
-    _, _, Av, adv = _p_dp(prm, cp, x, rv, Vr, RT)
-    _, _, Al, adl = _p_dp(prm, cp, x, rl, Vr, RT)
+    _, _, Av, adv = _p_dp(dk, cp, x, rv, Vr, RT)
+    _, _, Al, adl = _p_dp(dk, cp, x, rl, Vr, RT)
     gv = Av + adv - math.log(1.0 + adv)
     gl = Al + adl - math.log(1.0 + adl)
     return rl if gl < gv else rv
 
 
-@_jit
+@_jit_inline
 def state_coefs(prm, T, P, x, phase, tp, cg):
     """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp and cg (:func:`level0_coefs`)."""
     Tr, Vr = reducing(prm, x)
     tau = Tr / T
     tau_powers(prm, tau, tp)
     level0_coefs(prm, tp, x, cg)
-    rho = density(prm, T, P, x, phase, cg, Vr)
+    rho = density(density_params(prm), T, P, x, phase, cg, Vr)
     return Tr, Vr, tau, rho, rho * Vr
 
 
-@_jit
+@_jit_inline
 def state_at(prm, T, P, x, phase, tp):
     """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
-    cg = np.empty((1, prm[34].size))
+    cg = np.empty((1 + 4, prm[34].size))
     return state_coefs(prm, T, P, x, phase, tp, cg)
 
 
-@_jit
+@_jit_inline
 def _state_level1(prm, T, P, x, phase):
     """(rho, alpha_r scalars of :func:`alphar1`) at (T, P, x) for the chosen root."""
     tp = np.empty(prm[22].size)
-    cg = np.empty((3, prm[34].size))
+    cg = np.empty((3 + 4, prm[34].size))
     st = state_coefs(prm, T, P, x, phase, tp, cg)
-    return st[3], alphar1(prm, cg, st[4])
+    return st[3], alphar1(density_params(prm), cg, st[4])
 
 
 # ----------------------------------------------------------------------------------------------
@@ -682,7 +694,7 @@ def _state_level1(prm, T, P, x, phase):
 _LN2 = math.log(2.0)
 
 
-@_jit
+@_jit_inline
 def ideal_gas(prm, T, x):
     """Ideal-gas cp [J/(mol K)], h [J/mol] and s at P_REF without mixing [J/(mol K)] (zero at 298.15 K).
 
@@ -1008,11 +1020,11 @@ def residual_tv(prm, T, rho, x):
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
     tp = np.empty(prm[22].size)
-    cg = np.empty((3, prm[34].size))
+    cg = np.empty((3 + 4, prm[34].size))
     Tr, Vr = reducing(prm, x)
     tau_powers(prm, Tr / T, tp)
     level0_coefs(prm, tp, x, cg)
-    return alphar1(prm, cg, rho * Vr)
+    return alphar1(density_params(prm), cg, rho * Vr)
 
 
 @_jit
