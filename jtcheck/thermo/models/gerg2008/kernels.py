@@ -105,7 +105,7 @@ def reducing(prm, x):
     return Tr, Vr
 
 
-@_jit
+@_jit_inline
 def _g_first(a, b, B):
     """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0).
 
@@ -121,7 +121,7 @@ def _g_first(a, b, B):
     return S * a * q, q * (S + a) - B * p * q * S, p * (S + b) - p * q * S
 
 
-@_jit
+@_jit_inline
 def _g_second(a, b, B):
     """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b) (bounded ratios)."""
     D = B * a + b
@@ -140,7 +140,7 @@ def _g_second(a, b, B):
     return gaa, gbb, gab
 
 
-@_jit
+@_jit_inline
 def reducing_derivs(prm, x, dT, dV, d2T, d2V, second):
     """Fill d T_r/d x_k, d V_r/d x_k (x independent) and, if ``second``, the second derivatives (n, n)."""
     tcs, vcs, bv2, cv, bt2, ct = prm[1], prm[2], prm[3], prm[4], prm[5], prm[6]
@@ -191,7 +191,7 @@ def tau_powers(prm, tau, tp):
         tp[k] = math.exp(tuniq[k] * lt)
 
 
-@_jit
+@_jit_inline
 def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
     """Reduced residual Helmholtz energy and its derivatives at (delta, tau) with tp = tau ** tuniq.
 
@@ -997,7 +997,7 @@ def fug_derivs(prm, T, P, x, phase, lnphi, dn, dT, dP, vbar):
     return Z
 
 
-@_jit
+@_jit_inline
 def critical_constants(prm):
     """Critical temperatures [K], critical pressures [Pa] and acentric factors [-] of the components.
 
@@ -1007,7 +1007,7 @@ def critical_constants(prm):
     return prm[28], prm[29], prm[30]
 
 
-@_jit
+@_jit_inline
 def polar_flags(prm):
     """Which components can form a liquid of their own (water), shape (n,)."""
     return prm[31]
