@@ -17,9 +17,12 @@ from jtcheck.thermo.kernels.constants import T_MAX, T_MIN
 from jtcheck.thermo.models.interface import GIBBS, critical_constants, pip, props
 
 _jit = njit(cache=True, nogil=True)
+#: inlined into its callers: a compiled call that passes the parameter tuple costs a reference-count update per
+#: array of the tuple
+_jit_inline = njit(cache=True, nogil=True, inline="always")
 
 
-@_jit
+@_jit_inline
 def spec_value(prm, T, P, z, spec, phase):
     """(value, d value/dT) for spec 0 = enthalpy [J/mol], 1 = entropy [J/mol/K]."""
     p = props(prm, T, P, z, phase)

@@ -27,7 +27,8 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
      p_own, p_n, p_d, p_ti, p_c,
      q_fun, pairs, q_n, q_d, q_ti, q_eta, q_eps, q_beta, q_gam, q_exp,
      tuniq, ig_n3m1, ig_n, ig_th, ig_href, ig_sref,
-     tcs, pcs, omegas, polar)
+     tcs, pcs, omegas, polar,
+     p_grp, q_grp, g_d, g_c, g_par)
 
     marker          numpy.uint16(2008): numba tells this tuple from the cubic family's by its type
     tcs_r, vcs_r    reducing T_c,i [K] and 1/rho_c,i [m^3/mol] of GERG-2008, shape (n,)
@@ -46,6 +47,11 @@ parameter tuple ``prm`` built by :func:`jtcheck.thermo.models.gerg2008.mixture.m
     ig_href, ig_sref       the hyperbolic parts of h/R* [K] and s/R* [-] at 298.15 K, (n,)
     tcs, pcs, omegas       critical constants of jtcheck's component data (Wilson starts), (n,)
     polar           near-pure trial phases in stability tests (bool), (n,)
+    p_grp, q_grp    the group of each pure-fluid term and of each departure term: terms of one group share their
+                    delta dependence, delta^d exp(-delta^c) or delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma))
+                    (:func:`level0_coefs`)
+    g_d, g_c, g_par d, c (-1: exponential departure group) and (eta, eps, beta, gamma) of each group, (ng,), (ng, 4);
+                    the (d, c) groups first, sorted by c, then the exponential groups sorted by their parameters
 
 The tuple is flat (the ``prange`` loop of the letdown batch rejects nested tuples, numba 0.68).
 """
@@ -67,13 +73,16 @@ R_STAR = 8.31451
 MARKER = 2008
 
 _jit = njit(cache=True, nogil=True)
+#: Small kernels, inlined into their callers at numba IR level: a compiled call that passes the parameter tuple
+#: costs a reference-count update per array of the tuple (measured: more than an evaluation of alpha_r itself).
+_jit_inline = njit(cache=True, nogil=True, inline="always")
 
 
 # ----------------------------------------------------------------------------------------------
 # reducing functions
 # ----------------------------------------------------------------------------------------------
 
-@_jit
+@_jit_inline
 def reducing(prm, x):
     """Reducing temperature T_r [K] and volume V_r = 1/rho_r [m^3/mol] of composition x (eqs. 7.11-7.12)."""
     tcs, vcs, bv2, cv, bt2, ct = prm[1], prm[2], prm[3], prm[4], prm[5], prm[6]
@@ -96,7 +105,7 @@ def reducing(prm, x):
     return Tr, Vr
 
 
-@_jit
+@_jit_inline
 def _g_first(a, b, B):
     """g = a b (a + b) / (B a + b) and its first partial derivatives (0 where a = b = 0).
 
@@ -112,7 +121,7 @@ def _g_first(a, b, B):
     return S * a * q, q * (S + a) - B * p * q * S, p * (S + b) - p * q * S
 
 
-@_jit
+@_jit_inline
 def _g_second(a, b, B):
     """Second partial derivatives (g_aa, g_bb, g_ab) of g = a b (a + b) / (B a + b) (bounded ratios)."""
     D = B * a + b
@@ -131,7 +140,7 @@ def _g_second(a, b, B):
     return gaa, gbb, gab
 
 
-@_jit
+@_jit_inline
 def reducing_derivs(prm, x, dT, dV, d2T, d2V, second):
     """Fill d T_r/d x_k, d V_r/d x_k (x independent) and, if ``second``, the second derivatives (n, n)."""
     tcs, vcs, bv2, cv, bt2, ct = prm[1], prm[2], prm[3], prm[4], prm[5], prm[6]
@@ -173,7 +182,7 @@ def reducing_derivs(prm, x, dT, dV, d2T, d2V, second):
 # residual Helmholtz energy
 # ----------------------------------------------------------------------------------------------
 
-@_jit
+@_jit_inline
 def tau_powers(prm, tau, tp):
     """Fill tp[k] = tau ** tuniq[k]."""
     tuniq = prm[22]
@@ -182,7 +191,7 @@ def tau_powers(prm, tau, tp):
         tp[k] = math.exp(tuniq[k] * lt)
 
 
-@_jit
+@_jit_inline
 def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
     """Reduced residual Helmholtz energy and its derivatives at (delta, tau) with tp = tau ** tuniq.
 
@@ -329,103 +338,181 @@ def alphar(prm, tp, x, delta, level, ax, adx, atx, axx):
 # density from (T, P)
 # ----------------------------------------------------------------------------------------------
 
-@_jit
-def level0_coefs(prm, tp, x, cp, cq):
-    """Coefficients of the density-only sums at fixed tau and x (for the density iteration).
+@_jit_inline
+def level0_coefs(prm, tp, x, cg):
+    """Coefficients of the sums over delta at fixed tau and x (for the density iteration and the level-1 scalars).
 
-    cp_k = x_owner n_k tau^t_k (pure-fluid terms); cq_m = (sum of x_i x_j F_ij over the pairs that use the
-    departure function of term m) n_m tau^t_m.
+    Terms of one group (``prm[32]``, ``prm[33]``; module docstring) share their delta dependence, so their
+    coefficients are summed once per (tau, x): cg[0, g] = sum of w_k n_k tau^t_k over the terms k of group g,
+    with w_k = x_owner for a pure-fluid term and the sum of x_i x_j F_ij over the pairs that use the departure
+    function of a departure term; if cg has 3 + 4 rows, cg[1, g] and cg[2, g] are the same sums weighted by t_k
+    and t_k (t_k - 1).  The last four rows of cg are work space of :func:`_group_terms` (no allocation per
+    evaluation inside the density iteration): cg has 1 + 4 or 3 + 4 rows.
     """
     p_own, p_n, p_ti = prm[7], prm[8], prm[10]
     q_fun, pairs, q_n, q_ti = prm[12], prm[13], prm[14], prm[16]
-    for k in range(p_n.size):
-        cp[k] = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+    tuniq, p_grp, q_grp = prm[22], prm[32], prm[33]
+    rows = cg.shape[0] - 4
+    for r in range(rows):
+        for g in range(cg.shape[1]):
+            cg[r, g] = 0.0
     nq = q_n.size
-    if nq == 0:
-        return
-    wf = np.zeros(q_fun[nq - 1] + 1)
+    wf = np.zeros(q_fun[nq - 1] + 1 if nq > 0 else 0)
     for m in range(pairs.shape[0]):
         wf[int(pairs[m, 2])] += x[int(pairs[m, 0])] * x[int(pairs[m, 1])] * pairs[m, 3]
-    for m in range(nq):
-        cq[m] = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+    for k in range(p_n.size + nq):
+        if k < p_n.size:
+            w = x[p_own[k]] * p_n[k] * tp[p_ti[k]]
+            g = p_grp[k]
+            t = tuniq[p_ti[k]]
+        else:
+            m = k - p_n.size
+            w = wf[q_fun[m]] * q_n[m] * tp[q_ti[m]]
+            g = q_grp[m]
+            t = tuniq[q_ti[m]]
+        cg[0, g] += w
+        if rows == 3:
+            cg[1, g] += w * t
+            cg[2, g] += w * t * (t - 1.0)
 
 
-@_jit
-def alphar0(prm, cp, cq, delta):
-    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs`."""
-    p_d, p_c = prm[9], prm[11]
-    q_d, q_eta, q_eps, q_beta, q_gam, q_exp = prm[15], prm[17], prm[18], prm[19], prm[20], prm[21]
-    dp = np.empty(11)
-    dp[0] = 1.0
-    for k in range(1, 11):
-        dp[k] = dp[k - 1] * delta
-    ec = np.empty(7)
-    for k in range(7):
-        ec[k] = math.exp(-dp[k])
+@_jit_inline
+def density_params(prm):
+    """The arrays of the density iteration, (v_c,i [m^3/mol], g_d, g_c, g_par) (module docstring): the functions
+    from :func:`_group_terms` to :func:`density` take this short tuple rather than ``prm``, because a call that
+    passes the parameter tuple costs a reference-count update per array of the tuple."""
+    return prm[2], prm[34], prm[35], prm[36]
+
+
+@_jit_inline
+def _group_terms(dk, cg, delta):
+    """The delta dependence of every group (module docstring), in four rows (g = 0..ng-1): the common factor
+    b = delta^d exp(-delta^c) or delta^d exp(-eta (delta - eps)^2 - beta (delta - gamma)), and g = delta d ln b/d delta,
+    Dg = delta dg/d delta, D2g = delta d Dg/d delta (Kunz and Wagner 2012, Table B4).  One exp per distinct c or
+    parameter set (the groups are sorted).  Written into (and returned as) the last four rows of cg."""
+    g_d, g_c, g_par = dk[1], dk[2], dk[3]
+    ng = g_d.size
+    out = cg[cg.shape[0] - 4:]
+    dp = (1.0, delta, delta ** 2, delta ** 3, delta ** 4, delta ** 5, delta ** 6, delta ** 7, delta ** 8, delta ** 9,
+          delta ** 10)
     d2 = dp[2]
-    A = 0.0
-    ad = 0.0
-    add = 0.0
-    for k in range(cp.size):
-        v = cp[k]
-        if v == 0.0:
-            continue
-        d = p_d[k]
-        c = p_c[k]
-        v *= dp[d]
+    cur = 0
+    u = 0.0
+    e = 1.0
+    pe = np.nan
+    pp = np.nan
+    pb = np.nan
+    pg = np.nan
+    ex = 1.0
+    e1 = 0.0
+    for k in range(ng):
+        c = g_c[k]
+        d = g_d[k]
+        b = dp[d]
         if c == 0:
             g = float(d)
             Dg = 0.0
-        else:
-            u = dp[c]
-            v *= ec[c]
+            D2g = 0.0
+        elif c > 0:
+            if c != cur:
+                cur = c
+                u = dp[c]
+                e = math.exp(-u)
+            b *= e
             g = d - c * u
             Dg = -c * c * u
-        A += v
-        ad += v * g
-        add += v * (g * g + Dg - g)
-    for m in range(cq.size):
-        v = cq[m]
-        if v == 0.0:
-            continue
-        d = q_d[m]
-        v *= dp[d]
-        if q_exp[m] == 1:
-            eta = q_eta[m]
-            eps = q_eps[m]
-            beta = q_beta[m]
-            dd = delta - eps
-            v *= math.exp(-eta * dd * dd - beta * (delta - q_gam[m]))
-            e1 = 2.0 * eta * eps * delta - beta * delta
+            D2g = Dg * c
+        else:
+            eta = g_par[k, 0]
+            eps = g_par[k, 1]
+            beta = g_par[k, 2]
+            gam = g_par[k, 3]
+            if eta != pe or eps != pp or beta != pb or gam != pg:
+                pe = eta
+                pp = eps
+                pb = beta
+                pg = gam
+                dd = delta - eps
+                ex = math.exp(-eta * dd * dd - beta * (delta - gam))
+                e1 = 2.0 * eta * eps * delta - beta * delta
+            b *= ex
             g = d - 2.0 * eta * d2 + e1
             Dg = -4.0 * eta * d2 + e1
-        else:
-            g = float(d)
-            Dg = 0.0
+            D2g = -8.0 * eta * d2 + e1
+        out[0, k] = b
+        out[1, k] = g
+        out[2, k] = Dg
+        out[3, k] = D2g
+    return out
+
+
+@_jit_inline
+def alphar0(dk, cg, delta):
+    """(A, delta A_d, delta^2 A_dd) from the coefficients of :func:`level0_coefs` (row 0 of cg)."""
+    gt = _group_terms(dk, cg, delta)
+    A = 0.0
+    ad = 0.0
+    add = 0.0
+    for k in range(gt.shape[1]):
+        v = cg[0, k] * gt[0, k]
+        g = gt[1, k]
         A += v
         ad += v * g
-        add += v * (g * g + Dg - g)
+        add += v * (g * g + gt[2, k] - g)
     return A, ad, add
 
 
 @_jit
-def _p_dp(prm, cp, cq, x, rho, Vr, RT):
+def alphar1(dk, cg, delta):
+    """The scalar derivatives of alpha_r (level 1 of :func:`alphar`) from :func:`level0_coefs` with three rows.
+
+    Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
+    """
+    gt = _group_terms(dk, cg, delta)
+    A = 0.0
+    ad = 0.0
+    add = 0.0
+    addd = 0.0
+    at = 0.0
+    att = 0.0
+    adt = 0.0
+    addt = 0.0
+    for k in range(gt.shape[1]):
+        b = gt[0, k]
+        g = gt[1, k]
+        Dg = gt[2, k]
+        v = cg[0, k] * b
+        vt = cg[1, k] * b
+        f2 = g * g + Dg - g
+        A += v
+        ad += v * g
+        add += v * f2
+        addd += v * (g * g * g + 3.0 * g * Dg + gt[3, k] - 3.0 * g * g - 3.0 * Dg + 2.0 * g)
+        at += vt
+        att += cg[2, k] * b
+        adt += vt * g
+        addt += vt * f2
+    return A, ad, add, addd, at, att, adt, addt
+
+
+@_jit_inline
+def _p_dp(dk, cp, x, rho, Vr, RT):
     """Pressure [Pa] and (dP/drho)_T [Pa m^3/mol] at rho [mol/m^3]; also A and delta A_d."""
-    A, ad, add = alphar0(prm, cp, cq, rho * Vr)
+    A, ad, add = alphar0(dk, cp, rho * Vr)
     return rho * RT * (1.0 + ad), RT * (1.0 + 2.0 * ad + add), A, ad
 
 
-@_jit
-def _liquid_start(prm, cp, cq, x, P, Vr, RT):
+@_jit_inline
+def _liquid_start(dk, cp, x, P, Vr, RT):
     """Start of the liquid-like root search [mol/m^3]: three times the pseudo-critical density (the reference
     implementation's liquid start), made denser until P(rho) > P on a rising branch (cold liquids are denser)."""
-    vcs = prm[2]
+    vcs = dk[0]
     vm = 0.0
     for i in range(x.size):
         vm += x[i] * vcs[i]
     rho = 3.0 / vm
     for _ in range(10):
-        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(dk, cp, x, rho, Vr, RT)
         if dp > 0.0 and p > P:
             break
         rho *= 1.25
@@ -433,7 +520,7 @@ def _liquid_start(prm, cp, cq, x, P, Vr, RT):
 
 
 @_jit
-def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
+def _root_search(dk, cp, x, T, P, Vr, liquid, cap):
     """Bracketed Newton search for one density root (see :func:`_root`); returns (rho, start) or (-1, start).
 
     ``cap`` > 1 limits each step to a factor ``cap`` in density (upwards for the vapour-like root from
@@ -441,19 +528,19 @@ def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
     walks along one branch of P(rho) and stops at its spinodal instead of jumping past it.
     """
     RT = R_GERG * T
-    vcs = prm[2]
+    vcs = dk[0]
     lo = 0.0
     hi = np.inf
     vm = 0.0
     for i in range(x.size):
         vm += x[i] * vcs[i]
     if liquid:
-        rho = _liquid_start(prm, cp, cq, x, P, Vr, RT)
+        rho = _liquid_start(dk, cp, x, P, Vr, RT)
     else:
         rho = P / RT if cap <= 1.0 else 0.01 * P / RT
     start = rho
     for _ in range(300):
-        p, dp, _, _ = _p_dp(prm, cp, cq, x, rho, Vr, RT)
+        p, dp, _, _ = _p_dp(dk, cp, x, rho, Vr, RT)
         good = dp > 0.0 and math.isfinite(p) and math.isfinite(dp)
         if liquid:
             if good and p > P:
@@ -493,18 +580,18 @@ def _root_search(prm, cp, cq, x, T, P, Vr, liquid, cap):
     return -1.0, start
 
 
-@_jit
-def _on_branch(prm, cp, cq, x, a, b, Vr, RT):
+@_jit_inline
+def _on_branch(dk, cp, x, a, b, Vr, RT):
     """Whether (dP/drho)_T > 0 at three points inside (a, b) [mol/m^3]: the root is on one branch with its end."""
     for k in range(1, 4):
         rho = a + 0.25 * k * (b - a)
-        if _p_dp(prm, cp, cq, x, rho, Vr, RT)[1] <= 0.0:
+        if _p_dp(dk, cp, x, rho, Vr, RT)[1] <= 0.0:
             return False
     return True
 
 
 @_jit
-def _root(prm, cp, cq, x, T, P, Vr, liquid):
+def _root(dk, cp, x, T, P, Vr, liquid):
     """The lightest (liquid False) or densest (liquid True) density root [mol/m^3] at (T, P); -1 if none.
 
     A Newton iteration on rho safeguarded by a bracket: for the vapour-like root the bracket is
@@ -520,21 +607,21 @@ def _root(prm, cp, cq, x, T, P, Vr, liquid):
     branch in steps of at most 20 % in density, which stops at the spinodal.
     """
     RT = R_GERG * T
-    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 0.0)
+    r, start = _root_search(dk, cp, x, T, P, Vr, liquid, 0.0)
     if r > 0.0:
         if liquid:
-            ok = start > r and _on_branch(prm, cp, cq, x, r, start, Vr, RT)
+            ok = start > r and _on_branch(dk, cp, x, r, start, Vr, RT)
         else:
-            ok = _on_branch(prm, cp, cq, x, 0.0, r, Vr, RT)
+            ok = _on_branch(dk, cp, x, 0.0, r, Vr, RT)
         if ok:
             return r
-    r, start = _root_search(prm, cp, cq, x, T, P, Vr, liquid, 1.2)
+    r, start = _root_search(dk, cp, x, T, P, Vr, liquid, 1.2)
     return r
 
 
 @_jit
-def density(prm, T, P, x, phase, cp, cq, Vr):
-    """Molar density [mol/m^3] of the chosen root at (T, P) (cp, cq from :func:`level0_coefs` at this T, x).
+def density(dk, T, P, x, phase, cp, Vr):
+    """Molar density [mol/m^3] of the chosen root at (T, P) (cp from :func:`level0_coefs` at this T, x).
 
     GIBBS: the root of lower Gibbs energy when both exist; LIQUID: the densest root; VAPOUR: the
     lightest.  Where only one root exists every phase code returns it.  NaN if none was found.
@@ -542,17 +629,17 @@ def density(prm, T, P, x, phase, cp, cq, Vr):
     rv = -1.0
     rl = -1.0
     if phase != LIQUID:
-        rv = _root(prm, cp, cq, x, T, P, Vr, False)
+        rv = _root(dk, cp, x, T, P, Vr, False)
     if phase == GIBBS and rv > 0.0:
         # one root only if P(rho) rises from the vapour-like root to the liquid start (three points checked)
         RT = R_GERG * T
-        rs = _liquid_start(prm, cp, cq, x, P, Vr, RT)
-        if rs > rv and _on_branch(prm, cp, cq, x, rv, rs, Vr, RT):
+        rs = _liquid_start(dk, cp, x, P, Vr, RT)
+        if rs > rv and _on_branch(dk, cp, x, rv, rs, Vr, RT):
             return rv
     if phase != VAPOUR or rv < 0.0:
-        rl = _root(prm, cp, cq, x, T, P, Vr, True)
+        rl = _root(dk, cp, x, T, P, Vr, True)
     if phase == LIQUID and rl < 0.0:
-        rv = _root(prm, cp, cq, x, T, P, Vr, False)
+        rv = _root(dk, cp, x, T, P, Vr, False)
     if rv < 0.0 and rl < 0.0:
         return np.nan
     if rv < 0.0:
@@ -566,45 +653,48 @@ def density(prm, T, P, x, phase, cp, cq, Vr):
     if abs(rl - rv) <= 1e-9 * rl:
         return rv
     RT = R_GERG * T
-    _, _, Av, adv = _p_dp(prm, cp, cq, x, rv, Vr, RT)
-    _, _, Al, adl = _p_dp(prm, cp, cq, x, rl, Vr, RT)
+    _, _, Av, adv = _p_dp(dk, cp, x, rv, Vr, RT)
+    _, _, Al, adl = _p_dp(dk, cp, x, rl, Vr, RT)
     gv = Av + adv - math.log(1.0 + adv)
     gl = Al + adl - math.log(1.0 + adl)
     return rl if gl < gv else rv
 
 
-@_jit
-def state_at(prm, T, P, x, phase, tp):
-    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
+@_jit_inline
+def state_coefs(prm, T, P, x, phase, tp, cg):
+    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp and cg (:func:`level0_coefs`)."""
     Tr, Vr = reducing(prm, x)
     tau = Tr / T
     tau_powers(prm, tau, tp)
-    cp = np.empty(prm[8].size)
-    cq = np.empty(prm[14].size)
-    level0_coefs(prm, tp, x, cp, cq)
-    rho = density(prm, T, P, x, phase, cp, cq, Vr)
+    level0_coefs(prm, tp, x, cg)
+    rho = density(density_params(prm), T, P, x, phase, cg, Vr)
     return Tr, Vr, tau, rho, rho * Vr
+
+
+@_jit_inline
+def state_at(prm, T, P, x, phase, tp):
+    """(T_r, V_r, tau, rho, delta) at (T, P, x) for the chosen root; fills tp."""
+    cg = np.empty((1 + 4, prm[34].size))
+    return state_coefs(prm, T, P, x, phase, tp, cg)
+
+
+@_jit_inline
+def _state_level1(prm, T, P, x, phase):
+    """(rho, alpha_r scalars of :func:`alphar1`) at (T, P, x) for the chosen root."""
+    tp = np.empty(prm[22].size)
+    cg = np.empty((3 + 4, prm[34].size))
+    st = state_coefs(prm, T, P, x, phase, tp, cg)
+    return st[3], alphar1(density_params(prm), cg, st[4])
 
 
 # ----------------------------------------------------------------------------------------------
 # ideal gas
 # ----------------------------------------------------------------------------------------------
 
-@_jit
-def _lnsinh(u):
-    if u > 20.0:
-        return u - math.log(2.0) + math.log1p(-math.exp(-2.0 * u))
-    return math.log(math.sinh(u))
+_LN2 = math.log(2.0)
 
 
-@_jit
-def _lncosh(u):
-    if u > 20.0:
-        return u - math.log(2.0) + math.log1p(math.exp(-2.0 * u))
-    return math.log(math.cosh(u))
-
-
-@_jit
+@_jit_inline
 def ideal_gas(prm, T, x):
     """Ideal-gas cp [J/(mol K)], h [J/mol] and s at P_REF without mixing [J/(mol K)] (zero at 298.15 K).
 
@@ -633,18 +723,22 @@ def ideal_gas(prm, T, x):
                 continue
             nk = ign[i, k]
             u = th / T
+            # with em = exp(-u), e2 = em^2: sinh u = (1 - e2) / (2 em), cosh u = (1 + e2) / (2 em),
+            # ln sinh u = u - ln 2 + ln(1 - e2), ln cosh u = u - ln 2 + ln(1 + e2): one exp and one log per term
+            em = math.exp(-u)
+            e2 = em * em
+            om = 1.0 - e2 if u > 0.3 else -math.expm1(-2.0 * u)
+            op = 1.0 + e2
             if k == 0 or k == 2:
-                sn = math.sinh(u) if u < 350.0 else np.inf
-                ct_ = 1.0 / math.tanh(u)
-                ch += nk * (u / sn) ** 2
+                ct_ = op / om
+                ch += nk * (2.0 * u * em / om) ** 2
                 hh += nk * th * ct_
-                sh += nk * (u * ct_ - _lnsinh(u))
+                sh += nk * (u * ct_ - (u - _LN2 + math.log(om)))
             else:
-                cs = math.cosh(u) if u < 350.0 else np.inf
-                tn = math.tanh(u)
-                ch += nk * (u / cs) ** 2
+                tn = om / op
+                ch += nk * (2.0 * u * em / op) ** 2
                 hh -= nk * th * tn
-                sh += nk * (_lncosh(u) - u * tn)
+                sh += nk * ((u - _LN2 + math.log1p(e2)) - u * tn)
         cp += xi * (cpi + R_STAR * ch)
         h += xi * (hi + R_STAR * (hh - href[i]))
         s += xi * (si + R_STAR * (sh - sref[i]))
@@ -733,10 +827,8 @@ def props(prm, T, P, x, phase):
         (dP/dv)_T [Pa mol/m^3], h_res [J/mol], s_res [J/(mol K)]).
     """
     n = x.size
-    tp = np.empty(prm[22].size)
-    Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
-    e = tp[:0]
-    A, ad, add, addd, at, att, adt, addt = alphar(prm, tp, x, delta, 1, e, e, e, e.reshape((0, 0)))
+    rho, ar = _state_level1(prm, T, P, x, phase)
+    A, ad, add, addd, at, att, adt, addt = ar
     R = R_GERG
     RT = R * T
     Z = 1.0 + ad
@@ -776,10 +868,8 @@ def pip(prm, T, P, x, phase):
     phase : int
         GIBBS, LIQUID or VAPOUR: which density root is labelled.
     """
-    tp = np.empty(prm[22].size)
-    Tr, Vr, tau, rho, delta = state_at(prm, T, P, x, phase, tp)
-    e = tp[:0]
-    A, ad, add, addd, at, att, adt, addt = alphar(prm, tp, x, delta, 1, e, e, e, e.reshape((0, 0)))
+    rho, ar = _state_level1(prm, T, P, x, phase)
+    A, ad, add, addd, at, att, adt, addt = ar
     # rho-scaled derivatives divided by R T (or rho R)
     P_rho = 1.0 + 2.0 * ad + add
     rho_P_rhorho = 2.0 * ad + 4.0 * add + addd
@@ -907,7 +997,7 @@ def fug_derivs(prm, T, P, x, phase, lnphi, dn, dT, dP, vbar):
     return Z
 
 
-@_jit
+@_jit_inline
 def critical_constants(prm):
     """Critical temperatures [K], critical pressures [Pa] and acentric factors [-] of the components.
 
@@ -917,7 +1007,7 @@ def critical_constants(prm):
     return prm[28], prm[29], prm[30]
 
 
-@_jit
+@_jit_inline
 def polar_flags(prm):
     """Which components can form a liquid of their own (water), shape (n,)."""
     return prm[31]
@@ -930,10 +1020,11 @@ def residual_tv(prm, T, rho, x):
     Returns (A, delta A_d, delta^2 A_dd, delta^3 A_ddd, tau A_t, tau^2 A_tt, delta tau A_dt, delta^2 tau A_ddt).
     """
     tp = np.empty(prm[22].size)
+    cg = np.empty((3 + 4, prm[34].size))
     Tr, Vr = reducing(prm, x)
     tau_powers(prm, Tr / T, tp)
-    e = tp[:0]
-    return alphar(prm, tp, x, rho * Vr, 1, e, e, e, e.reshape((0, 0)))
+    level0_coefs(prm, tp, x, cg)
+    return alphar1(density_params(prm), cg, rho * Vr)
 
 
 @_jit

@@ -267,6 +267,24 @@ def make_gerg_mixture(ids) -> GergMixture:
                     q["exp"].append(is_exp)
             pairs.append((a, b, funs.index(fun), F))
     pairs_arr = np.array(pairs, dtype=float).reshape((len(pairs), 4))
+    # groups of terms that share their delta dependence: pure-fluid terms and polynomial departure terms (c = 0)
+    # with one (d, c) share delta^d exp(-delta^c); exponential departure terms with one (d, eta, epsilon, beta,
+    # gamma) share delta^d exp(-eta (delta - epsilon)^2 - beta (delta - gamma)).  Each sum over delta is then
+    # taken once per group, with the coefficients of its terms summed once per (tau, x) (kernels.level0_coefs).
+    # Order: (d, c) groups sorted by c, then d, then the exponential groups sorted by their parameters, then d
+    # (one exp per distinct c or parameter set).
+    dc_keys = sorted({(c, d) for d, c in zip(p_d, p_c, strict=True)}
+                     | {(0, d) for d, e in zip(q["d"], q["exp"], strict=True) if e == 0})
+    q_par = list(zip(q["eta"], q["eps"], q["beta"], q["gam"], q["d"], strict=True))
+    ex_keys = sorted({q_par[m] for m, e in enumerate(q["exp"]) if e == 1})
+    g_index = {("dc",) + k: i for i, k in enumerate(dc_keys)}
+    g_index.update({("ex",) + k: len(dc_keys) + i for i, k in enumerate(ex_keys)})
+    p_grp = [g_index[("dc", c, d)] for d, c in zip(p_d, p_c, strict=True)]
+    q_grp = [g_index[("ex",) + q_par[m]] if e == 1 else g_index[("dc", 0, q["d"][m])]
+             for m, e in enumerate(q["exp"])]
+    g_d = [k[1] for k in dc_keys] + [k[4] for k in ex_keys]
+    g_c = [k[0] for k in dc_keys] + [-1] * len(ex_keys)
+    g_par = np.array([[0.0] * 4 for _ in dc_keys] + [list(k[:4]) for k in ex_keys]).reshape((len(g_d), 4))
     ig_n3m1 = np.array([tb.pure[c]["n3"] - 1.0 for c in ids])
     ig_n = np.array([[tb.pure[c][k] for k in ("n4", "n5", "n6", "n7")] for c in ids]).reshape((n, 4))
     ig_th = np.array([[tb.pure[c][k] for k in ("th4_k", "th5_k", "th6_k", "th7_k")] for c in ids]).reshape((n, 4))
@@ -291,6 +309,7 @@ def make_gerg_mixture(ids) -> GergMixture:
            i64(q["fun"]), f64(pairs_arr), f64(q["n"]), i64(q["d"]), i64(q["ti"]), f64(q["eta"]), f64(q["eps"]),
            f64(q["beta"]), f64(q["gam"]), i64(q["exp"]),
            f64(tlist), f64(ig_n3m1), f64(ig_n), f64(ig_th), f64(ig_href), f64(ig_sref),
-           f64(tcs), f64(pcs), f64(omegas), polar)
+           f64(tcs), f64(pcs), f64(omegas), polar,
+           i64(p_grp), i64(q_grp), i64(g_d), i64(g_c), f64(g_par))
     return GergMixture(ids=ids, tcs=tcs, pcs=pcs, omegas=omegas, mws=mws, tcs_gerg=tcs_r, rhocs_gerg=rhoc,
                        kernel_params=prm)
