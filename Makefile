@@ -54,4 +54,4 @@ clean:
 # another source file (numba issue #1833): after editing a model kernel under jtcheck/thermo/models, run this, or the
 # flash kernels keep the old model code they were compiled with.
 clean-kernels:
-	find jtcheck -path '*/__pycache__/*' \( -name '*.nbi' -o -name '*.nbc' \) -delete
+	find jtcheck benchmarks -path '*/__pycache__/*' \( -name '*.nbi' -o -name '*.nbc' \) -delete
