@@ -134,7 +134,7 @@ BAD_CASE_FIELDS = [
     ("material_id", {"material_id": "999999"}, "no material"),
     ("inlet_pressure", {"inlet_pressure": "abc"}, "not a number"),
     ("inlet_pressure", {"inlet_pressure": ""}, "required"),
-    ("inlet_pressure", {"inlet_pressure": "-5", "inlet_pressure_unit": "bara"}, "above 0 Pa"),
+    ("inlet_pressure", {"inlet_pressure": "-5", "inlet_pressure_unit": "bara"}, "above 0 bara"),
     ("inlet_pressure", {"inlet_pressure_unit": "furlongs"}, "choose a unit"),
     ("inlet_temperature", {"inlet_temperature": "warm"}, "not a number"),
     ("inlet_temperature", {"inlet_temperature": "-300"}, "absolute zero"),

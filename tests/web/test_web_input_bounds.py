@@ -67,3 +67,12 @@ def test_a_case_inlet_temperature_below_50_k_is_refused(api, world):
                                                                        inlet_temperature="10 K"))
     assert resp.status_code == 422 and resp.get_json()["error"]["field"] == "inlet_temperature"
     assert "inlet temperature 10 K is out of range; allowed: from 50 K to 2000 K" in resp.get_json()["error"]["message"]
+
+
+@pytest.mark.parametrize("fluid_id", [0, 2**31, 120775683413395378140086272])
+def test_a_letdown_fluid_id_beyond_the_id_range_is_422_naming_the_field(api, fluid_id):
+    """Found by the OpenAPI fuzz on PostgreSQL (an id past its integer range reached the database: 500)."""
+    body = {"fluid_id": fluid_id, "p_in": "70 bara", "t_in": "20 degC", "p_out": "10 bara"}
+    resp = api(Role.ENGINEER, "POST", "/api/v1/letdown", json=body)
+    assert resp.status_code == 422, resp.get_json()
+    assert resp.get_json()["error"]["field"] == "fluid_id"

@@ -17,6 +17,7 @@ from jtcheck.letdown.throttle import check_letdown_inputs
 from jtcheck.notices import CAUTION
 from jtcheck.records import service
 from jtcheck.records.errors import NotFound
+from jtcheck.records.fields import MAX_ID
 from jtcheck.records.models import FluidRecord, KijMode
 from jtcheck.reports.screening_display import DisplayUnits, key_numbers
 from jtcheck.screening.cold_metal import ColdLimits
@@ -282,6 +283,8 @@ def compute_letdown():
         fid = data["fluid_id"]
         if isinstance(fid, bool) or not isinstance(fid, int):
             raise InputError("fluid_id", f"must be the integer id of a stored fluid, got {fid!r}")
+        if not 1 <= fid <= MAX_ID:
+            raise InputError("fluid_id", f"must be the id of a stored fluid, from 1 to {MAX_ID}; got {fid}")
         record = db_session().get(FluidRecord, fid)
         if record is None:
             raise NotFound("fluid", fid, "fluid_id")

@@ -110,7 +110,8 @@ def register(api: ApiRegistry) -> None:
         "description": "Give either fluid or fluid_id.  Every screening input is optional; without 'limit' or "
                        "'mdmt' the outcome is 'not screened' and the findings are still given.",
         "properties": {
-            "fluid": _ref("FluidSpec"), "fluid_id": {"type": "integer", "description": "A stored fluid."},
+            "fluid": _ref("FluidSpec"), "fluid_id": {"type": "integer", "minimum": 1, "maximum": 2**31 - 1,
+                                                "description": "A stored fluid."},
             "p_in": _ref("Quantity"), "t_in": _ref("Quantity"), "p_out": _ref("Quantity"),
             "p_atm": {**_ref("Quantity"), "description": "Atmospheric pressure for gauge units "
                                                          "(default 1.01325 bar, stated in the answer)."},
