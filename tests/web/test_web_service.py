@@ -16,6 +16,9 @@ from jtcheck.web.__main__ import bootstrap
 from jtcheck.web.cases.diagram import inline_svg
 from jtcheck.web.database import db_session
 
+#: Opens a database (see tests/conftest.py): the PostgreSQL run of `make test` includes this module.
+pytestmark = pytest.mark.database
+
 
 def test_healthz_reports_the_database(client):
     resp = client.get("/healthz")
