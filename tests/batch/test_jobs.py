@@ -38,8 +38,8 @@ from jtcheck.screening import batch as screening_batch
 pytestmark = pytest.mark.database
 
 REDIS_URL = "redis://127.0.0.1:6379/15"
-#: Longest wait for a thread job [s] (the first screening of a process loads the compiled kernels).
-TIMEOUT_S = 900   # a wait for the job, not a speed check: the first job in a fresh checkout compiles the kernels (GERG-2008 too)
+#: Longest wait for a thread job [s]: a wait, not a speed check (a fresh checkout compiles the kernels first).
+TIMEOUT_S = 900
 TEMPLATE = write_template("csv")
 TAGS = [c.tag for c in read_cases(TEMPLATE, filename="t.csv").cases]
 BAD_ROW = b'PCV-BAD,bad,control_valve,"methane=0.9,ethane=0.1",PR,10,20,50,,,-29,,5,no,1.01325\r\n'
